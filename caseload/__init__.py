@@ -1,0 +1,1 @@
+"""caseload: a terminal caseload for a fertility service."""

@@ -1,0 +1,3 @@
+from caseload.cli import main
+
+main()

@@ -1,0 +1,3 @@
+"""Alert commands: the queue, the morning refresh, and handling an alert."""
+
+COMMANDS: list = []

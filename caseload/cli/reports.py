@@ -1,0 +1,3 @@
+"""The weekly summary export for supervisors."""
+
+COMMANDS: list = []

@@ -1,0 +1,126 @@
+"""Plain-terminal rendering of lists and records for the CLI (rich tables, escaped user text)."""
+
+from __future__ import annotations
+
+from rich.console import Console
+from rich.markup import escape
+from rich.table import Table
+
+from caseload.core.model import Entry
+from caseload.core.parse import one_line
+
+CAUTION = (
+    "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
+    "protocols and licensed clinical judgement."
+)
+
+
+def console() -> Console:
+    return Console(highlight=False, soft_wrap=False)
+
+
+def safe(text: object) -> str:
+    """User text as inert, single-line markup: no rich tags, no terminal escapes."""
+    return escape(one_line(str(text))) if text is not None else ""
+
+
+def print_table(headers: list[str], rows: list[list[object]], title: str | None = None) -> None:
+    table = Table(title=title, header_style="bold", box=None, pad_edge=False)
+    for h in headers:
+        table.add_column(h)
+    for row in rows:
+        table.add_row(*(safe(c) for c in row))
+    console().print(table)
+
+
+def entry_json(e: Entry) -> dict:
+    return {
+        "id": e.id,
+        "patient": e.patient_id,
+        "day": e.day.isoformat(),
+        "time": e.time,
+        "kind": e.kind.value,
+        "value": e.value.display(),
+        "raw": e.raw,
+        "number": e.value.number,
+        "flags": list(e.flags),
+        "note": e.note,
+        "by": e.by,
+        "at": e.at.isoformat() if e.at else None,
+        "supersedes": e.supersedes,
+        "superseded_by": e.superseded_by,
+        "amend_reason": e.amend_reason,
+        "voided_reason": e.voided_reason,
+        "current": e.current,
+    }
+
+
+def _status(e: Entry) -> str:
+    if e.voided_reason is not None:
+        return f"void: {e.voided_reason}"
+    if e.superseded_by is not None:
+        return f"corrected by {e.superseded_by}"
+    if e.supersedes is not None:
+        return f"corrects {e.supersedes}: {e.amend_reason}"
+    return ""
+
+
+def entries_table(entries: list[Entry]) -> None:
+    rows = [
+        [e.id, e.day.isoformat(), e.time or "", e.kind.value, e.value.display(), ",".join(e.flags), e.by, _status(e), e.note]
+        for e in entries
+    ]
+    print_table(["id", "day", "time", "kind", "value", "flags", "by", "correction", "note"], rows)
+
+
+def _day(d) -> str:
+    return d.isoformat() if d else "-"
+
+
+def list_table(lines) -> None:
+    """The caseload in triage order."""
+    rows = []
+    for line in lines:
+        s, top = line.snapshot, line.top_alert
+        alert = "" if top is None else f"{top.severity.value}: {top.kind}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
+        window = f"{_day(s.fertile_window[0])}..{_day(s.fertile_window[1])}" if s and s.fertile_window else "-"
+        shift = _day(s.shift_confirmed_on) if s and s.shift_confirmed_on else "no"
+        nxt = f"{s.next_event} {_day(s.next_event_day)}" if s and s.next_event else "-"
+        since = "-" if line.days_since_entry is None else str(line.days_since_entry)
+        rows.append([line.patient.id, line.patient.name, line.cycle_day or "-", s.phase if s else "-", alert, window, shift, nxt, since])
+    print_table(["patient", "name", "cd", "phase", "alert", "window", "shift", "next", "since"], rows,
+                title=f"Caseload: {len(lines)} patients")
+    console().print(CAUTION, style="dim")
+
+
+def record_text(record) -> None:
+    """One patient's record, readable in a plain terminal."""
+    a, p = record.analysis, record.patient
+    out = console()
+    out.print(f"[bold]{safe(p.id)} {safe(p.name)}[/] born {p.born.isoformat()} | plan {p.plan.value} | "
+              f"status {p.status.value} | nurse {safe(p.nurse_id or '-')}")
+    out.print(f"Cycle day {a.cycle_day or '-'} (started {_day(a.cycle_start)}), phase {a.phase}")
+    c, s = a.classification, a.stats
+    out.print(f"FIGO 2018: frequency {c.frequency}, regularity {c.regularity}, duration {c.duration}; "
+              f"{s.count} complete cycles, mean {s.mean or '-'}, shortest {s.shortest or '-'}, longest {s.longest or '-'}")
+    print_table(["start", "length", "bleed", "ovulation", "method", "luteal"],
+                [[r.start.isoformat(), r.length or "open", r.bleed_days, _day(r.markers.ovulation),
+                  r.markers.ovulation_method or "-", r.luteal_length or "-"] for r in a.cycles], title="Cycles")
+    if a.prediction:
+        pr = a.prediction
+        rng = f"{_day(pr.ovulation_range[0])}..{_day(pr.ovulation_range[1])}" if pr.ovulation_range else "-"
+        win = f"{_day(pr.fertile_window[0])}..{_day(pr.fertile_window[1])}" if pr.fertile_window else "-"
+        cal = f"days {pr.calendar_rule[0]}-{pr.calendar_rule[1]}" if pr.calendar_rule else "needs 6 cycles"
+        out.print(f"Predicted ovulation {_day(pr.ovulation)} (80% {rng}); fertile window {win}; "
+                  f"next period {_day(pr.next_period)} (90% {_day(pr.next_period_range[0])}..{_day(pr.next_period_range[1])}); "
+                  f"calendar rule {cal}")
+    if a.current:
+        sh = a.current.shift
+        out.print(f"Thermal shift: {'confirmed ' + _day(sh.confirmed_on) if sh.confirmed else 'not confirmed'}; "
+                  f"coverline {sh.coverline or '-'}; change point {sh.agreement}")
+    if a.pregnancy:
+        pg = a.pregnancy
+        out.print(f"Pregnancy: EDD {_day(pg.edd)} ({pg.edd_method}), gestational age {pg.gestational_age or '-'}")
+    for al in record.alerts:
+        out.print(f"[bold]{al.severity.value}[/] {al.kind} ({al.state.value}): {safe(al.message)}")
+    out.print(CAUTION, style="dim")

@@ -1,0 +1,31 @@
+"""Backups, restores and health checks of the store (admins; supervisors may check)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from caseload.services.context import Context
+from caseload.store.maintenance import Health
+
+
+def backup(ctx: Context, target: str) -> Path:
+    ctx.require("store.backup")
+    path = Path(target)
+    ctx.store.backup(path)
+    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.backup", "store", None, after={"path": str(path)}))
+    return path
+
+
+def restore(ctx: Context, source: str) -> int:
+    """Replace the store with a checked backup; the restore itself is audited in the restored store."""
+    ctx.require("store.restore")
+    version = ctx.store.restore(Path(source))
+    ctx.store.transact(
+        lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after={"path": source, "schema": version})
+    )
+    return version
+
+
+def check(ctx: Context) -> Health:
+    ctx.require("store.check")
+    return ctx.store.health()

@@ -1,0 +1,157 @@
+"""The SQLite file: opening it safely, migrating it, and running each write in one transaction."""
+
+from __future__ import annotations
+
+import json
+import os
+import sqlite3
+import time
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import TypeVar
+
+import sqlite_utils
+
+from caseload.core.model import Actor
+from caseload.store import migrations
+
+BUSY_TIMEOUT_MS = 5000
+T = TypeVar("T")
+
+
+class StoreError(Exception):
+    """The file cannot be used as a caseload store (newer schema, not a store, damaged)."""
+
+
+def utc_now() -> datetime:
+    return datetime.now(UTC)
+
+
+def create_private(path: Path) -> None:
+    """Create an empty file readable and writable by its owner only."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600)
+    os.close(fd)
+
+
+class Database:
+    """One connection to the store file, with the write transaction and the audit row builder."""
+
+    def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now):
+        self.path = Path(path)
+        self.clock = clock
+        if not self.path.exists():
+            create_private(self.path)
+        conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
+        conn.isolation_level = None  # transactions are begun explicitly, see write()
+        self.db = sqlite_utils.Database(conn)
+        self.conn = conn
+        try:
+            conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
+            self._refuse_foreign()
+            conn.execute("PRAGMA journal_mode = WAL")
+            conn.execute("PRAGMA foreign_keys = ON")
+            conn.execute("PRAGMA synchronous = FULL")
+            self.migrate()
+        except sqlite3.DatabaseError as err:
+            conn.close()
+            raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
+
+    def close(self) -> None:
+        self.conn.close()
+
+    @property
+    def version(self) -> int:
+        return self.conn.execute("PRAGMA user_version").fetchone()[0]
+
+    def _refuse_foreign(self) -> None:
+        """Before anything touches the file: refuse a newer schema or someone else's database."""
+        current = self.version
+        if current > migrations.LATEST:
+            raise StoreError(
+                f"{self.path} was written by a newer caseload (schema {current}, this one knows up to "
+                f"{migrations.LATEST}): upgrade caseload before opening it"
+            )
+        if current == 0 and self.conn.execute("SELECT count(*) FROM sqlite_master").fetchone()[0]:
+            raise StoreError(f"{self.path} is an SQLite file but not a caseload store")
+
+    def migrate(self) -> None:
+        steps = migrations.pending(self.version)
+        if not steps:
+            return
+        with self.write():
+            for version, step in steps:
+                step(self.conn)
+                self.conn.execute(f"PRAGMA user_version = {version}")
+
+    @contextmanager
+    def write(self) -> Iterator[sqlite3.Connection]:
+        """One write transaction. IMMEDIATE takes the write lock up front, so two writers queue
+        on the busy timeout instead of failing mid-transaction."""
+        if self.conn.in_transaction:
+            raise StoreError("a write transaction is already open on this connection")
+        self.conn.execute("BEGIN IMMEDIATE")
+        try:
+            yield self.conn
+        except BaseException:
+            if self.conn.in_transaction:
+                self.conn.execute("ROLLBACK")
+            raise
+        else:
+            self.conn.execute("COMMIT")
+
+    def transact(self, work: Callable[[], T], attempts: int = 6) -> T:
+        """Run `work` in one write transaction, retrying the whole of it while another writer
+        holds the lock past the busy timeout. Anything else is raised at once."""
+        for attempt in range(1, attempts + 1):
+            try:
+                with self.write():
+                    return work()
+            except sqlite3.OperationalError as err:
+                if attempt == attempts or not _is_lock_error(err):
+                    raise
+                time.sleep(0.05 * 2**attempt)
+        raise AssertionError("unreachable")
+
+    def now_text(self) -> str:
+        return self.clock().isoformat(timespec="seconds")
+
+    def audit(self, actor: Actor, action: str, table: str, row_id, before=None, after=None) -> None:
+        """Append the audit row for a change; call it inside the change's transaction."""
+        if not self.conn.in_transaction:
+            raise StoreError("audit rows are written only inside the transaction of their change")
+        self.conn.execute(
+            "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after)"
+            " VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
+            (
+                self.now_text(),
+                actor.id,
+                actor.os_account,
+                action,
+                table,
+                None if row_id is None else str(row_id),
+                _json(before),
+                _json(after),
+            ),
+        )
+
+    def query(self, sql: str, params=()) -> list[dict]:
+        return list(self.db.query(sql, params))
+
+    def meta(self, key: str) -> str | None:
+        row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
+        return row[0] if row else None
+
+    def set_meta(self, key: str, value: str) -> None:
+        self.conn.execute("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)", (key, value))
+
+
+def _is_lock_error(err: sqlite3.OperationalError) -> bool:
+    text = str(err).lower()
+    return "locked" in text or "busy" in text
+
+
+def _json(value) -> str | None:
+    return None if value is None else json.dumps(value, sort_keys=True, default=str)

@@ -1,0 +1,73 @@
+"""Conversions between table rows and the core dataclasses."""
+
+from __future__ import annotations
+
+import json
+from datetime import date, datetime
+
+from caseload.core.model import Entry, Kind, Patient, PatientStatus, Plan, Role, Scan, Staff, Value
+
+
+def staff_from_row(row: dict) -> Staff:
+    return Staff(row["id"], row["name"], Role(row["role"]), bool(row["active"]), row["os_account"])
+
+
+def patient_from_row(row: dict) -> Patient:
+    return Patient(
+        id=row["id"],
+        name=row["name"],
+        born=date.fromisoformat(row["born"]),
+        nurse_id=row["nurse_id"],
+        status=PatientStatus(row["status"]),
+        plan=Plan(row["plan"]),
+        created=date.fromisoformat(row["created"]),
+        charting_temps=bool(row["charting_temps"]),
+    )
+
+
+def patient_to_row(p: Patient) -> dict:
+    return {
+        "id": p.id,
+        "name": p.name,
+        "born": p.born.isoformat(),
+        "nurse_id": p.nurse_id,
+        "status": p.status.value,
+        "plan": p.plan.value,
+        "created": p.created.isoformat(),
+        "charting_temps": int(p.charting_temps),
+    }
+
+
+def value_columns(v: Value) -> dict:
+    scan = None
+    if v.scan is not None:
+        scan = json.dumps({"follicles_mm": list(v.scan.follicles_mm), "endometrium_mm": v.scan.endometrium_mm})
+    return {"number": v.number, "word": v.word, "scan": scan, "text": v.text}
+
+
+def value_from_row(row: dict) -> Value:
+    scan = None
+    if row["scan"]:
+        s = json.loads(row["scan"])
+        scan = Scan(tuple(s["follicles_mm"]), s["endometrium_mm"])
+    return Value(number=row["number"], word=row["word"], scan=scan, text=row["text"])
+
+
+def entry_from_row(row: dict) -> Entry:
+    return Entry(
+        id=row["id"],
+        patient_id=row["patient_id"],
+        day=date.fromisoformat(row["day"]),
+        kind=Kind(row["kind"]),
+        value=value_from_row(row),
+        raw=row["raw"],
+        time=row["time"],
+        flags=tuple(f for f in row["flags"].split(",") if f),
+        note=row["note"],
+        by=row["by_staff"],
+        at=datetime.fromisoformat(row["at"]),
+        supersedes=row["supersedes"],
+        voided_reason=row["voided_reason"],
+        superseded_by=row.get("superseded_by"),
+        amend_reason=row["amend_reason"],
+    )

@@ -1,0 +1,152 @@
+"""The scriptable interface through click's runner: each command, each exit code, nothing written on refusal."""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+
+import pytest
+from click.testing import CliRunner
+
+from caseload.cli import main
+
+TODAY = "2026-12-01"
+
+
+@pytest.fixture
+def run(tmp_path):
+    db = str(tmp_path / "cli.db")
+    runner = CliRunner()
+
+    def invoke(*args, **kwargs):
+        return runner.invoke(main, ["--db", db, "--today", TODAY, *args], catch_exceptions=False, **kwargs)
+
+    invoke.db = db
+    return invoke
+
+
+@pytest.fixture
+def clinic(run):
+    assert run("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
+    assert run("staff", "add", "nell", "--name", "Nell Nurse", "--role", "nurse").exit_code == 0
+    assert run("staff", "add", "phil", "--name", "Phil Phone", "--role", "phone").exit_code == 0
+    assert run("patient", "add", "P0001", "--name", "Pia Test", "--born", "1991-04-02", "--nurse", "nell").exit_code == 0
+    return run
+
+
+def counts(db: str) -> tuple[int, int, int]:
+    conn = sqlite3.connect(db)
+    try:
+        return tuple(conn.execute(f"SELECT count(*) FROM {t}").fetchone()[0] for t in ("entry", "audit", "patient"))
+    finally:
+        conn.close()
+
+
+@pytest.mark.parametrize(
+    "kind, value",
+    [
+        ("bleed", "heavy"),
+        ("temp", "36.72"),
+        ("lh", "positive"),
+        ("mucus", "creamy"),
+        ("hcg", "153 mIU/mL"),
+        ("scan", "18,16,12 endo 8.5"),
+        ("med", "letrozole 2.5 mg"),
+        ("trigger", "hCG 5000 IU"),
+        ("insemination", "IUI"),
+        ("intercourse", "yes"),
+        ("symptom", "mild cramps"),
+        ("note", "called back"),
+    ],
+)
+def test_log_each_kind(clinic, kind, value):
+    result = clinic("--as", "phil", "log", "P0001", kind, value)
+    assert result.exit_code == 0, result.output
+    assert "Logged entry" in result.output
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (("log", "P0001", "temp", "43.5"), "outside 34.0-42.0 C"),
+        (("log", "P0001", "temp", "36.5", "--on", "2026-12-02"), "in the future"),
+        (("log", "P0001", "temperature", "36.5"), "unknown kind"),
+        (("log", "P0001", "bleed", "medium"), "use one of spotting"),
+        (("log", "P9999", "temp", "36.5"), "no patient"),
+        (("log", "P0001", "temp", "36.5", "--flag", "tired"), "does not apply"),
+        (("--as", "phil", "amend", "1", "36.6", "--reason", "x"), "may not entry amend"),
+        (("--as", "phil", "staff", "add", "x1", "--name", "X", "--role", "nurse"), "may not staff add"),
+        (("void", "99", "--reason", "x"), "no entry"),
+        (("patient", "add", "P0002", "--name", "Q", "--born", "2030-01-01"), "not plausible"),
+    ],
+)
+def test_refusals_exit_1_with_one_line_and_write_nothing(clinic, args, fragment):
+    clinic("log", "P0001", "temp", "36.40", "--on", "yesterday")
+    before = counts(clinic.db)
+    result = clinic(*args)
+    assert result.exit_code == 1
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and fragment in lines[0]
+    assert counts(clinic.db) == before
+
+
+def test_second_temperature_same_day_is_refused_unless_amended(clinic):
+    assert clinic("log", "P0001", "temp", "36.40").exit_code == 0
+    before = counts(clinic.db)
+    again = clinic("log", "P0001", "temp", "36.45")
+    assert again.exit_code == 1 and "already has a temperature" in again.stderr
+    assert counts(clinic.db) == before
+    fixed = clinic("amend", "1", "36.45", "--reason", "second reading was the right one")
+    assert fixed.exit_code == 0
+    entries = json.loads(clinic("entries", "P0001", "--json").output)
+    assert [(e["number"], e["current"]) for e in entries] == [(36.4, False), (36.45, True)]
+
+
+def test_usage_errors_exit_2(clinic):
+    assert clinic("log", "P0001").exit_code == 2
+    assert clinic("frobnicate").exit_code == 2
+
+
+def test_unmapped_os_account_and_as_for_non_admins_are_refused(clinic, monkeypatch):
+    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "stranger")
+    result = clinic("list")
+    assert result.exit_code == 1 and "not mapped" in result.stderr
+
+
+def test_show_json_has_the_contract_keys(clinic):
+    for day, flow in (("-30", "heavy"), ("-29", "moderate"), ("-2", "heavy"), ("-1", "light")):
+        clinic("log", "P0001", "bleed", flow, "--on", day)
+    data = json.loads(clinic("show", "P0001", "--json").output)
+    for key in ("patient", "today", "cycle_day", "cycle_start", "cycles", "stats", "classification",
+                "prediction", "thermal_shift", "pregnancy", "alerts"):
+        assert key in data
+    assert data["patient"] == "P0001"
+    assert data["cycle_start"] == "2026-11-29" and data["cycle_day"] == 3
+    assert data["cycles"][0] == {"start": "2026-11-01", "length": 28, "bleed_days": 2, "ovulation": None,
+                                 "ovulation_method": None, "luteal_length": None, "open": False}
+    assert set(data["stats"]) >= {"count", "mean", "sd", "shortest", "longest", "variation"}
+    assert set(data["classification"]) == {"frequency", "regularity", "duration"}
+    assert set(data["prediction"]) >= {"ovulation", "ovulation_range", "fertile_window", "next_period",
+                                       "next_period_range", "daily", "calendar_rule"}
+
+
+def test_import_is_all_or_nothing_with_the_bad_line(clinic, tmp_path):
+    good = tmp_path / "good.csv"
+    good.write_text("patient,day,kind,value,time,flags,note\nP0001,-2,temp,36.41,06:30,,\nP0001,-1,temp,97.7F,06:40,late,\n")
+    bad = tmp_path / "bad.csv"
+    bad.write_text("patient,day,kind,value\nP0001,-4,temp,36.4\nP0001,-3,temp,51\n")
+    before = counts(clinic.db)
+    refused = clinic("import", str(bad))
+    assert refused.exit_code == 1 and refused.stderr.startswith("caseload: line 3:")
+    assert counts(clinic.db) == before
+    done = clinic("import", str(good))
+    assert done.exit_code == 0 and "Imported 2 entries" in done.output
+    assert counts(clinic.db)[0] == before[0] + 2
+
+
+def test_list_backup_and_check(clinic, tmp_path):
+    assert "P0001" in clinic("list").output
+    assert json.loads(clinic("list", "--json").output)[0]["patient"] == "P0001"
+    assert clinic("backup", str(tmp_path / "b.db")).exit_code == 0
+    check = clinic("check")
+    assert check.exit_code == 0 and "integrity: ok" in check.output and "audit id gaps: none" in check.output
