@@ -21,13 +21,13 @@ def console() -> Console:
 
 def safe(text: object) -> str:
     """User text as inert, single-line markup: no rich tags, no terminal escapes."""
-    return escape(one_line(str(text))) if text is not None else ""
+    return escape(one_line(str(text), limit=200)) if text is not None else ""
 
 
 def print_table(headers: list[str], rows: list[list[object]], title: str | None = None) -> None:
     table = Table(title=title, header_style="bold", box=None, pad_edge=False)
     for h in headers:
-        table.add_column(h)
+        table.add_column(h, no_wrap=True, overflow="ellipsis", min_width=len(h))
     for row in rows:
         table.add_row(*(safe(c) for c in row))
     console().print(table)
@@ -77,19 +77,21 @@ def _day(d) -> str:
     return d.isoformat() if d else "-"
 
 
+def _short(d) -> str:
+    return d.strftime("%d%b") if d else "-"
+
+
 def list_table(lines) -> None:
-    """The caseload in triage order."""
+    """The caseload in triage order, narrow enough for an 80-column terminal."""
     rows = []
     for line in lines:
         s, top = line.snapshot, line.top_alert
-        alert = "" if top is None else f"{top.severity.value}: {top.kind}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
-        window = f"{_day(s.fertile_window[0])}..{_day(s.fertile_window[1])}" if s and s.fertile_window else "-"
-        shift = _day(s.shift_confirmed_on) if s and s.shift_confirmed_on else "no"
-        nxt = f"{s.next_event} {_day(s.next_event_day)}" if s and s.next_event else "-"
-        since = "-" if line.days_since_entry is None else str(line.days_since_entry)
-        rows.append([line.patient.id, line.patient.name, line.cycle_day or "-", s.phase if s else "-", alert, window, shift, nxt, since])
-    print_table(["patient", "name", "cd", "phase", "alert", "window", "shift", "next", "since"], rows,
-                title=f"Caseload: {len(lines)} patients")
+        alert = "" if top is None else f"{top.severity.value} {top.kind}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
+        nxt = f"{s.next_event} {_short(s.next_event_day)}" if s and s.next_event else ""
+        since = "" if line.days_since_entry is None else str(line.days_since_entry)
+        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", s.phase if s else "", alert, nxt, since])
+    print_table(["patient", "name", "day", "phase", "alert", "next", "quiet"], rows,
+                title=f"Caseload: {len(lines)} patients (day = cycle day, quiet = days since last entry)")
     console().print(CAUTION, style="dim")
 
 

@@ -7,14 +7,14 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
 from caseload.core.markers import Markers, luteal_length, markers
-from caseload.core.model import Observation, Patient, PatientStatus
-from caseload.core.prediction import Evidence, Prediction, predict, predictive
+from caseload.core.model import Kind, Observation, Patient, PatientStatus
+from caseload.core.prediction import Evidence, Prediction, predict, predictive, watch_horizon
 from caseload.core.pregnancy import HcgTrend, HcgValue, Pregnancy, hcg_trend, pregnancy, serum_values
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
@@ -24,10 +24,10 @@ from caseload.core.thermal import ThermalShift, thermal_shift, valid_readings
 BLEEDING = "bleeding"
 PRE_WINDOW = "pre-window"
 WINDOW = "window"
-POST_SHIFT = "post-shift"
+LUTEAL = "luteal"  # ovulation is past: a confirmed shift, or a dated marker behind today
 PREGNANT = "pregnant"
 UNKNOWN = "unknown"
-PHASES = (BLEEDING, PRE_WINDOW, WINDOW, POST_SHIFT, PREGNANT, UNKNOWN)
+PHASES = (BLEEDING, PRE_WINDOW, WINDOW, LUTEAL, PREGNANT, UNKNOWN)
 
 
 @dataclass(frozen=True)
@@ -74,9 +74,10 @@ class Analysis:
 
 
 def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol) -> CycleRecord:
-    readings = valid_readings(group)
-    shift = thermal_shift(readings, span.start, span.end or today, protocol)
-    found = markers(group, shift, protocol)
+    temps = [o for o in group if o.kind == Kind.TEMP]
+    signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
+    shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
+    found = markers(signs, shift, protocol)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -117,7 +118,7 @@ def analyse(
     classification = classify(stats, days_dry, pregnant is not None, age, protocol)
     forecast = None
     if current is not None and pregnant is None:
-        forecast = _forecast(current, complete, today, protocol)
+        forecast = _forecast(current, current_obs, complete, today, protocol)
     scans = follicles(current_obs, protocol)
     hcg = serum_values(current_obs)
     phase = _phase(current, forecast, pregnant, today, protocol)
@@ -143,7 +144,9 @@ def analyse(
     )
 
 
-def _forecast(current: CycleRecord, complete: list[CycleRecord], today: date, protocol: Protocol) -> Prediction:
+def _forecast(
+    current: CycleRecord, current_obs: list[Observation], complete: list[CycleRecord], today: date, protocol: Protocol
+) -> Prediction:
     lengths = [r.length for r in complete]
     luteals = [r.luteal_length for r in complete if r.luteal_length is not None]
     cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
@@ -153,16 +156,23 @@ def _forecast(current: CycleRecord, complete: list[CycleRecord], today: date, pr
         return None if day is None else (day - current.start).days + 1
 
     shift = current.shift
+    readings = [cycle_day(r.day) for r in valid_readings(current_obs)]
+    lh_tests = [cycle_day(o.day) for o in current_obs if o.kind == Kind.LH]
     evidence = Evidence(
         cycle_day=cycle_day(today),
         first_high=cycle_day(shift.first_high) if shift.confirmed else None,
         lh_surge=cycle_day(current.markers.lh_surge),
+        horizon=watch_horizon(readings, lh_tests, protocol),
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 
 
 def _phase(
-    current: CycleRecord | None, forecast: Prediction | None, pregnant: Pregnancy | None, today: date, protocol: Protocol
+    current: CycleRecord | None,
+    forecast: Prediction | None,
+    pregnant: Pregnancy | None,
+    today: date,
+    protocol: Protocol,
 ) -> str:
     if pregnant is not None:
         return PREGNANT
@@ -170,8 +180,9 @@ def _phase(
         return UNKNOWN
     if (today - current.bleed_end).days <= 1:
         return BLEEDING
-    if current.shift.confirmed:
-        return POST_SHIFT
+    ovulation = current.markers.ovulation
+    if current.shift.confirmed or (ovulation is not None and ovulation < today):
+        return LUTEAL
     if current.markers.lh_surge is not None:
         return WINDOW
     if forecast is None or forecast.fertile_window is None:
@@ -313,5 +324,7 @@ def analysis_json(a: Analysis) -> dict:
         },
         "follicles": None if a.follicles is None else _follicles_json(a.follicles),
         "phase": a.phase,
-        "next_event": None if a.next_event is None else {"label": a.next_event.label, "day": a.next_event.day.isoformat()},
+        "next_event": None
+        if a.next_event is None
+        else {"label": a.next_event.label, "day": a.next_event.day.isoformat()},
     }

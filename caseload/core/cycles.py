@@ -51,13 +51,6 @@ class CycleSpan:
         """The cycle's last day (the day before the next day 1)."""
         return None if self.next_start is None else self.next_start - timedelta(days=1)
 
-    def day_of(self, day: date) -> int:
-        """Cycle day of a date (day 1 = the cycle start)."""
-        return (day - self.start).days + 1
-
-    def contains(self, day: date) -> bool:
-        return day >= self.start and (self.next_start is None or day < self.next_start)
-
 
 def menstrual_bleeds(observations: list[Observation], protocol: Protocol) -> list[Bleed]:
     """The bleeds that start cycles, oldest first."""

@@ -23,7 +23,9 @@ def _beta_fraction(a: float, b: float, x: float) -> float:
     h = d
     for m in range(1, _MAX_TERMS + 1):
         m2 = 2 * m
-        for numerator in (m * (b - m) * x / ((qam + m2) * (a + m2)), -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2))):
+        even = m * (b - m) * x / ((qam + m2) * (a + m2))
+        odd = -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2))
+        for numerator in (even, odd):
             d = 1.0 + numerator * d
             d = 1.0 / (d if abs(d) > _TINY else _TINY)
             c = 1.0 + numerator / c

@@ -10,6 +10,7 @@ from caseload.core.settings import Protocol
 from caseload.core.thermal import ThermalShift
 
 POSITIVE = "positive"
+_MUCUS_LEVEL = {word: level for level, word in enumerate(MUCUS_SCALE)}
 
 # Order of trust for dating ovulation, most trusted first. The LH surge precedes ovulation by a
 # narrow, well-measured interval (WHO Task Force 1980); the thermal shift only follows it, dating
@@ -41,8 +42,8 @@ def mucus_peak(observations: list[Observation]) -> date | None:
     """The last peak-type day that a less fertile observation on a later day has confirmed."""
     levels: dict[date, int] = {}
     for obs in observations:
-        if obs.kind == Kind.MUCUS and obs.value.word in MUCUS_SCALE:
-            level = MUCUS_SCALE.index(obs.value.word)
+        level = _MUCUS_LEVEL.get(obs.value.word) if obs.kind == Kind.MUCUS else None
+        if level is not None:
             levels[obs.day] = max(level, levels.get(obs.day, level))
     candidate: date | None = None
     confirmed: date | None = None

@@ -60,9 +60,11 @@ def accepted(words) -> str:
     return ", ".join(words)
 
 
-def one_line(text: str) -> str:
-    """Show user text inside a message without letting it break the line."""
-    return text.encode("unicode_escape").decode("ascii")[:60]
+def one_line(text: str, limit: int = 60) -> str:
+    """User text fit for a one-line message: control characters (newlines, terminal escapes)
+    are shown escaped; letters of every script stay as they are."""
+    shown = "".join(ch if ch.isprintable() else ch.encode("unicode_escape").decode("ascii") for ch in text)
+    return shown if len(shown) <= limit else shown[: limit - 1] + "…"
 
 
 def parse_kind(word: str) -> Kind:

@@ -4,13 +4,16 @@ Cycle length L and luteal length T (days from the day after ovulation to the day
 period, Lenton 1984) each come from a Bayesian normal model: the patient's own values shrunk
 toward a population prior (cycle: Fehring 2006; luteal: Lenton 1984) that carries
 `prior_weight_cycles` cycles' worth of weight. With the variance learnt too, the predictive is
-Student's t. Ovulation falls on cycle day O = L - T and the next period on day L + 1.
-The current cycle's evidence then reweights the joint (O, T) grid.
+Student's t; its heavier tails are what let the population prior alone meet Wilcox 2000 (at
+least a 10% chance of being in the fertile window on every cycle day 6 to 21), which a normal
+with the same figures misses (6% on day 21). Ovulation falls on cycle day O = L - T and the next
+period on day L + 1. The current cycle's evidence then reweights the joint grid.
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import date, timedelta
 
@@ -49,6 +52,23 @@ class Evidence:
     cycle_day: int  # today
     first_high: int | None  # of a confirmed thermal shift
     lh_surge: int | None
+    horizon: int | None  # earliest day ovulation can still be on; None when nothing is watched
+
+
+def watch_horizon(reading_days: list[int], lh_test_days: list[int], protocol: Protocol) -> int | None:
+    """The earliest cycle day ovulation can still be on when the watching has shown no sign of it.
+
+    Temperatures: ovulation before the last `shift_confirm_readings` readings would have given a
+    confirmed shift by now, provided there were enough readings for the rule to work at all.
+    LH: a surge precedes ovulation, so none up to the last test means ovulation is not past it.
+    """
+    found = []
+    confirm = protocol.shift_confirm_readings
+    if len(reading_days) >= protocol.shift_low_days + confirm:
+        found.append(reading_days[-confirm])
+    if lh_test_days:
+        found.append(lh_test_days[-1])
+    return max(found, default=None)
 
 
 @dataclass(frozen=True)
@@ -59,7 +79,7 @@ class DayChance:
 
 @dataclass(frozen=True)
 class Prediction:
-    """The current cycle's forecast. Ovulation fields are None when the evidence leaves the model no room."""
+    """The current cycle's forecast; ovulation fields are None when the evidence leaves the model no room."""
 
     ovulation: date | None  # most likely day, given all of this cycle's evidence
     ovulation_range: tuple[date, date] | None  # 80%
@@ -71,7 +91,7 @@ class Prediction:
     expected_ovulation: date  # from the pattern alone, before this cycle's evidence
     expected_ovulation_range: tuple[date, date]  # 80%, pattern alone
     calendar_rule: tuple[int, int] | None  # Ogino-Knaus, in cycle days
-    evidence: str  # "lh", "shift", "lh+shift", "elapsed" (days passed, nothing seen)
+    evidence: str  # "lh", "shift", "lh+shift"; "elapsed" (watched days, no sign); "pattern" (nothing watched)
     cycle_length: Predictive
     luteal_length: Predictive
 
@@ -116,6 +136,15 @@ def _marginal(grid: dict[tuple[int, int], float], index: int) -> tuple[list[int]
     total = math.fsum(sums.values())
     days = sorted(sums)
     return days, [sums[d] / total for d in days]
+
+
+def _summary(
+    grid: dict[tuple[int, int], float], index: int, bounds: tuple[float, float], on: Callable[[int], date]
+) -> tuple[date, tuple[date, date]]:
+    """(most likely date, (lower, upper) dates) of one margin of the grid."""
+    days, probs = _marginal(grid, index)
+    best = days[max(range(len(probs)), key=probs.__getitem__)]
+    return on(best), (on(_quantile(days, probs, bounds[0])), on(_quantile(days, probs, bounds[1])))
 
 
 def _weighted(grid: dict[tuple[int, int], float], likelihood: dict[int, float]) -> dict[tuple[int, int], float]:
@@ -168,10 +197,9 @@ def predict(
     pattern = _joint(cycle, luteal)
     found = _evidence_likelihoods(evidence, protocol)
     if not found:
-        informed, label = pattern, "elapsed"
-        # Ovulation further back than a confirmation takes would by now show as a confirmed
-        # shift; none has, so those days are excluded.
-        horizon = evidence.cycle_day - (protocol.shift_confirm_readings - 1)
+        # Days watched with no sign of ovulation are excluded (truncate and renormalise).
+        informed, label = pattern, "pattern" if evidence.horizon is None else "elapsed"
+        horizon = evidence.horizon or 1
         current = {key: w for key, w in pattern.items() if key[0] >= horizon}
         total = math.fsum(current.values())
         current = {key: w / total for key, w in current.items()} if total > 0.0 else {}
@@ -188,23 +216,16 @@ def predict(
     def on(cycle_day: int) -> date:
         return start + timedelta(days=cycle_day - 1)
 
-    ov_days, ov_p = _marginal(pattern, 0)
-    expected = on(ov_days[max(range(len(ov_p)), key=ov_p.__getitem__)])
-    expected_range = (on(_quantile(ov_days, ov_p, OVULATION_RANGE[0])), on(_quantile(ov_days, ov_p, OVULATION_RANGE[1])))
-    n_days, n_p = _marginal(informed, 1)
-    next_period = on(n_days[max(range(len(n_p)), key=n_p.__getitem__)])
-    period_range = (on(_quantile(n_days, n_p, PERIOD_RANGE[0])), on(_quantile(n_days, n_p, PERIOD_RANGE[1])))
-
+    expected, expected_range = _summary(pattern, 0, OVULATION_RANGE, on)
+    next_period, period_range = _summary(informed, 1, PERIOD_RANGE, on)
     ovulation = ov_range = window = None
     daily: tuple[DayChance, ...] = ()
     distribution: tuple[tuple[date, float], ...] = ()
     if current:
-        days, probs = _marginal(current, 0)
-        best = days[max(range(len(probs)), key=probs.__getitem__)]
-        ovulation = on(best)
-        ov_range = (on(_quantile(days, probs, OVULATION_RANGE[0])), on(_quantile(days, probs, OVULATION_RANGE[1])))
+        ovulation, ov_range = _summary(current, 0, OVULATION_RANGE, on)
         width = protocol.fertile_window_days
-        window = (max(on(best - width + 1), start), ovulation)
+        window = (max(ovulation - timedelta(days=width - 1), start), ovulation)
+        days, probs = _marginal(current, 0)
         distribution = tuple((on(d), round(p, 6)) for d, p in zip(days, probs))
         daily = _daily(dict(zip(days, probs)), evidence.cycle_day, today, width)
     return Prediction(

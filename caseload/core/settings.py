@@ -64,6 +64,7 @@ class Protocol:
     trigger_follicle_mm: float = setting(18.0, "common practice", 14, 25, "lead follicle diameter (mm) at which a trigger is planned")
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")
     fever_c: float = setting(38.0, "common practice", 37.5, 39.5, "temperature (C) counted as a fever")
+    alert_lookback_days: int = setting(14, "common practice", 1, 90, "days back a fever reading is still raised when first seen")
 
 
 def protocol_fields() -> list[tuple[str, object, dict]]:

@@ -133,8 +133,14 @@ def change_point(readings: list[Reading], protocol: Protocol) -> ChangePoint | N
     passes = difference >= protocol.change_point_min_delta_c - 1e-9 and (
         strength is None or strength >= protocol.change_point_min_strength
     )
-    return ChangePoint(readings[best_k].day, round(low, 3), round(high, 3), round(difference, 3),
-                       None if strength is None else round(strength, 2), passes)
+    return ChangePoint(
+        split_on=readings[best_k].day,
+        low_mean=round(low, 3),
+        high_mean=round(high, 3),
+        difference=round(difference, 3),
+        strength=None if strength is None else round(strength, 2),
+        passes=passes,
+    )
 
 
 def thermal_shift(readings: list[Reading], start: date, last_day: date, protocol: Protocol) -> ThermalShift:

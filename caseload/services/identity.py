@@ -8,7 +8,8 @@ the staff member and the OS account.
 
 from __future__ import annotations
 
-import getpass
+import os
+import pwd
 
 from caseload.core.model import Actor, Role
 from caseload.services.errors import NotFound, Refused
@@ -16,7 +17,12 @@ from caseload.store import Store
 
 
 def os_account() -> str:
-    return getpass.getuser()
+    """The account the process runs under, from the OS itself: USER and LOGNAME can be set by anyone."""
+    uid = os.geteuid()
+    try:
+        return pwd.getpwuid(uid).pw_name
+    except KeyError:  # a uid with no passwd entry (some containers)
+        return f"uid-{uid}"
 
 
 def resolve_actor(store: Store, account: str, as_staff: str | None = None) -> Actor:

@@ -44,6 +44,8 @@ def _header(reader) -> list[str]:
         header = [h.strip().lower() for h in next(reader)]
     except StopIteration:
         raise InputError("line 1: the file is empty: it needs a header row patient,day,kind,value") from None
+    except csv.Error as err:
+        raise InputError(f"line 1: not valid CSV ({err})") from None
     missing = [c for c in REQUIRED if c not in header]
     unknown = [c for c in header if c not in REQUIRED + OPTIONAL]
     if missing or unknown or len(set(header)) != len(header):
@@ -97,6 +99,14 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
     return rows
 
 
+def _recheck(ctx: Context, patient_id: str, parsed: ParsedEntry) -> None:
+    """The store rules again, inside the write: another terminal may have logged since the file was read."""
+    try:
+        check_loggable(ctx, patient_id, parsed)
+    except Refused as err:
+        raise Refused(f"{err} (logged from another terminal during the import): nothing imported") from None
+
+
 def import_csv(ctx: Context, data: bytes) -> Imported:
     ctx.require("entry.import")
     rows = parse_rows(ctx, data)
@@ -104,6 +114,7 @@ def import_csv(ctx: Context, data: bytes) -> Imported:
     def work() -> Imported:
         touched: dict[str, None] = {}
         for patient_id, parsed in rows:
+            _recheck(ctx, patient_id, parsed)
             ctx.store.entries.add(ctx.actor, patient_id, parsed)
             touched[patient_id] = None
         for patient_id in touched:

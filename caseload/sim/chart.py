@@ -28,6 +28,7 @@ class Profile:
     temp_low: float  # follicular basal temperature level (C)
     temp_rise: float  # post-ovulatory rise (C)
     temp_noise: float  # day-to-day SD (C)
+    rise_days: tuple[int, ...]  # the rise takes one of these many days (WHO Global Handbook: gradual)
     wake_minute: int  # usual reading time, minutes after midnight
     charting_temps: bool
     temp_missing_rate: float  # chance a single day's reading is skipped

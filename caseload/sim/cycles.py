@@ -31,7 +31,8 @@ LUTEAL_USUAL_SD = 0.87
 SHORT_LUTEAL_RATE = 0.052
 SHORT_LUTEAL_DAYS = (9, 10)
 ANOVULATORY_RATE = 0.03  # from memory: a few percent of cycles in ovulatory women
-MIN_FOLLICULAR_DAYS = 9  # common practice: ovulation before cycle day 9 is exceptional
+MIN_FOLLICULAR_DAYS = 8  # common practice: ovulation before cycle day 8 is exceptional; very
+# short cycles have shorter luteal phases instead (from memory)
 STIMULATED_PLANS = (Plan.OVULATION_INDUCTION, Plan.INSEMINATION)
 MATURE_MM = 14.0  # Evans 2020
 TRIGGER_MM = 18.0  # common practice
@@ -54,6 +55,7 @@ def population_profile(rng: random.Random, plan: Plan, charting_temps: bool) -> 
         temp_low=rng.uniform(36.3, 36.5),  # WHO Global Handbook, low phase
         temp_rise=rng.uniform(0.25, 0.45),  # WHO Global Handbook: 0.2-0.5 C
         temp_noise=rng.uniform(0.07, 0.12),
+        rise_days=(1, 1, 2, 3),
         wake_minute=rng.randrange(6 * 60, 7 * 60 + 15),
         charting_temps=charting_temps,
         temp_missing_rate=0.08,
@@ -105,7 +107,7 @@ def draw_cycle(rng: random.Random, profile: Profile, start: date) -> TrueCycle:
     else:
         length = draw_length(rng, profile)
         luteal = draw_luteal(rng, profile)
-        length = max(length, luteal + MIN_FOLLICULAR_DAYS)
+        luteal = min(luteal, length - MIN_FOLLICULAR_DAYS)
         ovulation_day = length - luteal
     ovulation = start + timedelta(days=ovulation_day - 1)
     if rng.random() < profile.conception_rate:

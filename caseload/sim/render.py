@@ -48,7 +48,7 @@ def render_cycle(
     k_first = max(0, (first - cycle.start).days)
     k_last = min(span - 1, (last - cycle.start).days)
     gap = _gap(rng, p, cycle, span)
-    ramp = rng.choice((1, 1, 2, 3))  # the rise is gradual over 1-3 days (WHO Global Handbook)
+    ramp = rng.choice(p.rise_days)
     missed = False
     for k in range(k_first, k_last + 1):
         if gap[0] <= k < gap[1]:

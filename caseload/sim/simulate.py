@@ -18,7 +18,7 @@ from caseload.sim.render import render_chart
 # Caseload mix (common practice for a fertility service's monitored caseload).
 PLAN_WEIGHTS = {Plan.NATURAL: 0.45, Plan.TIMED: 0.25, Plan.OVULATION_INDUCTION: 0.15, Plan.INSEMINATION: 0.15}
 # Chance of conceiving per ovulatory cycle, by plan: a subfertile caseload (from memory).
-CONCEPTION_RATE = {Plan.NATURAL: 0.02, Plan.TIMED: 0.03, Plan.OVULATION_INDUCTION: 0.05, Plan.INSEMINATION: 0.06}
+CONCEPTION_RATE = {Plan.NATURAL: 0.01, Plan.TIMED: 0.015, Plan.OVULATION_INDUCTION: 0.025, Plan.INSEMINATION: 0.03}
 IRREGULAR_SHARE = 0.15
 CHARTING_TEMPS_SHARE = 0.6
 

@@ -31,8 +31,11 @@ def utc_now() -> datetime:
 
 def create_private(path: Path) -> None:
     """Create an empty file readable and writable by its owner only."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600)
+    except OSError as err:
+        raise StoreError(f"cannot create {path}: {err.strerror}") from None
     os.close(fd)
 
 
@@ -44,7 +47,10 @@ class Database:
         self.clock = clock
         if not self.path.exists():
             create_private(self.path)
-        conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
+        try:
+            conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
+        except sqlite3.Error as err:
+            raise StoreError(f"{self.path} cannot be opened: {err}") from None
         conn.isolation_level = None  # transactions are begun explicitly, see write()
         self.db = sqlite_utils.Database(conn)
         self.conn = conn
@@ -55,6 +61,9 @@ class Database:
             conn.execute("PRAGMA foreign_keys = ON")
             conn.execute("PRAGMA synchronous = FULL")
             self.migrate()
+        except StoreError:
+            conn.close()
+            raise
         except sqlite3.DatabaseError as err:
             conn.close()
             raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
@@ -81,10 +90,17 @@ class Database:
         steps = migrations.pending(self.version)
         if not steps:
             return
-        with self.write():
-            for version, step in steps:
-                step(self.conn)
-                self.conn.execute(f"PRAGMA user_version = {version}")
+        current = self.version
+        try:
+            with self.write():
+                for version, step in steps:
+                    step(self.conn)
+                    self.conn.execute(f"PRAGMA user_version = {version}")
+        except Exception as err:  # whatever a step raised, its transaction was rolled back whole
+            raise StoreError(
+                f"{self.path}: upgrading schema {current} to {steps[-1][0]} failed ({err}): "
+                f"the file is left as it was, at schema {current}"
+            ) from None
 
     @contextmanager
     def write(self) -> Iterator[sqlite3.Connection]:
@@ -100,7 +116,13 @@ class Database:
                 self.conn.execute("ROLLBACK")
             raise
         else:
-            self.conn.execute("COMMIT")
+            try:
+                self.conn.execute("COMMIT")
+            except BaseException:
+                # A failed COMMIT leaves the transaction open: close it so a retry starts clean.
+                if self.conn.in_transaction:
+                    self.conn.execute("ROLLBACK")
+                raise
 
     def transact(self, work: Callable[[], T], attempts: int = 6) -> T:
         """Run `work` in one write transaction, retrying the whole of it while another writer
@@ -110,8 +132,12 @@ class Database:
                 with self.write():
                     return work()
             except sqlite3.OperationalError as err:
-                if attempt == attempts or not _is_lock_error(err):
+                if not _is_lock_error(err):
                     raise
+                if attempt == attempts:
+                    raise StoreError(
+                        f"the store stayed locked by other writers ({err}): nothing was written, try again"
+                    ) from None
                 time.sleep(0.05 * 2**attempt)
         raise AssertionError("unreachable")
 

@@ -30,8 +30,11 @@ def backup_to(db: Database, target: Path) -> None:
     dest = sqlite3.connect(target)
     try:
         db.conn.backup(dest)
-    finally:
+    except sqlite3.Error as err:
         dest.close()
+        target.unlink(missing_ok=True)  # a half-written copy must not pass for a backup
+        raise StoreError(f"backup to {target} failed ({err}): nothing kept") from None
+    dest.close()
 
 
 def inspect_file(source: Path) -> int:
@@ -46,7 +49,7 @@ def inspect_file(source: Path) -> int:
         version = conn.execute("PRAGMA user_version").fetchone()[0]
         tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
     except sqlite3.DatabaseError as err:
-        raise StoreError(f"{source} is not an SQLite store ({err}): not restored") from None
+        raise StoreError(f"{source} is damaged or not an SQLite file ({err}): not restored") from None
     finally:
         conn.close()
     if version < 1 or not {"staff", "patient", "entry", "audit"} <= tables:
@@ -58,6 +61,8 @@ def inspect_file(source: Path) -> int:
 
 def restore_from(db: Database, source: Path) -> int:
     """Replace the store's content with a checked backup, in place, then migrate it if it is older."""
+    if source.resolve() == db.path.resolve():
+        raise StoreError(f"{source} is the store itself: restore from a backup file")
     version = inspect_file(source)
     src = sqlite3.connect(f"file:{source}?mode=ro", uri=True)
     try:
@@ -68,7 +73,14 @@ def restore_from(db: Database, source: Path) -> int:
     return version
 
 
+def _tail_gap(db: Database) -> list[tuple[int, int]]:
+    """Audit rows removed from the end: the id counter remembers ids no longer in the table."""
+    issued = db.conn.execute("SELECT seq FROM sqlite_sequence WHERE name = 'audit'").fetchone()
+    top = db.conn.execute("SELECT max(id) FROM audit").fetchone()[0] or 0
+    return [(top + 1, issued[0])] if issued and issued[0] > top else []
+
+
 def health(db: Database, audit_gaps: list[tuple[int, int]]) -> Health:
     integrity = [r[0] for r in db.conn.execute("PRAGMA integrity_check")]
     fk = len(db.conn.execute("PRAGMA foreign_key_check").fetchall())
-    return Health(integrity, fk, audit_gaps, db.version)
+    return Health(integrity, fk, audit_gaps + _tail_gap(db), db.version)

@@ -73,6 +73,9 @@ def _v1(conn: sqlite3.Connection) -> None:
             voided_at TEXT
         );
         CREATE INDEX entry_patient_day ON entry(patient_id, day);
+        -- Weekly summaries count by day or by logging time across the whole caseload.
+        CREATE INDEX entry_kind_day ON entry(kind, day);
+        CREATE INDEX entry_at ON entry(at);
         -- Entries are append-only: the one change allowed is a void, once, which keeps the row.
         CREATE TRIGGER entry_no_delete BEFORE DELETE ON entry
         BEGIN SELECT RAISE(ABORT, 'entry is append-only: void it with a reason instead'); END;
@@ -122,6 +125,9 @@ def _v1(conn: sqlite3.Connection) -> None:
             before TEXT,
             after TEXT
         );
+        -- Weekly summaries read one week of each action, and one alert's or patient's history.
+        CREATE INDEX audit_action_at ON audit(action, at);
+        CREATE INDEX audit_row ON audit(row_id);
         """
     )
     run_script(conn, APPEND_ONLY.format(table="audit"))

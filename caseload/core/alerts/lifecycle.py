@@ -1,0 +1,128 @@
+"""An alert's life: open -> acknowledged -> resolved, snoozed until a day, auto-resolved when the
+condition ends, escalated when the evidence worsens. Pure: it decides, the services write.
+
+One stored row per key, ever: a resolved key is never raised again. A candidate that is only
+held (not raisable) keeps an alert alive but never raises or escalates one.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, replace
+from datetime import date, timedelta
+
+from caseload.core.alerts import AlertKind, Candidate, Facts, scope_of
+from caseload.core.alerts.base import skip_reason
+from caseload.core.alerts.window import p_today
+from caseload.core.model import Alert, AlertState
+from caseload.core.parse import InputError, one_line
+
+OPEN, ACKNOWLEDGED, SNOOZED, RESOLVED = AlertState.OPEN, AlertState.ACKNOWLEDGED, AlertState.SNOOZED, AlertState.RESOLVED
+# Staff actions: the target state and the states it may be reached from.
+ALLOWED_FROM: dict[AlertState, frozenset[AlertState]] = {
+    ACKNOWLEDGED: frozenset({OPEN, SNOOZED}),
+    SNOOZED: frozenset({OPEN, ACKNOWLEDGED, SNOOZED}),
+    RESOLVED: frozenset({OPEN, ACKNOWLEDGED, SNOOZED}),
+}
+# A snooze further off than this is a resolve in disguise, or a mistyped year.
+MAX_SNOOZE_DAYS = 90
+# Kinds whose rule looks only at the current cycle: a new day 1 ends them.
+CURRENT_CYCLE_KINDS = frozenset(
+    {
+        AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN, AlertKind.NO_THERMAL_SHIFT, AlertKind.PERIOD_OVERDUE,
+        AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP,
+    }
+)  # fmt: skip
+
+
+@dataclass(frozen=True)
+class SyncPlan:
+    """What a refresh changes for one patient."""
+
+    raises: tuple[Candidate, ...]
+    escalations: tuple[tuple[Alert, Candidate], ...]
+    reopens: tuple[Alert, ...]  # snoozed until a day that has come
+    resolutions: tuple[tuple[Alert, str], ...]  # with the reason, "auto: ..."
+
+    @property
+    def empty(self) -> bool:
+        return not (self.raises or self.escalations or self.reopens or self.resolutions)
+
+
+def effective(alert: Alert, today: date) -> Alert:
+    """The alert as the lists show it: snoozed until a day that has come counts as open."""
+    if alert.state is SNOOZED and alert.snooze_until is not None and alert.snooze_until <= today:
+        return replace(alert, state=OPEN)
+    return alert
+
+
+def plan_sync(existing: list[Alert], candidates: list[Candidate], facts: Facts) -> SyncPlan:
+    """Compare the patient's stored alerts (all of them, resolved ones too) with today's candidates."""
+    stored = {a.key: a for a in existing}
+    found = {c.key: c for c in candidates}
+    raises = tuple(c for c in candidates if c.raisable and c.key not in stored)
+    escalations, reopens, resolutions = [], [], []
+    for alert in existing:
+        if alert.state is RESOLVED:
+            continue
+        candidate = found.get(alert.key)
+        if candidate is None:
+            resolutions.append((alert, "auto: " + ended_reason(alert, facts)))
+        elif candidate.raisable and candidate.severity.rank < alert.severity.rank:
+            escalations.append((alert, candidate))
+        elif effective(alert, facts.today) is not alert:
+            reopens.append(alert)
+    return SyncPlan(raises, tuple(escalations), tuple(reopens), tuple(resolutions))
+
+
+def ended_reason(alert: Alert, facts: Facts) -> str:
+    """Why the condition behind an alert no longer holds, in a few words."""
+    analysis = facts.analysis
+    skipped = skip_reason(scope_of(alert.kind), facts.patient, analysis)
+    if skipped:
+        return skipped
+    kind, current = AlertKind(alert.kind), analysis.current
+    start = alert.evidence.get("cycle_start")
+    if kind in CURRENT_CYCLE_KINDS and start and (current is None or current.start.isoformat() != start):
+        if current is not None and current.start.isoformat() > start:
+            return f"a period started on {current.start.isoformat()}"
+        return "the cycle's day 1 changed after a correction"
+    if kind is AlertKind.LOGGING_GAP and analysis.last_entry_day and analysis.last_entry_day.isoformat() >= alert.evidence["gap_start"]:
+        return f"an entry was logged for {analysis.last_entry_day.isoformat()}"
+    windows = (AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN)
+    if kind in (*windows, AlertKind.NO_THERMAL_SHIFT) and current is not None and current.shift.confirmed:
+        return f"thermal shift confirmed on {current.shift.confirmed_on.isoformat()}"
+    if kind is AlertKind.WINDOW_APPROACHING and current is not None and current.markers.lh_surge is not None:
+        return f"LH surge logged on {current.markers.lh_surge.isoformat()}: the window is open"
+    if kind in windows and analysis.prediction is not None:
+        chance = p_today(analysis.prediction)
+        opened = kind is AlertKind.WINDOW_APPROACHING and chance >= facts.protocol.window_open_p
+        return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
+    if kind is AlertKind.IRREGULAR_CYCLES:
+        c = analysis.classification
+        return f"cycles now classify as frequency {c.frequency}, regularity {c.regularity} (FIGO 2018)"
+    return "the entries behind it were corrected or voided"
+
+
+def parse_future_day(text: str, today: date) -> date:
+    """A day after today: YYYY-MM-DD, 'tomorrow' or '+N' (days ahead), at most MAX_SNOOZE_DAYS away."""
+    t = (text or "").strip().lower()
+    day = None
+    if t == "tomorrow":
+        day = today + timedelta(days=1)
+    elif re.fullmatch(r"\+\d{1,3}", t):
+        day = today + timedelta(days=int(t[1:]))
+    elif re.fullmatch(r"\d{4}-\d{2}-\d{2}", t):
+        try:
+            day = date.fromisoformat(t)
+        except ValueError:
+            day = None
+    if day is None:
+        raise InputError(f"day '{one_line(text or '')}' not understood: use YYYY-MM-DD, tomorrow or +N (days ahead)")
+    if day <= today:
+        raise InputError(f"{day.isoformat()} is not after today ({today.isoformat()}): give a later day")
+    if (day - today).days > MAX_SNOOZE_DAYS:
+        raise InputError(
+            f"{day.isoformat()} is {(day - today).days} days away: snooze at most {MAX_SNOOZE_DAYS} days, or resolve the alert"
+        )
+    return day

@@ -1,0 +1,116 @@
+"""Window alerts: the fertile window is coming, or it is open now.
+
+Both read the current cycle's forecast: P(fertile) on each coming day is the chance that ovulation
+falls within the next six days (Wilcox 1995). An alert raised this cycle is held while the window
+lasts, so a probability that dips and recovers does not resolve it and then bar it for the cycle.
+"""
+
+from __future__ import annotations
+
+from datetime import timedelta
+
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, iso, source_of
+from caseload.core.model import Plan, Severity
+from caseload.core.prediction import Prediction
+
+# The ovum lives 12-24 hours (common practice): an LH-dated window closes the day after ovulation.
+OVUM_DAYS = 1
+
+APPROACHING_ACTION = {
+    Plan.NATURAL: "let the patient know her fertile days are coming",
+    Plan.TIMED: "plan timed intercourse with the couple",
+    Plan.OVULATION_INDUCTION: "book the monitoring scan",
+    Plan.INSEMINATION: "plan the insemination slot",
+}
+OPEN_ACTION = {
+    Plan.NATURAL: "let the patient know",
+    Plan.TIMED: "advise intercourse today and tomorrow",
+    Plan.OVULATION_INDUCTION: "check the scan and the trigger plan",
+    Plan.INSEMINATION: "book the insemination",
+}
+
+
+def p_today(prediction: Prediction) -> float:
+    return prediction.daily[0].p_fertile if prediction.daily else 0.0
+
+
+def lh_window_open(f: Facts) -> bool:
+    """An LH surge this cycle and no confirmed shift yet. Without temperatures no shift can come,
+    so the surge then holds the window only to the day after the ovulation it dates."""
+    current = f.analysis.current
+    surge = current.markers.lh_surge
+    if surge is None or current.shift.confirmed:
+        return False
+    closes = surge + timedelta(days=f.protocol.lh_to_ovulation_days + OVUM_DAYS)
+    return f.patient.charting_temps or f.today <= closes
+
+
+def window_open(f: Facts) -> list[Candidate]:
+    current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
+    if current is None or forecast is None or current.shift.confirmed:
+        return []
+    chance, lh = p_today(forecast), lh_window_open(f)
+    raisable = chance >= p.window_open_p or lh
+    if not raisable and chance < p.window_approaching_p:
+        return []
+    cd = cycle_day(current.start, f.today)
+    action = OPEN_ACTION[f.patient.plan]
+    if lh:
+        message = f"Fertile window open: LH surge on {current.markers.lh_surge.isoformat()}, no shift yet (cycle day {cd}); {action}."
+    else:
+        message = f"Fertile window open: P(fertile) today {chance:.2f} (cycle day {cd}); {action}."
+    window = forecast.fertile_window
+    return [
+        f.candidate(
+            AlertKind.WINDOW_OPEN,
+            current.start.isoformat(),
+            Severity.TODAY,
+            message,
+            {
+                "cycle_start": current.start.isoformat(),
+                "cycle_day": cd,
+                "p_fertile_today": chance,
+                "lh_surge": iso(current.markers.lh_surge),
+                "ovulation": iso(forecast.ovulation),
+                "fertile_window": None if window is None else [window[0].isoformat(), window[1].isoformat()],
+            },
+            f"P(fertile) today at least {p.window_open_p:g}, or an LH surge this cycle with no confirmed shift",
+            source_of(p, ("window_open_p",), "common practice; six-day window: Wilcox 1995; LH to ovulation: WHO Task Force 1980"),
+            raisable=raisable,
+        )
+    ]
+
+
+def window_approaching(f: Facts) -> list[Candidate]:
+    current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
+    if current is None or forecast is None or current.shift.confirmed or current.markers.lh_surge is not None:
+        return []
+    if p_today(forecast) >= p.window_open_p:
+        return []  # open, not approaching
+    reaching = [d for d in forecast.daily if d.p_fertile >= p.window_approaching_p]
+    if not reaching:
+        return []
+    first = reaching[0]
+    raisable = first.day <= f.today + timedelta(days=p.window_approaching_days)
+    cd = cycle_day(current.start, first.day)
+    return [
+        f.candidate(
+            AlertKind.WINDOW_APPROACHING,
+            current.start.isoformat(),
+            Severity.SOON,
+            f"Fertile window approaching: P(fertile) reaches {first.p_fertile:.2f} on {first.day.isoformat()} "
+            f"(cycle day {cd}); {APPROACHING_ACTION[f.patient.plan]}.",
+            {
+                "cycle_start": current.start.isoformat(),
+                "cycle_day": cycle_day(current.start, f.today),
+                "reaches_on": first.day.isoformat(),
+                "p_fertile": first.p_fertile,
+                "p_fertile_today": p_today(forecast),
+                "ovulation": iso(forecast.ovulation),
+            },
+            f"P(fertile) reaches {p.window_approaching_p:g} within the next {p.window_approaching_days} days",
+            source_of(p, ("window_approaching_p", "window_approaching_days"), "common practice; six-day window: Wilcox 1995"),
+            due=first.day,
+            raisable=raisable,
+        )
+    ]

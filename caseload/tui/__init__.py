@@ -1,0 +1,1 @@
+"""The Textual interface: the morning list, patient records, the phone line's quick log, the alert queue."""

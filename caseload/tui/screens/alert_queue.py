@@ -1,0 +1,117 @@
+"""The alert queue: open alerts across the caseload (or the acting nurse's), grouped by severity."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import VerticalScroll
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import Footer, Static
+
+from caseload.core.model import Alert
+from caseload.tui.alert_actions import start_handling
+from caseload.tui.alert_support import alerts_service
+from caseload.tui.screens.record import RecordScreen
+from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.evidence_panel import EvidencePanel
+from caseload.tui.widgets.status_line import StatusLine
+
+
+def alerts_available() -> bool:
+    return alerts_service() is not None
+
+
+def open_alerts(ctx, nurse: str | None) -> list[Alert]:
+    return alerts_service().list_alerts(ctx, state="open", nurse=nurse)
+
+
+class AlertQueueScreen(Screen):
+    """Enter opens the patient's record with the alert's evidence in view."""
+
+    CSS_PATH = "alert_queue.tcss"
+    AUTO_FOCUS = "AlertTable"
+    BINDINGS = [
+        Binding("escape", "app.pop_screen", "Back", id="queue.back"),
+        Binding("enter", "open", "Open record", id="queue.open"),
+        Binding("m", "toggle_mine", "Mine/all", id="queue.mine"),
+    ]
+
+    class Loaded(Message):
+        def __init__(self, alerts: list[Alert]) -> None:
+            super().__init__()
+            self.alerts = alerts
+
+    class LoadFailed(Message):
+        def __init__(self, reason: str) -> None:
+            super().__init__()
+            self.reason = reason
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._loading = False
+        self._shown: list[Alert] | None = None
+
+    def compose(self) -> ComposeResult:
+        yield StatusLine(id="status")
+        yield Static("", id="queue-title")
+        yield AlertTable(with_patient=True, id="queue")
+        with VerticalScroll(id="evidence-scroll"):
+            yield EvidencePanel("", id="evidence")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.reload()
+        self.set_interval(self.app.refresh_seconds, self.reload, name="queue-poll")
+
+    @property
+    def patient_id(self) -> str | None:
+        alert = self.query_one(AlertTable).current_alert()
+        return alert.patient_id if alert else None
+
+    def reload(self) -> None:
+        if self._loading:
+            return
+        self._loading = True
+        nurse = self.app.gate.actor.id if self.app.mine else None
+        self.app.store_job(self, open_alerts, nurse, reply=self.Loaded, refusal=self.LoadFailed)
+
+    def on_alert_queue_screen_load_failed(self, message: LoadFailed) -> None:
+        self._loading = False
+
+    def on_alert_queue_screen_loaded(self, message: Loaded) -> None:
+        self._loading = False
+        scope = "my patients" if self.app.mine else "all patients"
+        title = Text(f"Open alerts, {scope}: {len(message.alerts)}", style="bold")
+        self.query_one("#queue-title", Static).update(title)
+        if message.alerts == self._shown:
+            return
+        self._shown = message.alerts
+        names = {line.patient.id: line.patient.name for line in self.app.roster}
+        table = self.query_one(AlertTable)
+        table.show(message.alerts, names)
+        self.query_one(EvidencePanel).show(table.current_alert())
+
+    @on(AlertTable.Highlighted)
+    def _highlighted(self, message: AlertTable.Highlighted) -> None:
+        self.query_one(EvidencePanel).show(message.alert)
+
+    @on(AlertTable.Opened)
+    def _opened(self, message: AlertTable.Opened) -> None:
+        self.app.push_screen(RecordScreen(message.alert.patient_id, alert_id=message.alert.id))
+
+    @on(AlertTable.HandleAsked)
+    def _handle(self, message: AlertTable.HandleAsked) -> None:
+        start_handling(self, message.alert, message.verb)
+
+    def action_open(self) -> None:
+        alert = self.query_one(AlertTable).current_alert()
+        if alert is not None:
+            self.app.push_screen(RecordScreen(alert.patient_id, alert_id=alert.id))
+
+    def action_toggle_mine(self) -> None:
+        self.app.mine = not self.app.mine
+        self._shown = None
+        self.reload()

@@ -1,0 +1,199 @@
+"""The home screen: every patient under care in triage order, with search and filters.
+
+The list is read from the stored snapshots (cheap) every few seconds, so another terminal's
+changes appear without a restart. On the first open of the day, if the snapshots are older than
+today, the morning refresh runs in a worker and the list is read again after it.
+"""
+
+from __future__ import annotations
+
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Input, Static
+
+from caseload.services.caseload import CaseloadLine, list_caseload
+from caseload.services.derived import RefreshReport, refresh_all
+from caseload.tui.search import match_rank
+from caseload.tui.widgets.caseload_table import CaseloadTable
+from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
+from caseload.tui.widgets.status_line import StatusLine
+
+
+def needs_morning_refresh(lines: tuple[CaseloadLine, ...], today) -> bool:
+    return any(line.snapshot is None or line.snapshot.computed_on < today for line in lines)
+
+
+def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple[CaseloadLine, ...]:
+    """The lines the filters let through; a search keeps the triage order (it narrows, not re-sorts)."""
+    out = []
+    for line in lines:
+        if filters.mine and line.patient.nurse_id != me:
+            continue
+        if filters.plan != ANY and line.patient.plan.value != filters.plan:
+            continue
+        if filters.alert_kind != ANY and all(a.kind != filters.alert_kind for a in line.alerts):
+            continue
+        if filters.search.strip() and match_rank(line.patient, filters.search) is None:
+            continue
+        out.append(line)
+    return tuple(out)
+
+
+class CaseloadScreen(Screen):
+    """Who needs attention today, and why."""
+
+    CSS_PATH = "caseload.tcss"
+    AUTO_FOCUS = "CaseloadTable"
+    BINDINGS = [
+        Binding("enter", "open_record", "Open", id="caseload.open"),
+        Binding("slash", "search", "Find", id="caseload.search"),
+        Binding("m", "toggle_mine", "Mine/all", id="caseload.mine"),
+        Binding("k", "pick_kind", "Alert kind", id="caseload.kind"),
+        Binding("p", "pick_plan", "Plan", id="caseload.plan"),
+        Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
+        Binding("e", "export", "Export", id="caseload.export"),
+        Binding("escape", "back_to_list", "List", show=False, id="caseload.back"),
+    ]
+
+    class Loaded(Message):
+        def __init__(self, lines: list[CaseloadLine]) -> None:
+            super().__init__()
+            self.lines = tuple(lines)
+
+    class LoadFailed(Message):
+        def __init__(self, reason: str) -> None:
+            super().__init__()
+            self.reason = reason
+
+    class Refreshed(Message):
+        def __init__(self, report: RefreshReport) -> None:
+            super().__init__()
+            self.report = report
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._loading = False
+        self._refresh_checked = False
+
+    def compose(self) -> ComposeResult:
+        yield StatusLine(id="status")
+        yield FilterBar(mine=self.app.mine, id="filters")
+        yield CaseloadTable(id="caseload")
+        yield Static("", id="list-note")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#list-note", Static).update("Reading the caseload…")
+        self.reload()
+        self.set_interval(self.app.refresh_seconds, self.reload, name="caseload-poll")
+
+    @property
+    def patient_id(self) -> str | None:
+        """The highlighted patient: the quick log opens with them picked."""
+        return self.query_one(CaseloadTable).current_patient_id()
+
+    # --- reading
+
+    def reload(self) -> None:
+        if self._loading:
+            return
+        self._loading = True
+        self.app.store_job(self, list_caseload, reply=self.Loaded, refusal=self.LoadFailed)
+
+    def on_caseload_screen_loaded(self, message: Loaded) -> None:
+        self._loading = False
+        if message.lines != self.app.roster:
+            self.app.roster = message.lines
+            self._show()
+        elif not self._refresh_checked:
+            self._show()
+        if not self._refresh_checked:
+            self._refresh_checked = True
+            if needs_morning_refresh(message.lines, self.app.gate.today):
+                self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
+                self.app.store_job(self, refresh_all, reply=self.Refreshed)
+
+    def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
+        self._loading = False
+        self.query_one("#list-note", Static).update(f"Could not read the caseload: {message.reason}")
+
+    def on_caseload_screen_refreshed(self, message: Refreshed) -> None:
+        r = message.report
+        self.notify(f"Morning refresh done: {r.patients} patients, {r.raised} alerts raised, {r.resolved} cleared.")
+        self.reload()
+
+    def _show(self) -> None:
+        filters = self.query_one(FilterBar).filters
+        lines = visible(self.app.roster, filters, self.app.gate.actor.id)
+        self.query_one(CaseloadTable).show(lines)
+        total = len(self.app.roster)
+        note = f"{len(lines)} of {total} patients"
+        if filters.search.strip():
+            note += " matching the search (Enter picks the top one, Esc clears)"
+        self.query_one("#list-note", Static).update(note)
+
+    @on(FilterBar.Changed)
+    def _filters_changed(self, message: FilterBar.Changed) -> None:
+        self.app.mine = message.filters.mine
+        self._show()
+
+    # --- acting
+
+    @on(DataTable.RowSelected, "#caseload")
+    def _row_chosen(self, event: DataTable.RowSelected) -> None:
+        self._open(event.row_key.value)
+
+    @on(Input.Submitted, "#search")
+    def _search_done(self) -> None:
+        table = self.query_one(CaseloadTable)
+        table.focus()
+        if table.row_count:
+            table.move_cursor(row=0)
+
+    def _open(self, patient_id: str | None) -> None:
+        from caseload.tui.screens.record import RecordScreen
+
+        if patient_id:
+            self.app.push_screen(RecordScreen(patient_id))
+
+    def action_open_record(self) -> None:
+        self._open(self.patient_id)
+
+    def action_search(self) -> None:
+        self.query_one("#search", Input).focus()
+
+    def action_back_to_list(self) -> None:
+        self.query_one(FilterBar).clear_search()
+        self.query_one(CaseloadTable).focus()
+
+    def action_toggle_mine(self) -> None:
+        self.query_one(FilterBar).toggle_mine()
+
+    def action_pick_kind(self) -> None:
+        self.query_one("#alert-kind").action_show_overlay()
+
+    def action_pick_plan(self) -> None:
+        self.query_one("#plan").action_show_overlay()
+
+    def action_alert_queue(self) -> None:
+        from caseload.tui.screens.alert_queue import AlertQueueScreen, alerts_available
+
+        if alerts_available():
+            self.app.push_screen(AlertQueueScreen())
+        else:
+            self.notify("The alert queue is not available in this installation.", severity="warning")
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "export":
+            from caseload.tui.screens.export import export_available
+
+            return export_available() and self.app.gate.may("summary.export")
+        return True
+
+    def action_export(self) -> None:
+        from caseload.tui.screens.export import ExportDialog
+
+        self.app.push_screen(ExportDialog())

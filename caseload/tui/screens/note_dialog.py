@@ -1,0 +1,99 @@
+"""The note that goes with acknowledging, snoozing or resolving an alert (and the day a snooze ends)."""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.screen import ModalScreen
+from textual.widgets import Footer, Input, Label, Static
+
+from caseload.core.model import Alert
+from caseload.core.parse import InputError, one_line
+from caseload.tui.words import alert_label, literal
+
+
+@dataclass(frozen=True)
+class HandleNote:
+    note: str
+    until: date | None = None
+
+
+def parse_until(text: str, today: date) -> date:
+    """The day a snooze ends: YYYY-MM-DD, 'tomorrow' or '+N' (days from today); it must be after today."""
+    t = text.strip().lower()
+    if t == "tomorrow":
+        return today + timedelta(days=1)
+    if re.fullmatch(r"\+?\d{1,3}", t):
+        day = today + timedelta(days=int(t.lstrip("+")))
+    else:
+        try:
+            day = date.fromisoformat(t)
+        except ValueError:
+            raise InputError(f"until '{one_line(text)}' not understood: use YYYY-MM-DD, tomorrow or +N (days)") from None
+    if day <= today:
+        raise InputError(f"until {day.isoformat()} is not after today: a snooze ends on a later day")
+    return day
+
+
+class NoteDialog(ModalScreen[HandleNote | None]):
+    """Enter saves when the fields are valid; Esc leaves the alert as it is."""
+
+    CSS_PATH = "dialogs.tcss"
+    BINDINGS = [Binding("escape", "dismiss(None)", "Cancel", id="note.cancel")]
+
+    def __init__(self, alert: Alert, verb: str, today: date, note_required: bool) -> None:
+        super().__init__()
+        self.alert = alert
+        self.verb = verb
+        self.today = today
+        self.note_required = note_required
+
+    def compose(self) -> ComposeResult:
+        with Vertical(classes="dialog"):
+            yield Label(f"{self.verb.capitalize()} alert #{self.alert.id}", classes="dialog-title")
+            line = Text(f"{self.alert.patient_id} · {alert_label(self.alert.kind)}: ", style="bold")
+            yield Static(line.append_text(literal(self.alert.message)))
+            if self.verb == "snooze":
+                yield Label("Until (YYYY-MM-DD, tomorrow or +N days)")
+                yield Input("+1", id="until", compact=True)
+            yield Label("Note" + (" (needed for a clinical alert)" if self.note_required else " (optional)"))
+            yield Input(placeholder="what was done or decided", id="note", compact=True)
+            yield Static("", id="check", classes="check")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#note", Input).focus()
+        self._check()
+
+    def _until(self) -> date | None:
+        if self.verb != "snooze":
+            return None
+        return parse_until(self.query_one("#until", Input).value, self.today)
+
+    def _problem(self) -> str | None:
+        try:
+            self._until()
+        except InputError as err:
+            return str(err)
+        if self.note_required and not self.query_one("#note", Input).value.strip():
+            return "a note is needed: say what was done or decided"
+        return None
+
+    @on(Input.Changed)
+    def _check(self) -> None:
+        problem = self._problem()
+        check = self.query_one("#check", Static)
+        check.set_class(problem is not None, "refused")
+        check.update(Text(problem or "Enter saves."))
+
+    @on(Input.Submitted)
+    def _submit(self) -> None:
+        if self._problem() is None:
+            self.dismiss(HandleNote(self.query_one("#note", Input).value.strip(), self._until()))

@@ -1,0 +1,169 @@
+"""One patient's record: chart, cycle history, outlook, alerts and entries, in tabs that fit 80x24."""
+
+from __future__ import annotations
+
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.message import Message
+from textual.screen import Screen
+from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
+
+from caseload.services.caseload import PatientRecord, show_patient
+from caseload.tui.alert_actions import start_handling
+from caseload.tui.cycle_view import cycle_view
+from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
+from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
+from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.cycle_chart import CycleChart
+from caseload.tui.widgets.entries_table import EntriesTable
+from caseload.tui.widgets.evidence_panel import EvidencePanel
+from caseload.tui.widgets.marker_strip import LEGEND, MarkerStrip
+from caseload.tui.widgets.status_line import StatusLine
+from caseload.tui.words import CAUTION
+
+TABS = Binding.Group("Tabs", compact=True)
+CYCLES = Binding.Group("Cycle", compact=True)
+CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
+
+
+class RecordScreen(Screen):
+    """Opened from the list or the alert queue; `alert_id` opens the alerts tab with that alert in view."""
+
+    CSS_PATH = "record.tcss"
+    BINDINGS = [
+        Binding("escape", "app.pop_screen", "Back", id="record.back"),
+        Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart"),
+        Binding("2", "tab('cycles')", "Cycles", group=TABS, id="record.tab_cycles"),
+        Binding("3", "tab('outlook')", "Outlook", group=TABS, id="record.tab_outlook"),
+        Binding("4", "tab('alerts')", "Alerts", group=TABS, id="record.tab_alerts"),
+        Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries"),
+        Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
+        Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
+    ]
+
+    class Loaded(Message):
+        def __init__(self, record: PatientRecord) -> None:
+            super().__init__()
+            self.record = record
+
+    def __init__(self, patient_id: str, alert_id: int | None = None) -> None:
+        super().__init__()
+        self.patient_id = patient_id
+        self._alert_id = alert_id
+        self._record: PatientRecord | None = None
+        self._cycle: int | None = None  # None: the latest
+        self._loading = False
+
+    def compose(self) -> ComposeResult:
+        yield StatusLine(id="status")
+        yield Static(self.patient_id, id="record-title")
+        with TabbedContent(initial="alerts" if self._alert_id else "chart", id="record-tabs"):
+            with TabPane("1 Chart", id="chart"):
+                with VerticalScroll():
+                    yield Static("", id="chart-title")
+                    yield CycleChart(id="chart-plot")
+                    yield MarkerStrip(id="strip")
+                    yield Static(LEGEND, id="strip-legend")
+            with TabPane("2 Cycles", id="cycles"):
+                with VerticalScroll():
+                    yield DataTable(id="cycle-table", cursor_type="row", zebra_stripes=True)
+                    yield Static("", id="classification")
+            with TabPane("3 Outlook", id="outlook"):
+                with VerticalScroll():
+                    yield Static("", id="outlook-text")
+            with TabPane("4 Alerts", id="alerts"):
+                with Vertical():
+                    yield AlertTable(with_patient=False, id="patient-alerts")
+                    with VerticalScroll(id="evidence-scroll"):
+                        yield EvidencePanel("", id="evidence")
+            with TabPane("5 Entries", id="entries"):
+                yield EntriesTable(id="entries-table")
+        yield Static(CAUTION, id="caution")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.reload()
+        self.set_interval(self.app.refresh_seconds, self.reload, name="record-poll")
+
+    def reload(self) -> None:
+        if self._loading:
+            return
+        self._loading = True
+        self.app.store_job(self, show_patient, self.patient_id, reply=self.Loaded, refusal=self._failed)
+
+    def _failed(self, reason: str) -> Message:
+        self._loading = False
+        return self.Loaded(self._record) if self._record else Message()
+
+    def on_record_screen_loaded(self, message: Loaded) -> None:
+        self._loading = False
+        if message.record == self._record:
+            return
+        self._record = message.record
+        self._show(message.record)
+
+    def _show(self, record: PatientRecord) -> None:
+        self.query_one("#record-title", Static).update(title_text(record))
+        self._show_cycle()
+        table = self.query_one("#cycle-table", DataTable)
+        table.clear(columns=True)
+        table.add_columns(*CYCLE_COLUMNS)
+        table.add_rows(cycle_rows(record.analysis))
+        self.query_one("#classification", Static).update(classification_text(record.analysis))
+        self.query_one("#outlook-text", Static).update(outlook_text(record.analysis, self.app.gate.today))
+        alerts = self.query_one(AlertTable)
+        alerts.show(list(record.alerts), focus_id=self._alert_id)
+        self.query_one(EvidencePanel).show(alerts.current_alert())
+        self.query_one(EntriesTable).show(record.entries)
+        if self._alert_id is not None:
+            alerts.focus()
+            self._alert_id = None
+
+    def _show_cycle(self) -> None:
+        record = self._record
+        if record is None:
+            return
+        count = len(record.analysis.cycles)
+        index = count - 1 if self._cycle is None else self._cycle
+        view = cycle_view(record, index, self.app.gate.today)
+        self.query_one("#chart-title", Static).update(
+            view.title + "  ([ earlier, ] later)" if view else "No cycle recorded yet"
+        )
+        self.query_one(CycleChart).show(view)
+        self.query_one(MarkerStrip).show(view)
+
+    # --- actions
+
+    def action_tab(self, tab: str) -> None:
+        self.query_one(TabbedContent).active = tab
+
+    def action_cycle(self, step: int) -> None:
+        if self._record is None or not self._record.analysis.cycles:
+            return
+        last = len(self._record.analysis.cycles) - 1
+        current = last if self._cycle is None else self._cycle
+        self._cycle = max(0, min(last, current + step))
+        self.query_one(TabbedContent).active = "chart"
+        self._show_cycle()
+
+    @on(AlertTable.Highlighted)
+    def _alert_highlighted(self, message: AlertTable.Highlighted) -> None:
+        self.query_one(EvidencePanel).show(message.alert)
+
+    @on(AlertTable.Opened)
+    def _alert_opened(self, message: AlertTable.Opened) -> None:
+        self.query_one(EvidencePanel).show(message.alert)
+
+    @on(AlertTable.HandleAsked)
+    def _alert_handle(self, message: AlertTable.HandleAsked) -> None:
+        start_handling(self, message.alert, message.verb)
+
+    @on(EntriesTable.AmendAsked)
+    def _amend(self, message: EntriesTable.AmendAsked) -> None:
+        self.app.push_screen(CorrectEntryDialog(message.entry, amend=True), correct_entry(self, message.entry))
+
+    @on(EntriesTable.VoidAsked)
+    def _void(self, message: EntriesTable.VoidAsked) -> None:
+        self.app.push_screen(CorrectEntryDialog(message.entry, amend=False), correct_entry(self, message.entry))

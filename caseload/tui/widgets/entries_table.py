@@ -1,0 +1,110 @@
+"""A patient's entries, newest first, with every correction visible.
+
+A corrected entry stays on the list struck through, with who corrected it and why; a void stays
+with its reason. Amend and void are offered only to roles that may do them.
+"""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.binding import Binding
+from textual.message import Message
+from textual.widgets import DataTable
+
+from caseload.core.model import Entry
+from caseload.tui.words import kind_label, literal, short_day
+
+COLUMNS = ("#", "Day", "Time", "Kind", "Value", "Flags", "By", "Status", "Note")
+
+
+def status_cell(entry: Entry, by_id: dict[int, Entry]) -> Text:
+    if entry.voided_reason is not None:
+        text = Text("void: ", style="bold")
+        return text.append_text(literal(entry.voided_reason))
+    if entry.superseded_by is not None:
+        newer = by_id.get(entry.superseded_by)
+        text = Text(f"replaced by #{entry.superseded_by}", style="bold")
+        if newer is not None:
+            text.append_text(literal(f" ({newer.by}: {newer.amend_reason or ''})"))
+        return text
+    if entry.supersedes is not None:
+        return Text(f"corrects #{entry.supersedes}", style="dim")
+    return Text("")
+
+
+def entry_cells(entry: Entry, by_id: dict[int, Entry]) -> list[Text]:
+    gone = "strike dim" if not entry.current else ""
+    value = entry.value.display() + (" C" if entry.kind.value == "temp" else "")
+    cells = [
+        Text(str(entry.id), justify="right"),
+        Text(short_day(entry.day)),
+        Text(entry.time or ""),
+        Text(kind_label(entry.kind)),
+        literal(value),
+        Text(",".join(entry.flags)),
+        literal(entry.by),
+    ]
+    for cell in cells:
+        cell.stylize(gone)
+    return cells + [status_cell(entry, by_id), literal(entry.note)]
+
+
+class EntriesTable(DataTable):
+    """Rows keyed by entry id."""
+
+    BINDINGS = [
+        Binding("a", "amend", "Amend", id="entries.amend"),
+        Binding("v", "void", "Void", id="entries.void"),
+    ]
+
+    class AmendAsked(Message):
+        def __init__(self, entry: Entry) -> None:
+            super().__init__()
+            self.entry = entry
+
+    class VoidAsked(Message):
+        def __init__(self, entry: Entry) -> None:
+            super().__init__()
+            self.entry = entry
+
+    def __init__(self, **kwargs):
+        super().__init__(cursor_type="row", zebra_stripes=True, **kwargs)
+        self._by_id: dict[int, Entry] = {}
+
+    def show(self, entries: tuple[Entry, ...]) -> None:
+        keep = self.current_entry()
+        self._by_id = {e.id: e for e in entries}
+        self.clear(columns=True)
+        for label in COLUMNS:
+            self.add_column(Text(label, style="bold"), key=label)
+        for entry in sorted(entries, key=lambda e: (e.day, e.id), reverse=True):
+            self.add_row(*entry_cells(entry, self._by_id), key=str(entry.id))
+        if keep is not None and keep.id in self._by_id:
+            self.move_cursor(row=self.get_row_index(str(keep.id)), animate=False)
+
+    def current_entry(self) -> Entry | None:
+        if not self.row_count:
+            return None
+        key = self.coordinate_to_cell_key(self.cursor_coordinate).row_key.value
+        return self._by_id.get(int(key))
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action in ("amend", "void"):
+            if not self.app.gate.may(f"entry.{action}"):
+                return False
+            entry = self.current_entry()
+            return True if entry is not None and entry.current else None
+        return True
+
+    def on_data_table_row_highlighted(self) -> None:
+        self.refresh_bindings()
+
+    def action_amend(self) -> None:
+        entry = self.current_entry()
+        if entry is not None and entry.current:
+            self.post_message(self.AmendAsked(entry))
+
+    def action_void(self) -> None:
+        entry = self.current_entry()
+        if entry is not None and entry.current:
+            self.post_message(self.VoidAsked(entry))

@@ -1,0 +1,107 @@
+"""Picking a patient by typing an id or a name: matches listed as you type, Enter takes the top one."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.message import Message
+from textual.widgets import Input, OptionList
+from textual.widgets.option_list import Option
+
+from caseload.core.model import Patient
+from caseload.services.caseload import CaseloadLine
+from caseload.tui.search import find_patients
+from caseload.tui.words import literal, phase_label, plain
+
+SHOWN = 4
+
+
+def typed_form(patient: Patient) -> str:
+    return f"{patient.id} {plain(patient.name)}"
+
+
+def picked_label(line: CaseloadLine) -> Text:
+    p = line.patient
+    text = Text(p.id + " ", style="bold").append_text(literal(p.name))
+    if line.cycle_day is not None:
+        text.append(f"  · cycle day {line.cycle_day}", style="dim")
+    if line.snapshot is not None:
+        text.append(f", {phase_label(line.snapshot.phase)}", style="dim")
+    return text
+
+
+class PatientPicker(Vertical):
+    """Up/Down move through the matches; Enter or a click picks; editing the text un-picks."""
+
+    BINDINGS = [
+        Binding("down", "move(1)", "Next match", show=False, id="picker.next"),
+        Binding("up", "move(-1)", "Previous match", show=False, id="picker.previous"),
+    ]
+
+    class Picked(Message):
+        def __init__(self, patient: Patient | None) -> None:
+            super().__init__()
+            self.patient = patient
+
+    def __init__(self, lines: tuple[CaseloadLine, ...], picked: str | None = None, **kwargs):
+        super().__init__(**kwargs)
+        self._lines = {line.patient.id: line for line in lines}
+        self._patients = [line.patient for line in lines]
+        self.patient: Patient | None = self._lines[picked].patient if picked in self._lines else None
+        self._matches: list[Patient] = []
+
+    def compose(self) -> ComposeResult:
+        start = typed_form(self.patient) if self.patient else ""
+        yield Input(start, placeholder="patient id or name", id="patient", compact=True)
+        yield OptionList(id="matches", compact=True)
+
+    def on_mount(self) -> None:
+        self._show_matches()
+
+    @on(Input.Changed, "#patient")
+    def _typed(self, event: Input.Changed) -> None:
+        event.stop()
+        if self.patient is not None and event.value != typed_form(self.patient):
+            self.patient = None
+            self.post_message(self.Picked(None))
+        self._show_matches()
+
+    def _show_matches(self) -> None:
+        options = self.query_one("#matches", OptionList)
+        typed = self.query_one("#patient", Input).value
+        self._matches = [] if self.patient or not typed.strip() else find_patients(self._patients, typed, SHOWN)
+        options.set_options(Option(picked_label(self._lines[p.id]), id=p.id) for p in self._matches)
+        options.display = bool(self._matches) or (bool(typed.strip()) and self.patient is None)
+        if not self._matches and typed.strip() and self.patient is None:
+            options.set_options([Option(Text("no patient matches", style="dim"), disabled=True)])
+        elif self._matches:
+            options.highlighted = 0
+
+    def action_move(self, step: int) -> None:
+        options = self.query_one("#matches", OptionList)
+        if self._matches:
+            options.highlighted = ((options.highlighted or 0) + step) % len(self._matches)
+
+    @on(Input.Submitted, "#patient")
+    def _enter(self, event: Input.Submitted) -> None:
+        event.stop()
+        if self.patient is not None:
+            self.post_message(self.Picked(self.patient))
+            return
+        options = self.query_one("#matches", OptionList)
+        if self._matches:
+            self._pick(self._matches[options.highlighted or 0])
+
+    @on(OptionList.OptionSelected, "#matches")
+    def _clicked(self, event: OptionList.OptionSelected) -> None:
+        event.stop()
+        self._pick(self._lines[event.option.id].patient)
+
+    def _pick(self, patient: Patient) -> None:
+        self.patient = patient
+        self.query_one("#patient", Input).value = typed_form(patient)
+        self._show_matches()
+        self.post_message(self.Picked(patient))

@@ -1,0 +1,43 @@
+"""The line at the top of every screen: the day under review, who is acting, open alerts by severity."""
+
+from __future__ import annotations
+
+from rich.text import Text
+from textual.widgets import Static
+
+from caseload.core.model import Severity
+from caseload.services.caseload import CaseloadLine
+from caseload.tui.words import literal, long_day
+
+
+def severity_counts(lines: tuple[CaseloadLine, ...]) -> dict[Severity, int]:
+    counts = {s: 0 for s in Severity}
+    for line in lines:
+        for alert in line.alerts:
+            counts[alert.severity] += 1
+    return counts
+
+
+class StatusLine(Static):
+    """Reads the app's caseload and scope (mine/all) and redraws when either changes."""
+
+    def on_mount(self) -> None:
+        self.watch(self.app, "roster", self._redraw)
+        self.watch(self.app, "mine", self._redraw)
+
+    def _redraw(self, _value=None) -> None:
+        app = self.app
+        actor = app.gate.actor
+        text = Text(long_day(app.gate.today), style="bold")
+        if actor is not None:
+            text.append("  ")
+            text.append_text(literal(actor.staff.name[:24]))
+            text.append(f" ({actor.role.value})", style="dim")
+        lines = app.scoped_roster()
+        counts = severity_counts(lines)
+        text.append("  │ " + ("my patients " if app.mine else "all patients ") + f"{len(lines)} │ ", style="dim")
+        for severity in Severity:
+            n = counts[severity]
+            text.append(f"{severity.value} {n}", style=app.tone(severity) if n else "dim")
+            text.append("  ")
+        self.update(text)

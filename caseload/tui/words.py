@@ -1,0 +1,154 @@
+"""The interface's own words: friendly labels for phases, kinds and alerts, day formats, safe user text.
+
+The stored words (phase words, KIND words, alert kind identifiers) stay the contract; these
+labels are only what a person reads. Every KIND word is also accepted where a label is.
+"""
+
+from __future__ import annotations
+
+import unicodedata
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from rich.text import Text
+
+from caseload.core.analysis import BLEEDING, POST_SHIFT, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
+from caseload.core.model import MUCUS_SCALE, Flow, Kind
+
+CAUTION = (
+    "Predictions are estimates, not contraception advice; clinical judgement and the clinic's protocols decide."
+)
+
+PHASE_LABELS: dict[str, str] = {
+    BLEEDING: "flow days",
+    PRE_WINDOW: "before window",
+    WINDOW: "fertile days",
+    POST_SHIFT: "after the rise",
+    PREGNANT: "pregnancy",
+    UNKNOWN: "not clear yet",
+}
+
+NEXT_EVENT_LABELS: dict[str, str] = {
+    "window start": "window opens",
+    "period": "period due",
+    "trigger size": "trigger size",
+    "pregnancy test": "pregnancy test",
+}
+
+ALERT_LABELS: dict[str, str] = {
+    "window-approaching": "window near",
+    "window-open": "window open",
+    "no-thermal-shift": "no rise yet",
+    "monophasic-cycle": "flat cycle",
+    "irregular-cycles": "irregular",
+    "short-luteal-phase": "short luteal",
+    "prolonged-bleeding": "long bleed",
+    "period-overdue": "period late",
+    "sustained-high-temps": "long high temps",
+    "amenorrhoea": "no bleed 90d",
+    "hcg-rise-low": "hCG rise low",
+    "multiple-follicles": "many follicles",
+    "logging-gap": "no entries",
+    "fever": "fever",
+}
+
+
+@dataclass(frozen=True)
+class KindWords:
+    """How a kind is offered in the quick log: its label, other words it answers to, a value hint."""
+
+    kind: Kind
+    label: str
+    aliases: tuple[str, ...]
+    hint: str
+
+
+# Ordered by how often the phone line logs them: a one-letter prefix picks the commonest.
+KIND_WORDS: tuple[KindWords, ...] = (
+    KindWords(Kind.TEMP, "temperature", ("bbt",), "36.72, 36.72C or 98.1F"),
+    KindWords(Kind.BLEED, "bleeding", ("period", "flow"), ", ".join(f.value for f in Flow)),
+    KindWords(Kind.LH, "LH test", ("ovulation test",), "positive, negative or a level in IU/L"),
+    KindWords(Kind.MUCUS, "mucus", (), ", ".join(MUCUS_SCALE)),
+    KindWords(Kind.HCG, "hCG test", ("pregnancy test",), "positive, negative or 153 IU/L"),
+    KindWords(Kind.INTERCOURSE, "intercourse", (), "a short note, e.g. yes"),
+    KindWords(Kind.SYMPTOM, "symptom", (), "what was noticed"),
+    KindWords(Kind.MED, "medication", ("tablet",), "what was taken"),
+    KindWords(Kind.TRIGGER, "trigger shot", (), "what was given"),
+    KindWords(Kind.INSEMINATION, "insemination", ("iui",), "what was done"),
+    KindWords(Kind.SCAN, "scan", ("ultrasound",), "18,16,12 endo 8.5"),
+    KindWords(Kind.NOTE, "note", (), "free text"),
+)
+WORDS_BY_KIND: dict[Kind, KindWords] = {w.kind: w for w in KIND_WORDS}
+
+
+def phase_label(phase: str | None) -> str:
+    return PHASE_LABELS.get(phase or UNKNOWN, phase or "")
+
+
+def alert_label(kind: str) -> str:
+    return ALERT_LABELS.get(kind, kind)
+
+
+def kind_label(kind: Kind) -> str:
+    return WORDS_BY_KIND[kind].label
+
+
+def _names(words: KindWords) -> tuple[str, ...]:
+    return (words.kind.value, words.label.lower(), *words.aliases)
+
+
+def match_kind(text: str) -> Kind | None:
+    """The kind a typed word means: an exact KIND word, label or alias first, else the first prefix match."""
+    typed = " ".join(text.lower().split())
+    if not typed:
+        return None
+    for words in KIND_WORDS:
+        if typed in _names(words):
+            return words.kind
+    for words in KIND_WORDS:
+        if any(name.startswith(typed) for name in _names(words)):
+            return words.kind
+    return None
+
+
+def short_day(day: date | None) -> str:
+    """'1 Dec' style: unambiguous in every locale and short enough for a column."""
+    return "-" if day is None else f"{day.day} {day.strftime('%b')}"
+
+
+def long_day(day: date) -> str:
+    return f"{day.strftime('%a')} {day.day} {day.strftime('%b %Y')}"
+
+
+def relative_day(day: date, today: date) -> str:
+    if day == today:
+        return "today"
+    if day == today - timedelta(days=1):
+        return "yesterday"
+    return short_day(day)
+
+
+def day_span(pair: tuple[date, date] | None) -> str:
+    return "-" if pair is None else f"{short_day(pair[0])} to {short_day(pair[1])}"
+
+
+def plain(text: object) -> str:
+    """User text made inert for a terminal: control and format characters shown as escapes."""
+    out = []
+    for ch in "" if text is None else str(text):
+        if unicodedata.category(ch) in ("Cc", "Cf", "Zl", "Zp"):
+            out.append(ch.encode("unicode_escape").decode("ascii"))
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def literal(text: object, style: str = "") -> Text:
+    """User text as a Rich Text: never parsed as markup, so '[bold]' shows as typed."""
+    return Text(plain(text), style=style, no_wrap=True)
+
+
+def folded(text: str) -> str:
+    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês')."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    return "".join(ch for ch in decomposed if not unicodedata.combining(ch))

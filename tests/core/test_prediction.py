@@ -1,0 +1,197 @@
+"""Prediction of ovulation, the fertile days and the next period."""
+
+import math
+from datetime import date, timedelta
+
+import pytest
+
+from caseload.core.analysis import analyse
+from caseload.core.model import Kind, Observation, Patient, Value
+from caseload.core.prediction import Evidence, calendar_rule, predict, predictive
+from caseload.core.settings import DEFAULT_PROTOCOL as P
+from caseload.core.settings import Protocol
+
+PATIENT = Patient("p", "Test Patient", date(1992, 4, 2), None)
+START = date(2024, 1, 1)
+
+
+def history(lengths: list[int], luteal: int = 14, current_day: int = 1):
+    """Complete cycles of the given lengths, each with an LH surge dating ovulation `luteal`
+    days before the next period; then an open cycle, returned with the day it is at."""
+    obs, day = [], START
+    for length in lengths:
+        obs += [Observation(day + timedelta(days=i), Kind.BLEED, Value(word="moderate")) for i in range(4)]
+        ovulation = length - luteal  # cycle day
+        obs.append(Observation(day + timedelta(days=ovulation - 2), Kind.LH, Value(word="positive")))
+        day += timedelta(days=length)
+    obs.append(Observation(day, Kind.BLEED, Value(word="heavy")))
+    return obs, day, day + timedelta(days=current_day - 1)
+
+
+def cycle_day(start: date, day: date) -> int:
+    return (day - start).days + 1
+
+
+@pytest.mark.parametrize(
+    "shortest, longest, expected",
+    [
+        # WHO Global Handbook (calendar rhythm method) worked example: 27 and 31 give days 9 to 20.
+        (27, 31, (9, 20)),
+        # Standard Days Method (Arevalo 2002) for cycles of 26-32 days starts on day 8 as well;
+        # it ends on day 19 because it comes from a probability model, not this arithmetic.
+        (26, 32, (8, 21)),
+    ],
+)
+def test_ogino_knaus(shortest, longest, expected):
+    assert calendar_rule([shortest, 29, 28, longest, 30, 28], P) == expected
+
+
+def test_calendar_rule_needs_six_cycles_and_uses_the_six_latest():
+    # WHO Global Handbook: at least 6 cycles, recomputed from the 6 most recent.
+    assert calendar_rule([27, 31, 28, 29, 30], P) is None
+    assert calendar_rule([21, 27, 31, 28, 29, 30, 28], P) == (9, 20)
+
+
+def test_shrinkage_toward_the_population_prior():
+    # Conjugate normal model, prior weight 3 cycles: (3 * 28.9 + 3 * 24) / 6 = 26.45.
+    assert predictive([24, 24, 24], 28.9, 3.4, 3.0).centre == pytest.approx(26.45)
+    none = predictive([], 28.9, 3.4, 3.0)
+    assert none.centre == pytest.approx(28.9) and none.observed == 0
+    # With no history the spread is the prior's, widened for the unknown mean: 3.4 * sqrt(4/3).
+    assert none.scale == pytest.approx(3.4 * math.sqrt(4 / 3), abs=1e-3)
+    assert predictive([24] * 30, 28.9, 3.4, 3.0).centre == pytest.approx((3 * 28.9 + 720) / 33, abs=1e-4)
+
+
+@pytest.mark.parametrize("length, ovulation_day", [(28, 14), (30, 16), (26, 12)])
+def test_steady_14_day_luteal_phase(length, ovulation_day):
+    # Common practice: ovulation about 14 days before the period, day 14 of a 28-day cycle,
+    # 16 of 30, 12 of 26. The population prior is switched off to test the arithmetic.
+    obs, start, today = history([length] * 8, luteal=14, current_day=2)
+    a = analyse(PATIENT, obs, today, Protocol(prior_weight_cycles=0))
+    p = a.prediction
+    assert cycle_day(start, p.ovulation) == ovulation_day
+    # Wilcox 1995: the fertile window is the six days ending on the day of ovulation.
+    assert p.fertile_window == (p.ovulation - timedelta(days=5), p.ovulation)
+    assert p.next_period == start + timedelta(days=length)
+
+
+def test_with_the_prior_on_a_short_history_leans_toward_the_population():
+    obs, start, today = history([26] * 3, luteal=14, current_day=2)
+    p = analyse(PATIENT, obs, today).prediction
+    # (3 * 28.9 + 3 * 26) / 6 = 27.45 days; luteal (3 * 14.13 + 3 * 14) / 6 = 14.07: ovulation ~13.4.
+    assert cycle_day(start, p.ovulation) == 13
+
+
+def test_wilcox_2000_every_day_6_to_21_at_least_ten_percent():
+    # Wilcox 2000 (BMJ): with regular cycles, at least a 10% chance of being in the fertile window
+    # on every cycle day from 6 to 21. Population prior alone (one cycle start, no history).
+    obs = [Observation(START, Kind.BLEED, Value(word="moderate"))]
+    p = analyse(PATIENT, obs, START).prediction
+    by_day = {cycle_day(START, d): m for d, m in p.ovulation_distribution}
+    for day in range(6, 22):
+        chance = sum(by_day.get(o, 0.0) for o in range(day, day + 6))
+        assert chance >= 0.10, (day, chance)
+    assert [c.p_fertile for c in p.daily[5:14]] == pytest.approx(
+        [sum(by_day.get(o, 0.0) for o in range(d, d + 6)) for d in range(6, 15)], abs=1e-4
+    )
+
+
+def test_distributions_sum_to_one_and_chances_are_probabilities():
+    obs, start, today = history([27, 29, 31], current_day=9)
+    p = analyse(PATIENT, obs, today).prediction
+    assert math.fsum(m for _, m in p.ovulation_distribution) == pytest.approx(1.0, abs=1e-5)
+    assert all(0.0 <= c.p_fertile <= 1.0 for c in p.daily)
+    assert len(p.daily) == 14 and p.daily[0].day == today
+
+
+def flat_temps(start: date, days: int) -> list[Observation]:
+    return [
+        Observation(start + timedelta(days=i), Kind.TEMP, Value(number=36.45 + 0.05 * (i % 2))) for i in range(days)
+    ]
+
+
+def test_days_watched_with_no_sign_are_excluded():
+    # Daily temperatures to day 20 and no shift: ovulation before day 18 would by now show as a
+    # shift confirmed on the third high reading, so the distribution starts at day 18.
+    obs, start, today = history([28] * 6, current_day=20)
+    p = analyse(PATIENT, obs + flat_temps(start, 20), today).prediction
+    assert min(cycle_day(start, d) for d, _ in p.ovulation_distribution) == 18
+    assert p.evidence == "elapsed"
+    # The expected ovulation and the due period keep to the pattern, so lateness shows.
+    early = analyse(PATIENT, obs, start + timedelta(days=1)).prediction
+    assert p.expected_ovulation_range == early.expected_ovulation_range
+    assert p.next_period == early.next_period and p.next_period_range == early.next_period_range
+
+
+def test_negative_lh_tests_exclude_the_days_up_to_the_last_test():
+    obs, start, today = history([28] * 6, current_day=16)
+    obs += [Observation(start + timedelta(days=d - 1), Kind.LH, Value(word="negative")) for d in (12, 13, 15)]
+    p = analyse(PATIENT, obs, today).prediction
+    assert min(cycle_day(start, d) for d, _ in p.ovulation_distribution) == 15
+
+
+def test_with_nothing_watched_the_pattern_stands():
+    obs, start, today = history([28] * 6, current_day=20)
+    p = analyse(PATIENT, obs, today).prediction
+    assert p.evidence == "pattern" and p.ovulation == p.expected_ovulation
+    assert cycle_day(start, p.ovulation) == 14
+
+
+def test_a_positive_lh_test_puts_ovulation_a_day_later():
+    # WHO Task Force 1980: median 32 h from the LH rise to ovulation.
+    obs, start, today = history([28] * 6, current_day=11)
+    obs.append(Observation(today, Kind.LH, Value(word="positive")))
+    p = analyse(PATIENT, obs, today).prediction
+    assert p.ovulation == today + timedelta(days=1) and p.evidence == "lh"
+    assert p.ovulation_range[0] >= today - timedelta(days=1)
+    assert p.ovulation_range[1] <= today + timedelta(days=2)
+
+
+def test_a_confirmed_shift_puts_ovulation_in_the_past():
+    # Hilgers 1980: ovulation from 6 days before the first day of the rise; with a confirmed
+    # shift only the days before the first high remain, and no day ahead is fertile.
+    start = START
+    lows = {d: 36.40 + 0.05 * (d % 3) for d in range(2, 17)}
+    highs = {17: 36.80, 18: 36.85, 19: 36.80}
+    obs = [Observation(start, Kind.BLEED, Value(word="moderate"))]
+    obs += [Observation(start + timedelta(days=d - 1), Kind.TEMP, Value(number=t)) for d, t in (lows | highs).items()]
+    today = start + timedelta(days=19 - 1)
+    p = analyse(PATIENT, obs, today).prediction
+    days = [cycle_day(start, d) for d, m in p.ovulation_distribution if m > 0]
+    assert min(days) >= 17 - 6 and max(days) <= 16
+    assert p.evidence == "shift"
+    assert all(c.p_fertile == 0.0 for c in p.daily[1:])
+    # The period is due about a luteal phase (Lenton 1984: 14.13 days) after ovulation.
+    assert 27 <= cycle_day(start, p.next_period) <= 32
+
+
+def test_ovulation_before_day_one_is_impossible():
+    # An LH surge on day 1 gives ovulation on day 1 or 2, never the day before.
+    obs = [Observation(START, Kind.BLEED, Value(word="moderate")), Observation(START, Kind.LH, Value(word="positive"))]
+    p = analyse(PATIENT, obs, START).prediction
+    assert min(d for d, _ in p.ovulation_distribution) >= START
+    assert p.fertile_window[0] >= START
+
+
+def test_evidence_beyond_the_history_is_not_forced_into_it():
+    # Regular 28-day cycles, but an LH surge on day 40: ovulation follows the test.
+    obs, start, today = history([28] * 12, current_day=40)
+    obs.append(Observation(today, Kind.LH, Value(word="positive")))
+    p = analyse(PATIENT, obs, today).prediction
+    assert p.ovulation == today + timedelta(days=1)
+
+
+def test_a_cycle_watched_far_beyond_the_history_has_no_ovulation_forecast():
+    obs, start, today = history([28] * 12, current_day=70)
+    p = analyse(PATIENT, obs + flat_temps(start, 70), today).prediction
+    assert p.ovulation is None and p.ovulation_range is None and p.daily == ()
+    assert p.next_period < today  # the period is late, and shows as late
+
+
+def test_predict_directly_from_evidence():
+    cycle = predictive([28] * 12, P.prior_cycle_mean, P.prior_cycle_sd, P.prior_weight_cycles)
+    luteal = predictive([14] * 12, P.prior_luteal_mean, P.prior_luteal_sd, P.prior_weight_cycles)
+    p = predict(START, Evidence(1, None, None, None), cycle, luteal, [28] * 12, START, P)
+    assert cycle_day(START, p.ovulation) == 14
+    assert p.ovulation_range[0] <= p.ovulation <= p.ovulation_range[1]
+    assert p.next_period_range[0] <= p.next_period <= p.next_period_range[1]
