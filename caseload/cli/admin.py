@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from caseload.cli.common import Session, pass_session
+from caseload.cli.common import Session, pass_session, printable
 from caseload.services import maintenance
 
 
@@ -14,7 +14,7 @@ from caseload.services import maintenance
 def backup(session: Session, path: str) -> None:
     """Copy the store to PATH while others keep working (admins only)."""
     maintenance.backup(session.context(), path)
-    click.echo(f"Backup written to {path} (owner-only).")
+    click.echo(f"Backup written to {printable(path)} (owner-only).")
 
 
 @click.command()
@@ -23,7 +23,7 @@ def backup(session: Session, path: str) -> None:
 def restore(session: Session, path: str) -> None:
     """Replace the store with a backup, after checking its integrity and schema (admins only)."""
     version = maintenance.restore(session.context(), path)
-    click.echo(f"Restored from {path} (schema {version}).")
+    click.echo(f"Restored from {printable(path)} (schema {version}).")
 
 
 @click.command()

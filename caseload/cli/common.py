@@ -31,8 +31,19 @@ def fail_cleanly():
     try:
         yield
     except (InputError, Refused, StoreError) as err:
-        click.echo(f"caseload: {err}", err=True)
+        click.echo(f"caseload: {printable(str(err))}", err=True)
         raise click.exceptions.Exit(1) from None
+    except UnicodeEncodeError as err:  # undecodable terminal bytes arrive as lone surrogates
+        bad = printable(err.object[err.start:err.end])
+        click.echo(f"caseload: the text '{printable(err.object[:40])}' holds {bad}, which is not UTF-8: "
+                   "set the terminal to UTF-8 and type it again", err=True)
+        raise click.exceptions.Exit(1) from None
+
+
+def printable(text: str) -> str:
+    """A message as one inert line: control characters (newlines, terminal escapes) and lone
+    surrogates from undecodable input are shown escaped, whatever text the message quotes."""
+    return "".join(ch if ch.isprintable() else ch.encode("unicode_escape").decode("ascii") for ch in text)
 
 
 @dataclass

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from caseload.cli.common import Session, echo_json, pass_session
+from caseload.cli.common import Session, echo_json, pass_session, printable
 from caseload.cli.views import entries_table, entry_json, list_table, print_table
 from caseload.core.model import Kind
 from caseload.core.parse import InputError
@@ -46,7 +46,7 @@ def staff_group() -> None:
 def staff_add(session: Session, staff_id: str, name: str, role: str, os_account: str | None) -> None:
     """Add a staff member (admins only)."""
     member = staff.add_staff(session.context(), staff_id, name, role, os_account)
-    click.echo(f"Added {member.role.value} {member.id} ({member.name}).")
+    click.echo(f"Added {member.role.value} {member.id} ({printable(member.name)}).")
 
 
 @staff_group.command("map")
@@ -56,7 +56,7 @@ def staff_add(session: Session, staff_id: str, name: str, role: str, os_account:
 def staff_map(session: Session, staff_id: str, account: str) -> None:
     """Map an OS account to a staff member (admins only)."""
     staff.map_account(session.context(), staff_id, account)
-    click.echo(f"OS account '{account}' now signs in as {staff_id}.")
+    click.echo(f"OS account '{printable(account)}' now signs in as {staff_id}.")
 
 
 @staff_group.command("deactivate")
@@ -93,7 +93,7 @@ def patient_group() -> None:
 def patient_add(session: Session, patient_id, name, born, nurse, plan, no_temps) -> None:
     """Register a patient."""
     p = patients.add_patient(session.context(), patient_id, name, born, nurse, plan, not no_temps)
-    click.echo(f"Registered {p.id} ({p.name}), plan {p.plan.value}.")
+    click.echo(f"Registered {p.id} ({printable(p.name)}), plan {p.plan.value}.")
 
 
 @patient_group.command("set")
@@ -121,7 +121,7 @@ def log(session: Session, patient_id, kind, value, on, at, flags, note) -> None:
     """Log one entry for a patient: 'caseload log P0001 temp 36.72', 'caseload log P0001 bleed heavy --on yesterday'."""
     done = entry_service.log_entry(session.context(), patient_id, kind, value, on, at, flags, note)
     e = done.entry
-    click.echo(f"Logged entry {e.id}: {e.patient_id} {e.kind.value} {e.value.display()} on {e.day.isoformat()}. {done.refreshed.summary()}")
+    click.echo(f"Logged entry {e.id}: {e.patient_id} {e.kind.value} {printable(e.value.display())} on {e.day.isoformat()}. {done.refreshed.summary()}")
 
 
 @click.command("import")

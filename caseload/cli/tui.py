@@ -3,10 +3,13 @@
 from __future__ import annotations
 
 from caseload.cli.common import Session
-from caseload.cli.views import list_table
-from caseload.services import caseload as caseload_service
+from caseload.services.identity import os_account
+from caseload.services.protocol import load_protocol
+from caseload.tui.app import make_app
 
 
 def open_interface(session: Session) -> None:
-    """Until the interface lands, print the caseload list."""
-    list_table(caseload_service.list_caseload(session.context()))
+    """Build the interface for the session's store, day and identity, and run it until the user quits."""
+    with session.open_store() as store:
+        app = make_app(store, session.today(store), os_account(), session.as_staff, load_protocol(store))
+        app.run()

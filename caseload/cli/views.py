@@ -16,7 +16,10 @@ CAUTION = (
 
 
 def console() -> Console:
-    return Console(highlight=False, soft_wrap=False)
+    out = Console(highlight=False, soft_wrap=False)
+    if not out.is_terminal:
+        out.width = max(out.width, 160)  # piped output is for files and scripts: do not truncate
+    return out
 
 
 def safe(text: object) -> str:
@@ -87,10 +90,12 @@ def list_table(lines) -> None:
     for line in lines:
         s, top = line.snapshot, line.top_alert
         alert = "" if top is None else f"{top.severity.value} {top.kind}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
+        window = f"{_short(s.fertile_window[0])}-{_short(s.fertile_window[1])}" if s and s.fertile_window else ""
+        shift = _short(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""
         nxt = f"{s.next_event} {_short(s.next_event_day)}" if s and s.next_event else ""
         since = "" if line.days_since_entry is None else str(line.days_since_entry)
-        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", s.phase if s else "", alert, nxt, since])
-    print_table(["patient", "name", "day", "phase", "alert", "next", "quiet"], rows,
+        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", s.phase if s else "", window, shift, alert, nxt, since])
+    print_table(["patient", "name", "day", "phase", "window", "shift", "alert", "next", "quiet"], rows,
                 title=f"Caseload: {len(lines)} patients (day = cycle day, quiet = days since last entry)")
     console().print(CAUTION, style="dim")
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date
 
+from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis, analysis_json
 from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
@@ -72,7 +73,8 @@ def list_caseload(ctx: Context, nurse: str | None = None) -> list[CaseloadLine]:
     ctx.require("caseload.view")
     states = ctx.store.state.all()
     open_by_patient: dict[str, list[Alert]] = {}
-    for a in ctx.store.alerts.unresolved():
+    for stored in ctx.store.alerts.unresolved():
+        a = effective(stored, ctx.today)  # a snooze whose day has come counts, even before a refresh
         if a.state is AlertState.OPEN:
             open_by_patient.setdefault(a.patient_id, []).append(a)
     lines = []
@@ -119,5 +121,5 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     ctx.require("patient.show")
     patient = get_patient(ctx, patient_id)
     entries = ctx.store.entries.for_patient(patient.id)
-    alerts = [a for a in ctx.store.alerts.for_patient(patient.id) if a.state is not AlertState.RESOLVED]
+    alerts = [effective(a, ctx.today) for a in ctx.store.alerts.for_patient(patient.id) if a.state is not AlertState.RESOLVED]
     return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries))

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from caseload.core.analysis import Analysis, analyse
-from caseload.core.model import Alert, Entry, Patient, observations
+from caseload.core.model import Alert, Entry, Observation, Patient, observations
 from caseload.core.snapshot import Snapshot, snapshot_of
 from caseload.services.alerting import sync_alerts
 from caseload.services.context import Context
@@ -39,17 +39,17 @@ def analyse_patient(ctx: Context, patient: Patient, entries: list[Entry] | None 
     return analyse(patient, observations(entries), ctx.today, ctx.protocol)
 
 
-def _recompute(ctx: Context, patient: Patient, entries: list[Entry]) -> tuple[Snapshot, list[Alert], int]:
-    analysis = analyse_patient(ctx, patient, entries)
+def _recompute(ctx: Context, patient: Patient, seen: list[Observation]) -> tuple[Snapshot, list[Alert], int]:
+    analysis = analyse(patient, seen, ctx.today, ctx.protocol)
     snap = snapshot_of(analysis)
     ctx.store.state.put(snap)
-    raised, resolved = sync_alerts(ctx, patient, analysis, entries)
+    raised, resolved = sync_alerts(ctx, patient, analysis, seen)
     return snap, raised, resolved
 
 
 def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     """Inside the caller's write transaction: the patient's snapshot and alerts, brought up to date."""
-    snap, raised, _ = _recompute(ctx, patient, ctx.store.entries.for_patient(patient.id))
+    snap, raised, _ = _recompute(ctx, patient, ctx.store.entries.observations_for(patient.id))
     return Refreshed(snap, tuple(raised))
 
 
@@ -62,8 +62,8 @@ def refresh_all(ctx: Context) -> RefreshReport:
         raised = resolved = 0
         unseen = dict(patients)
         # Streamed patient by patient: the caseload's entries are never all in memory at once.
-        for patient_id, entries in ctx.store.entries.by_patient():
-            _, new, gone = _recompute(ctx, unseen.pop(patient_id), entries)
+        for patient_id, seen in ctx.store.entries.observations_by_patient():
+            _, new, gone = _recompute(ctx, unseen.pop(patient_id), seen)
             raised, resolved = raised + len(new), resolved + gone
         for patient in unseen.values():
             _, new, gone = _recompute(ctx, patient, [])

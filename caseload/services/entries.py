@@ -71,7 +71,7 @@ def log_entry(
 def get_entry(ctx: Context, entry_id: int | str) -> Entry:
     try:
         entry = ctx.store.entries.get(int(entry_id))
-    except ValueError:
+    except (ValueError, OverflowError):  # not a number, or beyond any id SQLite can hold
         entry = None
     if entry is None:
         raise NotFound(f"no entry '{entry_id}': see 'caseload entries PATIENT'")

@@ -7,7 +7,7 @@ import io
 from dataclasses import dataclass
 
 from caseload.core.model import Kind
-from caseload.core.parse import InputError, ParsedEntry, parse_entry
+from caseload.core.parse import InputError, ParsedEntry, one_line, parse_entry, parse_id
 from caseload.services.context import Context
 from caseload.services.derived import refresh_patient
 from caseload.services.entries import check_loggable
@@ -50,7 +50,7 @@ def _header(reader) -> list[str]:
     unknown = [c for c in header if c not in REQUIRED + OPTIONAL]
     if missing or unknown or len(set(header)) != len(header):
         raise InputError(
-            f"line 1: header {','.join(header)[:80]} not accepted: columns are patient,day,kind,value"
+            f"line 1: header {one_line(','.join(header))} not accepted: columns are patient,day,kind,value"
             f" and optionally {','.join(OPTIONAL)}, each once"
         )
     return header
@@ -73,7 +73,7 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
             if any(len(c) > MAX_FIELD for c in record):
                 raise InputError(f"a field is longer than {MAX_FIELD} characters")
             cells = dict(zip(header, record))
-            patient = get_patient(ctx, cells["patient"]).id
+            patient = get_patient(ctx, parse_id(cells["patient"], "patient")).id
             parsed = parse_entry(
                 cells["kind"],
                 cells["value"],

@@ -27,6 +27,7 @@ MATRIX: dict[str, frozenset[Role]] = {
     "alert.handle-routine": EVERYONE,
     "summary.export": frozenset({SUPERVISOR, ADMIN}),
     "protocol.view": EVERYONE,
+    "protocol.set": frozenset({ADMIN}),
     "staff.add": frozenset({ADMIN}),
     "staff.update": frozenset({ADMIN}),
     "store.backup": frozenset({ADMIN}),

@@ -9,6 +9,7 @@ from pathlib import Path
 from caseload.store import maintenance
 from caseload.store.alerts import AlertTable
 from caseload.store.audit import AuditTable
+from caseload.store.bulk import BulkTable
 from caseload.store.db import Database, StoreError, utc_now
 from caseload.store.entries import EntryTable
 from caseload.store.patients import PatientTable
@@ -27,6 +28,7 @@ class Store:
         self.audit = AuditTable(self.db)
         self.alerts = AlertTable(self.db)
         self.state = StateTable(self.db)
+        self.bulk = BulkTable(self.db)
 
     @property
     def path(self) -> Path:

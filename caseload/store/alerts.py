@@ -1,11 +1,16 @@
-"""Alert rows: raised by the engine, handled by staff. One row per dedup key."""
+"""Alert rows: raised by the engine, handled by staff. One row per dedup key, ever.
+
+Every change writes its audit row (the whole alert before and after) in the caller's transaction.
+"""
 
 from __future__ import annotations
 
 import json
+from dataclasses import asdict
 from datetime import date, datetime
 
-from caseload.core.model import Alert, AlertState, Severity
+from caseload.core.alerts import Candidate
+from caseload.core.model import Actor, Alert, AlertState, Severity
 from caseload.store.db import Database
 
 
@@ -31,6 +36,11 @@ def alert_from_row(row: dict) -> Alert:
     )
 
 
+def audit_view(a: Alert) -> dict:
+    """The alert as its audit rows record it (patient, kind and severity among the keys)."""
+    return {k: v.value if isinstance(v, Severity | AlertState) else v for k, v in asdict(a).items()}
+
+
 class AlertTable:
     def __init__(self, db: Database):
         self.db = db
@@ -47,3 +57,65 @@ class AlertTable:
         """Open, acknowledged and snoozed alerts of the whole caseload."""
         rows = self.db.query("SELECT * FROM alert WHERE state != 'resolved' ORDER BY id")
         return [alert_from_row(r) for r in rows]
+
+    def all(self) -> list[Alert]:
+        return [alert_from_row(r) for r in self.db.query("SELECT * FROM alert ORDER BY id")]
+
+    def count(self) -> int:
+        return self.db.conn.execute("SELECT count(*) FROM alert").fetchone()[0]
+
+    def raise_alert(self, actor: Actor, c: Candidate, raised_on: date) -> Alert:
+        row = {
+            "patient_id": c.patient_id,
+            "kind": c.kind,
+            "key": c.key,
+            "severity": c.severity.value,
+            "raised_on": raised_on.isoformat(),
+            "due": c.due.isoformat(),
+            "message": c.message,
+            "evidence": json.dumps(c.evidence, sort_keys=True),
+            "rule": c.rule,
+            "source": c.source,
+            "state": AlertState.OPEN.value,
+        }
+        alert_id = self.db.db["alert"].insert(row).last_pk
+        alert = self.get(alert_id)
+        self.db.audit(actor, "alert.raise", "alert", alert_id, after=audit_view(alert))
+        return alert
+
+    def escalate(self, actor: Actor, a: Alert, c: Candidate) -> Alert:
+        """Worse evidence on the same key: the new severity and evidence, back on the list."""
+        return self._change(actor, a, "alert.escalate", {
+            "severity": c.severity.value, "due": c.due.isoformat(), "message": c.message,
+            "evidence": json.dumps(c.evidence, sort_keys=True), "rule": c.rule, "source": c.source,
+            "state": AlertState.OPEN.value, "snooze_until": None,
+        })  # fmt: skip
+
+    def reopen(self, actor: Actor, a: Alert) -> Alert:
+        """A snooze whose day has come; who snoozed it and why stay on the row."""
+        return self._change(actor, a, "alert.reopen", {"state": AlertState.OPEN.value})
+
+    def auto_resolve(self, actor: Actor, a: Alert, reason: str) -> Alert:
+        """The condition ended; the staff member whose write or refresh saw it is recorded."""
+        return self._change(actor, a, "alert.auto-resolve", self._handled(actor, AlertState.RESOLVED, None, None, reason))
+
+    def handle(self, actor: Actor, a: Alert, state: AlertState, note: str | None, snooze_until: date | None = None) -> Alert:
+        """A staff member acknowledges, snoozes or resolves the alert."""
+        action = {AlertState.ACKNOWLEDGED: "alert.ack", AlertState.SNOOZED: "alert.snooze", AlertState.RESOLVED: "alert.resolve"}[state]
+        return self._change(actor, a, action, self._handled(actor, state, note, snooze_until, None))
+
+    def _handled(self, actor: Actor, state: AlertState, note, snooze_until: date | None, reason: str | None) -> dict:
+        return {
+            "state": state.value,
+            "handled_by": actor.id,
+            "handled_at": self.db.now_text(),
+            "note": note,
+            "snooze_until": None if snooze_until is None else snooze_until.isoformat(),
+            "resolved_reason": reason,
+        }
+
+    def _change(self, actor: Actor, before: Alert, action: str, changes: dict) -> Alert:
+        self.db.db["alert"].update(before.id, changes)
+        after = self.get(before.id)
+        self.db.audit(actor, action, "alert", before.id, before=audit_view(before), after=audit_view(after))
+        return after

@@ -91,16 +91,24 @@ class Database:
         if not steps:
             return
         current = self.version
+        # A step may rebuild a table (create, copy, drop, rename), which live foreign keys refuse
+        # half way; the references are checked once, at the end, inside the same transaction.
+        self.conn.execute("PRAGMA foreign_keys = OFF")
         try:
             with self.write():
                 for version, step in steps:
                     step(self.conn)
                     self.conn.execute(f"PRAGMA user_version = {version}")
+                broken = self.conn.execute("PRAGMA foreign_key_check").fetchall()
+                if broken:
+                    raise StoreError(f"{len(broken)} rows lose the row they refer to (first in table {broken[0][0]})")
         except Exception as err:  # whatever a step raised, its transaction was rolled back whole
             raise StoreError(
                 f"{self.path}: upgrading schema {current} to {steps[-1][0]} failed ({err}): "
                 f"the file is left as it was, at schema {current}"
             ) from None
+        finally:
+            self.conn.execute("PRAGMA foreign_keys = ON")
 
     @contextmanager
     def write(self) -> Iterator[sqlite3.Connection]:
@@ -148,20 +156,7 @@ class Database:
         """Append the audit row for a change; call it inside the change's transaction."""
         if not self.conn.in_transaction:
             raise StoreError("audit rows are written only inside the transaction of their change")
-        self.conn.execute(
-            "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after)"
-            " VALUES (?, ?, ?, ?, ?, ?, ?, ?)",
-            (
-                self.now_text(),
-                actor.id,
-                actor.os_account,
-                action,
-                table,
-                None if row_id is None else str(row_id),
-                _json(before),
-                _json(after),
-            ),
-        )
+        self.conn.execute(AUDIT_INSERT, audit_values(self.now_text(), actor, action, table, row_id, before, after))
 
     def query(self, sql: str, params=()) -> list[dict]:
         return list(self.db.query(sql, params))
@@ -172,6 +167,16 @@ class Database:
 
     def set_meta(self, key: str, value: str) -> None:
         self.conn.execute("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)", (key, value))
+
+
+AUDIT_INSERT = (
+    "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after) VALUES (?, ?, ?, ?, ?, ?, ?, ?)"
+)
+
+
+def audit_values(at: str, actor: Actor, action: str, table: str, row_id, before=None, after=None) -> tuple:
+    """The values of one audit row, in AUDIT_INSERT's column order."""
+    return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), _json(before), _json(after))
 
 
 def _is_lock_error(err: sqlite3.OperationalError) -> bool:

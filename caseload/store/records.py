@@ -4,8 +4,11 @@ from __future__ import annotations
 
 import json
 from datetime import date, datetime
+from functools import lru_cache
 
-from caseload.core.model import Entry, Kind, Patient, PatientStatus, Plan, Role, Scan, Staff, Value
+from caseload.core.model import Entry, Kind, Observation, Patient, PatientStatus, Plan, Role, Scan, Staff, Value
+
+_KINDS = {k.value: k for k in Kind}
 
 
 def staff_from_row(row: dict) -> Staff:
@@ -71,3 +74,24 @@ def entry_from_row(row: dict) -> Entry:
         superseded_by=row.get("superseded_by"),
         amend_reason=row["amend_reason"],
     )
+
+
+@lru_cache(maxsize=8192)
+def _plain_value(number: float | None, word: str | None, text: str | None) -> Value:
+    # Values repeat across a caseload (temperatures to 2 dp, flow and mucus words): frozen, so shared.
+    return Value(number=number, word=word, text=text)
+
+
+@lru_cache(maxsize=256)
+def _flags(text: str) -> tuple[str, ...]:
+    return tuple(f for f in text.split(",") if f)
+
+
+def observation_from_row(row: tuple) -> Observation:
+    """(patient_id, day, kind, number, word, scan, text, flags, time) as the cycle engine reads it."""
+    _, day, kind, number, word, scan, text, flags, time = row
+    if scan:
+        value = value_from_row({"number": number, "word": word, "scan": scan, "text": text})
+    else:
+        value = _plain_value(number, word, text)
+    return Observation(date.fromisoformat(day), _KINDS[kind], value, _flags(flags) if flags else (), time)

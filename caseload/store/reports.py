@@ -8,7 +8,8 @@ range is inside it), then checked exactly with julianday(), which honours the of
 from __future__ import annotations
 
 from collections import defaultdict
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, date, datetime, timedelta
 
@@ -64,6 +65,7 @@ class AlertEvent:
     severity: str
     state: str | None  # the alert's state after the transition, when the trail records it
     due: date | None
+    snooze_until: date | None
 
 
 @dataclass(frozen=True)
@@ -106,6 +108,10 @@ def instant(text: str) -> datetime:
     return moment if moment.tzinfo else moment.replace(tzinfo=UTC)
 
 
+def _day(text: str | None) -> date | None:
+    return date.fromisoformat(text) if text else None
+
+
 def _within(column: str, span: Span) -> tuple[str, list[str]]:
     sql = (
         f"({column} >= ? AND {column} < ? AND julianday({column}) >= julianday(?)"
@@ -122,13 +128,15 @@ def _marks(values: Sequence) -> str:
     return ", ".join("?" for _ in values)
 
 
-_ALERT_COLUMNS = f"""
+# The transition's own record of the alert (its audit `after`) wins; the alert row fills gaps.
+_ALERT_COLUMNS = """
     a.id AS audit_id, a.row_id AS alert_id, a.action, a.at, a.by_staff,
-    COALESCE(al.kind, json_extract(a.after, '$.kind')) AS kind,
-    COALESCE(al.patient_id, json_extract(a.after, '$.patient')) AS patient_id,
+    COALESCE(json_extract(a.after, '$.kind'), al.kind) AS kind,
+    COALESCE(json_extract(a.after, '$.patient_id'), al.patient_id) AS patient_id,
     COALESCE(json_extract(a.after, '$.severity'), al.severity) AS severity,
     json_extract(a.after, '$.state') AS state,
-    al.due
+    COALESCE(json_extract(a.after, '$.due'), al.due) AS due,
+    json_extract(a.after, '$.snooze_until') AS snooze_until
 """
 
 
@@ -143,7 +151,8 @@ def _alert_event(row: dict) -> AlertEvent:
         patient_id=row["patient_id"],
         severity=row["severity"],
         state=row["state"],
-        due=date.fromisoformat(row["due"]) if row["due"] else None,
+        due=_day(row["due"]),
+        snooze_until=_day(row["snooze_until"]),
     )
 
 
@@ -152,6 +161,15 @@ class ReportQueries:
 
     def __init__(self, db: Database):
         self.db = db
+
+    @contextmanager
+    def snapshot(self) -> Iterator[ReportQueries]:
+        """One read transaction: every query inside sees the store as it was when it began."""
+        self.db.conn.execute("BEGIN DEFERRED")
+        try:
+            yield self
+        finally:
+            self.db.conn.execute("COMMIT")
 
     def patient_versions(self, moment: datetime) -> dict[str, PatientVersion]:
         """Every patient registered before `moment`, as their record stood then."""

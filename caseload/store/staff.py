@@ -9,12 +9,17 @@ from caseload.store.db import Database
 from caseload.store.records import staff_from_row
 
 
+def staff_row(staff: Staff, created_at: str) -> dict:
+    """The columns of a new staff row; the same dict is the audit row's `after`."""
+    return {**asdict(staff), "role": staff.role.value, "active": int(staff.active), "created_at": created_at}
+
+
 class StaffTable:
     def __init__(self, db: Database):
         self.db = db
 
     def add(self, actor: Actor, staff: Staff) -> Staff:
-        row = {**asdict(staff), "role": staff.role.value, "active": int(staff.active), "created_at": self.db.now_text()}
+        row = staff_row(staff, self.db.now_text())
         self.db.db["staff"].insert(row)
         self.db.audit(actor, "staff.add", "staff", staff.id, after=row)
         return staff

@@ -5,7 +5,8 @@ from __future__ import annotations
 from textual.screen import Screen
 
 from caseload.core.model import Alert
-from caseload.tui.alert_support import alerts_service, note_required
+from caseload.services import alerts as alert_service
+from caseload.tui.alert_support import note_required
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
 from caseload.tui.words import alert_label
 from caseload.tui.writes import write
@@ -15,11 +16,6 @@ PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved
 
 def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
     """Ask for the note, then run the service call in a worker."""
-    service = alerts_service()
-    if service is None:
-        screen.notify("Alert handling is not available in this installation.", severity="warning")
-        return
-
     def done(answer: HandleNote | None) -> None:
         if answer is None:
             return
@@ -28,9 +24,9 @@ def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
             return f"{PAST[verb]} #{handled.id} {alert_label(handled.kind)} for {handled.patient_id}."
 
         if verb == "snooze":
-            write(screen, service.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
+            write(screen, alert_service.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
         else:
-            write(screen, getattr(service, verb), alert.id, answer.note, summary=summary)
+            write(screen, getattr(alert_service, verb), alert.id, answer.note, summary=summary)
 
     dialog = NoteDialog(alert, verb, screen.app.gate.today, note_required(alert))
     screen.app.push_screen(dialog, done)

@@ -28,7 +28,11 @@ from caseload.services.identity import resolve_actor
 from caseload.services.ui_support import needs_sign_in
 from caseload.store import Store, StoreError
 from caseload.tui.gate import StoreGate
+from caseload.tui.screens.caseload import CaseloadScreen
+from caseload.tui.screens.quick_log import QuickLogScreen
+from caseload.tui.screens.sign_in import SignInScreen
 from caseload.tui.themes import DEFAULT_THEME, THEMES
+from caseload.tui.writes import Written
 
 REFRESH_SECONDS = 5.0
 
@@ -70,15 +74,11 @@ class CaseloadApp(App):
             self.register_theme(theme)
         self.theme = DEFAULT_THEME
         if self.gate.actor is None:
-            from caseload.tui.screens.sign_in import SignInScreen
-
             self.push_screen(SignInScreen())
         else:
             self.open_home()
 
     def open_home(self) -> None:
-        from caseload.tui.screens.caseload import CaseloadScreen
-
         self.mine = self.gate.actor.role is Role.NURSE
         self.push_screen(CaseloadScreen())
 
@@ -144,6 +144,10 @@ class CaseloadApp(App):
         if event.state in (WorkerState.SUCCESS, WorkerState.ERROR, WorkerState.CANCELLED):
             self._refusals.pop(worker, None)
 
+    def on_written(self, message: Written) -> None:
+        self.notify(message.summary, markup=False)
+        self.store_changed()
+
     def store_changed(self) -> None:
         """After a write: every screen that shows store data reads it again."""
         for screen in self.screen_stack:
@@ -159,12 +163,10 @@ class CaseloadApp(App):
         return True
 
     def action_quick_log(self) -> None:
-        from caseload.tui.screens.quick_log import QuickLogScreen
-
-        if isinstance(self.screen, QuickLogScreen) or self.screen.is_modal:
+        if self.screen.is_modal:
             return
         patient_id = getattr(self.screen, "patient_id", None)
-        self.push_screen(QuickLogScreen(patient_id))
+        self.push_screen(QuickLogScreen(patient_id, settled=getattr(self.screen, "patient_settled", False)))
 
 
 def make_app(

@@ -39,9 +39,8 @@ class CycleView:
 
     @property
     def title(self) -> str:
-        where = "current cycle" if self.is_open else "earlier cycle"
-        day = f", today is day {self.today_day}" if self.today_day else f", {self.last_day} days"
-        return f"Cycle {self.index + 1} of {self.count} ({where}) from {self.start.day} {self.start.strftime('%b')}{day}"
+        day = f"today is day {self.today_day}" if self.today_day else f"{self.last_day} days"
+        return f"Cycle {self.index + 1}/{self.count} from {self.start.day} {self.start.strftime('%b')}, {day}"
 
 
 def cycle_day(start: date, day: date) -> int:

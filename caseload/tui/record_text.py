@@ -11,18 +11,25 @@ from caseload.services.caseload import PatientRecord
 from caseload.tui.words import CAUTION, NEXT_EVENT_LABELS, day_span, literal, phase_label, short_day
 
 METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "mucus": "mucus peak"}
+EVIDENCE_WORDS = {
+    "lh": "a positive LH test",
+    "shift": "the temperature rise",
+    "lh+shift": "an LH test and the temperature rise",
+    "elapsed": "the days passed without a sign",
+}
 
 
 def title_text(record: PatientRecord) -> Text:
     p, a = record.patient, record.analysis
     text = Text(p.id + " ", style="bold").append_text(literal(p.name, style="bold"))
-    text.append(f"  {a.age_years} y · {p.plan.value} · {p.status.value} · nurse ")
-    text.append_text(literal(p.nurse_id or "-"))
     if a.cycle_day is not None:
-        text.append(f"  │ cycle day {a.cycle_day}", style="bold")
-        text.append(f" ({phase_label(a.phase)}) from {short_day(a.cycle_start)}")
+        text.append(f"  CD {a.cycle_day}", style="bold")
+        text.append(f" {phase_label(a.phase)} (from {short_day(a.cycle_start)})")
     else:
-        text.append(f"  │ {phase_label(a.phase)}")
+        text.append(f"  {phase_label(a.phase)}")
+    status = "" if p.status.value == "active" else f" · {p.status.value}"
+    text.append(f"  │ {a.age_years} y · {p.plan.value}{status} · nurse ", style="dim")
+    text.append_text(literal(p.nurse_id or "-", style="dim"))
     return text
 
 
@@ -65,7 +72,8 @@ def _outlook_prediction(a: Analysis, text: Text) -> None:
         return
     text.append("Ovulation most likely ", style="bold")
     text.append(f"{short_day(pr.ovulation)} (80% range {day_span(pr.ovulation_range)}); from the pattern alone "
-                f"{short_day(pr.expected_ovulation)} ({day_span(pr.expected_ovulation_range)}); evidence: {pr.evidence}\n")
+                f"{short_day(pr.expected_ovulation)} ({day_span(pr.expected_ovulation_range)}); "
+                f"this cycle's evidence: {EVIDENCE_WORDS.get(pr.evidence, pr.evidence)}\n")
     text.append("Fertile window ", style="bold")
     text.append(f"{day_span(pr.fertile_window)} (six days ending on ovulation, Wilcox 1995)\n")
     text.append("Next period ", style="bold")

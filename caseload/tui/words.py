@@ -12,7 +12,7 @@ from datetime import date, timedelta
 
 from rich.text import Text
 
-from caseload.core.analysis import BLEEDING, POST_SHIFT, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
+from caseload.core.analysis import BLEEDING, LUTEAL, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
 from caseload.core.model import MUCUS_SCALE, Flow, Kind
 
 CAUTION = (
@@ -21,11 +21,11 @@ CAUTION = (
 
 PHASE_LABELS: dict[str, str] = {
     BLEEDING: "flow days",
-    PRE_WINDOW: "before window",
+    PRE_WINDOW: "window ahead",
     WINDOW: "fertile days",
-    POST_SHIFT: "after the rise",
+    LUTEAL: "second half",
     PREGNANT: "pregnancy",
-    UNKNOWN: "not clear yet",
+    UNKNOWN: "not clear",
 }
 
 NEXT_EVENT_LABELS: dict[str, str] = {
@@ -93,22 +93,28 @@ def kind_label(kind: Kind) -> str:
     return WORDS_BY_KIND[kind].label
 
 
-def _names(words: KindWords) -> tuple[str, ...]:
-    return (words.kind.value, words.label.lower(), *words.aliases)
+def kind_names() -> list[tuple[str, Kind]]:
+    """Every name a kind answers to, KIND words first, then labels, then other words."""
+    names = [(w.kind.value, w.kind) for w in KIND_WORDS]
+    names += [(w.label.lower(), w.kind) for w in KIND_WORDS]
+    names += [(alias, w.kind) for w in KIND_WORDS for alias in w.aliases]
+    return names
+
+
+def complete_kind(typed: str) -> str | None:
+    """The first name that starts with what was typed (so 'b' is bleed, 't' is temp)."""
+    t = " ".join(typed.lower().split())
+    return next((name for name, _ in kind_names() if t and name.startswith(t)), None)
 
 
 def match_kind(text: str) -> Kind | None:
-    """The kind a typed word means: an exact KIND word, label or alias first, else the first prefix match."""
+    """The kind a typed word means: an exact name first, else the first name it begins."""
     typed = " ".join(text.lower().split())
-    if not typed:
-        return None
-    for words in KIND_WORDS:
-        if typed in _names(words):
-            return words.kind
-    for words in KIND_WORDS:
-        if any(name.startswith(typed) for name in _names(words)):
-            return words.kind
-    return None
+    names = kind_names()
+    exact = next((kind for name, kind in names if name == typed), None)
+    if exact is not None or not typed:
+        return exact
+    return next((kind for name, kind in names if name.startswith(typed)), None)
 
 
 def short_day(day: date | None) -> str:

@@ -20,7 +20,9 @@ class Cli:
         self.runner = CliRunner()
 
     def __call__(self, *args, input=None):
-        return self.runner.invoke(main, ["--db", str(self.db), "--today", TODAY.isoformat(), *args], input=input)
+        # color=True: click strips nothing, so the output is what a terminal would receive.
+        return self.runner.invoke(main, ["--db", str(self.db), "--today", TODAY.isoformat(), *args], input=input,
+                                  color=True)
 
 
 @pytest.fixture

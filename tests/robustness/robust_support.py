@@ -29,14 +29,17 @@ def assert_clean_exit(result, allowed=(0, 1, 2)) -> None:
     if result.exit_code == 1:
         lines = result.stderr.strip().splitlines()
         assert len(lines) == 1 and lines[0].startswith("caseload: "), result.stderr
+        assert "\x1b" not in result.stderr, result.stderr
 
 
-def tables(path: Path) -> list[str]:
-    conn = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
+def copy_store(source: Path, target: Path) -> None:
+    """A whole copy, write-ahead log included (a plain file copy can miss the latest commits)."""
+    src, dst = sqlite3.connect(source), sqlite3.connect(target)
     try:
-        return [r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name")]
+        src.backup(dst)
     finally:
-        conn.close()
+        src.close()
+        dst.close()
 
 
 def snapshot(path: Path) -> dict[str, list[tuple]]:

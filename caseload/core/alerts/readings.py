@@ -20,8 +20,8 @@ def _expected_fertile_days(f: Facts) -> tuple[date, date] | None:
 
 def logging_gap(f: Facts) -> list[Candidate]:
     """Whole days with no entry of any kind inside a charted cycle; today is not over, so it does
-    not count. Soon instead of info once the gap covers the expected fertile days, since a gap
-    there can cost the cycle's timing (common practice)."""
+    not count. Soon instead of info once the gap covers the expected fertile days while ovulation
+    is not yet known to be past, since a gap there can cost the cycle's timing (common practice)."""
     current, last, p = f.analysis.current, f.analysis.last_entry_day, f.protocol
     if current is None or last is None:
         return []
@@ -30,7 +30,8 @@ def logging_gap(f: Facts) -> list[Candidate]:
         return []
     gap_start, gap_end = last + timedelta(days=1), f.today - timedelta(days=1)
     fertile = _expected_fertile_days(f)
-    covers = fertile is not None and gap_start <= fertile[1] and gap_end >= fertile[0]
+    ovulated = current.markers.ovulation is not None and current.markers.ovulation < gap_start
+    covers = fertile is not None and not ovulated and gap_start <= fertile[1] and gap_end >= fertile[0]
     message = f"No entry since {last.isoformat()} ({empty} whole days, cycle day {cycle_day(current.start, f.today)} today)"
     message += ", over her expected fertile days" if covers else ""
     return [
@@ -56,9 +57,12 @@ def logging_gap(f: Facts) -> list[Candidate]:
 def _fevers(observations: list[Observation], threshold: float, today: date) -> dict[date, Observation]:
     """The highest reading at or above the threshold on each day."""
     found: dict[date, Observation] = {}
+    temp = Kind.TEMP
     for obs in observations:
+        if obs.kind is not temp:
+            continue
         c = obs.value.number
-        if obs.kind is Kind.TEMP and c is not None and c >= threshold and obs.day <= today:
+        if c is not None and c >= threshold and obs.day <= today:
             if obs.day not in found or c > found[obs.day].value.number:
                 found[obs.day] = obs
     return found

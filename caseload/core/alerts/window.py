@@ -3,6 +3,7 @@
 Both read the current cycle's forecast: P(fertile) on each coming day is the chance that ovulation
 falls within the next six days (Wilcox 1995). An alert raised this cycle is held while the window
 lasts, so a probability that dips and recovers does not resolve it and then bar it for the cycle.
+"Approaching" means the chance is still rising: its peak lies ahead.
 """
 
 from __future__ import annotations
@@ -51,7 +52,9 @@ def window_open(f: Facts) -> list[Candidate]:
         return []
     chance, lh = p_today(forecast), lh_window_open(f)
     raisable = chance >= p.window_open_p or lh
-    if not raisable and chance < p.window_approaching_p:
+    # Held through a dip to the approaching level, until the latest day the pattern expects ovulation.
+    held = chance >= p.window_approaching_p and f.today <= forecast.expected_ovulation_range[1]
+    if not (raisable or held):
         return []
     cd = cycle_day(current.start, f.today)
     action = OPEN_ACTION[f.patient.plan]
@@ -87,9 +90,10 @@ def window_approaching(f: Facts) -> list[Candidate]:
         return []
     if p_today(forecast) >= p.window_open_p:
         return []  # open, not approaching
+    peak = max(forecast.daily, key=lambda d: d.p_fertile)
     reaching = [d for d in forecast.daily if d.p_fertile >= p.window_approaching_p]
-    if not reaching:
-        return []
+    if not reaching or peak.day <= f.today:
+        return []  # no window ahead: it has not come into view, or it is behind her
     first = reaching[0]
     raisable = first.day <= f.today + timedelta(days=p.window_approaching_days)
     cd = cycle_day(current.start, first.day)

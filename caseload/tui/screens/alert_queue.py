@@ -12,20 +12,17 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from caseload.core.model import Alert
+from caseload.services.alerts import list_alerts
+from caseload.services.context import Context
 from caseload.tui.alert_actions import start_handling
-from caseload.tui.alert_support import alerts_service
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_table import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
 
 
-def alerts_available() -> bool:
-    return alerts_service() is not None
-
-
-def open_alerts(ctx, nurse: str | None) -> list[Alert]:
-    return alerts_service().list_alerts(ctx, state="open", nurse=nurse)
+def open_alerts(ctx: Context, nurse: str | None) -> list[Alert]:
+    return list_alerts(ctx, state="open", nurse=nurse)
 
 
 class AlertQueueScreen(Screen):

@@ -7,6 +7,7 @@ today, the morning refresh runs in a worker and the list is read again after it.
 
 from __future__ import annotations
 
+from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -16,6 +17,9 @@ from textual.widgets import DataTable, Footer, Input, Static
 
 from caseload.services.caseload import CaseloadLine, list_caseload
 from caseload.services.derived import RefreshReport, refresh_all
+from caseload.tui.screens.alert_queue import AlertQueueScreen
+from caseload.tui.screens.export import ExportDialog, export_available
+from caseload.tui.screens.record import RecordScreen
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
@@ -48,7 +52,6 @@ class CaseloadScreen(Screen):
     CSS_PATH = "caseload.tcss"
     AUTO_FOCUS = "CaseloadTable"
     BINDINGS = [
-        Binding("enter", "open_record", "Open", id="caseload.open"),
         Binding("slash", "search", "Find", id="caseload.search"),
         Binding("m", "toggle_mine", "Mine/all", id="caseload.mine"),
         Binding("k", "pick_kind", "Alert kind", id="caseload.kind"),
@@ -87,6 +90,7 @@ class CaseloadScreen(Screen):
 
     def on_mount(self) -> None:
         self.query_one("#list-note", Static).update("Reading the caseload…")
+        self.watch(self.app, "mine", self._mine_changed, init=False)
         self.reload()
         self.set_interval(self.app.refresh_seconds, self.reload, name="caseload-poll")
 
@@ -118,7 +122,7 @@ class CaseloadScreen(Screen):
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
-        self.query_one("#list-note", Static).update(f"Could not read the caseload: {message.reason}")
+        self.query_one("#list-note", Static).update(Text(f"Could not read the caseload: {message.reason}"))
 
     def on_caseload_screen_refreshed(self, message: Refreshed) -> None:
         r = message.report
@@ -134,6 +138,9 @@ class CaseloadScreen(Screen):
         if filters.search.strip():
             note += " matching the search (Enter picks the top one, Esc clears)"
         self.query_one("#list-note", Static).update(note)
+
+    def _mine_changed(self, mine: bool) -> None:
+        self.query_one(FilterBar).set_mine(mine)
 
     @on(FilterBar.Changed)
     def _filters_changed(self, message: FilterBar.Changed) -> None:
@@ -154,13 +161,8 @@ class CaseloadScreen(Screen):
             table.move_cursor(row=0)
 
     def _open(self, patient_id: str | None) -> None:
-        from caseload.tui.screens.record import RecordScreen
-
         if patient_id:
             self.app.push_screen(RecordScreen(patient_id))
-
-    def action_open_record(self) -> None:
-        self._open(self.patient_id)
 
     def action_search(self) -> None:
         self.query_one("#search", Input).focus()
@@ -179,21 +181,12 @@ class CaseloadScreen(Screen):
         self.query_one("#plan").action_show_overlay()
 
     def action_alert_queue(self) -> None:
-        from caseload.tui.screens.alert_queue import AlertQueueScreen, alerts_available
-
-        if alerts_available():
-            self.app.push_screen(AlertQueueScreen())
-        else:
-            self.notify("The alert queue is not available in this installation.", severity="warning")
+        self.app.push_screen(AlertQueueScreen())
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "export":
-            from caseload.tui.screens.export import export_available
-
             return export_available() and self.app.gate.may("summary.export")
         return True
 
     def action_export(self) -> None:
-        from caseload.tui.screens.export import ExportDialog
-
         self.app.push_screen(ExportDialog())

@@ -2,9 +2,8 @@
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 
 from rich.text import Text
 from textual import on
@@ -15,7 +14,8 @@ from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Alert
-from caseload.core.parse import InputError, one_line
+from caseload.core.alerts.lifecycle import parse_future_day
+from caseload.core.parse import InputError
 from caseload.tui.words import alert_label, literal
 
 
@@ -23,23 +23,6 @@ from caseload.tui.words import alert_label, literal
 class HandleNote:
     note: str
     until: date | None = None
-
-
-def parse_until(text: str, today: date) -> date:
-    """The day a snooze ends: YYYY-MM-DD, 'tomorrow' or '+N' (days from today); it must be after today."""
-    t = text.strip().lower()
-    if t == "tomorrow":
-        return today + timedelta(days=1)
-    if re.fullmatch(r"\+?\d{1,3}", t):
-        day = today + timedelta(days=int(t.lstrip("+")))
-    else:
-        try:
-            day = date.fromisoformat(t)
-        except ValueError:
-            raise InputError(f"until '{one_line(text)}' not understood: use YYYY-MM-DD, tomorrow or +N (days)") from None
-    if day <= today:
-        raise InputError(f"until {day.isoformat()} is not after today: a snooze ends on a later day")
-    return day
 
 
 class NoteDialog(ModalScreen[HandleNote | None]):
@@ -62,7 +45,7 @@ class NoteDialog(ModalScreen[HandleNote | None]):
             yield Static(line.append_text(literal(self.alert.message)))
             if self.verb == "snooze":
                 yield Label("Until (YYYY-MM-DD, tomorrow or +N days)")
-                yield Input("+1", id="until", compact=True)
+                yield Input("tomorrow", id="until", compact=True)
             yield Label("Note" + (" (needed for a clinical alert)" if self.note_required else " (optional)"))
             yield Input(placeholder="what was done or decided", id="note", compact=True)
             yield Static("", id="check", classes="check")
@@ -75,7 +58,7 @@ class NoteDialog(ModalScreen[HandleNote | None]):
     def _until(self) -> date | None:
         if self.verb != "snooze":
             return None
-        return parse_until(self.query_one("#until", Input).value, self.today)
+        return parse_future_day(self.query_one("#until", Input).value, self.today)
 
     def _problem(self) -> str | None:
         try:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -24,7 +25,8 @@ from caseload.tui.widgets.status_line import StatusLine
 from caseload.tui.words import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
-CYCLES = Binding.Group("Cycle", compact=True)
+CYCLES = Binding.Group("Cycle")
+TAB_FOCUS = {"cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "#entries-table"}
 CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
 
 
@@ -32,6 +34,7 @@ class RecordScreen(Screen):
     """Opened from the list or the alert queue; `alert_id` opens the alerts tab with that alert in view."""
 
     CSS_PATH = "record.tcss"
+    patient_settled = True  # the quick log opened here logs for this patient
     BINDINGS = [
         Binding("escape", "app.pop_screen", "Back", id="record.back"),
         Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart"),
@@ -48,6 +51,11 @@ class RecordScreen(Screen):
             super().__init__()
             self.record = record
 
+    class LoadFailed(Message):
+        def __init__(self, reason: str) -> None:
+            super().__init__()
+            self.reason = reason
+
     def __init__(self, patient_id: str, alert_id: int | None = None) -> None:
         super().__init__()
         self.patient_id = patient_id
@@ -58,10 +66,10 @@ class RecordScreen(Screen):
 
     def compose(self) -> ComposeResult:
         yield StatusLine(id="status")
-        yield Static(self.patient_id, id="record-title")
+        yield Static(Text(self.patient_id), id="record-title")
         with TabbedContent(initial="alerts" if self._alert_id else "chart", id="record-tabs"):
             with TabPane("1 Chart", id="chart"):
-                with VerticalScroll():
+                with Vertical():
                     yield Static("", id="chart-title")
                     yield CycleChart(id="chart-plot")
                     yield MarkerStrip(id="strip")
@@ -91,11 +99,12 @@ class RecordScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, show_patient, self.patient_id, reply=self.Loaded, refusal=self._failed)
+        self.app.store_job(self, show_patient, self.patient_id, reply=self.Loaded, refusal=self.LoadFailed)
 
-    def _failed(self, reason: str) -> Message:
+    def on_record_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
-        return self.Loaded(self._record) if self._record else Message()
+        if self._record is None:
+            self.query_one("#record-title", Static).update(Text(f"Could not open {self.patient_id}: {message.reason}"))
 
     def on_record_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
@@ -129,7 +138,7 @@ class RecordScreen(Screen):
         index = count - 1 if self._cycle is None else self._cycle
         view = cycle_view(record, index, self.app.gate.today)
         self.query_one("#chart-title", Static).update(
-            view.title + "  ([ earlier, ] later)" if view else "No cycle recorded yet"
+            Text(view.title + "   [ earlier  ] later" if view else "No cycle recorded yet", style="bold")
         )
         self.query_one(CycleChart).show(view)
         self.query_one(MarkerStrip).show(view)
@@ -138,6 +147,8 @@ class RecordScreen(Screen):
 
     def action_tab(self, tab: str) -> None:
         self.query_one(TabbedContent).active = tab
+        if tab in TAB_FOCUS:
+            self.query_one(TAB_FOCUS[tab]).focus()
 
     def action_cycle(self, step: int) -> None:
         if self._record is None or not self._record.analysis.cycles:

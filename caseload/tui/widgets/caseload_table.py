@@ -6,6 +6,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from rich.text import Text
+from textual.binding import Binding
 from textual.widgets import DataTable
 
 from caseload.services.caseload import CaseloadLine
@@ -24,9 +25,9 @@ class Column:
 
 COLUMNS = (
     Column("patient", "Patient", 0),
-    Column("cd", "CD", 3),
+    Column("cd", " CD", 4),
     Column("where", "Where", 13),
-    Column("alert", "Most urgent alert", 24),
+    Column("alert", "Most urgent alert", 25),
     Column("next", "Next", 15),
     Column("last", "Last", 4),
     Column("plan", "Plan", 20),
@@ -72,7 +73,7 @@ def row_cells(line: CaseloadLine, tone) -> list[Text]:
     s = line.snapshot
     return [
         patient_cell(line),
-        Text("-" if line.cycle_day is None else str(line.cycle_day), justify="right"),
+        Text(f"{'-' if line.cycle_day is None else line.cycle_day:>3}"),
         Text(phase_label(s.phase if s else None)),
         alert_cell(line, tone),
         next_cell(line),
@@ -92,6 +93,8 @@ def fitted(cell: Text, width: int) -> Text:
 
 class CaseloadTable(DataTable):
     """Rows keyed by patient id. Redraws keep the cursor on the same patient."""
+
+    BINDINGS = [Binding("enter", "select_cursor", "Open", id="caseload.open")]
 
     def __init__(self, **kwargs):
         super().__init__(cursor_type="row", zebra_stripes=True, cell_padding=0, **kwargs)

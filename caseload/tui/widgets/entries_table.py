@@ -11,10 +11,12 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.widgets import DataTable
 
-from caseload.core.model import Entry
+from caseload.core.model import Entry, Kind
 from caseload.tui.words import kind_label, literal, short_day
 
-COLUMNS = ("#", "Day", "Time", "Kind", "Value", "Flags", "By", "Status", "Note")
+COLUMNS = ("#", "Day", "Kind", "Value", "Status", "Time", "Flags", "By", "Note")
+VALUE_WIDTH = 18
+NOTE_WIDTH = 40
 
 
 def status_cell(entry: Entry, by_id: dict[int, Entry]) -> Text:
@@ -34,19 +36,27 @@ def status_cell(entry: Entry, by_id: dict[int, Entry]) -> Text:
 
 def entry_cells(entry: Entry, by_id: dict[int, Entry]) -> list[Text]:
     gone = "strike dim" if not entry.current else ""
-    value = entry.value.display() + (" C" if entry.kind.value == "temp" else "")
+    value = entry.value.display() + (" C" if entry.kind is Kind.TEMP else "")
     cells = [
         Text(str(entry.id), justify="right"),
         Text(short_day(entry.day)),
-        Text(entry.time or ""),
         Text(kind_label(entry.kind)),
-        literal(value),
-        Text(",".join(entry.flags)),
-        literal(entry.by),
+        clipped(literal(value), VALUE_WIDTH),
     ]
     for cell in cells:
         cell.stylize(gone)
-    return cells + [status_cell(entry, by_id), literal(entry.note)]
+    return cells + [
+        status_cell(entry, by_id),
+        Text(entry.time or ""),
+        Text(",".join(entry.flags)),
+        literal(entry.by),
+        clipped(literal(entry.note), NOTE_WIDTH),
+    ]
+
+
+def clipped(text: Text, width: int) -> Text:
+    text.truncate(width, overflow="ellipsis")
+    return text
 
 
 class EntriesTable(DataTable):

@@ -9,10 +9,14 @@ from caseload.tui.cycle_view import STRIP_ROWS, CycleView
 
 DAY_WIDTH = 2
 LABEL_WIDTH = 6
-LEGEND = (
-    "flow ▁ spotting ▃ light ▅ moderate ▇ heavy · mucus 0 dry … 5 stretchy · LH/hCG + or - "
-    "(a number: the level) · scan: lead follicle mm"
-)
+LEGEND = "flow ▁▃▅▇ spotting to heavy · mucus 0 dry to 5 stretchy · LH, hCG + - or level · scan: lead mm"
+
+
+def _labelled(day: int, today: int | None) -> bool:
+    """Odd days and today: two-digit numbers in adjacent columns would run together."""
+    if today is not None and abs(day - today) <= 1:
+        return day == today
+    return day % 2 == 1
 
 
 class MarkerStrip(DataTable):
@@ -29,8 +33,8 @@ class MarkerStrip(DataTable):
             return
         self.add_column(Text("day", style="dim"), width=LABEL_WIDTH, key="label")
         for day in range(1, view.last_day + 1):
-            mark_today = view.today_day == day
-            label = Text(f"{day:>2}"[-DAY_WIDTH:], style="bold reverse" if mark_today else "dim")
+            shown = f"{day:<2}" if _labelled(day, view.today_day) else ""
+            label = Text(shown, style="bold reverse" if view.today_day == day else "dim")
             self.add_column(label, width=DAY_WIDTH, key=str(day))
         for row in STRIP_ROWS:
             marks = view.strip.get(row, {})

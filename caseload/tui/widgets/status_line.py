@@ -18,6 +18,9 @@ def severity_counts(lines: tuple[CaseloadLine, ...]) -> dict[Severity, int]:
     return counts
 
 
+NAME_WIDTH = 18
+
+
 class StatusLine(Static):
     """Reads the app's caseload and scope (mine/all) and redraws when either changes."""
 
@@ -30,14 +33,14 @@ class StatusLine(Static):
         actor = app.gate.actor
         text = Text(long_day(app.gate.today), style="bold")
         if actor is not None:
-            text.append("  ")
-            text.append_text(literal(actor.staff.name[:24]))
+            text.append(" ")
+            text.append_text(literal(actor.staff.name[:NAME_WIDTH]))
             text.append(f" ({actor.role.value})", style="dim")
         lines = app.scoped_roster()
         counts = severity_counts(lines)
-        text.append("  │ " + ("my patients " if app.mine else "all patients ") + f"{len(lines)} │ ", style="dim")
+        text.append(" │ " + ("mine " if app.mine else "all ") + f"{len(lines)} │", style="dim")
         for severity in Severity:
             n = counts[severity]
+            text.append(" ")
             text.append(f"{severity.value} {n}", style=app.tone(severity) if n else "dim")
-            text.append("  ")
         self.update(text)

@@ -1,0 +1,96 @@
+"""The clinic's protocol file: TOML text checked setting by setting into a `Protocol`.
+
+Layout: flat `name = value` lines, one per setting to override; everything left out keeps its
+default. Every refusal is one line naming the file, the setting, the value and what is accepted.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass, fields, replace
+
+from caseload.core.parse import InputError, one_line
+from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+
+LAYOUT = "flat 'name = value' lines, one per setting to override (e.g. fever_c = 38.0); '#' starts a comment"
+# (lower, upper): settings that must not cross, or a rule could never fire or fires for everyone.
+ORDERED = (
+    ("window_approaching_p", "window_open_p"),
+    ("figo_frequent_below", "figo_infrequent_above"),
+    ("hcg_pair_min_hours", "hcg_pair_max_hours"),
+    ("mature_follicle_mm", "trigger_follicle_mm"),
+)
+FIELDS = {f.name: f for f in fields(Protocol)}
+
+
+@dataclass(frozen=True)
+class SettingRow:
+    """One setting as `protocol show` lists it."""
+
+    name: str
+    value: float | int
+    default: float | int
+    lo: float
+    hi: float
+    source: str
+    doc: str
+
+    @property
+    def overridden(self) -> bool:
+        return self.value != self.default
+
+
+def _shown(value) -> str:
+    if isinstance(value, str):
+        return '"' + one_line(value) + '"'
+    if isinstance(value, dict):
+        return "{...}"
+    return one_line(str(value).lower() if isinstance(value, bool) else str(value))
+
+
+def _checked(name: str, key: str, value) -> float | int:
+    field = FIELDS[key]
+    lo, hi = field.metadata["lo"], field.metadata["hi"]
+    accepted = f"{lo:g}-{hi:g}"
+    whole = isinstance(field.default, int)
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        kind = "whole number" if whole else "number"
+        raise InputError(f"{name}: {key} = {_shown(value)} is not a {kind}: use a {kind} in {accepted}")
+    if whole and not isinstance(value, int):
+        raise InputError(f"{name}: {key} = {_shown(value)} is not a whole number: use a whole number in {accepted}")
+    if not lo <= value <= hi:
+        raise InputError(f"{name}: {key} = {_shown(value)} is outside {accepted}")
+    return value if whole else float(value)
+
+
+def parse_protocol(text: str, name: str) -> Protocol:
+    """The protocol a file's text sets, or InputError with one line; `name` prefixes the message."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise InputError(f"{name}: not valid TOML ({one_line(str(err))}): write {LAYOUT}") from None
+    values = {}
+    for key, value in data.items():
+        if isinstance(value, dict):
+            raise InputError(f"{name}: [{one_line(key)}] is a table: write {LAYOUT}")
+        if key not in FIELDS:
+            known = ", ".join(sorted(FIELDS))
+            raise InputError(f"{name}: unknown setting '{one_line(key)}': known settings are {known}")
+        values[key] = _checked(name, key, value)
+    protocol = replace(DEFAULT_PROTOCOL, **values)
+    for lower, upper in ORDERED:
+        if getattr(protocol, lower) > getattr(protocol, upper):
+            raise InputError(
+                f"{name}: {lower} = {getattr(protocol, lower):g} is above {upper} = {getattr(protocol, upper):g}: "
+                f"{lower} must not be above {upper}"
+            )
+    return protocol
+
+
+def setting_rows(protocol: Protocol) -> list[SettingRow]:
+    """Every setting in declaration order, with the value in use, its default and its source."""
+    return [
+        SettingRow(f.name, getattr(protocol, f.name), f.default, f.metadata["lo"], f.metadata["hi"],
+                   f.metadata["source"], f.metadata["doc"])
+        for f in fields(Protocol)
+    ]  # fmt: skip

@@ -1,0 +1,60 @@
+"""De-identifying a computed summary: patients become keyed pseudonyms, names leave free text.
+
+Only patients are de-identified. Staff ids stay: they are the clinic's own staff, and a
+supervisor's review of workload needs them. The pseudonym function itself (a keyed hash) is
+supplied by the caller, who holds the store's secret.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Callable, Iterable
+from dataclasses import replace
+
+from caseload.core.model import Patient
+from caseload.reports.model import PatientRef, WeeklySummary
+from caseload.reports.summary import count_events, count_reasons, event_order, gap_order, pregnancy_order
+
+REMOVED = "[removed]"
+BIRTH_DATE_FORMATS = ("%Y-%m-%d", "%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y")
+
+
+def text_scrubber(patients: Iterable[Patient]) -> Callable[[str], str]:
+    """Remove every patient's name, each part of it, and their birth date from a free text."""
+    words: set[str] = set()
+    for p in patients:
+        words.add(p.name)
+        words.update(part for part in re.split(r"[\s,]+", p.name) if len(part) >= 2)
+        words.update(p.born.strftime(f) for f in BIRTH_DATE_FORMATS)
+    if not words:
+        return lambda text: text
+    alternatives = "|".join(re.escape(w) for w in sorted(words, key=len, reverse=True))
+    pattern = re.compile(rf"(?<!\w)(?:{alternatives})(?!\w)", re.IGNORECASE)
+    return lambda text: pattern.sub(REMOVED, text)
+
+
+def deidentified(summary: WeeklySummary, pseudonym: Callable[[str], str],
+                 scrub: Callable[[str], str]) -> WeeklySummary:
+    """The same summary with every patient as a pseudonym and no names in free text."""
+
+    def ref(p: PatientRef) -> PatientRef:
+        return PatientRef(pseudonym(p.id), None)
+
+    c, q = summary.clinical, summary.quality
+    events = tuple(sorted((replace(e, patient=ref(e.patient)) for e in c.events), key=event_order))
+    clinical = replace(
+        c,
+        counts=count_events(events),
+        events=events,
+        pregnancies=tuple(sorted((replace(p, patient=ref(p.patient)) for p in c.pregnancies), key=pregnancy_order)),
+    )
+    changes = tuple(replace(ch, patient=ref(ch.patient), reason=scrub(ch.reason)) for ch in q.changes)
+    reasons, reasons_total = count_reasons(changes)
+    quality = replace(
+        q,
+        gaps=tuple(sorted((replace(g, patient=ref(g.patient)) for g in q.gaps), key=gap_order)),
+        changes=changes,
+        reasons=reasons,
+        reasons_total=reasons_total,
+    )
+    return replace(summary, deidentified=True, clinical=clinical, quality=quality)

@@ -1,0 +1,220 @@
+"""The phone line's quick log: patient, kind, value, Enter. Everything is checked as it is typed.
+
+The day defaults to today (also "yesterday", "-2", or a date); time, flags and a note are optional.
+A second temperature on the same day offers a correction of the first instead of failing; the
+dialog stays open after a save, so a caller's temperature and bleed go in one after the other.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Horizontal, Vertical
+from textual.message import Message
+from textual.screen import ModalScreen
+from textual.suggester import Suggester
+from textual.widgets import Footer, Input, Label, Static
+
+from caseload.core.model import Entry, Kind
+from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_day, parse_entry
+from caseload.services.entries import Logged, amend_entry, log_entry, patient_entries
+from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
+from caseload.tui.widgets.patient_picker import PatientPicker
+from caseload.tui.words import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, literal, match_kind, short_day
+from caseload.tui.writes import logged_summary
+
+KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
+DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
+
+
+@dataclass(frozen=True)
+class SameDayReading:
+    """The patient already has a counting temperature that day."""
+
+    existing: Entry
+    value: str
+
+
+class KindSuggester(Suggester):
+    """Completes a KIND word, label or alias from its first letters, commonest kinds first."""
+
+    async def get_suggestion(self, value: str) -> str | None:
+        return complete_kind(value)
+
+
+def log_or_find_reading(ctx, patient_id: str, kind: Kind, value: str, on: str, at, flags, note) -> Logged | SameDayReading:
+    """Log the entry, unless it is a temperature on a day that already has one: then say which."""
+    if kind is Kind.TEMP:
+        day = parse_day(on, ctx.today)
+        same = [e for e in patient_entries(ctx, patient_id) if e.current and e.kind is Kind.TEMP and e.day == day]
+        if same:
+            return SameDayReading(same[0], value)
+    return log_entry(ctx, patient_id, kind.value, value, on, at, flags, note)
+
+
+class QuickLogScreen(ModalScreen[None]):
+    """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
+
+    CSS_PATH = "quick_log.tcss"
+    BINDINGS = [
+        Binding("escape", "dismiss", "Close", id="quick_log.close"),
+        Binding("ctrl+s", "save", "Save", id="quick_log.save"),
+    ]
+
+    class Done(Message):
+        def __init__(self, outcome: Logged | SameDayReading) -> None:
+            super().__init__()
+            self.outcome = outcome
+
+    class Refused(Message):
+        def __init__(self, reason: str) -> None:
+            super().__init__()
+            self.reason = reason
+
+    def __init__(self, patient_id: str | None = None, settled: bool = False) -> None:
+        super().__init__()
+        self._patient_id = patient_id
+        self._settled = settled  # opened from a record: the patient is not in question
+        self._saving = False
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="quick-log"):
+            yield Label("Log a call", classes="dialog-title")
+            with Horizontal(classes="row"):
+                yield Label("Patient", classes="field")
+                yield PatientPicker(self.app.roster, self._patient_id, id="picker")
+            with Horizontal(classes="row"):
+                yield Label("Kind", classes="field")
+                yield Input(placeholder="temp, bleed…", id="kind", suggester=KindSuggester(), compact=True)
+                yield Label("Value", classes="field")
+                yield Input(placeholder="", id="value", compact=True)
+            with Horizontal(classes="row"):
+                yield Label("Day", classes="field")
+                yield Input("today", id="day", compact=True)
+                yield Label("Time", classes="field")
+                yield Input(placeholder="HH:MM", id="time", compact=True)
+                yield Label("Flags", classes="field")
+                yield Input(placeholder="", id="flags", compact=True)
+            with Horizontal(classes="row"):
+                yield Label("Note", classes="field")
+                yield Input(placeholder="optional", id="note", compact=True)
+            yield Static("", id="check", classes="check")
+            yield Static("", id="result")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        picker = self.query_one(PatientPicker)
+        # From the list the highlighted patient is offered selected: Enter keeps it, typing replaces it.
+        self.query_one("#kind" if picker.patient and self._settled else "#patient", Input).focus()
+        self._check()
+
+    def _text(self, field: str) -> str:
+        return self.query_one(f"#{field}", Input).value
+
+    def _parsed(self) -> ParsedEntry:
+        kind = match_kind(self._text("kind"))
+        if kind is None:
+            typed = self._text("kind").strip()
+            raise InputError(f"kind '{one_line(typed)}' not understood: use {KINDS_HINT}" if typed else f"type a kind: {KINDS_HINT}")
+        return parse_entry(kind, self._text("value"), self.app.gate.today, on=self._text("day") or "today",
+                           at=self._text("time").strip() or None, flags=self._text("flags"), note=self._text("note"))
+
+    @on(Input.Changed)
+    def _check(self) -> None:
+        kind = match_kind(self._text("kind"))
+        value = self.query_one("#value", Input)
+        value.placeholder = WORDS_BY_KIND[kind].hint if kind else ""
+        flags = FLAGS_BY_KIND.get(kind, ()) if kind else ()
+        self.query_one("#flags", Input).placeholder = ",".join(flags) if flags else "none"
+        check = self.query_one("#check", Static)
+        try:
+            parsed = self._parsed()
+        except InputError as err:
+            check.set_class(True, "refused")
+            check.update(Text(f"Not yet: {err}"))
+            return
+        check.set_class(False, "refused")
+        shown = parsed.value.display() + (" C" if parsed.kind is Kind.TEMP else "")
+        text = Text(f"Ready: {kind_label(parsed.kind)} ", style="bold")
+        text.append_text(literal(shown))
+        text.append(f" on {short_day(parsed.day)}" + (f" at {parsed.time}" if parsed.time else ""))
+        if parsed.flags:
+            text.append(f" ({', '.join(parsed.flags)})")
+        text.append(" · Enter saves")
+        check.update(text)
+
+    @on(PatientPicker.Picked)
+    def _picked(self, message: PatientPicker.Picked) -> None:
+        if message.patient is not None:
+            self.query_one("#kind", Input).focus()
+
+    @on(Input.Submitted, "#kind")
+    def _kind_entered(self) -> None:
+        kind = match_kind(self._text("kind"))
+        if kind is not None:
+            self.query_one("#kind", Input).value = kind.value
+            self.query_one("#value", Input).focus()
+
+    @on(Input.Submitted)
+    def _detail_entered(self, event: Input.Submitted) -> None:
+        if event.input.id in DETAIL_FIELDS:
+            self.action_save()
+
+    def action_save(self) -> None:
+        picker = self.query_one(PatientPicker)
+        result = self.query_one("#result", Static)
+        if picker.patient is None:
+            result.update(Text("Pick a patient first: type an id or a name, then Enter.", style="bold"))
+            self.query_one("#patient", Input).focus()
+            return
+        try:
+            parsed = self._parsed()
+        except InputError:
+            return  # the check line already says why
+        if self._saving:
+            return
+        self._saving = True
+        result.update(Text("Saving…", style="dim"))
+        self.app.store_job(
+            self, log_or_find_reading, picker.patient.id, parsed.kind, self._text("value"),
+            self._text("day") or "today", self._text("time").strip() or None, self._text("flags"), self._text("note"),
+            reply=self.Done, refusal=self.Refused,
+        )
+
+    def on_quick_log_screen_refused(self, message: Refused) -> None:
+        self._saving = False
+        self.query_one("#result", Static).update(Text(f"Not saved: {message.reason}", style="bold"))
+
+    def on_quick_log_screen_done(self, message: Done) -> None:
+        self._saving = False
+        outcome = message.outcome
+        if isinstance(outcome, SameDayReading):
+            self._same_day(outcome)
+            return
+        self.query_one("#result", Static).update(Text(logged_summary(outcome)))
+        for field in ("kind", "value", "time", "flags", "note"):
+            self.query_one(f"#{field}", Input).value = ""
+        self.query_one("#kind", Input).focus()
+        self.app.store_changed()
+
+    def _same_day(self, found: SameDayReading) -> None:
+        e = found.existing
+        line = f"{e.patient_id} already has {e.value.display()} C on {short_day(e.day)} (entry #{e.id})"
+        if not self.app.gate.may("entry.amend"):
+            self.query_one("#result", Static).update(Text(f"Not saved: {line}; a nurse can replace it with a correction."))
+            return
+
+        def replace(correction: Correction | None) -> None:
+            if correction is None:
+                self.query_one("#result", Static).update(Text(f"Not saved: {line}, kept as it is."))
+                return
+            self._saving = True
+            self.app.store_job(self, amend_entry, e.id, correction.value, correction.reason,
+                               reply=self.Done, refusal=self.Refused)
+
+        dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?")
+        self.app.push_screen(dialog, replace)

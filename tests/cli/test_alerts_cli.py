@@ -1,0 +1,136 @@
+"""The alert and protocol commands through click's runner: output, JSON keys, refusals with exit 1."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from click.testing import CliRunner
+
+from caseload.cli import main
+
+TODAY = "2026-12-01"
+JSON_KEYS = {"id", "patient", "kind", "severity", "state", "raised_on", "due", "message", "evidence", "source",
+             "rule", "handled_by", "handled_at", "note", "snooze_until"}  # fmt: skip
+
+
+@pytest.fixture
+def run(tmp_path):
+    db = str(tmp_path / "cli.db")
+    runner = CliRunner()
+
+    def invoke(*args):
+        return runner.invoke(main, ["--db", db, "--today", TODAY, *args], catch_exceptions=False)
+
+    return invoke
+
+
+@pytest.fixture
+def clinic(run):
+    assert run("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
+    assert run("staff", "add", "nell", "--name", "Nell Nurse", "--role", "nurse").exit_code == 0
+    assert run("staff", "add", "phil", "--name", "Phil Phone", "--role", "phone").exit_code == 0
+    assert run("patient", "add", "P0001", "--name", "Pia Test", "--born", "1991-04-02", "--nurse", "nell").exit_code == 0
+    done = run("--as", "phil", "log", "P0001", "temp", "38.4", "--on", "yesterday")
+    assert "Raised: fever (today)" in done.output  # 38.0 C or more (common practice)
+    return run
+
+
+def refused(result, fragment: str) -> None:
+    assert result.exit_code == 1
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and fragment in lines[0], result.stderr
+
+
+def test_alerts_json_has_the_contract_keys(clinic):
+    (alert,) = json.loads(clinic("alerts", "--json").output)
+    assert JSON_KEYS <= alert.keys()
+    assert (alert["patient"], alert["kind"], alert["severity"], alert["state"]) == ("P0001", "fever", "today", "open")
+    assert alert["evidence"] == {"day": "2026-11-30", "celsius": 38.4, "threshold_c": 38.0, "flags": []}
+    assert alert["source"] == "common practice" and alert["clinical"] is True
+
+
+def test_alerts_table_and_filters(clinic):
+    table = clinic("alerts")
+    assert table.exit_code == 0 and "fever" in table.output and "Supports, does not replace" in table.output
+    assert json.loads(clinic("alerts", "--json", "--kind", "logging-gap").output) == []
+    assert len(json.loads(clinic("alerts", "--json", "--nurse", "nell").output)) == 1
+    assert clinic("alerts", "--kind", "fevers").exit_code == 2
+
+
+def test_refresh_prints_what_it_did(clinic):
+    result = clinic("alerts", "--refresh")
+    assert result.exit_code == 0 and "Refreshed 1 patients: 0 alerts raised or escalated, 0 auto-resolved." in result.output
+    quiet = clinic("alerts", "--refresh", "--json")
+    assert json.loads(quiet.stdout)[0]["kind"] == "fever" and "Refreshed 1 patients" in quiet.stderr
+
+
+def test_ack_snooze_resolve(clinic):
+    done = clinic("--as", "nell", "ack", "1", "--note", "called: flu")
+    assert done.exit_code == 0 and "Alert 1 (P0001 fever) acknowledged by nell." in done.output
+    snoozed = clinic("--as", "nell", "snooze", "1", "--until", "+2", "--note", "recheck Thursday")
+    assert "snoozed until 2026-12-03 by nell" in snoozed.output
+    (alert,) = json.loads(clinic("alerts", "--json", "--state", "all").output)
+    assert (alert["state"], alert["snooze_until"], alert["note"]) == ("snoozed", "2026-12-03", "recheck Thursday")
+    assert clinic("--as", "nell", "resolve", "1", "--note", "recovered").exit_code == 0
+    refused(clinic("--as", "nell", "ack", "1", "--note", "x"), "alert 1 is resolved (by nell): nothing left to do")
+
+
+@pytest.mark.parametrize(
+    "args, fragment",
+    [
+        (("--as", "phil", "ack", "1", "--note", "x"), "fever is a clinical alert: a nurse, supervisor or admin handles it"),
+        (("--as", "nell", "ack", "1"), "fever is a clinical alert: say what was done with --note"),
+        (("--as", "nell", "snooze", "1", "--until", "2026-11-30", "--note", "x"), "is not after today"),
+        (("--as", "nell", "resolve", "7", "--note", "x"), "no alert '7'"),
+    ],
+)
+def test_handling_refusals_exit_1_and_change_nothing(clinic, args, fragment):
+    before = clinic("alerts", "--json", "--state", "all").output
+    refused(clinic(*args), fragment)
+    assert clinic("alerts", "--json", "--state", "all").output == before
+
+
+def test_protocol_show_lists_every_setting_with_default_and_source(clinic):
+    shown = clinic("protocol", "show")
+    assert shown.exit_code == 0 and "Protocol file: none; the defaults are in use." in shown.output
+    assert "short_luteal_max_days" in shown.output and "ASRM 2021" in shown.output
+    assert "TOML layout: flat 'name = value' lines" in shown.output
+
+
+def test_protocol_check_and_use(clinic, tmp_path):
+    good = tmp_path / "clinic.toml"
+    good.write_text("fever_c = 38.5\n", encoding="utf-8")
+    checked = clinic("protocol", "check", str(good))
+    assert checked.exit_code == 0 and "valid; overrides fever_c = 38.5." in checked.output
+    refused(clinic("--as", "nell", "protocol", "use", str(good)), "may not protocol set")
+    used = clinic("protocol", "use", str(good))
+    assert used.exit_code == 0 and "1 auto-resolved" in used.output  # 38.4 C is no fever at 38.5
+    assert "38.5 *" in clinic("protocol", "show").output
+
+
+@pytest.mark.parametrize(
+    "text, fragment",
+    [
+        ("fever_c = 41\n", "fever_c = 41 is outside 37.5-39.5"),
+        ("fever = 38\n", "unknown setting 'fever': known settings are"),
+        ("fever_c = \"high\"\n", 'fever_c = "high" is not a number'),
+        ("fever_c 38\n", "not valid TOML"),
+    ],
+)
+def test_protocol_check_refuses_a_bad_file_in_one_line(clinic, tmp_path, text, fragment):
+    bad = tmp_path / "protocol.toml"
+    bad.write_text(text, encoding="utf-8")
+    refused(clinic("protocol", "check", str(bad)), f"{bad}: {fragment}")
+    refused(clinic("protocol", "use", str(bad)), fragment)
+
+
+def test_a_file_gone_bad_is_shown_and_the_defaults_keep_working(clinic, tmp_path):
+    path = tmp_path / "clinic.toml"
+    path.write_text("fever_c = 37.8\n", encoding="utf-8")
+    assert clinic("protocol", "use", str(path)).exit_code == 0
+    path.write_text("fever_c = 99\n", encoding="utf-8")
+    shown = clinic("protocol", "show")
+    assert shown.exit_code == 0 and "REFUSED" in shown.output and "fever_c = 99 is outside 37.5-39.5" in shown.output
+    listed = clinic("alerts")
+    assert listed.exit_code == 0 and "the default protocol is in use" in listed.stderr

@@ -1,0 +1,189 @@
+"""The alert lifecycle decided in the core: raise once per key, hold, escalate, reopen, auto-resolve with a reason."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from datetime import date, timedelta
+
+import pytest
+
+from caseload.core.alerts import CLINICAL_KINDS, ROUTINE_KINDS, AlertKind, Candidate, Facts, is_clinical
+from caseload.core.alerts.lifecycle import effective, ended_reason, parse_future_day, plan_sync
+from caseload.core.model import Alert, AlertState, PatientStatus, Severity
+from caseload.core.parse import InputError
+from caseload.core.settings import DEFAULT_PROTOCOL
+from tests.core.alert_charts import Chart, day, of, patient, run
+
+K = AlertKind
+TODAY = date(2026, 12, 1)
+
+
+def stored(c: Candidate, state: AlertState = AlertState.OPEN, alert_id: int = 1, **changes) -> Alert:
+    alert = Alert(alert_id, c.patient_id, c.kind, c.key, c.severity, TODAY, c.due, c.message, c.evidence,
+                  c.rule, c.source, state)
+    return replace(alert, **changes)
+
+
+def facts(chart: Chart, today: date, who=None) -> tuple[Facts, list[Candidate]]:
+    who = who or patient()
+    analysis, found = run(chart, today, who)
+    return Facts(who, analysis, sorted(chart.obs, key=lambda o: o.day), today, DEFAULT_PROTOCOL), found
+
+
+def follicular(cd: int):
+    chart = Chart()
+    current = chart.history([28] * 6)
+    chart.bleed(current)
+    chart.temps(current, day(current, cd))
+    return chart, current
+
+
+def test_routine_and_clinical_kinds():
+    assert ROUTINE_KINDS == {"logging-gap"}
+    assert CLINICAL_KINDS == {k.value for k in AlertKind} - {"logging-gap"}
+    assert is_clinical("fever") and not is_clinical("logging-gap") and is_clinical("a-kind-added-later")
+
+
+def test_new_raisable_candidates_are_raised_and_held_ones_are_not():
+    chart, current = follicular(3)  # window-approaching held only (0.2 four days ahead)
+    f, found = facts(chart, day(current, 3))
+    assert [c.raisable for c in found] == [False]
+    assert plan_sync([], found, f).empty
+
+
+def test_a_resolved_key_is_never_raised_again():
+    chart, current = follicular(9)
+    f, found = facts(chart, day(current, 9))
+    (c,) = of(found, K.WINDOW_OPEN)
+    assert plan_sync([], found, f).raises == (c,)
+    done = stored(c, AlertState.RESOLVED, handled_by="nurse1", note="told the couple")
+    assert plan_sync([done], found, f).empty
+
+
+def test_an_acknowledged_alert_stays_while_the_condition_holds():
+    chart, current = follicular(9)
+    f, found = facts(chart, day(current, 9))
+    ack = stored(of(found, K.WINDOW_OPEN)[0], AlertState.ACKNOWLEDGED)
+    assert plan_sync([ack], found, f).empty
+
+
+def test_a_window_held_through_a_dip_below_0_5():
+    chart, current = follicular(9)
+    f, found = facts(chart, day(current, 9))
+    raised = stored(of(found, K.WINDOW_OPEN)[0])
+    chart, _ = follicular(16)  # P(fertile) today 0.48: below the opening level, above 0.2
+    f16, found16 = facts(chart, day(current, 16))
+    assert [c.raisable for c in of(found16, K.WINDOW_OPEN)] == [False]
+    assert plan_sync([raised], found16, f16).empty
+
+
+def test_auto_resolved_when_the_shift_is_confirmed():
+    chart, current = follicular(10)
+    f, found = facts(chart, day(current, 10))
+    raised = stored(of(found, K.WINDOW_OPEN)[0])
+    chart.temps(day(current, 11), day(current, 17), high_from=day(current, 15))
+    f17, found17 = facts(chart, day(current, 17))
+    (alert, reason), = plan_sync([raised], found17, f17).resolutions
+    assert alert is raised and reason == f"auto: thermal shift confirmed on {day(current, 17).isoformat()}"
+
+
+def test_auto_resolved_when_a_period_starts():
+    chart, current = follicular(21)
+    f, found = facts(chart, day(current, 21))
+    raised = stored(of(found, K.NO_THERMAL_SHIFT)[0])
+    nxt = day(current, 30)
+    chart.bleed(nxt)
+    f2, found2 = facts(chart, nxt)
+    (_, reason), = plan_sync([raised], found2, f2).resolutions
+    assert reason == f"auto: a period started on {nxt.isoformat()}"
+
+
+def test_logging_gap_auto_resolved_by_an_entry_and_escalated_over_the_fertile_days():
+    chart = Chart()
+    current = chart.history([28] * 6)
+    chart.bleed(current, 2)
+    f6, found6 = facts(chart, day(current, 6))
+    info = stored(of(found6, K.LOGGING_GAP)[0])
+    assert info.severity is Severity.INFO
+    f9, found9 = facts(chart, day(current, 9))
+    (alert, worse), = plan_sync([info], found9, f9).escalations
+    assert worse.key == info.key and worse.severity is Severity.SOON
+    chart.temps(day(current, 9), day(current, 9))
+    f10, found10 = facts(chart, day(current, 10))
+    (_, reason), = plan_sync([info], found10, f10).resolutions
+    assert reason == f"auto: an entry was logged for {day(current, 9).isoformat()}"
+
+
+def test_no_downgrade_and_no_escalation_from_a_held_candidate():
+    chart, current = follicular(9)
+    f, found = facts(chart, day(current, 9))
+    c = of(found, K.WINDOW_OPEN)[0]
+    urgent = stored(c, severity=Severity.URGENT)
+    assert plan_sync([urgent], found, f).empty
+    low = stored(replace(c, raisable=False), severity=Severity.INFO)
+    assert plan_sync([low], [replace(c, raisable=False)], f).empty
+
+
+def test_a_snooze_whose_day_has_come_is_reopened():
+    chart, current = follicular(9)
+    today = day(current, 9)
+    f, found = facts(chart, today)
+    c = of(found, K.WINDOW_OPEN)[0]
+    later = stored(c, AlertState.SNOOZED, snooze_until=today + timedelta(days=1))
+    due = stored(c, AlertState.SNOOZED, snooze_until=today)
+    assert plan_sync([later], found, f).empty
+    assert plan_sync([due], found, f).reopens == (due,)
+    assert effective(due, today).state is AlertState.OPEN and effective(later, today).state is AlertState.SNOOZED
+
+
+@pytest.mark.parametrize(
+    "status, reason",
+    [(PatientStatus.DISCHARGED, "auto: patient discharged"), (PatientStatus.PAUSED, "auto: patient paused"),
+     (PatientStatus.PREGNANT, "auto: patient recorded pregnant")],
+)  # fmt: skip
+def test_status_changes_end_window_alerts(status, reason):
+    chart, current = follicular(9)
+    f, found = facts(chart, day(current, 9))
+    raised = stored(of(found, K.WINDOW_OPEN)[0])
+    f2, found2 = facts(chart, day(current, 9), patient(status))
+    assert plan_sync([raised], found2, f2).resolutions == ((raised, reason),)
+
+
+def test_irregular_cycles_resolved_when_the_classification_changes():
+    chart = Chart()
+    start = chart.history([26, 30, 34, 28])
+    chart.bleed(start)
+    f, found = facts(chart, start + timedelta(days=1))
+    raised = stored(of(found, K.IRREGULAR_CYCLES)[0])
+    later = chart.history([28] * 12, start)  # the 12-cycle window now holds regular cycles only
+    chart.bleed(later)
+    f2, found2 = facts(chart, later + timedelta(days=1))
+    assert not of(found2, K.IRREGULAR_CYCLES)
+    (_, reason), = plan_sync([raised], found2, f2).resolutions
+    assert reason == "auto: cycles now classify as frequency normal, regularity regular (FIGO 2018)"
+
+
+def test_a_voided_fever_reading_resolves_with_the_correction_reason():
+    chart, current = follicular(5)
+    chart.temp(day(current, 6), 38.4)
+    f, found = facts(chart, day(current, 6))
+    raised = stored(of(found, K.FEVER)[0])
+    chart.obs = [o for o in chart.obs if not (o.value.number == 38.4)]
+    f2, found2 = facts(chart, day(current, 6))
+    assert ended_reason(raised, f2) == "the entries behind it were corrected or voided"
+
+
+@pytest.mark.parametrize("text, days", [("tomorrow", 1), ("+3", 3), ("2026-12-31", 30), (" +90 ", 90)])
+def test_parse_future_day(text, days):
+    assert parse_future_day(text, TODAY) == TODAY + timedelta(days=days)
+
+
+@pytest.mark.parametrize(
+    "text, fragment",
+    [("today", "not understood"), ("2026-12-01", "is not after today"), ("2026-11-20", "is not after today"),
+     ("+91", "snooze at most 90 days"), ("2027-12-01", "365 days away"), ("2026-02-30", "not understood"), ("", "not understood")],
+)  # fmt: skip
+def test_parse_future_day_refusals_are_one_line(text, fragment):
+    with pytest.raises(InputError) as err:
+        parse_future_day(text, TODAY)
+    assert fragment in str(err.value) and "\n" not in str(err.value)

@@ -1,0 +1,444 @@
+"""Each alert rule on invented charts: one chart that must raise it, and a near miss that must not.
+
+Charts are noiseless (tests/core/alert_charts.py): six regular 28-day cycles with a 14-day luteal
+phase, then the cycle under test. Each check names the source of its threshold.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from datetime import timedelta
+
+import pytest
+
+from caseload.core.alerts import CAUTION, RULES, AlertKind
+from caseload.core.model import Kind, PatientStatus, Plan, Severity, Value
+from caseload.core.settings import DEFAULT_PROTOCOL
+from tests.core.alert_charts import Chart, at, day, kinds, of, patient, run
+
+K = AlertKind
+
+
+def regular(lengths=(28,) * 6, temps: bool = True, bleed_days: int = 5) -> tuple[Chart, object]:
+    chart = Chart()
+    current = chart.history(list(lengths), temps=temps)
+    chart.bleed(current, bleed_days)
+    return chart, current
+
+
+def follicular(cd: int, temps: bool = True):
+    """Today on cycle day `cd` of a cycle with low readings every day so far."""
+    chart, current = regular(temps=temps)
+    if temps:
+        chart.temps(current, day(current, cd))
+    return chart, day(current, cd)
+
+
+# --- window-approaching, window-open (P(fertile): six-day window of Wilcox 1995; 0.2/0.5: common practice)
+
+
+def test_window_approaching_when_the_chance_reaches_0_2_within_three_days():
+    chart, today = follicular(4)
+    _, found = run(chart, today)
+    (alert,) = of(found, K.WINDOW_APPROACHING)
+    assert alert.raisable and alert.severity is Severity.SOON
+    assert alert.evidence["p_fertile"] >= 0.2 and alert.due == today + timedelta(days=3)
+    assert alert.key == f"P0001:window-approaching:{chart.starts[-1].isoformat()}"
+
+
+def test_window_approaching_near_miss_a_day_earlier():
+    chart, today = follicular(3)  # 0.2 is reached four days ahead, not within three
+    _, found = run(chart, today)
+    assert K.WINDOW_APPROACHING not in kinds(found)
+
+
+def test_window_open_when_p_fertile_today_reaches_0_5():
+    chart, today = follicular(9)
+    analysis, found = run(chart, today)
+    assert analysis.prediction.daily[0].p_fertile >= 0.5
+    (alert,) = of(found, K.WINDOW_OPEN)
+    assert alert.raisable and alert.severity is Severity.TODAY and alert.due == today
+    assert K.WINDOW_APPROACHING not in kinds(found, raisable_only=False)  # open, no longer approaching
+
+
+def test_window_open_near_miss_the_day_before():
+    chart, today = follicular(8)
+    analysis, found = run(chart, today)
+    assert analysis.prediction.daily[0].p_fertile < 0.5
+    assert K.WINDOW_OPEN not in kinds(found) and K.WINDOW_APPROACHING in kinds(found)
+
+
+def test_window_open_on_an_lh_surge_with_no_shift_even_at_low_p():
+    chart, today = follicular(6)
+    _, before = run(chart, today)
+    assert K.WINDOW_OPEN not in kinds(before)
+    _, found = run(chart.lh(today), today)  # WHO Task Force 1980: ovulation follows the surge
+    (alert,) = of(found, K.WINDOW_OPEN)
+    assert alert.raisable and alert.evidence["lh_surge"] == today.isoformat()
+
+
+def test_an_lh_surge_without_temperatures_holds_the_window_to_the_day_after_ovulation():
+    chart, current = regular(temps=False)
+    surge = day(current, 12)
+    chart.lh(surge)
+    who = patient(temps=False)
+    assert K.WINDOW_OPEN in kinds(run(chart, surge + timedelta(days=2), who)[1])  # ovulation + 1 (ovum 12-24 h)
+    assert K.WINDOW_OPEN not in kinds(run(chart, surge + timedelta(days=4), who)[1], raisable_only=False)
+
+
+def test_window_alerts_end_with_a_confirmed_shift():
+    chart, current = regular()
+    today = day(current, 17)
+    chart.temps(current, today, high_from=day(current, 15))
+    analysis, found = run(chart, today)
+    assert analysis.current.shift.confirmed
+    assert not {K.WINDOW_OPEN, K.WINDOW_APPROACHING} & kinds(found, raisable_only=False)
+
+
+@pytest.mark.parametrize("status", [PatientStatus.PREGNANT, PatientStatus.PAUSED, PatientStatus.DISCHARGED])
+def test_no_window_alerts_once_pregnant_paused_or_discharged(status):
+    chart, today = follicular(10)
+    _, found = run(chart, today, patient(status=status))
+    assert not {K.WINDOW_OPEN, K.WINDOW_APPROACHING} & kinds(found, raisable_only=False)
+
+
+@pytest.mark.parametrize("plan", list(Plan))
+def test_every_plan_times_something_to_ovulation(plan):
+    chart, today = follicular(10)
+    assert K.WINDOW_OPEN in kinds(run(chart, today, patient(plan=plan))[1])
+
+
+# --- no-thermal-shift (grace of 3 days and 70% coverage: common practice; three-over-six rule, Marquette NFP)
+
+
+def test_no_thermal_shift_the_day_after_the_deadline():
+    chart, today = follicular(21)
+    analysis, found = run(chart, today)
+    latest = analysis.prediction.expected_ovulation_range[1]
+    assert today == latest + timedelta(days=4)  # past the 80% upper bound + 3 days
+    (alert,) = of(found, K.NO_THERMAL_SHIFT)
+    assert alert.raisable and alert.severity is Severity.SOON and alert.evidence["coverage"] == 1.0
+
+
+def test_no_thermal_shift_near_miss_on_the_deadline_day():
+    chart, today = follicular(20)
+    assert K.NO_THERMAL_SHIFT not in kinds(run(chart, today)[1], raisable_only=False)
+
+
+def test_no_thermal_shift_near_miss_a_shift_confirmed_a_day_before_the_deadline():
+    chart, current = regular()
+    today = day(current, 21)
+    chart.temps(current, today, high_from=day(current, 17))  # third high reading on day 19, deadline day 20
+    analysis, found = run(chart, today)
+    assert analysis.current.shift.confirmed_on == day(current, 19)
+    assert K.NO_THERMAL_SHIFT not in kinds(found, raisable_only=False)
+
+
+def test_no_thermal_shift_needs_readings_on_70_percent_of_days():
+    chart, current = regular()
+    today = day(current, 21)
+    chart.temps(current, today, skip={day(current, cd) for cd in range(2, 9)})  # 14 of 21 days: 67%
+    found = of(run(chart, today)[1], K.NO_THERMAL_SHIFT)
+    assert [c.raisable for c in found] == [False]  # held, should one have been raised, but not news
+
+
+@pytest.mark.parametrize("kind", [K.NO_THERMAL_SHIFT, K.MONOPHASIC_CYCLE, K.SUSTAINED_HIGH_TEMPS])
+def test_no_thermal_alerts_for_a_patient_not_charting_temperatures(kind):
+    scope = RULES[kind][0]
+    assert scope.needs_temps
+    chart, today = follicular(21)
+    assert kind not in kinds(run(chart, today, patient(temps=False))[1], raisable_only=False)
+
+
+# --- monophasic-cycle (70% coverage: common practice)
+
+
+def _monophasic(readings: int) -> tuple[Chart, object]:
+    chart = Chart()
+    start = chart.history([28] * 5)
+    chart.bleed(start)
+    skip = {day(start, cd) for cd in range(28, readings, -1)}
+    chart.temps(start, day(start, 28), skip=skip)
+    nxt = start + timedelta(days=28)
+    chart.bleed(nxt)
+    return chart, nxt + timedelta(days=1)
+
+
+def test_monophasic_cycle_with_readings_on_20_of_28_days():
+    chart, today = _monophasic(20)
+    (alert,) = of(run(chart, today)[1], K.MONOPHASIC_CYCLE)
+    assert alert.raisable and alert.evidence["coverage"] == pytest.approx(20 / 28, abs=0.001)
+
+
+def test_monophasic_cycle_near_miss_readings_on_19_of_28_days():
+    chart, today = _monophasic(19)  # 68%: too thin to call the cycle monophasic
+    assert K.MONOPHASIC_CYCLE not in kinds(run(chart, today)[1], raisable_only=False)
+
+
+def test_an_older_monophasic_cycle_is_held_but_not_raised():
+    chart, today = _monophasic(28)
+    later = today + timedelta(days=27)
+    chart.bleed(later)
+    found = of(run(chart, later)[1], K.MONOPHASIC_CYCLE)
+    assert [c.raisable for c in found] == [False]
+
+
+# --- irregular-cycles (FIGO 2018: variation up to 7 days at 26-41; frequency 24-38 days)
+
+
+def test_irregular_cycles_variation_8_days_at_34():
+    chart, today = regular((26, 30, 34, 28))
+    (alert,) = of(run(chart, today + timedelta(days=1))[1], K.IRREGULAR_CYCLES)
+    assert alert.key == "P0001:irregular-cycles:irregular" and alert.evidence["variation"] == 8
+
+
+def test_irregular_cycles_near_miss_variation_7_days_at_34():
+    chart, today = regular((26, 30, 33, 28))
+    assert K.IRREGULAR_CYCLES not in kinds(run(chart, today + timedelta(days=1))[1])
+
+
+def test_infrequent_cycles_are_referred_and_keyed_on_the_classification():
+    chart, today = regular((40, 41, 42, 40))  # median 40.5 > 38
+    (alert,) = of(run(chart, today + timedelta(days=1))[1], K.IRREGULAR_CYCLES)
+    assert alert.key == "P0001:irregular-cycles:infrequent" and "refer" in alert.message
+
+
+# --- short-luteal-phase (ASRM 2021: 10 days or fewer)
+
+
+def _luteal(days: int):
+    chart = Chart()
+    start = chart.history([28] * 5)
+    chart.cycle(start, 28, 28 - days)  # ovulation on day 28 - days: a luteal phase of `days`
+    nxt = start + timedelta(days=28)
+    chart.bleed(nxt)
+    return chart, nxt + timedelta(days=1)
+
+
+def test_short_luteal_phase_of_10_days():
+    chart, today = _luteal(10)
+    (alert,) = of(run(chart, today)[1], K.SHORT_LUTEAL_PHASE)
+    assert alert.raisable and alert.evidence["luteal_length"] == 10 and alert.source == "ASRM 2021"
+
+
+def test_short_luteal_phase_near_miss_11_days():
+    chart, today = _luteal(11)
+    assert K.SHORT_LUTEAL_PHASE not in kinds(run(chart, today)[1], raisable_only=False)
+
+
+# --- prolonged-bleeding (FIGO 2018: normal up to 8 days)
+
+
+@pytest.mark.parametrize("days, raised", [(9, True), (8, False)])
+def test_prolonged_bleeding_9_vs_8_days(days, raised):
+    chart = Chart()
+    start = chart.history([28] * 6)
+    chart.bleed(start, days)
+    found = run(chart, day(start, days))[1]
+    assert (K.PROLONGED_BLEEDING in kinds(found)) is raised
+    if raised:
+        assert of(found, K.PROLONGED_BLEEDING)[0].severity is Severity.TODAY
+
+
+# --- period-overdue (90% upper bound: common practice; first high + 17 days: ASRM 2021 luteal up to 17)
+
+
+def test_period_overdue_past_the_90_percent_upper_bound_without_temperatures():
+    chart, current = regular(temps=False)
+    who = patient(temps=False)
+    analysis, found = run(chart, day(current, 33), who)
+    assert analysis.prediction.next_period_range[1] == day(current, 33)
+    assert K.PERIOD_OVERDUE not in kinds(found)
+    (alert,) = of(run(chart, day(current, 34), who)[1], K.PERIOD_OVERDUE)
+    assert alert.evidence["days_late"] == 1 and "pregnancy test" in alert.message
+
+
+def test_period_overdue_counted_from_the_first_high_temperature():
+    chart, current = regular()
+    chart.temps(current, day(current, 40), high_from=day(current, 15))
+    protocol = replace(DEFAULT_PROTOCOL, overdue_after_shift_days=12)  # earlier than the upper bound
+    assert K.PERIOD_OVERDUE not in kinds(run(chart, day(current, 27), protocol=protocol)[1])
+    (alert,) = of(run(chart, day(current, 28), protocol=protocol)[1], K.PERIOD_OVERDUE)
+    assert alert.evidence["first_high"] == day(current, 15).isoformat()
+    assert alert.evidence["after_shift_limit"] == day(current, 27).isoformat()
+    assert alert.source.startswith("clinic protocol: overdue_after_shift_days = 12 (default 17)")
+
+
+def test_no_period_overdue_when_a_positive_test_is_logged():
+    chart, current = regular(temps=False)
+    chart.add(day(current, 30), Kind.HCG, Value(word="positive"))
+    assert K.PERIOD_OVERDUE not in kinds(run(chart, day(current, 36), patient(temps=False))[1])
+
+
+# --- sustained-high-temps (18 days: common practice, no published source)
+
+
+@pytest.mark.parametrize("cd, raised", [(32, True), (31, False)])
+def test_sustained_high_temps_18_vs_17_days(cd, raised):
+    chart, current = regular()
+    chart.temps(current, day(current, cd), high_from=day(current, 15))
+    analysis, found = run(chart, day(current, cd))
+    assert analysis.current.shift.days_above_coverline == cd - 14
+    assert (K.SUSTAINED_HIGH_TEMPS in kinds(found)) is raised
+
+
+# --- amenorrhoea (FIGO 2018 absent bleeding; 90 days from memory)
+
+
+@pytest.mark.parametrize("dry_days, raised", [(90, True), (89, False)])
+def test_amenorrhoea_90_vs_89_days(dry_days, raised):
+    chart, current = regular(temps=False)
+    last_bleed = day(current, 5)
+    found = run(chart, last_bleed + timedelta(days=dry_days), patient(temps=False))[1]
+    assert (K.AMENORRHOEA in kinds(found)) is raised
+
+
+def test_no_amenorrhoea_when_recorded_pregnant():
+    chart, current = regular(temps=False)
+    found = run(chart, day(current, 5) + timedelta(days=120), patient(PatientStatus.PREGNANT, temps=False))[1]
+    assert K.AMENORRHOEA not in kinds(found, raisable_only=False)
+
+
+# --- hcg-rise-low (Barnhart 2004: minimum 53% in 2 days; Morse 2012: 35%)
+
+
+def _hcg(first: float, second: float, hours: int = 48):
+    chart, current = regular()
+    taken = at(day(current, 28))
+    chart.hcg(taken, first).hcg(taken + timedelta(hours=hours), second)
+    return chart, (taken + timedelta(hours=hours)).date(), patient(PatientStatus.PREGNANT)
+
+
+@pytest.mark.parametrize(
+    "first, second, raised",
+    [
+        (100, 130, True),  # 30%: below Barnhart's 53% and below Morse's 35%
+        (100, 160, False),  # 60%: above both
+        (100, 153, False),  # exactly the 53% minimum meets it
+        (400, 300, True),  # falling
+    ],
+)
+def test_hcg_rise_48h_apart(first, second, raised):
+    chart, today, who = _hcg(first, second)
+    found = of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    assert bool(found) is raised
+    if raised:
+        assert found[0].severity is Severity.URGENT and found[0].evidence["rise_48h"] == round(second / first - 1, 4)
+
+
+def test_hcg_pair_24_h_apart_is_scaled_to_48_h():
+    chart, today, who = _hcg(100, 120, hours=24)  # 20% in a day: 44% per 48 h, below 53%
+    (alert,) = of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    assert alert.evidence["rise_48h"] == 0.44 and alert.evidence["hours"] == 24.0
+
+
+def test_hcg_pair_more_than_72_h_apart_is_not_compared():
+    chart, today, who = _hcg(100, 110, hours=96)
+    assert not of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+
+
+def test_morse_minimum_as_a_clinic_setting():
+    chart, today, who = _hcg(100, 145)  # 45%: low by Barnhart, enough by Morse 2012's 35%
+    assert of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    morse = replace(DEFAULT_PROTOCOL, hcg_min_rise_48h=0.35)
+    assert not of(run(chart, today, who, protocol=morse)[1], K.HCG_RISE_LOW)
+
+
+# --- multiple-follicles (Evans 2020: more than 2 mature follicles of 14 mm or more under 40)
+
+
+@pytest.mark.parametrize("follicles, raised", [((18, 16, 14), True), ((18, 16, 13.9), False), ((18, 16), False)])
+def test_multiple_follicles_3_vs_2_mature(follicles, raised):
+    chart, today = follicular(11)
+    chart.scan(today, *follicles)
+    found = of(run(chart, today, patient(plan=Plan.OVULATION_INDUCTION))[1], K.MULTIPLE_FOLLICLES)
+    assert bool(found) is raised
+    if raised:
+        assert found[0].key == f"P0001:multiple-follicles:{today.isoformat()}" and found[0].evidence["mature_count"] == 3
+
+
+def test_only_the_latest_scan_is_raised():
+    chart, today = follicular(12)
+    chart.scan(today - timedelta(days=2), 16, 15, 14).scan(today, 19, 17, 15)
+    found = of(run(chart, today, patient(plan=Plan.OVULATION_INDUCTION))[1], K.MULTIPLE_FOLLICLES)
+    assert sorted((c.evidence["scan_day"], c.raisable) for c in found) == [
+        ((today - timedelta(days=2)).isoformat(), False), (today.isoformat(), True)]
+
+
+# --- logging-gap (3 whole days: common practice)
+
+
+def _gap(today_cd: int):
+    """Entries on days 1 and 2 of the cycle, then none."""
+    chart, current = regular(bleed_days=2)
+    chart.temps(current, day(current, 2))
+    return chart, current, day(current, today_cd)
+
+
+def test_logging_gap_after_three_whole_days_without_an_entry():
+    chart, _, today = _gap(6)  # nothing on days 3, 4 and 5; today is not over
+    (alert,) = of(run(chart, today)[1], K.LOGGING_GAP)
+    assert alert.severity is Severity.INFO and alert.evidence["whole_days"] == 3
+    assert alert.key == f"P0001:logging-gap:{(today - timedelta(days=3)).isoformat()}"
+
+
+def test_logging_gap_near_miss_two_whole_days():
+    chart, _, today = _gap(5)
+    assert K.LOGGING_GAP not in kinds(run(chart, today)[1])
+
+
+def test_logging_gap_is_soon_once_it_covers_the_expected_fertile_days():
+    chart, current, today = _gap(9)  # days 3-8; the pattern expects fertile days from day 6
+    (alert,) = of(run(chart, today)[1], K.LOGGING_GAP)
+    assert alert.severity is Severity.SOON and alert.evidence["expected_fertile_days"][0] == day(current, 6).isoformat()
+
+
+def test_no_logging_gap_for_a_paused_patient():
+    chart, _, today = _gap(9)
+    assert K.LOGGING_GAP not in kinds(run(chart, today, patient(PatientStatus.PAUSED))[1], raisable_only=False)
+
+
+# --- fever (38.0 C: common practice)
+
+
+@pytest.mark.parametrize("celsius, raised", [(38.0, True), (37.9, False)])
+def test_fever_38_0_vs_37_9(celsius, raised):
+    chart, today = follicular(20)
+    chart.temp(today + timedelta(days=1), celsius, ("illness",))
+    found = of(run(chart, today + timedelta(days=1))[1], K.FEVER)
+    assert bool(found) is raised
+    if raised:
+        assert found[0].key == f"P0001:fever:{(today + timedelta(days=1)).isoformat()}"
+        assert "flag the reading" not in found[0].message  # already flagged as illness
+
+
+def test_an_unflagged_fever_asks_for_the_illness_flag_and_fevers_count_while_pregnant():
+    chart, today = follicular(5)
+    chart.temp(today + timedelta(days=1), 38.6)
+    (alert,) = of(run(chart, today + timedelta(days=1), patient(PatientStatus.PREGNANT))[1], K.FEVER)
+    assert "flag the reading as illness" in alert.message
+
+
+def test_a_fever_older_than_the_look_back_is_history():
+    chart, today = follicular(2)
+    chart.temp(today - timedelta(days=15), 38.5)
+    assert [c.raisable for c in of(run(chart, today)[1], K.FEVER)] == [False]
+
+
+# --- shared
+
+
+def test_discharged_patients_get_nothing():
+    chart, today = follicular(21)
+    chart.temp(today, 38.5)
+    assert run(chart, today, patient(PatientStatus.DISCHARGED))[1] == []
+
+
+def test_every_candidate_carries_rule_source_evidence_and_the_caution():
+    chart, today = follicular(21)
+    chart.temp(today, 38.5)
+    _, found = run(chart, today)
+    assert found
+    for c in found:
+        assert c.rule and c.source and c.evidence and c.message.endswith(".") and c.caution == CAUTION
+        assert c.key.startswith(f"P0001:{c.kind}:")

@@ -1,0 +1,69 @@
+"""The clinic protocol file: defaults, overrides, and one-line refusals of anything else."""
+
+from __future__ import annotations
+
+import pytest
+
+from caseload.core.parse import InputError
+from caseload.core.protocol_file import parse_protocol, setting_rows
+from caseload.core.settings import DEFAULT_PROTOCOL, protocol_fields
+
+
+def test_an_empty_file_keeps_every_default():
+    assert parse_protocol("# nothing overridden\n", "p.toml") == DEFAULT_PROTOCOL
+
+
+def test_defaults_carry_their_published_sources():
+    rows = {r.name: r for r in setting_rows(DEFAULT_PROTOCOL)}
+    assert rows["short_luteal_max_days"].value == 10 and rows["short_luteal_max_days"].source == "ASRM 2021"
+    assert rows["hcg_min_rise_48h"].value == 0.53 and rows["hcg_min_rise_48h"].source.startswith("Barnhart 2004")
+    assert rows["mature_follicle_mm"].value == 14.0 and rows["mature_follicle_mm"].source == "Evans 2020"
+    assert rows["figo_prolonged_bleed_above"].value == 8  # FIGO 2018: normal up to 8 days
+    assert rows["fever_c"].value == 38.0 and rows["fever_c"].source == "common practice"
+    assert not any(r.overridden for r in rows.values())
+    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [name for name, _, _ in protocol_fields()]
+
+
+def test_overrides_are_typed_and_marked():
+    protocol = parse_protocol("fever_c = 37.8\nmax_mature_follicles = 3\nhcg_min_rise_48h = 0.35\n", "p.toml")
+    assert protocol.fever_c == 37.8 and protocol.max_mature_follicles == 3 and protocol.hcg_min_rise_48h == 0.35
+    assert isinstance(protocol.max_mature_follicles, int)
+    assert {r.name for r in setting_rows(protocol) if r.overridden} == {"fever_c", "max_mature_follicles", "hcg_min_rise_48h"}
+
+
+def test_a_whole_number_is_accepted_for_a_decimal_setting():
+    protocol = parse_protocol("fever_c = 38\n", "p.toml")
+    assert protocol.fever_c == 38.0 and isinstance(protocol.fever_c, float)
+
+
+@pytest.mark.parametrize(
+    "text, message",
+    [
+        ("fever_c = 41\n", "protocol.toml: fever_c = 41 is outside 37.5-39.5"),
+        ("fever_c = \"hot\"\n", 'protocol.toml: fever_c = "hot" is not a number: use a number in 37.5-39.5'),
+        ("fever_c = true\n", "protocol.toml: fever_c = true is not a number: use a number in 37.5-39.5"),
+        ("logging_gap_days = 2.5\n", "protocol.toml: logging_gap_days = 2.5 is not a whole number: use a whole number in 1-14"),
+        ("window_approaching_p = 0.6\nwindow_open_p = 0.5\n",
+         "protocol.toml: window_approaching_p = 0.6 is above window_open_p = 0.5: window_approaching_p must not be above window_open_p"),
+        ("[alerts]\nfever_c = 38.0\n", "protocol.toml: [alerts] is a table: write flat 'name = value' lines"),
+    ],
+)  # fmt: skip
+def test_bad_values_are_refused_in_one_line(text, message):
+    with pytest.raises(InputError) as err:
+        parse_protocol(text, "protocol.toml")
+    assert str(err.value).startswith(message) and "\n" not in str(err.value)
+
+
+def test_an_unknown_key_is_refused_with_the_known_ones():
+    with pytest.raises(InputError) as err:
+        parse_protocol("fever = 38.0\n", "protocol.toml")
+    text = str(err.value)
+    assert text.startswith("protocol.toml: unknown setting 'fever': known settings are ")
+    assert "fever_c" in text and "amenorrhoea_days" in text and "\n" not in text
+
+
+def test_broken_toml_syntax_is_refused_with_its_position():
+    with pytest.raises(InputError) as err:
+        parse_protocol("fever_c 38.0\n", "protocol.toml")
+    text = str(err.value)
+    assert text.startswith("protocol.toml: not valid TOML (") and "line 1" in text and "\n" not in text

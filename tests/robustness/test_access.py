@@ -1,0 +1,283 @@
+"""No one oversteps: identity from the OS account, `--as` for admins only, the permission matrix
+enforced cell by cell in the real services, inactive staff refused, owner-only files, an audit trail
+that cannot be rewritten and whose gaps `caseload check` names."""
+
+from __future__ import annotations
+
+import importlib
+import os
+import pwd
+import sqlite3
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+import pytest
+
+from caseload.cli import main
+from caseload.core.model import Actor, Role
+from caseload.services import maintenance
+from caseload.services.caseload import list_caseload, show_patient
+from caseload.services.context import Context
+from caseload.services.derived import refresh_all
+from caseload.services.entries import amend_entry, log_entry, patient_entries, void_entry
+from caseload.services.errors import Refused
+from caseload.services.identity import os_account, resolve_actor
+from caseload.services.importer import import_csv
+from caseload.services.patients import add_patient, update_patient
+from caseload.services.permissions import MATRIX
+from caseload.services.staff import add_staff, map_account, set_active
+from caseload.store import Store
+from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
+
+
+@dataclass(frozen=True)
+class Env:
+    """What the performers act on: a store with one entry, one alert of each sort and a backup."""
+
+    entry_id: int
+    clinical_alert: int | None
+    routine_alert: int | None
+    backup: Path
+    protocol_file: Path
+    out: Path
+
+
+def optional(module: str, name: str) -> Callable | None:
+    try:
+        return getattr(importlib.import_module(module), name)
+    except (ImportError, AttributeError):
+        return None
+
+
+list_alerts = optional("caseload.services.alerts", "list_alerts")
+acknowledge = optional("caseload.services.alerts", "acknowledge")
+use_protocol = optional("caseload.services.protocol", "use_protocol")
+
+PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
+    "caseload.view": lambda ctx, env: list_caseload(ctx),
+    "patient.show": lambda ctx, env: (show_patient(ctx, "P0001"), patient_entries(ctx, "P0001")),
+    "patient.add": lambda ctx, env: add_patient(ctx, "P0100", "New Caller", "1993-02-03"),
+    "patient.update": lambda ctx, env: update_patient(ctx, "P0001", plan="timed"),
+    "entry.log": lambda ctx, env: log_entry(ctx, "P0001", "temp", "36.55", on="-4"),
+    "entry.amend": lambda ctx, env: amend_entry(ctx, env.entry_id, "36.45", "misread the thermometer"),
+    "entry.void": lambda ctx, env: void_entry(ctx, env.entry_id, "logged for the wrong patient"),
+    "entry.import": lambda ctx, env: import_csv(ctx, b"patient,day,kind,value\nP0001,-2,lh,positive\n"),
+    "alert.refresh": lambda ctx, env: refresh_all(ctx),
+    "staff.add": lambda ctx, env: add_staff(ctx, "new1", "New Starter", "phone"),
+    "staff.update": lambda ctx, env: (map_account(ctx, "phone1", "phone-account"), set_active(ctx, "phone1", False)),
+    "store.backup": lambda ctx, env: maintenance.backup(ctx, str(env.out)),
+    "store.restore": lambda ctx, env: maintenance.restore(ctx, str(env.backup)),
+    "store.check": lambda ctx, env: maintenance.check(ctx),
+}
+if list_alerts and acknowledge:
+    PERFORMERS["alert.view"] = lambda ctx, env: list_alerts(ctx, "all")
+    PERFORMERS["alert.handle"] = lambda ctx, env: acknowledge(ctx, env.clinical_alert, "called the patient back")
+    PERFORMERS["alert.handle-routine"] = lambda ctx, env: acknowledge(ctx, env.routine_alert, None)
+if use_protocol:
+    PERFORMERS["protocol.set"] = lambda ctx, env: use_protocol(ctx, str(env.protocol_file))
+
+ABSENT = {
+    "alert.view": "caseload.services.alerts is not there yet",
+    "alert.handle": "caseload.services.alerts is not there yet",
+    "alert.handle-routine": "caseload.services.alerts is not there yet",
+    "protocol.set": "caseload.services.protocol has no use_protocol yet",
+    "protocol.view": "no service requires protocol.view: reading the protocol needs no permission",
+    "summary.export": "caseload.services.reports is not there yet",
+}
+CELLS = [(action, role) for action in sorted(MATRIX) for role in Role]
+
+
+def performer(action: str, env: Env) -> Callable[[Context, Env], object]:
+    if action not in PERFORMERS:
+        pytest.skip(ABSENT.get(action, f"no performer for {action}"))
+    if action == "alert.handle" and env.clinical_alert is None or action == "alert.handle-routine" and env.routine_alert is None:
+        pytest.skip("the alert engine raised no open fever or logging-gap alert to handle")
+    return PERFORMERS[action]
+
+
+def open_alert(store: Store, kind: str) -> int | None:
+    found = [a.id for a in store.alerts.for_patient("P0001") if a.kind == kind and a.state.value == "open"]
+    return found[0] if found else None
+
+
+@pytest.fixture
+def env(store, as_role, patient, tmp_path) -> Env:
+    """A period 12 days ago, a fever 6 days ago and nothing since: a clinical and a routine alert."""
+    phone = as_role(Role.PHONE)
+    log_entry(phone, patient.id, "bleed", "heavy", on="-12")
+    entry = log_entry(phone, patient.id, "temp", "38.60", on="-6").entry
+    backup = tmp_path / "backup.db"
+    maintenance.backup(as_role(Role.ADMIN), str(backup))
+    protocol = tmp_path / "protocol.toml"
+    protocol.write_text("fever_c = 38.2\n")
+    return Env(entry.id, open_alert(store, "fever"), open_alert(store, "logging-gap"), backup, protocol,
+               tmp_path / "new-backup.db")
+
+
+def new_audit_rows(before: dict, after: dict) -> list[tuple]:
+    return after["audit"][len(before["audit"]):]
+
+
+@pytest.mark.parametrize("action, role", CELLS, ids=[f"{a}-{r.value}" for a, r in CELLS])
+def test_permission_cell(store, as_role, env, action, role):
+    perform, ctx = performer(action, env), as_role(role)
+    before = snapshot(store.path)
+    if role in MATRIX[action]:
+        try:
+            perform(ctx, env)
+        except Refused as err:  # allowed, but refused for another reason
+            assert "may not" not in str(err), err
+        added = new_audit_rows(before, snapshot(store.path))
+        assert all(row[2] == ctx.actor.id and row[3] == ctx.actor.os_account for row in added
+                   if row[4] != "store.restore")
+    else:
+        with pytest.raises(Refused, match="may not|clinical alert"):
+            perform(ctx, env)
+        assert snapshot(store.path) == before
+        assert not env.out.exists()
+
+
+def test_every_action_in_the_matrix_is_performed_or_named_absent():
+    assert set(MATRIX) <= set(PERFORMERS) | set(ABSENT)
+
+
+@pytest.mark.parametrize("action", sorted(MATRIX))
+def test_inactive_staff_can_do_nothing(store, as_role, env, action):
+    perform = performer(action, env)
+    admin = as_role(Role.ADMIN)
+    ghost = replace(admin, actor=Actor(replace(admin.actor.staff, active=False), admin.actor.os_account))
+    before = snapshot(store.path)
+    with pytest.raises(Refused, match="inactive|may not"):
+        perform(ghost, env)
+    assert snapshot(store.path) == before
+
+
+def test_a_deactivated_account_is_refused_before_any_action(store, staffed):
+    admin = Context(store, staffed[Role.ADMIN], TODAY)
+    map_account(admin, "nurse1", "nurse-account")
+    set_active(admin, "nurse1", False)
+    with pytest.raises(Refused, match="inactive and can do nothing"):
+        resolve_actor(store, "nurse-account")
+    with pytest.raises(Refused, match="inactive"):
+        resolve_actor(store, os_account(), as_staff="nurse1")
+
+
+def test_os_account_comes_from_the_os_not_the_environment(monkeypatch):
+    monkeypatch.setenv("USER", "mallory")
+    monkeypatch.setenv("LOGNAME", "mallory")
+    monkeypatch.setenv("USERNAME", "mallory")
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+
+
+def test_init_maps_the_os_account_to_the_first_admin(clinic):
+    conn = sqlite3.connect(clinic.db)
+    assert conn.execute("SELECT id, role FROM staff WHERE os_account = ?", (os_account(),)).fetchall() == [("ada", "admin")]
+    conn.close()
+
+
+def test_as_is_honoured_for_an_admin_and_recorded_with_the_os_account(clinic):
+    result = clinic("--as", "phil", "log", "P0001", "lh", "positive")
+    assert result.exit_code == 0, result.output
+    audit = [row for row in snapshot(clinic.db)["audit"] if row[4] == "entry.log"][-1]
+    assert audit[2:4] == ("phil", os_account())
+    entry = snapshot(clinic.db)["entry"][-1]
+    assert (entry[12], entry[13]) == ("phil", os_account())  # by_staff, os_account
+
+
+@pytest.fixture
+def as_nurse_account(clinic, monkeypatch):
+    """The command line run from the OS account mapped to nurse nell."""
+    assert clinic("staff", "map", "nell", "nell-account").exit_code == 0
+    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "nell-account")
+    return clinic
+
+
+@pytest.mark.parametrize("args", [("--as", "ada", "staff", "add", "x1", "--name", "X", "--role", "admin"),
+                                  ("--as", "phil", "log", "P0001", "lh", "positive"),
+                                  ("--as", "sue", "list")])
+def test_as_is_refused_for_anyone_but_an_admin(as_nurse_account, args):
+    before = snapshot(as_nurse_account.db)
+    result = as_nurse_account(*args)
+    assert_clean_exit(result)
+    assert result.exit_code == 1 and "--as is honoured only for an admin's OS account" in result.stderr
+    assert snapshot(as_nurse_account.db) == before
+
+
+def test_a_nurse_account_acts_as_the_nurse(as_nurse_account):
+    assert as_nurse_account("log", "P0001", "lh", "positive").exit_code == 0
+    audit = [row for row in snapshot(as_nurse_account.db)["audit"] if row[4] == "entry.log"][-1]
+    assert audit[2:4] == ("nell", "nell-account")
+
+
+@pytest.mark.parametrize("who, fragment", [("nobody", "no staff member 'nobody'"), ("x\x1b[2J", "no staff member")])
+def test_as_an_unknown_staff_member_is_one_line(clinic, who, fragment):
+    result = clinic("--as", who, "list")
+    assert_clean_exit(result)
+    assert result.exit_code == 1 and fragment in result.stderr and "\x1b" not in result.stderr
+
+
+def test_unmapped_account_is_refused(clinic, monkeypatch):
+    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "stranger")
+    before = snapshot(clinic.db)
+    result = clinic("log", "P0001", "lh", "positive")
+    assert result.exit_code == 1 and "not mapped to a staff member" in result.stderr
+    assert snapshot(clinic.db) == before
+
+
+def test_store_and_its_journal_files_are_owner_only_whatever_the_umask(cli):
+    old = os.umask(0)
+    try:
+        assert cli("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
+        with Store(cli.db) as store:
+            store.db.conn.execute("SELECT count(*) FROM staff").fetchone()
+            modes = {p.name: os.stat(p).st_mode & 0o777 for p in cli.db.parent.glob("clinic.db*")}
+    finally:
+        os.umask(old)
+    assert modes == {"clinic.db": 0o600, "clinic.db-wal": 0o600, "clinic.db-shm": 0o600}
+
+
+@pytest.mark.parametrize("sql", ["UPDATE audit SET by_staff = 'someone else' WHERE id = 1",
+                                 "UPDATE audit SET after = NULL", "DELETE FROM audit WHERE id = 2",
+                                 "DELETE FROM audit"])
+def test_plain_sql_cannot_change_the_audit_trail(clinic, sql):
+    before = snapshot(clinic.db)
+    conn = sqlite3.connect(clinic.db)
+    with pytest.raises(sqlite3.IntegrityError, match="append-only"):
+        conn.execute(sql)
+    conn.close()
+    assert snapshot(clinic.db) == before
+
+
+def test_commands_only_ever_append_to_the_audit_trail(clinic, tmp_path):
+    trail = snapshot(clinic.db)["audit"]
+    for args in (("amend", "2", "36.45", "--reason", "misread"), ("void", "1", "--reason", "wrong day"),
+                 ("patient", "set", "P0001", "--plan", "timed"), ("staff", "deactivate", "phil"),
+                 ("backup", str(tmp_path / "b.db"))):
+        assert clinic(*args).exit_code == 0, args
+        now = snapshot(clinic.db)["audit"]
+        assert now[: len(trail)] == trail and len(now) > len(trail)
+        trail = now
+
+
+def tampered_copy(clinic, tmp_path, where: str) -> Path:
+    """A copy whose audit trail lost a row behind the tool's back (trigger dropped first)."""
+    copy = tmp_path / f"tampered-{where}.db"
+    copy_store(clinic.db, copy)
+    conn = sqlite3.connect(copy)
+    conn.execute("DROP TRIGGER audit_no_delete")
+    victim = "3" if where == "middle" else "(SELECT max(id) FROM audit)"
+    conn.execute(f"DELETE FROM audit WHERE id = {victim}")
+    conn.commit()
+    conn.close()
+    return copy
+
+
+@pytest.mark.parametrize("where", ["middle", "end"])
+def test_check_names_a_gap_in_the_audit_ids(clinic, tmp_path, where):
+    last = snapshot(clinic.db)["audit"][-1][0]
+    copy = tampered_copy(clinic, tmp_path, where)
+    result = clinic.runner.invoke(main, ["--db", str(copy), "check"])
+    gap = "3-3" if where == "middle" else f"{last}-{last}"
+    assert result.exit_code == 1 and f"audit id gaps: {gap}" in result.output
+    assert clinic("check").exit_code == 0  # the original is whole

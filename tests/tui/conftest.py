@@ -1,0 +1,78 @@
+"""Interface test fixtures: the small caseload built once, copied per test, and apps made by make_app."""
+
+from __future__ import annotations
+
+import shutil
+from datetime import date
+
+import pytest
+
+from caseload.core.model import Actor
+from caseload.services.context import Context
+from caseload.store import Store
+from caseload.tui.app import CaseloadApp, make_app
+from tests.tui.fixture_store import ACCOUNTS, TODAY, build
+
+
+@pytest.fixture(scope="session")
+def built_caseload(tmp_path_factory):
+    path = tmp_path_factory.mktemp("caseload") / "fixture.db"
+    build(path).close()
+    return path
+
+
+@pytest.fixture
+def caseload_file(built_caseload, tmp_path):
+    """A private copy of the fixture store for one test."""
+    path = tmp_path / "caseload.db"
+    shutil.copy(built_caseload, path)
+    return path
+
+
+@pytest.fixture
+def opened(caseload_file):
+    """Stores opened on the test's copy; all are closed after the test."""
+    stores: list[Store] = []
+
+    def open_store() -> Store:
+        stores.append(Store(caseload_file))
+        return stores[-1]
+
+    yield open_store
+    for s in stores:
+        s.close()
+
+
+@pytest.fixture
+def app_as(opened):
+    """app_as('nell') builds the interface for that staff member's OS account, as the CLI does."""
+
+    def make(staff_id: str, account: str | None = None, refresh_seconds: float = 60.0, today: date = TODAY) -> CaseloadApp:
+        return make_app(opened(), today, account or ACCOUNTS[staff_id], refresh_seconds=refresh_seconds)
+
+    return make
+
+
+@pytest.fixture
+def service_ctx(opened):
+    """service_ctx('nell'): a services Context on a second connection, to check or change the store."""
+
+    def make(staff_id: str) -> Context:
+        store = opened()
+        return Context(store, Actor(store.staff.get(staff_id), ACCOUNTS.get(staff_id, "tester")), TODAY)
+
+    return make
+
+
+async def settle(pilot, rounds: int = 3) -> None:
+    """Let workers finish and their messages land (a load may start another one)."""
+    for _ in range(rounds):
+        await pilot.pause()
+        await pilot.app.workers.wait_for_complete()
+        await pilot.pause()
+
+
+async def type_text(pilot, text: str) -> None:
+    """Put text into the focused field at once (key by key is slow and adds nothing past a few keys)."""
+    pilot.app.focused.insert_text_at_cursor(text)
+    await pilot.pause()

@@ -1,0 +1,78 @@
+"""A small caseload built through the services, dated against a fixed day, for the interface tests."""
+
+from __future__ import annotations
+
+from datetime import date, timedelta
+from pathlib import Path
+
+from caseload.core.model import Actor, Role
+from caseload.core.parse import parse_entry
+from caseload.services.context import Context
+from caseload.services.derived import refresh_all
+from caseload.services.patients import add_patient, update_patient
+from caseload.services.staff import add_staff, init_store
+from caseload.store import Store
+
+TODAY = date(2026, 12, 1)
+ACCOUNTS = {"ada": "ada-os", "nell": "nell-os", "nora": "nora-os", "phil": "phil-os", "sue": "sue-os"}
+ODD_NAME = "Mara [bold]Holm\x1b[31m"
+FLOWS = ("moderate", "heavy", "moderate", "light", "light")
+CYCLE = 28
+OVULATION_DAY = 14
+
+
+def cycle_rows(start: date, until: date, last_entry: date | None = None) -> list[tuple[str, str, date]]:
+    """(kind, value, day) for a textbook 28-day cycle from `start` up to `until` (inclusive)."""
+    rows = []
+    day = start
+    while day <= min(until, last_entry or until):
+        cd = (day - start).days + 1
+        if cd <= len(FLOWS):
+            rows.append(("bleed", FLOWS[cd - 1], day))
+        low = 36.40 + (0.04 if cd % 3 == 0 else 0.0)
+        rows.append(("temp", f"{low + (0.40 if cd > OVULATION_DAY else 0.0):.2f}", day))
+        day += timedelta(days=1)
+    return rows
+
+
+def history(current_start: date, cycles: int) -> list[tuple[str, str, date]]:
+    rows = []
+    for n in range(cycles, 0, -1):
+        start = current_start - timedelta(days=CYCLE * n)
+        rows += cycle_rows(start, start + timedelta(days=CYCLE - 1))
+    return rows
+
+
+def build(path: Path) -> Store:
+    store = Store(path)
+    admin = init_store(store, "ada", "Ada Admin", ACCOUNTS["ada"])
+    ctx = Context(store, admin, TODAY)
+    add_staff(ctx, "nell", "Nell Nurse", "nurse", ACCOUNTS["nell"])
+    add_staff(ctx, "nora", "Nora Nurse", "nurse", ACCOUNTS["nora"])
+    add_staff(ctx, "phil", "Phil Phone", "phone", ACCOUNTS["phil"])
+    add_staff(ctx, "sue", "Sue Supervisor", "supervisor", ACCOUNTS["sue"])
+    add_staff(ctx, "pat", "Pat Newcomer", "phone")  # no OS account yet: can be claimed at sign-in
+    nurse = Context(store, Actor(store.staff.get("nell"), ACCOUNTS["nell"]), TODAY)
+    plan = {
+        "P0001": ("Pia Test", "nell", "natural", history(TODAY - timedelta(days=17), 4) + cycle_rows(TODAY - timedelta(days=17), TODAY)),
+        "P0002": ("Rosa Lind", "nell", "timed", history(TODAY - timedelta(days=9), 3) + cycle_rows(TODAY - timedelta(days=9), TODAY)),
+        "P0003": (ODD_NAME, "nora", "natural", cycle_rows(TODAY - timedelta(days=4), TODAY)),
+        "P0004": ("Noor Haddad", "nora", "insemination",
+                  cycle_rows(TODAY - timedelta(days=19), TODAY, last_entry=TODAY - timedelta(days=5))),
+        "P0005": ("Dana Gone", "nora", "natural", []),
+    }
+    for pid, (name, nurse_id, plan_word, rows) in plan.items():
+        add_patient(nurse, pid, name, "1992-05-17", nurse=nurse_id, plan=plan_word)
+        store.transact(lambda rows=rows, pid=pid: [
+            store.entries.add(nurse.actor, pid, parse_entry(kind, value, TODAY, on=day.isoformat()))
+            for kind, value, day in rows
+        ])
+    # A fever reading yesterday on P0002 replaces that day's ordinary one.
+    store.transact(lambda: store.entries.add(
+        nurse.actor, "P0002", parse_entry("temp", "38.3", TODAY, on=(TODAY - timedelta(days=1)).isoformat()),
+        supersedes=store.entries.current_on("P0002", TODAY - timedelta(days=1), parse_entry("temp", "36.5", TODAY).kind)[0].id,
+        amend_reason="reading phoned in again",
+    ))
+    update_patient(nurse, "P0005", status="discharged")
+    refresh_all(ctx)
+    return store

@@ -1,0 +1,147 @@
+"""The alert queue and what each role is offered: handling with a note, phone staff kept to routine work."""
+
+from __future__ import annotations
+
+from caseload.core.model import AlertState
+from caseload.services.alerts import list_alerts
+from caseload.tui.screens.alert_queue import AlertQueueScreen
+from caseload.tui.screens.note_dialog import NoteDialog
+from caseload.tui.screens.record import RecordScreen
+from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.entries_table import EntriesTable
+from tests.tui.conftest import settle, type_text
+
+
+def alert_of(ctx, kind: str):
+    return next(a for a in list_alerts(ctx) if a.kind == kind)
+
+
+def queue_ids(app) -> list[int]:
+    return [int(r.value) for r in app.screen.query_one(AlertTable).rows if not r.value.startswith("group:")]
+
+
+async def highlight(pilot, alert_id: int) -> AlertTable:
+    table = pilot.app.screen.query_one(AlertTable)
+    table.move_cursor(row=table.get_row_index(str(alert_id)))
+    await pilot.pause()
+    return table
+
+
+async def test_queue_groups_by_severity_and_acknowledging_takes_an_alert_off(app_as, service_ctx):
+    check = service_ctx("ada")
+    fever = alert_of(check, "fever")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("a")
+        await settle(pilot)
+        assert isinstance(app.screen, AlertQueueScreen)
+        assert sorted(queue_ids(app)) == sorted(a.id for a in list_alerts(check, nurse="nell"))
+        headings = [r.value for r in app.screen.query_one(AlertTable).rows if r.value.startswith("group:")]
+        assert headings == ["group:today"]
+        await highlight(pilot, fever.id)
+        await pilot.press("a")
+        await pilot.pause()
+        assert isinstance(app.screen, NoteDialog)
+        await pilot.press("enter")  # a clinical alert needs a note: nothing happens yet
+        assert isinstance(app.screen, NoteDialog)
+        await type_text(pilot, "called back, advised to rest and re-measure")
+        await pilot.press("enter")
+        await settle(pilot)
+        assert fever.id not in queue_ids(app)
+    stored = check.store.alerts.get(fever.id)
+    assert stored.state is AlertState.ACKNOWLEDGED and stored.handled_by == "nell"
+    assert stored.note == "called back, advised to rest and re-measure"
+
+
+async def test_opening_an_alert_shows_its_evidence_on_the_record(app_as, service_ctx):
+    fever = alert_of(service_ctx("ada"), "fever")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("a")
+        await settle(pilot)
+        await highlight(pilot, fever.id)
+        await pilot.press("enter")
+        await settle(pilot)
+        screen = app.screen
+        assert isinstance(screen, RecordScreen) and screen.patient_id == "P0002"
+        assert screen.query_one("TabbedContent").active == "alerts"
+        evidence = screen.query_one("#evidence").render().plain
+        assert "fever" in evidence and "Source:" in evidence and fever.message in evidence.replace("\n", " ")
+
+
+async def test_phone_staff_are_offered_routine_alerts_only(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        await pilot.press("a")
+        await settle(pilot)
+        table = await highlight(pilot, alert_of(check, "fever").id)
+        assert table.check_action("handle", ("acknowledge",)) is False
+        await pilot.press("a")
+        await pilot.pause()
+        assert not isinstance(app.screen, NoteDialog)
+        gap = alert_of(check, "logging-gap")
+        table = await highlight(pilot, gap.id)
+        assert table.check_action("handle", ("acknowledge",)) is True
+        await pilot.press("r")
+        await pilot.pause()
+        assert isinstance(app.screen, NoteDialog)
+        await pilot.press("enter")  # routine: the note may stay empty
+        await settle(pilot)
+    stored = check.store.alerts.get(gap.id)
+    assert stored.state is AlertState.RESOLVED and stored.handled_by == "phil"
+
+
+async def test_phone_staff_see_no_amend_void_or_export(app_as):
+    app = app_as("phil")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        assert app.screen.check_action("export", ()) is False
+        app.push_screen(RecordScreen("P0001"))
+        await settle(pilot)
+        await pilot.press("5")
+        entries = app.screen.query_one(EntriesTable)
+        assert entries.check_action("amend", ()) is False and entries.check_action("void", ()) is False
+
+
+async def test_a_nurse_voids_an_entry_with_a_reason(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        app.push_screen(RecordScreen("P0001"))
+        await settle(pilot)
+        await pilot.press("5")
+        entries = app.screen.query_one(EntriesTable)
+        newest = entries.current_entry()
+        assert entries.check_action("void", ()) is True
+        await pilot.press("v")
+        await type_text(pilot, "logged for the wrong patient")
+        await pilot.press("enter")
+        await settle(pilot)
+        assert entries.get_cell(str(newest.id), "Status").plain == "void: logged for the wrong patient"
+    assert check.store.entries.get(newest.id).voided_reason == "logged for the wrong patient"
+
+
+async def test_a_refused_action_shows_one_line_and_no_traceback(app_as, service_ctx):
+    check = service_ctx("ada")
+    fever = alert_of(check, "fever")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("a")
+        await settle(pilot)
+        await highlight(pilot, fever.id)
+        # Another terminal resolves the alert while the note is being typed.
+        from caseload.services.alerts import resolve
+
+        await pilot.press("a", *"seen")
+        resolve(check, fever.id, "handled by phone")
+        await pilot.press("enter")
+        await settle(pilot)
+        notes = [n.message for n in app._notifications]
+        assert any(m.startswith(f"alert {fever.id} is resolved") for m in notes)
+        assert all("Traceback" not in m and "\n" not in m for m in notes)

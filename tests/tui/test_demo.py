@@ -1,0 +1,31 @@
+"""The invented demo caseload opens on the list with the service's patients and cycle days."""
+
+from __future__ import annotations
+
+import pytest
+
+from caseload.services.caseload import list_caseload
+from caseload.services.context import Context
+from caseload.services.demo import SEED_DIR, build_demo
+from caseload.tui.app import make_app
+from caseload.tui.widgets.caseload_table import CaseloadTable
+from tests.tui.conftest import settle
+from tests.tui.fixture_store import TODAY
+
+pytestmark = pytest.mark.skipif(not (SEED_DIR / "patients.csv").exists(), reason="demo seed files not generated")
+
+
+async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(tmp_path):
+    demo = build_demo(tmp_path / "demo.db", TODAY, "demo-os")
+    try:
+        lines = list_caseload(Context(demo.store, demo.admin, TODAY))
+        app = make_app(demo.store, TODAY, "demo-os")
+        async with app.run_test(size=(120, 40)) as pilot:
+            await settle(pilot)
+            table = app.screen.query_one(CaseloadTable)
+            assert [r.value for r in table.rows] == [line.patient.id for line in lines]
+            for line in lines:
+                shown = table.get_cell(line.patient.id, "cd").plain.strip()
+                assert shown == ("-" if line.cycle_day is None else str(line.cycle_day))
+    finally:
+        demo.store.close()

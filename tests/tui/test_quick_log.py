@@ -1,0 +1,126 @@
+"""The phone line's quick log: find a patient, log, see the result; refusals write nothing."""
+
+from __future__ import annotations
+
+from caseload.core.model import Kind
+from caseload.services.entries import patient_entries
+from caseload.tui.screens.correct_entry import CorrectEntryDialog
+from caseload.tui.screens.quick_log import QuickLogScreen
+from caseload.tui.screens.record import RecordScreen
+from tests.tui.conftest import settle, type_text
+from tests.tui.fixture_store import TODAY
+
+
+def counts(ctx) -> tuple[int, int]:
+    return ctx.store.entries.count(), ctx.store.audit.count()
+
+
+def temps_today(ctx, patient_id: str):
+    return [e for e in patient_entries(ctx, patient_id) if e.kind is Kind.TEMP and e.day == TODAY]
+
+
+async def test_phone_clerk_logs_a_temperature_by_name(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        # The exact keystrokes of a call: l, part of the name, Enter, t, Enter, the reading, Enter.
+        await pilot.press("l", *"noor", "enter", "t", "enter", *"36.55", "enter")
+        await settle(pilot)
+        screen = app.screen
+        assert isinstance(screen, QuickLogScreen)
+        result = screen.query_one("#result").render().plain
+        assert result.startswith("Saved #") and "P0004: temp 36.55" in result and "cycle day 20" in result
+        [entry] = temps_today(check, "P0004")
+        assert entry.value.number == 36.55 and entry.by == "phil"
+        await pilot.press("escape")
+        await settle(pilot)
+        table = app.screen.query_one("#caseload")
+        assert table.get_cell("P0004", "last").plain.strip() == "0d"  # was 5d before the call
+        table.move_cursor(row=table.get_row_index("P0004"))
+        await pilot.press("enter")
+        await settle(pilot)
+        assert isinstance(app.screen, RecordScreen)
+        assert (20, 36.55) in app.screen.query_one("CycleChart")._view.temps
+
+
+async def test_a_bleed_after_the_temperature_in_the_same_call(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", "ctrl+u", *"P0004", "enter", "t", "enter", *"98.1F", "enter")
+        await settle(pilot)
+        await pilot.press("b", "enter", *"heavy", "tab")
+        await type_text(pilot, "yesterday")
+        await pilot.press("enter")
+        await settle(pilot)
+        result = app.screen.query_one("#result").render().plain
+        assert "bleed heavy on 2026-11-30" in result and "Now cycle day 2" in result
+        bleeds = [e for e in patient_entries(check, "P0004") if e.kind is Kind.BLEED and e.current]
+        assert bleeds[-1].day.isoformat() == "2026-11-30"
+        # 98.1 F is (98.1 - 32) x 5/9 = 36.72 C (NIST SP 811 conversion).
+        assert temps_today(check, "P0004")[0].value.number == 36.72
+
+
+async def test_a_refused_value_shows_why_and_writes_nothing(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = counts(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", *"noor", "enter", "t", "enter", *"98.1")
+        await pilot.pause()
+        line = app.screen.query_one("#check").render().plain
+        assert "looks like Fahrenheit: write 98.1F" in line
+        await pilot.press("enter")
+        await settle(pilot)
+        assert app.screen.query_one("#result").render().plain == ""
+        await pilot.press("ctrl+u", *"36.5", "tab")
+        await type_text(pilot, "tomorrow")
+        await pilot.press("enter")
+        await settle(pilot)
+        assert "not understood" in app.screen.query_one("#check").render().plain
+    assert counts(check) == before
+
+
+async def test_second_temperature_offers_a_correction_to_a_nurse(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", *"pia", "enter", "t", "enter", *"36.91", "enter")
+        await settle(pilot)
+        assert isinstance(app.screen, CorrectEntryDialog)
+        await type_text(pilot, "read from the wrong day")
+        await pilot.press("enter")
+        await settle(pilot)
+        assert "Saved #" in app.screen.query_one("#result").render().plain
+    current = [e for e in temps_today(check, "P0001") if e.current]
+    assert [e.value.number for e in current] == [36.91]
+    assert current[0].amend_reason == "read from the wrong day"
+
+
+async def test_second_temperature_is_not_replaced_by_phone_staff(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = counts(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", *"pia", "enter", "t", "enter", *"36.91", "enter")
+        await settle(pilot)
+        assert isinstance(app.screen, QuickLogScreen)
+        assert "a nurse can replace it" in app.screen.query_one("#result").render().plain
+    assert counts(check) == before
+
+
+async def test_quick_log_from_a_record_has_the_patient_picked(app_as):
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        app.push_screen(RecordScreen("P0002"))
+        await settle(pilot)
+        await pilot.press("l")
+        await pilot.pause()
+        assert app.screen.query_one("PatientPicker").patient.id == "P0002"
+        assert app.focused.id == "kind"
