@@ -10,22 +10,25 @@ from __future__ import annotations
 
 import hashlib
 import json
+import multiprocessing
 import random
 import time as clock
 from collections.abc import Iterator
 from dataclasses import asdict, dataclass, replace
 from datetime import UTC, date, datetime, time, timedelta
+from functools import lru_cache
 from pathlib import Path
+from queue import Empty
 
 from caseload.core.model import Actor, Kind, Patient, PatientStatus, Role, Staff
-from caseload.core.parse import parse_entry
+from caseload.core.parse import ParsedEntry, parse_entry
 from caseload.services.context import Context
 from caseload.services.derived import refresh_all
 from caseload.services.protocol import load_protocol
 from caseload.services.staff import init_store
 from caseload.sim import SimChart, SimEntry, simulate_caseload
 from caseload.store import Store
-from caseload.store.bulk import NewEntry
+from caseload.store.bulk import ENTRY_BATCH, NewEntry, PreparedEntries, prepare_entries
 
 BENCH_SEED = 20260101
 END = date(2026, 11, 29)  # a Sunday: "today" is the Monday after, so ISO week 48 is complete
@@ -34,6 +37,7 @@ PATIENTS_PER_CLERK = 250
 AMEND_RATE = 0.005  # share of temperatures first keyed wrong, then corrected by a nurse
 PAUSED_SHARE = 0.03
 DISCHARGED_SHARE = 0.02
+PARALLEL_FROM = 500  # patients; smaller caseloads are not worth a second process
 NURSE_SHARE = 0.1  # routine entries a nurse logs herself; the phone line logs the rest
 _NURSE_KINDS = frozenset({Kind.MED, Kind.SCAN, Kind.TRIGGER, Kind.INSEMINATION})
 # Files whose change alters what a build writes: a cached store built by older code is rebuilt.
@@ -153,14 +157,79 @@ def build(spec: BenchSpec, path: Path) -> BenchStore:
         admin = init_store(store, "admin", "Bench Admin", "admin")
         store.bulk.staff(admin, staff_for(spec))
         people = bench_staff(store)
-        caseload = list(_caseload(spec, people))
-        store.bulk.patients(admin, (patient for patient, _ in caseload))
-        entries = store.bulk.entries(_entries(spec, people, caseload, store.bulk.next_entry_id()))
+        patients = entries = 0
+        for chunk_patients, prepared in _chunks(spec, people, store.bulk.next_entry_id()):
+            patients += store.bulk.patients(admin, chunk_patients)
+            entries += store.bulk.insert_prepared(prepared)
         loaded = clock.perf_counter()
         store.db.clock = lambda: datetime.combine(spec.today, time(7), UTC)
         refresh_all(Context(store, people.admin, spec.today, load_protocol(store)))
         refreshed = clock.perf_counter()
-    return BenchStore(spec, path, len(caseload), entries, round(loaded - began, 2), round(refreshed - loaded, 2))
+    return BenchStore(spec, path, patients, entries, round(loaded - began, 2), round(refreshed - loaded, 2))
+
+
+Chunk = tuple[list[Patient], PreparedEntries]
+
+
+def _chunks(spec: BenchSpec, people: BenchStaff, first_id: int) -> Iterator[Chunk]:
+    """The caseload in chunks; a large one is simulated in a second process while this one inserts."""
+    if spec.patients < PARALLEL_FROM:
+        yield from _prepared(spec, people, first_id)
+        return
+    queue = multiprocessing.get_context("spawn").Queue(maxsize=4)
+    producer = multiprocessing.get_context("spawn").Process(
+        target=_produce, args=(spec, people, first_id, queue), daemon=True
+    )
+    producer.start()
+    try:
+        while (item := _next(queue, producer)) is not None:
+            yield item
+    finally:
+        producer.join(timeout=5)
+        if producer.is_alive():
+            producer.terminate()
+
+
+def _next(queue, producer) -> Chunk | None:
+    while True:
+        try:
+            item = queue.get(timeout=1)
+        except Empty:
+            if not producer.is_alive():
+                raise RuntimeError("the process simulating the bench caseload stopped unexpectedly") from None
+            continue
+        if isinstance(item, str):
+            raise RuntimeError(f"simulating the bench caseload failed: {item}")
+        return item
+
+
+def _produce(spec: BenchSpec, people: BenchStaff, first_id: int, queue) -> None:
+    try:
+        for chunk in _prepared(spec, people, first_id):
+            queue.put(chunk)
+    except Exception as err:  # reported to the inserting process, which raises it
+        queue.put(f"{type(err).__name__}: {err}")
+        return
+    queue.put(None)
+
+
+def _prepared(spec: BenchSpec, people: BenchStaff, first_id: int) -> Iterator[Chunk]:
+    """Patients with their entries' rows, about ENTRY_BATCH entries at a time."""
+    next_id, patients, items = first_id, [], []
+    nurses = {a.id: a for a in people.nurses}
+    for i, (patient, chart) in enumerate(_caseload(spec, people)):
+        rng = random.Random(f"entries-{spec.seed}-{i}")
+        nurse, clerk = nurses[patient.nurse_id], people.clerks[i % len(people.clerks)]
+        for sim in chart.entries:
+            logged = _logged(spec, rng, patient.id, sim, nurse, clerk, next_id)
+            items += logged
+            next_id += len(logged)
+        patients.append(patient)
+        if len(items) >= ENTRY_BATCH:
+            yield patients, prepare_entries(items)
+            patients, items = [], []
+    if patients:
+        yield patients, prepare_entries(items)
 
 
 def _caseload(spec: BenchSpec, people: BenchStaff) -> Iterator[tuple[Patient, SimChart]]:
@@ -174,38 +243,34 @@ def _caseload(spec: BenchSpec, people: BenchStaff) -> Iterator[tuple[Patient, Si
         yield patient, chart
 
 
-def _entries(
-    spec: BenchSpec, people: BenchStaff, caseload: list[tuple[Patient, SimChart]], first_id: int
-) -> Iterator[NewEntry]:
-    next_id = first_id
-    nurses = {a.id: a for a in people.nurses}
-    for i, (patient, chart) in enumerate(caseload):
-        rng = random.Random(f"entries-{spec.seed}-{i}")
-        nurse, clerk = nurses[patient.nurse_id], people.clerks[i % len(people.clerks)]
-        for sim in chart.entries:
-            for item in _logged(spec, rng, patient.id, sim, nurse, clerk, next_id):
-                yield item
-                next_id += 1
-
-
 def _logged(
     spec: BenchSpec, rng: random.Random, patient_id: str, sim: SimEntry, nurse: Actor, clerk: Actor, next_id: int
 ) -> list[NewEntry]:
     """The entry as logged, or a mistyped temperature followed by the nurse's correction."""
-    parsed = parse_entry(sim.kind, sim.raw, spec.today, on=sim.day.isoformat(), at=sim.time, flags=sim.flags,
-                         note=sim.note)  # fmt: skip
+    parsed = parsed_entry(sim)
     serum = sim.kind is Kind.HCG and sim.raw[0].isdigit()
     by = nurse if sim.kind in _NURSE_KINDS or serum or rng.random() < NURSE_SHARE else clerk
     at = _logged_at(rng, sim)
     if sim.kind is not Kind.TEMP or sim.raw.endswith("F") or rng.random() >= AMEND_RATE:
         return [NewEntry(next_id, by, patient_id, parsed, at)]
     slip = f"{parsed.value.number + rng.choice((-0.3, 0.3, 1.0)):.2f}"
-    wrong = parse_entry(Kind.TEMP, slip, spec.today, on=sim.day.isoformat(), at=sim.time, flags=sim.flags)
+    wrong = parsed_entry(replace(sim, raw=slip))
     return [
         NewEntry(next_id, by, patient_id, wrong, at),
         NewEntry(next_id + 1, nurse, patient_id, parsed, at + timedelta(hours=rng.randint(1, 6)), next_id,
                  "keying slip, confirmed with the patient"),  # fmt: skip
     ]
+
+
+def parsed_entry(sim: SimEntry) -> ParsedEntry:
+    """The entry as `parse_entry` reads it; each distinct text is parsed once, only the day differs."""
+    once = _parse_once(sim.kind, sim.raw, sim.time, sim.flags, sim.note)
+    return ParsedEntry(once.kind, sim.day, once.value, once.raw, once.time, once.flags, once.note)
+
+
+@lru_cache(maxsize=65536)
+def _parse_once(kind: Kind, raw: str, at: str | None, flags: tuple[str, ...], note: str) -> ParsedEntry:
+    return parse_entry(kind, raw, END, on=END.isoformat(), at=at, flags=flags, note=note)
 
 
 def _logged_at(rng: random.Random, sim: SimEntry) -> datetime:

@@ -12,7 +12,7 @@ from caseload.core.model import Alert
 from caseload.core.protocol_file import LAYOUT, setting_rows
 from caseload.services import alerts as alert_service
 from caseload.services import protocol as protocol_service
-from caseload.services.derived import refresh_all
+from caseload.services.derived import RefreshReport, refresh_all
 
 
 def alert_json(a: Alert) -> dict:
@@ -39,6 +39,10 @@ def alert_json(a: Alert) -> dict:
     }
 
 
+def _refreshed(done: RefreshReport) -> str:
+    return f"Refreshed {done.patients} patients: {done.raised} alerts raised or escalated, {done.resolved} auto-resolved."
+
+
 def _handled(a: Alert) -> str:
     if a.handled_by is None:
         return ""
@@ -61,8 +65,7 @@ def alerts(session: Session, as_json: bool, state: str, kind: str | None, nurse:
         click.echo(f"caseload: warning: {in_use.error}; the default protocol is in use", err=True)
     if refresh:
         done = refresh_all(ctx)
-        click.echo(f"Refreshed {done.patients} patients: {done.raised} alerts raised or escalated, "
-                   f"{done.resolved} auto-resolved.", err=as_json)
+        click.echo(_refreshed(done), err=as_json)
     found = alert_service.list_alerts(ctx, state, kind, nurse)
     if as_json:
         echo_json([alert_json(a) for a in found])
@@ -137,8 +140,10 @@ def protocol_show(session: Session) -> None:
         out.print("The defaults are in use until the file is fixed.")
     else:
         out.print(f"Protocol file: {safe(in_use.path)} ({len(in_use.overrides())} settings differ from the defaults).")
-    rows = [[r.name, f"{r.value:g}" + (" *" if r.overridden else ""), f"{r.default:g}", f"{r.lo:g}-{r.hi:g}", r.source, r.doc]
-            for r in setting_rows(in_use.protocol)]
+    rows = [
+        [r.name, f"{r.value:g}" + (" *" if r.overridden else ""), f"{r.default:g}", f"{r.lo:g}-{r.hi:g}", r.source, r.doc]
+        for r in setting_rows(in_use.protocol)
+    ]
     print_table(["setting", "in use", "default", "accepted", "source", "meaning"], rows)
     out.print(f"* set by the clinic's file. TOML layout: {LAYOUT}; unknown names are refused.", style="dim")
 
@@ -160,7 +165,7 @@ def protocol_use(session: Session, file: str) -> None:
     """Make a checked file the store's protocol (admins), then refresh every patient's alerts under it."""
     in_use, done = protocol_service.use_protocol(session.context(), file)
     click.echo(f"Protocol file {in_use.path} in use ({len(in_use.overrides())} settings differ from the defaults).")
-    click.echo(f"Refreshed {done.patients} patients: {done.raised} alerts raised or escalated, {done.resolved} auto-resolved.")
+    click.echo(_refreshed(done))
 
 
 COMMANDS = [alerts, ack, snooze, resolve, protocol_group]

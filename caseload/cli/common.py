@@ -33,6 +33,9 @@ def fail_cleanly():
     except (InputError, Refused, StoreError) as err:
         click.echo(f"caseload: {printable(str(err))}", err=True)
         raise click.exceptions.Exit(1) from None
+    except OverflowError as err:  # an id past SQLite's integers, a date past year 1 or 9999
+        click.echo(f"caseload: a number or date is out of range ({printable(str(err))}): check the values given", err=True)
+        raise click.exceptions.Exit(1) from None
     except UnicodeEncodeError as err:  # undecodable terminal bytes arrive as lone surrogates
         bad = printable(err.object[err.start:err.end])
         click.echo(f"caseload: the text '{printable(err.object[:40])}' holds {bad}, which is not UTF-8: "

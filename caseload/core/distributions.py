@@ -49,19 +49,28 @@ def regularized_beta(a: float, b: float, x: float) -> float:
     return 1.0 - front * _beta_fraction(b, a, 1.0 - x) / b
 
 
-def t_lower_tail(z: float, dof: float) -> float:
-    """P(T <= z) for a standard Student's t, accurate far into the lower tail."""
+def _tail(z: float, dof: float) -> float:
+    """P(T <= -|z|): one incomplete beta gives the lower tail on both sides of zero."""
+    return 0.5 * regularized_beta(dof / 2.0, 0.5, dof / (dof + z * z)) if z != 0.0 else 0.5
+
+
+def _lower(z: float, tail: float) -> float:
+    """P(T <= z) from `tail` = P(T <= -|z|), accurate far into the lower tail."""
     if z == 0.0:
         return 0.5
-    tail = 0.5 * regularized_beta(dof / 2.0, 0.5, dof / (dof + z * z))
     return tail if z < 0 else 1.0 - tail
 
 
-def t_mass(lo: float, hi: float, dof: float) -> float:
-    """P(lo < T <= hi), computed on the side of zero that keeps precision."""
+def t_lower_tail(z: float, dof: float) -> float:
+    """P(T <= z) for a standard Student's t, accurate far into the lower tail."""
+    return _lower(z, _tail(z, dof))
+
+
+def _between(lo: float, hi: float, lo_tail: float, hi_tail: float) -> float:
+    """P(lo < T <= hi), taken on the side of zero that keeps precision."""
     if lo >= 0.0:
-        return max(t_lower_tail(-lo, dof) - t_lower_tail(-hi, dof), 0.0)
-    return max(t_lower_tail(hi, dof) - t_lower_tail(lo, dof), 0.0)
+        return max(_lower(-lo, lo_tail) - _lower(-hi, hi_tail), 0.0)
+    return max(_lower(hi, hi_tail) - _lower(lo, lo_tail), 0.0)
 
 
 @lru_cache(maxsize=4096)
@@ -72,7 +81,10 @@ def day_masses(centre: float, scale: float, dof: float, first_day: int = 1) -> t
     """
     lo = max(first_day, math.floor(centre - SUPPORT_SCALES * scale))
     hi = max(lo, math.ceil(centre + SUPPORT_SCALES * scale))
-    masses = [t_mass((k - 0.5 - centre) / scale, (k + 0.5 - centre) / scale, dof) for k in range(lo, hi + 1)]
+    # Neighbouring days share an edge, so each edge's tail is computed once.
+    edges = [(k - 0.5 - centre) / scale for k in range(lo, hi + 2)]
+    tails = [_tail(z, dof) for z in edges]
+    masses = [_between(edges[i], edges[i + 1], tails[i], tails[i + 1]) for i in range(hi - lo + 1)]
     total = math.fsum(masses)
     if total <= 0.0:
         nearest = min(max(round(centre), lo), hi)

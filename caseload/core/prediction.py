@@ -13,6 +13,7 @@ period on day L + 1. The current cycle's evidence then reweights the joint grid.
 from __future__ import annotations
 
 import math
+from collections import defaultdict
 from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import date, timedelta
@@ -130,19 +131,22 @@ def _quantile(days: list[int], masses: list[float], p: float) -> int:
 
 
 def _marginal(grid: dict[tuple[int, int], float], index: int) -> tuple[list[int], list[float]]:
-    sums: dict[int, float] = {}
-    for key, weight in grid.items():
-        sums[key[index]] = sums.get(key[index], 0.0) + weight
+    sums: defaultdict[int, float] = defaultdict(float)
+    if index == 0:
+        for (o, _), weight in grid.items():
+            sums[o] += weight
+    else:
+        for (_, n), weight in grid.items():
+            sums[n] += weight
     total = math.fsum(sums.values())
     days = sorted(sums)
     return days, [sums[d] / total for d in days]
 
 
 def _summary(
-    grid: dict[tuple[int, int], float], index: int, bounds: tuple[float, float], on: Callable[[int], date]
+    days: list[int], probs: list[float], bounds: tuple[float, float], on: Callable[[int], date]
 ) -> tuple[date, tuple[date, date]]:
     """(most likely date, (lower, upper) dates) of one margin of the grid."""
-    days, probs = _marginal(grid, index)
     best = days[max(range(len(probs)), key=probs.__getitem__)]
     return on(best), (on(_quantile(days, probs, bounds[0])), on(_quantile(days, probs, bounds[1])))
 
@@ -177,10 +181,11 @@ def _joint(cycle: Predictive, luteal: Predictive) -> dict[tuple[int, int], float
     grid: dict[tuple[int, int], float] = {}
     for i, pl in enumerate(l_masses):
         length = l_first + i
-        for j, pt in enumerate(t_masses):
-            o = length - (t_first + j)
-            if o >= 1 and pl * pt > 0.0:
-                grid[(o, length + 1)] = pl * pt
+        base = length - t_first  # o = base - j, so only j < base leaves o >= 1
+        for j, pt in enumerate(t_masses[: max(base, 0)]):
+            weight = pl * pt
+            if weight > 0.0:
+                grid[(base - j, length + 1)] = weight
     return grid
 
 
@@ -200,9 +205,8 @@ def predict(
         # Days watched with no sign of ovulation are excluded (truncate and renormalise).
         informed, label = pattern, "pattern" if evidence.horizon is None else "elapsed"
         horizon = evidence.horizon or 1
-        current = {key: w for key, w in pattern.items() if key[0] >= horizon}
-        total = math.fsum(current.values())
-        current = {key: w / total for key, w in current.items()} if total > 0.0 else {}
+        total = math.fsum(w for key, w in pattern.items() if key[0] >= horizon)
+        current = {key: w / total for key, w in pattern.items() if key[0] >= horizon} if total > 0.0 else {}
     else:
         label = "+".join(name for name, _ in found)
         # When the history, the LH test and the shift disagree, the most trusted evidence wins alone.
@@ -216,16 +220,16 @@ def predict(
     def on(cycle_day: int) -> date:
         return start + timedelta(days=cycle_day - 1)
 
-    expected, expected_range = _summary(pattern, 0, OVULATION_RANGE, on)
-    next_period, period_range = _summary(informed, 1, PERIOD_RANGE, on)
+    expected, expected_range = _summary(*_marginal(pattern, 0), OVULATION_RANGE, on)
+    next_period, period_range = _summary(*_marginal(informed, 1), PERIOD_RANGE, on)
     ovulation = ov_range = window = None
     daily: tuple[DayChance, ...] = ()
     distribution: tuple[tuple[date, float], ...] = ()
     if current:
-        ovulation, ov_range = _summary(current, 0, OVULATION_RANGE, on)
+        days, probs = _marginal(current, 0)
+        ovulation, ov_range = _summary(days, probs, OVULATION_RANGE, on)
         width = protocol.fertile_window_days
         window = (max(ovulation - timedelta(days=width - 1), start), ovulation)
-        days, probs = _marginal(current, 0)
         distribution = tuple((on(d), round(p, 6)) for d, p in zip(days, probs))
         daily = _daily(dict(zip(days, probs)), evidence.cycle_day, today, width)
     return Prediction(

@@ -17,20 +17,28 @@ from caseload.reports.summary import count_events, count_reasons, event_order, g
 
 REMOVED = "[removed]"
 BIRTH_DATE_FORMATS = ("%Y-%m-%d", "%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y")
+WORD = re.compile(r"[^\W\d_]+")  # runs of letters: hyphens and apostrophes split a name's parts
+DATE_LIKE = re.compile(r"\d{1,4}[-/.]\d{1,2}[-/.]\d{1,4}")
 
 
 def text_scrubber(patients: Iterable[Patient]) -> Callable[[str], str]:
-    """Remove every patient's name, each part of it, and their birth date from a free text."""
+    """Remove every patient's birth date and every word of their names from a free text.
+
+    Words are compared case-blind and one by one, so a name is caught in any order or spelling
+    of case, and a part of a name is removed even where it is also an ordinary word.
+    """
     words: set[str] = set()
+    dates: set[str] = set()
     for p in patients:
-        words.add(p.name)
-        words.update(part for part in re.split(r"[\s,]+", p.name) if len(part) >= 2)
-        words.update(p.born.strftime(f) for f in BIRTH_DATE_FORMATS)
-    if not words:
-        return lambda text: text
-    alternatives = "|".join(re.escape(w) for w in sorted(words, key=len, reverse=True))
-    pattern = re.compile(rf"(?<!\w)(?:{alternatives})(?!\w)", re.IGNORECASE)
-    return lambda text: pattern.sub(REMOVED, text)
+        parts = WORD.findall(p.name) + ["".join(WORD.findall(token)) for token in p.name.split()]
+        words.update(w.casefold() for w in parts if len(w) >= 2)
+        dates.update(p.born.strftime(f) for f in BIRTH_DATE_FORMATS)
+
+    def scrub(text: str) -> str:
+        text = DATE_LIKE.sub(lambda m: REMOVED if m[0] in dates else m[0], text)
+        return WORD.sub(lambda m: REMOVED if m[0].casefold() in words else m[0], text)
+
+    return scrub
 
 
 def deidentified(summary: WeeklySummary, pseudonym: Callable[[str], str],

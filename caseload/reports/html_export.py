@@ -4,6 +4,7 @@
 from __future__ import annotations
 
 from datetime import date, datetime
+from functools import cache
 from pathlib import Path
 
 from jinja2 import Environment, PackageLoader, StrictUndefined
@@ -32,6 +33,7 @@ def cell(value, kind: str) -> str:
     return str(value)
 
 
+@cache
 def environment() -> Environment:
     env = Environment(
         loader=PackageLoader("caseload.reports", "templates"),

@@ -16,10 +16,10 @@ from datetime import date, timedelta
 
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.analysis import analyse
-from caseload.core.cycles import cycle_spans, group_by_cycle, menstrual_bleeds
+from caseload.core.cycles import CycleSpan, cycle_spans, group_by_cycle, menstrual_bleeds
 from caseload.core.model import Entry, Kind, Observation, Patient, PatientStatus, Plan, Role, Severity, Staff, observations
 from caseload.core.settings import Protocol
-from caseload.core.thermal import thermal_shift, valid_readings
+from caseload.core.thermal import three_over_six, valid_readings
 from caseload.reports.model import (
     UNASSIGNED, AckTime, ActionCount, ActiveCount, AlertSummary, Census, Change, Clinical, ClinicalEvent, Coverage,
     DayLoad, EventCount, KindCount, LoggingGap, Movement, PatientRef, PositiveHcg, Quality, ReasonCount, RoleLoad,
@@ -87,13 +87,14 @@ class WeekData:
     entries_logged: tuple[EntryCount, ...]
     changes: tuple[EntryChange, ...]
     temperature_days: Mapping[str, tuple[date, ...]]
-    charting: Mapping[str, list[Observation]]  # temperatures and bleeds since `charting_from`
+    cycles: Mapping[str, list[CycleSpan]]  # see `cycles_into_week`
+    temperatures: Mapping[str, list[Observation]]  # from each patient's first such cycle to the week's end
     hcg_positives: tuple[HcgPositive, ...]
     hcg_entries: Mapping[str, list[Entry]]  # the whole record of each patient with a positive hCG
 
 
 def charting_from(week: Week, protocol: Protocol) -> date:
-    """How far back the shift recompute reads: a cycle longer than this is amenorrhoea, not a cycle."""
+    """How far back bleeds are read to find the cycles of the week: a longer one is amenorrhoea."""
     return week.first_day - timedelta(days=protocol.amenorrhoea_days)
 
 
@@ -269,18 +270,30 @@ def alert_summary(week: Week, history: Sequence[AlertEvent], unresolved_at_start
 # --- clinical events
 
 
-def confirmed_shift(charted: Sequence[Observation], week: Week, protocol: Protocol) -> date | None:
-    """The day in the week a thermal shift was confirmed, replaying the cycles that reach into it."""
-    seen = [o for o in charted if o.day <= week.last_day]
-    if not any(o.kind is Kind.TEMP and o.day >= week.first_day for o in seen):
-        return None
-    spans = cycle_spans(menstrual_bleeds(seen, protocol))
-    for span, group in zip(spans, group_by_cycle(seen, spans)):
-        if span.end is not None and span.end < week.first_day:
-            continue
-        shift = thermal_shift(valid_readings(group), span.start, span.end or week.last_day, protocol)
-        if shift.confirmed and week.first_day <= shift.confirmed_on <= week.last_day:
-            return shift.confirmed_on
+def cycles_into_week(bleeds: Mapping[str, Sequence[Observation]], temperature_days: Mapping[str, Sequence[date]],
+                     week: Week, protocol: Protocol) -> dict[str, list[CycleSpan]]:
+    """Each patient's cycles, as of the week's end, that reach into the week.
+
+    Only patients with a temperature in the week can have a shift confirmed in it, so only they
+    are kept; their readings are then needed from the first such cycle's day 1, not from further back.
+    """
+    found = {}
+    for pid in temperature_days:
+        seen = [b for b in bleeds.get(pid, ()) if b.day <= week.last_day]
+        spans = [s for s in cycle_spans(menstrual_bleeds(seen, protocol)) if s.end is None or s.end >= week.first_day]
+        if spans:
+            found[pid] = spans
+    return found
+
+
+def confirmed_shift(cycles: Sequence[CycleSpan], temperatures: Sequence[Observation], week: Week,
+                    protocol: Protocol) -> date | None:
+    """The day in the week a thermal shift was confirmed by the three-over-six rule, if one was."""
+    for span, group in zip(cycles, group_by_cycle(list(temperatures), list(cycles))):
+        readings = valid_readings(group)
+        confirmed = three_over_six(readings, protocol).confirmed_at
+        if confirmed is not None and week.first_day <= readings[confirmed].day <= week.last_day:
+            return readings[confirmed].day
     return None
 
 
@@ -309,8 +322,8 @@ def clinical(week: Week, in_week: Sequence[AlertEvent], data: WeekData, protocol
             key = (e.patient_id, e.kind)
             first_raised[key] = min(day, first_raised.get(key, day))
     events = [ClinicalEvent(ref(pid), kind, day) for (pid, kind), day in first_raised.items()]
-    for pid, charted in data.charting.items():
-        confirmed = confirmed_shift(charted, week, protocol)
+    for pid, temperatures in data.temperatures.items():
+        confirmed = confirmed_shift(data.cycles[pid], temperatures, week, protocol)
         if confirmed is not None:
             events.append(ClinicalEvent(ref(pid), SHIFT_CONFIRMED, confirmed))
     pregnancies = []

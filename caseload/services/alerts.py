@@ -62,9 +62,8 @@ def get_alert(ctx: Context, alert_id: int | str) -> Alert:
 def _may_handle(ctx: Context, alert: Alert) -> None:
     if is_clinical(alert.kind):
         if not allowed(ctx.actor, "alert.handle"):
-            raise Refused(
-                f"{alert.kind} is a clinical alert: a nurse, supervisor or admin handles it ({ctx.actor.role.value} staff may not)"
-            )
+            role = ctx.actor.role.value
+            raise Refused(f"{alert.kind} is a clinical alert: a nurse, supervisor or admin handles it ({role} staff may not)")
     else:
         ctx.require("alert.handle-routine")
 

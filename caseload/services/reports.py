@@ -19,7 +19,7 @@ from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
 from caseload.reports.deidentify import deidentified, text_scrubber
 from caseload.reports.model import WeeklySummary
 from caseload.reports.render import FOLDER_FORMATS, FORMATS, write
-from caseload.reports.summary import WeekData, charting_from, compute
+from caseload.reports.summary import WeekData, charting_from, compute, cycles_into_week
 from caseload.reports.weeks import Week, iso_week
 from caseload.services.context import Context
 from caseload.services.errors import Refused
@@ -48,6 +48,9 @@ def _week(ctx: Context, text: str) -> Week:
 def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
     span = Span(week.start, week.end)
     positives = q.hcg_positives(week.first_day, week.last_day, POSITIVE, HCG_POSITIVE_IU_L)
+    temperature_days = q.temperature_days(week.first_day, week.last_day)
+    bleeds = q.charting_bleeds(charting_from(week, ctx.protocol), week.last_day)
+    cycles = cycles_into_week(bleeds, temperature_days, week, ctx.protocol)
     return WeekData(
         staff=tuple(ctx.store.staff.all()),
         patients={p.id: p for p in ctx.store.patients.all()},
@@ -57,8 +60,9 @@ def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
         unresolved_at_start=tuple(q.unresolved_alerts(week.start)),
         entries_logged=tuple(q.entries_logged(span, week.day_starts)),
         changes=tuple(q.changes(span)),
-        temperature_days=q.temperature_days(week.first_day, week.last_day),
-        charting=q.charting_observations(charting_from(week, ctx.protocol), week.last_day),
+        temperature_days=temperature_days,
+        cycles=cycles,
+        temperatures=q.temperatures_from({pid: spans[0].start for pid, spans in cycles.items()}, week.last_day),
         hcg_positives=tuple(positives),
         hcg_entries={p.patient_id: ctx.store.entries.for_patient(p.patient_id) for p in positives},
     )

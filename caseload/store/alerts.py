@@ -14,6 +14,9 @@ from caseload.core.model import Actor, Alert, AlertState, Severity
 from caseload.store.db import Database
 
 
+HANDLING = {AlertState.ACKNOWLEDGED: "alert.ack", AlertState.SNOOZED: "alert.snooze", AlertState.RESOLVED: "alert.resolve"}
+
+
 def alert_from_row(row: dict) -> Alert:
     return Alert(
         id=row["id"],
@@ -97,12 +100,14 @@ class AlertTable:
 
     def auto_resolve(self, actor: Actor, a: Alert, reason: str) -> Alert:
         """The condition ended; the staff member whose write or refresh saw it is recorded."""
-        return self._change(actor, a, "alert.auto-resolve", self._handled(actor, AlertState.RESOLVED, None, None, reason))
+        changes = self._handled(actor, AlertState.RESOLVED, None, None, reason)
+        return self._change(actor, a, "alert.auto-resolve", changes)
 
-    def handle(self, actor: Actor, a: Alert, state: AlertState, note: str | None, snooze_until: date | None = None) -> Alert:
+    def handle(
+        self, actor: Actor, a: Alert, state: AlertState, note: str | None, snooze_until: date | None = None
+    ) -> Alert:
         """A staff member acknowledges, snoozes or resolves the alert."""
-        action = {AlertState.ACKNOWLEDGED: "alert.ack", AlertState.SNOOZED: "alert.snooze", AlertState.RESOLVED: "alert.resolve"}[state]
-        return self._change(actor, a, action, self._handled(actor, state, note, snooze_until, None))
+        return self._change(actor, a, HANDLING[state], self._handled(actor, state, note, snooze_until, None))
 
     def _handled(self, actor: Actor, state: AlertState, note, snooze_until: date | None, reason: str | None) -> dict:
         return {

@@ -16,7 +16,7 @@ from itertools import islice
 from caseload.core.model import Actor, Patient, Staff
 from caseload.core.parse import ParsedEntry
 from caseload.store.db import AUDIT_INSERT, Database, StoreError, audit_values
-from caseload.store.entries import entry_row
+from caseload.store.entries import CURRENT_ROWS, IN_ORDER, entry_row
 from caseload.store.records import patient_to_row
 from caseload.store.staff import staff_row
 
@@ -71,30 +71,51 @@ class BulkTable:
         """Entries in id order with their `entry.log` / `entry.amend` audit rows; a transaction per batch."""
         if batch < 1:
             raise ValueError(f"batch is {batch}: give 1 or more rows per transaction")
-        count, expected = 0, self.next_entry_id()
-        for chunk in _chunks(items, batch):
-            if chunk[0].id < expected:
-                raise StoreError(f"entry id {chunk[0].id} is taken: ids start at {expected} (next_entry_id)")
-            self._entry_batch(chunk)
-            count, expected = count + len(chunk), chunk[-1].id + 1
-        return count
+        return sum(self.insert_prepared(prepare_entries(chunk)) for chunk in _chunks(items, batch))
 
-    def _entry_batch(self, chunk: list[NewEntry]) -> None:
-        rows, audits = [], []
-        for item in chunk:
-            at = _at_text(item.at)
-            row = entry_row(item.actor, item.patient_id, item.parsed, at, item.supersedes, item.amend_reason)
-            rows.append((item.id, *row.values()))
-            action = "entry.amend" if item.supersedes else "entry.log"
-            audits.append(audit_values(at, item.actor, action, "entry", item.id, after=row))
-        columns = ", ".join(("id", *row))
-        marks = ", ".join("?" * (len(row) + 1))
+    def insert_prepared(self, prepared: PreparedEntries) -> int:
+        """Rows made by `prepare_entries` (perhaps in another process), in one transaction."""
+        if not prepared.rows:
+            return 0
+        first = prepared.rows[0][0]
+        if first < self.next_entry_id():
+            raise StoreError(f"entry id {first} is taken: new ids start at {self.next_entry_id()} (next_entry_id)")
+        marks = ", ".join("?" * len(prepared.columns))
         with self.db.write():
-            self.db.conn.executemany(f"INSERT INTO entry ({columns}) VALUES ({marks})", rows)
-            self.db.conn.executemany(AUDIT_INSERT, audits)
+            self.db.conn.executemany(f"INSERT INTO entry ({', '.join(prepared.columns)}) VALUES ({marks})", prepared.rows)
+            self.db.conn.executemany(AUDIT_INSERT, prepared.audits)
+        return len(prepared.rows)
+
+    def scan_current_entries(self) -> int:
+        """Read the rows a whole-caseload refresh reads, in its order, building nothing; returns the count.
+        The floor that refresh is measured against."""
+        return sum(1 for _ in self.db.conn.execute(CURRENT_ROWS + IN_ORDER))
 
     def _audit(self, changes: Iterable[tuple]) -> None:
         self.db.conn.executemany(AUDIT_INSERT, (audit_values(*c) for c in changes))
+
+
+@dataclass(frozen=True)
+class PreparedEntries:
+    """Entry rows and their audit rows as plain values, ready to insert."""
+
+    columns: tuple[str, ...]
+    rows: list[tuple]
+    audits: list[tuple]
+
+
+def prepare_entries(items: Iterable[NewEntry]) -> PreparedEntries:
+    """The rows `EntryTable.add` would write for each entry, with its id, and their audit rows."""
+    columns: tuple[str, ...] = ()
+    rows, audits = [], []
+    for item in items:
+        at = _at_text(item.at)
+        row = entry_row(item.actor, item.patient_id, item.parsed, at, item.supersedes, item.amend_reason)
+        columns = columns or ("id", *row)
+        rows.append((item.id, *row.values()))
+        action = "entry.amend" if item.supersedes else "entry.log"
+        audits.append(audit_values(at, item.actor, action, "entry", item.id, after=row))
+    return PreparedEntries(columns, rows, audits)
 
 
 def _chunks(items: Iterable[NewEntry], size: int) -> Iterator[list[NewEntry]]:

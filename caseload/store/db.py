@@ -7,7 +7,7 @@ import os
 import sqlite3
 import time
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager
+from contextlib import contextmanager, suppress
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import TypeVar
@@ -34,6 +34,8 @@ def create_private(path: Path) -> None:
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         fd = os.open(path, os.O_CREAT | os.O_EXCL | os.O_WRONLY, 0o600)
+    except FileExistsError:
+        raise
     except OSError as err:
         raise StoreError(f"cannot create {path}: {err.strerror}") from None
     os.close(fd)
@@ -46,7 +48,8 @@ class Database:
         self.path = Path(path)
         self.clock = clock
         if not self.path.exists():
-            create_private(self.path)
+            with suppress(FileExistsError):  # another process created it a moment ago
+                create_private(self.path)
         try:
             conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
         except sqlite3.Error as err:
@@ -56,17 +59,29 @@ class Database:
         self.conn = conn
         try:
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
-            self._refuse_foreign()
-            conn.execute("PRAGMA journal_mode = WAL")
-            conn.execute("PRAGMA foreign_keys = ON")
-            conn.execute("PRAGMA synchronous = FULL")
-            self.migrate()
+            self._prepare()
         except StoreError:
             conn.close()
             raise
         except sqlite3.DatabaseError as err:
             conn.close()
             raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
+
+    def _prepare(self, attempts: int = 6) -> None:
+        """Check, set up and upgrade the file. While another process is creating the file or
+        switching it to WAL, SQLite can report a lock without waiting on the busy timeout: retry."""
+        for attempt in range(1, attempts + 1):
+            try:
+                self._refuse_foreign()
+                self.conn.execute("PRAGMA journal_mode = WAL")
+                self.conn.execute("PRAGMA foreign_keys = ON")
+                self.conn.execute("PRAGMA synchronous = FULL")
+                self.migrate()
+                return
+            except sqlite3.OperationalError as err:
+                if attempt == attempts or not _is_lock_error(err):
+                    raise
+                time.sleep(0.05 * 2**attempt)
 
     def close(self) -> None:
         self.conn.close()
@@ -77,25 +92,29 @@ class Database:
 
     def _refuse_foreign(self) -> None:
         """Before anything touches the file: refuse a newer schema or someone else's database."""
-        current = self.version
+        # One statement, one snapshot: another process may be creating the store right now.
+        current, objects = self.conn.execute(
+            "SELECT (SELECT user_version FROM pragma_user_version), (SELECT count(*) FROM sqlite_master)"
+        ).fetchone()
         if current > migrations.LATEST:
             raise StoreError(
                 f"{self.path} was written by a newer caseload (schema {current}, this one knows up to "
                 f"{migrations.LATEST}): upgrade caseload before opening it"
             )
-        if current == 0 and self.conn.execute("SELECT count(*) FROM sqlite_master").fetchone()[0]:
+        if current == 0 and objects:
             raise StoreError(f"{self.path} is an SQLite file but not a caseload store")
 
     def migrate(self) -> None:
-        steps = migrations.pending(self.version)
-        if not steps:
-            return
         current = self.version
+        if not migrations.pending(current):
+            return
         # A step may rebuild a table (create, copy, drop, rename), which live foreign keys refuse
         # half way; the references are checked once, at the end, inside the same transaction.
         self.conn.execute("PRAGMA foreign_keys = OFF")
         try:
             with self.write():
+                current = self.version  # again under the lock: another process may have just upgraded
+                steps = migrations.pending(current)
                 for version, step in steps:
                     step(self.conn)
                     self.conn.execute(f"PRAGMA user_version = {version}")
@@ -104,7 +123,7 @@ class Database:
                     raise StoreError(f"{len(broken)} rows lose the row they refer to (first in table {broken[0][0]})")
         except Exception as err:  # whatever a step raised, its transaction was rolled back whole
             raise StoreError(
-                f"{self.path}: upgrading schema {current} to {steps[-1][0]} failed ({err}): "
+                f"{self.path}: upgrading schema {current} to {migrations.LATEST} failed ({err}): "
                 f"the file is left as it was, at schema {current}"
             ) from None
         finally:

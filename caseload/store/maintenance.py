@@ -24,9 +24,10 @@ class Health:
 
 def backup_to(db: Database, target: Path) -> None:
     """Copy the store with SQLite's online backup: consistent even while others write."""
-    if target.exists():
-        raise StoreError(f"{target} exists already: choose a new backup file")
-    create_private(target)
+    try:
+        create_private(target)
+    except FileExistsError:
+        raise StoreError(f"{target} exists already: choose a new backup file") from None
     dest = sqlite3.connect(target)
     try:
         db.conn.backup(dest)

@@ -13,6 +13,9 @@ CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table}
 BEGIN SELECT RAISE(ABORT, '{table} is append-only: rows cannot be changed'); END;
 CREATE TRIGGER {table}_no_delete BEFORE DELETE ON {table}
 BEGIN SELECT RAISE(ABORT, '{table} is append-only: rows cannot be deleted'); END;
+-- INSERT OR REPLACE deletes the old row without firing delete triggers: refuse a taken id instead.
+CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN NEW.id IN (SELECT id FROM {table})
+BEGIN SELECT RAISE(ABORT, '{table} is append-only: rows cannot be replaced'); END;
 """
 
 
@@ -79,6 +82,8 @@ def _v1(conn: sqlite3.Connection) -> None:
         -- Entries are append-only: the one change allowed is a void, once, which keeps the row.
         CREATE TRIGGER entry_no_delete BEFORE DELETE ON entry
         BEGIN SELECT RAISE(ABORT, 'entry is append-only: void it with a reason instead'); END;
+        CREATE TRIGGER entry_no_replace BEFORE INSERT ON entry WHEN NEW.id IN (SELECT id FROM entry)
+        BEGIN SELECT RAISE(ABORT, 'entry is append-only: rows cannot be replaced'); END;
         CREATE TRIGGER entry_void_only BEFORE UPDATE ON entry
         WHEN OLD.voided_reason IS NOT NULL
           OR NEW.voided_reason IS NULL

@@ -7,8 +7,9 @@ range is inside it), then checked exactly with julianday(), which honours the of
 
 from __future__ import annotations
 
+import json
 from collections import defaultdict
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, date, datetime, timedelta
@@ -113,15 +114,18 @@ def _day(text: str | None) -> date | None:
 
 
 def _within(column: str, span: Span) -> tuple[str, list[str]]:
+    """Rows well inside the range pass on text alone; only those near a bound are parsed."""
     sql = (
-        f"({column} >= ? AND {column} < ? AND julianday({column}) >= julianday(?)"
-        f" AND julianday({column}) < julianday(?))"
+        f"({column} >= ? AND {column} < ? AND (({column} >= ? AND {column} < ?)"
+        f" OR (julianday({column}) >= julianday(?) AND julianday({column}) < julianday(?))))"
     )
-    return sql, [iso(span.start - MARGIN), iso(span.end + MARGIN), iso(span.start), iso(span.end)]
+    return sql, [iso(span.start - MARGIN), iso(span.end + MARGIN), iso(span.start + MARGIN), iso(span.end - MARGIN),
+                 iso(span.start), iso(span.end)]
 
 
 def _before(column: str, moment: datetime) -> tuple[str, list[str]]:
-    return f"({column} < ? AND julianday({column}) < julianday(?))", [iso(moment + MARGIN), iso(moment)]
+    sql = f"({column} < ? OR ({column} < ? AND julianday({column}) < julianday(?)))"
+    return sql, [iso(moment - MARGIN), iso(moment + MARGIN), iso(moment)]
 
 
 def _marks(values: Sequence) -> str:
@@ -201,15 +205,22 @@ class ReportQueries:
         return [_alert_event(r) for r in rows]
 
     def unresolved_alerts(self, moment: datetime) -> list[AlertEvent]:
-        """The last transition before `moment` of each alert that was not resolved then."""
-        when, params = _before("at", moment)
+        """The last transition before `moment` of each alert that was not resolved then.
+
+        A resolved alert stays resolved (its key is never raised again), so the only candidates
+        are alerts unresolved now and those resolved since `moment`: not the whole history.
+        """
+        when, params = _before("x.at", moment)
         rows = self.db.query(
-            f"WITH last AS (SELECT max(id) AS id FROM audit WHERE action IN ({_marks(ALERT_ACTIONS)}) AND {when}"
-            "  GROUP BY row_id)"
-            f" SELECT {_ALERT_COLUMNS} FROM last JOIN audit a ON a.id = last.id"
+            "WITH candidate(row_id) AS ("
+            "  SELECT CAST(id AS TEXT) FROM alert WHERE state != 'resolved'"
+            f"  UNION SELECT row_id FROM audit WHERE action IN ({_marks(RESOLVING)}) AND at >= ?)"
+            f" SELECT {_ALERT_COLUMNS} FROM candidate c"
+            " JOIN audit a ON a.id = (SELECT max(x.id) FROM audit x"
+            f"  WHERE x.row_id = c.row_id AND x.action IN ({_marks(ALERT_ACTIONS)}) AND {when})"
             " LEFT JOIN alert al ON al.id = CAST(a.row_id AS INTEGER)"
             f" WHERE a.action NOT IN ({_marks(RESOLVING)}) ORDER BY a.id",
-            [*ALERT_ACTIONS, *params, *RESOLVING],
+            [*RESOLVING, iso(moment - MARGIN), *ALERT_ACTIONS, *params, *RESOLVING],
         )
         return [_alert_event(r) for r in rows]
 
@@ -269,18 +280,40 @@ class ReportQueries:
         )
         return [HcgPositive(r["patient_id"], date.fromisoformat(r["day"])) for r in rows]
 
-    def charting_observations(self, first: date, last: date) -> dict[str, list[Observation]]:
-        """Counting temperatures and bleeds from `first` to `last` of the patients who chart temperatures."""
+    def charting_bleeds(self, first: date, last: date) -> dict[str, list[Observation]]:
+        """Counting bleeds from `first` to `last` of the patients who chart temperatures."""
         rows = self.db.db.execute(
             "SELECT e.patient_id, e.day, e.kind, e.number, e.word, e.flags FROM entry e"
             " JOIN patient p ON p.id = e.patient_id AND p.charting_temps = 1"
-            f" WHERE e.kind IN (?, ?) AND e.day BETWEEN ? AND ? AND {CURRENT}"
-            " ORDER BY e.patient_id, e.day, e.id",
-            [Kind.TEMP.value, Kind.BLEED.value, first.isoformat(), last.isoformat()],
+            f" WHERE e.kind = ? AND e.day BETWEEN ? AND ? AND {CURRENT} ORDER BY e.patient_id, e.day, e.id",
+            [Kind.BLEED.value, first.isoformat(), last.isoformat()],
         )
-        kinds = {k.value: k for k in (Kind.TEMP, Kind.BLEED)}
-        found: dict[str, list[Observation]] = defaultdict(list)
-        for pid, day, kind, number, word, flags in rows:
-            flagged = tuple(f for f in flags.split(",") if f) if flags else ()
-            found[pid].append(Observation(date.fromisoformat(day), kinds[kind], Value(number=number, word=word), flagged))
-        return dict(found)
+        return _observations(rows)
+
+    def temperatures_from(self, starts: Mapping[str, date], last: date) -> dict[str, list[Observation]]:
+        """Each named patient's counting temperatures from their own start day to `last`."""
+        # The patient list drives the join and each patient is one range of the (patient, day)
+        # index; left to itself the planner would scan every patient's days through (kind, day).
+        rows = self.db.db.execute(
+            "SELECT e.patient_id, e.day, e.kind, e.number, e.word, e.flags FROM json_each(?) AS j"
+            " CROSS JOIN entry e INDEXED BY entry_patient_day ON e.patient_id = j.key AND e.day >= j.value AND e.day <= ?"
+            f" WHERE e.kind = ? AND {CURRENT} ORDER BY e.patient_id, e.day, e.id",
+            [json.dumps({pid: day.isoformat() for pid, day in starts.items()}), last.isoformat(), Kind.TEMP.value],
+        )
+        return _observations(rows)
+
+
+_KINDS = {k.value: k for k in Kind}
+
+
+def _observations(rows: Iterable[tuple]) -> dict[str, list[Observation]]:
+    found: dict[str, list[Observation]] = defaultdict(list)
+    # Days and values repeat across patients: one frozen object each is shared.
+    days: dict[str, date] = {}
+    values: dict[tuple, Value] = {}
+    for pid, day, kind, number, word, flags in rows:
+        when = days.get(day) or days.setdefault(day, date.fromisoformat(day))
+        value = values.get((number, word)) or values.setdefault((number, word), Value(number=number, word=word))
+        flagged = tuple(f for f in flags.split(",") if f) if flags else ()
+        found[pid].append(Observation(when, _KINDS[kind], value, flagged))
+    return dict(found)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from datetime import date
 
 from rich.text import Text
 
@@ -88,8 +87,16 @@ def _outlook_prediction(a: Analysis, text: Text) -> None:
     text.append(f"{chances}\n")
 
 
-def outlook_text(a: Analysis, today: date) -> Text:
-    text = Text()
+def patient_line(record: PatientRecord) -> Text:
+    p = record.patient
+    text = Text("Patient ", style="bold").append_text(literal(f"{p.id} {p.name}"))
+    text.append(f", born {p.born.isoformat()} ({record.analysis.age_years} y), plan {p.plan.value}, {p.status.value}, nurse ")
+    return text.append_text(literal(p.nurse_id or "-")).append("\n")
+
+
+def outlook_text(record: PatientRecord) -> Text:
+    a = record.analysis
+    text = patient_line(record)
     if a.next_event is not None:
         text.append("Next: ", style="bold")
         text.append(f"{NEXT_EVENT_LABELS.get(a.next_event.label, a.next_event.label)} {short_day(a.next_event.day)}\n")

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import unicodedata
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date
 
 from rich.text import Text
 
@@ -124,14 +124,6 @@ def short_day(day: date | None) -> str:
 
 def long_day(day: date) -> str:
     return f"{day.strftime('%a')} {day.day} {day.strftime('%b %Y')}"
-
-
-def relative_day(day: date, today: date) -> str:
-    if day == today:
-        return "today"
-    if day == today - timedelta(days=1):
-        return "yesterday"
-    return short_day(day)
 
 
 def day_span(pair: tuple[date, date] | None) -> str:

@@ -11,8 +11,9 @@ from typing import Any
 from textual.message import Message
 from textual.screen import Screen
 
+from caseload.core.model import Kind
 from caseload.services.entries import Logged
-from caseload.tui.words import alert_label, phase_label
+from caseload.tui.words import alert_label, phase_label, plain
 
 
 class Written(Message):
@@ -51,7 +52,9 @@ def _state_after(done: Logged) -> str:
 def logged_summary(done: Logged) -> str:
     """What a clerk reads after saving: the entry, the new cycle day, any alert it raised."""
     e = done.entry
-    return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {e.value.display()} on {e.day.isoformat()}." + _state_after(done)
+    unit = " C" if e.kind is Kind.TEMP else ""
+    value = plain(e.value.display())
+    return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {value}{unit} on {e.day.isoformat()}." + _state_after(done)
 
 
 def voided_summary(done: Logged) -> str:

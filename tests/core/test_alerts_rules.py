@@ -14,7 +14,7 @@ import pytest
 from caseload.core.alerts import CAUTION, RULES, AlertKind
 from caseload.core.model import Kind, PatientStatus, Plan, Severity, Value
 from caseload.core.settings import DEFAULT_PROTOCOL
-from tests.core.alert_charts import Chart, at, day, kinds, of, patient, run
+from tests.core.alert_charts import HIGH, LOW, Chart, at, day, kinds, of, patient, run
 
 K = AlertKind
 
@@ -77,13 +77,16 @@ def test_window_open_on_an_lh_surge_with_no_shift_even_at_low_p():
     assert alert.raisable and alert.evidence["lh_surge"] == today.isoformat()
 
 
-def test_an_lh_surge_without_temperatures_holds_the_window_to_the_day_after_ovulation():
-    chart, current = regular(temps=False)
-    surge = day(current, 12)
+@pytest.mark.parametrize("temps", [True, False])
+def test_an_lh_surge_holds_the_window_to_the_day_after_the_ovulation_it_dates(temps):
+    chart, current = regular(temps=temps)
+    surge = day(current, 6)  # early, where the pattern alone gives P(fertile) under 0.2
     chart.lh(surge)
-    who = patient(temps=False)
+    if temps:
+        chart.temps(current, day(current, 10))  # no shift yet, however long it takes to confirm
+    who = patient(temps=temps)
     assert K.WINDOW_OPEN in kinds(run(chart, surge + timedelta(days=2), who)[1])  # ovulation + 1 (ovum 12-24 h)
-    assert K.WINDOW_OPEN not in kinds(run(chart, surge + timedelta(days=4), who)[1], raisable_only=False)
+    assert K.WINDOW_OPEN not in kinds(run(chart, surge + timedelta(days=3), who)[1])
 
 
 def test_window_alerts_end_with_a_confirmed_shift():
@@ -134,6 +137,14 @@ def test_no_thermal_shift_near_miss_a_shift_confirmed_a_day_before_the_deadline(
     assert K.NO_THERMAL_SHIFT not in kinds(found, raisable_only=False)
 
 
+def test_no_thermal_shift_near_miss_an_uncertain_shift():
+    chart, current = regular()
+    _uncertain(chart, current, 21)
+    analysis, found = run(chart, day(current, 21))
+    assert analysis.current.shift.agreement == "uncertain"
+    assert K.NO_THERMAL_SHIFT not in kinds(found, raisable_only=False)
+
+
 def test_no_thermal_shift_needs_readings_on_70_percent_of_days():
     chart, current = regular()
     today = day(current, 21)
@@ -173,6 +184,26 @@ def test_monophasic_cycle_with_readings_on_20_of_28_days():
 def test_monophasic_cycle_near_miss_readings_on_19_of_28_days():
     chart, today = _monophasic(19)  # 68%: too thin to call the cycle monophasic
     assert K.MONOPHASIC_CYCLE not in kinds(run(chart, today)[1], raisable_only=False)
+
+
+def _uncertain(chart: Chart, start, until_cd: int) -> None:
+    """Low to day 14, then mostly high with every third reading back under the coverline: the
+    three-over-six rule never sees three highs in a row, the change-point estimate sees the rise."""
+    for cd in range(1, until_cd + 1):
+        chart.temp(day(start, cd), LOW if cd <= 14 else (LOW + 0.05 if (cd - 15) % 3 == 2 else HIGH))
+
+
+def test_no_monophasic_cycle_when_the_change_point_sees_a_rise():
+    chart = Chart()
+    start = chart.history([28] * 5)
+    chart.bleed(start)
+    _uncertain(chart, start, 28)
+    nxt = start + timedelta(days=28)
+    chart.bleed(nxt)
+    analysis, found = run(chart, nxt)
+    shift = analysis.cycles[-2].shift
+    assert not shift.confirmed and shift.change_point.passes and shift.agreement == "uncertain"
+    assert K.MONOPHASIC_CYCLE not in kinds(found, raisable_only=False)
 
 
 def test_an_older_monophasic_cycle_is_held_but_not_raised():

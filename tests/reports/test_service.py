@@ -188,3 +188,24 @@ def test_free_text_is_escaped_in_the_page(fresh_clinic, tmp_path):
     page = export_summary(c.context(), W43, "html", tmp_path / "s.html", deidentify=False).read_text()
     assert "<script>" not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt; &amp; more" in page
+
+
+@pytest.mark.parametrize(
+    "text, scrubbed",
+    [
+        ("called Mary-Jane O'Brien back", "called [removed]-[removed] O'[removed] back"),
+        ("spoke to OBRIEN, mary jane", "spoke to [removed], [removed] [removed]"),
+        ("born 14/03/1990 (1990-03-14); entered 2026-10-19", "born [removed] ([removed]); entered 2026-10-19"),
+        ("Li Na rang; Lina did not", "[removed] [removed] rang; Lina did not"),
+        ("typo: 37.10 for 36.71", "typo: 37.10 for 36.71"),
+    ],
+)
+def test_free_text_loses_patient_names_and_birth_dates(text, scrubbed):
+    from datetime import date
+
+    from caseload.core.model import Patient
+    from caseload.reports.deidentify import text_scrubber
+
+    scrub = text_scrubber([Patient("P1", "Mary-Jane O'Brien", date(1990, 3, 14), None),
+                           Patient("P2", "Li Na", date(1988, 7, 2), None)])
+    assert scrub(text) == scrubbed

@@ -53,6 +53,7 @@ def optional(module: str, name: str) -> Callable | None:
 list_alerts = optional("caseload.services.alerts", "list_alerts")
 acknowledge = optional("caseload.services.alerts", "acknowledge")
 use_protocol = optional("caseload.services.protocol", "use_protocol")
+export_summary = optional("caseload.services.reports", "export_summary")
 
 PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
     "caseload.view": lambda ctx, env: list_caseload(ctx),
@@ -76,6 +77,8 @@ if list_alerts and acknowledge:
     PERFORMERS["alert.handle-routine"] = lambda ctx, env: acknowledge(ctx, env.routine_alert, None)
 if use_protocol:
     PERFORMERS["protocol.set"] = lambda ctx, env: use_protocol(ctx, str(env.protocol_file))
+if export_summary:
+    PERFORMERS["summary.export"] = lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True)
 
 ABSENT = {
     "alert.view": "caseload.services.alerts is not there yet",
@@ -237,10 +240,17 @@ def test_store_and_its_journal_files_are_owner_only_whatever_the_umask(cli):
     assert modes == {"clinic.db": 0o600, "clinic.db-wal": 0o600, "clinic.db-shm": 0o600}
 
 
+FORGED = "(1, 'now', 'mallory', 'x', 'staff.add', 'staff', 'ada', NULL, NULL)"
+
+
 @pytest.mark.parametrize("sql", ["UPDATE audit SET by_staff = 'someone else' WHERE id = 1",
                                  "UPDATE audit SET after = NULL", "DELETE FROM audit WHERE id = 2",
-                                 "DELETE FROM audit"])
-def test_plain_sql_cannot_change_the_audit_trail(clinic, sql):
+                                 "DELETE FROM audit", f"INSERT OR REPLACE INTO audit VALUES {FORGED}",
+                                 f"REPLACE INTO audit VALUES {FORGED}",
+                                 "INSERT OR REPLACE INTO entry (id, patient_id, day, kind, raw, by_staff, os_account, at)"
+                                 " VALUES (1, 'P0001', '2026-11-28', 'bleed', 'light', 'ada', 'x', 'now')",
+                                 "DELETE FROM entry WHERE id = 1"])
+def test_plain_sql_cannot_change_the_audit_trail_or_the_entries(clinic, sql):
     before = snapshot(clinic.db)
     conn = sqlite3.connect(clinic.db)
     with pytest.raises(sqlite3.IntegrityError, match="append-only"):

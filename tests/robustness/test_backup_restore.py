@@ -122,7 +122,6 @@ def test_restore_refuses_a_file_that_is_not_a_whole_store_of_ours(clinic, tmp_pa
     assert_clean_exit(result)
     assert result.exit_code == 1
     assert re.search(why, result.stderr), result.stderr
-    print(case, result.stderr.strip())
     assert snapshot(clinic.db) == before
 
 

@@ -16,8 +16,8 @@ from caseload.core.parse import parse_entry
 from caseload.services import importer
 from caseload.services.context import Context
 from caseload.services.entries import log_entry
-from caseload.services.importer import import_csv
 from caseload.services.errors import Refused
+from caseload.services.importer import import_csv
 from caseload.store import Store, StoreError
 from caseload.store import db as db_module
 from tests.robustness.robust_support import assert_clean_exit, audit_mismatches, snapshot
@@ -105,15 +105,15 @@ def short_waits(monkeypatch):
     monkeypatch.setattr(db_module.time, "sleep", lambda s: None)
 
 
-def hold_write_lock(path: Path, seconds: float) -> threading.Thread:
-    """Another connection takes the write lock and keeps it for `seconds`."""
+def hold_write_lock(path: Path, release: threading.Event) -> threading.Thread:
+    """Another connection takes the write lock and keeps it until `release` is set."""
     taken = threading.Event()
 
     def hold():
         conn = sqlite3.connect(path, isolation_level=None)
         conn.execute("BEGIN IMMEDIATE")
         taken.set()
-        threading.Event().wait(seconds)
+        release.wait(30)
         conn.execute("ROLLBACK")
         conn.close()
 
@@ -125,22 +125,27 @@ def hold_write_lock(path: Path, seconds: float) -> threading.Thread:
 
 def test_a_writer_waits_out_a_lock_held_for_a_while(store, staffed, patient, monkeypatch):
     monkeypatch.setattr(db_module, "BUSY_TIMEOUT_MS", 100)
+    release = threading.Event()
+    threading.Timer(0.4, release.set).start()
     with Store(store.path) as other:
-        holder = hold_write_lock(store.path, 0.4)
+        holder = hold_write_lock(store.path, release)
         done = log_entry(Context(other, staffed[Role.PHONE], patient.created), patient.id, "lh", "positive")
         holder.join()
     assert store.entries.get(done.entry.id).value.word == "positive"
 
 
 def test_a_lock_held_past_every_retry_is_one_line_and_writes_nothing(clinic, short_waits):
-    before = snapshot(clinic.db)
-    holder = hold_write_lock(clinic.db, 3)
-    with Store(clinic.db) as s:
-        ctx = Context(s, Actor(s.staff.get("phil"), "tester"), s.patients.get("P0001").created)
-        with pytest.raises(StoreError, match="stayed locked by other writers.*nothing was written"):
-            log_entry(ctx, "P0001", "lh", "positive")
-    result = clinic("log", "P0001", "lh", "positive")
-    holder.join()
+    before, release = snapshot(clinic.db), threading.Event()
+    holder = hold_write_lock(clinic.db, release)
+    try:
+        with Store(clinic.db) as s:
+            ctx = Context(s, Actor(s.staff.get("phil"), "tester"), s.patients.get("P0001").created)
+            with pytest.raises(StoreError, match="stayed locked by other writers.*nothing was written"):
+                log_entry(ctx, "P0001", "lh", "positive")
+        result = clinic("log", "P0001", "lh", "positive")
+    finally:
+        release.set()
+        holder.join()
     assert_clean_exit(result)
     assert result.exit_code == 1 and "stayed locked" in result.stderr
     assert snapshot(clinic.db) == before

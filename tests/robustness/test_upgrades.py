@@ -3,7 +3,9 @@ fails halfway leaves the file as it was; a file from a newer caseload is refused
 
 from __future__ import annotations
 
+import multiprocessing
 import sqlite3
+import time
 
 import pytest
 from click.testing import CliRunner
@@ -136,3 +138,40 @@ def test_a_newer_file_is_refused_and_its_bytes_untouched(v1_file):
     result = CliRunner().invoke(main, ["--db", str(v1_file), "--today", "2026-12-01", "log", "P0001", "lh", "positive"])
     assert result.exit_code == 1 and "written by a newer caseload" in result.stderr
     assert v1_file.read_bytes() == data
+
+
+def slow_v2(conn: sqlite3.Connection) -> None:
+    time.sleep(0.3)  # long enough for every other process to be waiting on the lock
+    conn.execute("ALTER TABLE patient ADD COLUMN phone TEXT")
+
+
+def open_store(path: str) -> None:
+    Store(path).close()
+
+
+def test_processes_opening_an_older_file_at_once_upgrade_it_once(v1_file, monkeypatch):
+    before = snapshot(v1_file)
+    with_v2(monkeypatch, slow_v2)
+    procs = [multiprocessing.get_context("fork").Process(target=open_store, args=(str(v1_file),)) for _ in range(4)]
+    for p in procs:
+        p.start()
+    for p in procs:
+        p.join(30)
+    assert [p.exitcode for p in procs] == [0, 0, 0, 0]
+    after = snapshot(v1_file)
+    assert rows_of(after, "staff", 6) == before["staff"] and rows_of(after, "entry", 20) == before["entry"]
+    with Store(v1_file) as store:
+        assert store.db.version == 2
+
+
+@pytest.mark.parametrize("round_", range(3))
+def test_processes_creating_a_new_store_at_once_all_open_it(tmp_path, round_):
+    path = tmp_path / "fresh.db"
+    procs = [multiprocessing.get_context("fork").Process(target=open_store, args=(str(path),)) for _ in range(4)]
+    for p in procs:
+        p.start()
+    for p in procs:
+        p.join(30)
+    assert [p.exitcode for p in procs] == [0, 0, 0, 0]
+    with Store(path) as store:
+        assert store.db.version == migrations.LATEST

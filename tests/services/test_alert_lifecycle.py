@@ -100,11 +100,13 @@ def test_a_corrected_reading_auto_resolves_and_the_key_is_never_raised_again(fev
     assert actions == [("alert.raise", "phone1"), ("alert.auto-resolve", "nurse1")]
 
 
-def test_resolve_by_a_nurse_then_nothing_left_to_do(fever, as_role):
+def test_resolve_by_a_nurse_then_nothing_left_to_do(fever, as_role, store):
     alert, _ = fever
     nurse = as_role(Role.NURSE)
     done = service.resolve(nurse, alert.id, "seen in clinic, antibiotics")
     assert done.state is AlertState.RESOLVED and done.resolved_reason is None
+    (action, by, after) = audit(store)[-1]
+    assert (action, by, after["note"], after["handled_by"]) == ("alert.resolve", "nurse1", "seen in clinic, antibiotics", "nurse1")
     with pytest.raises(Refused, match=f"alert {alert.id} is resolved .by nurse1.: nothing left to do"):
         service.snooze(nurse, alert.id, "+2", "later")
 

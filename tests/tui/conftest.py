@@ -72,7 +72,9 @@ async def settle(pilot, rounds: int = 3) -> None:
         await pilot.pause()
 
 
-async def type_text(pilot, text: str) -> None:
-    """Put text into the focused field at once (key by key is slow and adds nothing past a few keys)."""
-    pilot.app.focused.insert_text_at_cursor(text)
+async def fill(pilot, text: str) -> None:
+    """Replace the focused field's text at once (key by key is slow and adds nothing past a few keys)."""
+    field = pilot.app.focused
+    field.value = text
+    field.cursor_position = len(text)
     await pilot.pause()

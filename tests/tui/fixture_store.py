@@ -5,7 +5,7 @@ from __future__ import annotations
 from datetime import date, timedelta
 from pathlib import Path
 
-from caseload.core.model import Actor, Role
+from caseload.core.model import Actor
 from caseload.core.parse import parse_entry
 from caseload.services.context import Context
 from caseload.services.derived import refresh_all

@@ -9,7 +9,7 @@ from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_table import AlertTable
 from caseload.tui.widgets.entries_table import EntriesTable
-from tests.tui.conftest import settle, type_text
+from tests.tui.conftest import settle, fill
 
 
 def alert_of(ctx, kind: str):
@@ -45,7 +45,7 @@ async def test_queue_groups_by_severity_and_acknowledging_takes_an_alert_off(app
         assert isinstance(app.screen, NoteDialog)
         await pilot.press("enter")  # a clinical alert needs a note: nothing happens yet
         assert isinstance(app.screen, NoteDialog)
-        await type_text(pilot, "called back, advised to rest and re-measure")
+        await fill(pilot, "called back, advised to rest and re-measure")
         await pilot.press("enter")
         await settle(pilot)
         assert fever.id not in queue_ids(app)
@@ -119,7 +119,7 @@ async def test_a_nurse_voids_an_entry_with_a_reason(app_as, service_ctx):
         newest = entries.current_entry()
         assert entries.check_action("void", ()) is True
         await pilot.press("v")
-        await type_text(pilot, "logged for the wrong patient")
+        await fill(pilot, "logged for the wrong patient")
         await pilot.press("enter")
         await settle(pilot)
         assert entries.get_cell(str(newest.id), "Status").plain == "void: logged for the wrong patient"
@@ -145,3 +145,23 @@ async def test_a_refused_action_shows_one_line_and_no_traceback(app_as, service_
         notes = [n.message for n in app._notifications]
         assert any(m.startswith(f"alert {fever.id} is resolved") for m in notes)
         assert all("Traceback" not in m and "\n" not in m for m in notes)
+
+
+async def test_a_supervisor_exports_the_week_de_identified(app_as, service_ctx, tmp_path):
+    out = tmp_path / "week.json"
+    app = app_as("sue")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        assert app.screen.check_action("export", ()) is True
+        await pilot.press("e")
+        await pilot.pause()
+        app.screen.query_one("#format").value = "json"
+        await pilot.pause()
+        app.screen.query_one("#out").focus()
+        await pilot.pause()
+        await fill(pilot, str(out))
+        await pilot.press("enter")
+        await settle(pilot)
+    text = out.read_text(encoding="utf-8")
+    assert "px-" in text and "Pia Test" not in text  # keyed pseudonyms, no names
+    assert service_ctx("ada").store.audit.rows("summary.export")[-1].by_staff == "sue"

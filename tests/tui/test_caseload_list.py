@@ -52,7 +52,7 @@ async def test_header_counts_open_alerts_by_severity(app_as, service_ctx):
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
         status = app.screen.query_one(StatusLine).render().plain
-        assert "Tue 1 Dec 2026" in status and "Ada Admin (admin)" in status
+        assert "1 Dec 2026" in status and "Ada Admin (admin)" in status
         assert f"today {today_count}" in status
 
 

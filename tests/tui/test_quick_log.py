@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+from textual import events
+
 from caseload.core.model import Kind
 from caseload.services.entries import patient_entries
 from caseload.tui.screens.correct_entry import CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
-from tests.tui.conftest import settle, type_text
+from tests.tui.conftest import settle, fill
 from tests.tui.fixture_store import TODAY
 
 
@@ -52,7 +54,7 @@ async def test_a_bleed_after_the_temperature_in_the_same_call(app_as, service_ct
         await pilot.press("l", "ctrl+u", *"P0004", "enter", "t", "enter", *"98.1F", "enter")
         await settle(pilot)
         await pilot.press("b", "enter", *"heavy", "tab")
-        await type_text(pilot, "yesterday")
+        await fill(pilot, "yesterday")
         await pilot.press("enter")
         await settle(pilot)
         result = app.screen.query_one("#result").render().plain
@@ -77,7 +79,7 @@ async def test_a_refused_value_shows_why_and_writes_nothing(app_as, service_ctx)
         await settle(pilot)
         assert app.screen.query_one("#result").render().plain == ""
         await pilot.press("ctrl+u", *"36.5", "tab")
-        await type_text(pilot, "tomorrow")
+        await fill(pilot, "tomorrow")
         await pilot.press("enter")
         await settle(pilot)
         assert "not understood" in app.screen.query_one("#check").render().plain
@@ -92,7 +94,7 @@ async def test_second_temperature_offers_a_correction_to_a_nurse(app_as, service
         await pilot.press("l", *"pia", "enter", "t", "enter", *"36.91", "enter")
         await settle(pilot)
         assert isinstance(app.screen, CorrectEntryDialog)
-        await type_text(pilot, "read from the wrong day")
+        await fill(pilot, "read from the wrong day")
         await pilot.press("enter")
         await settle(pilot)
         assert "Saved #" in app.screen.query_one("#result").render().plain
@@ -124,3 +126,21 @@ async def test_quick_log_from_a_record_has_the_patient_picked(app_as):
         await pilot.pause()
         assert app.screen.query_one("PatientPicker").patient.id == "P0002"
         assert app.focused.id == "kind"
+
+
+async def test_keys_arriving_in_one_burst_land_in_their_fields(app_as, service_ctx):
+    """Over SSH a fast typist's keys can arrive together: none may end up in the field just left."""
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l")
+        await pilot.pause()
+        burst = [*"noor", "enter", "t", "enter", *"36.55", "enter", "b", "enter", *"light", "enter"]
+        for key in burst:
+            app.post_message(events.Key(key, "\r" if key == "enter" else key))
+        await settle(pilot, rounds=5)
+        kinds = sorted(e.kind.value for e in patient_entries(check, "P0004") if e.day == TODAY)
+        assert kinds == ["bleed", "temp"]
+        assert temps_today(check, "P0004")[0].value.number == 36.55
+        assert app.screen.query_one("#kind").value == ""

@@ -23,7 +23,13 @@ from caseload.core.alerts.base import (
     is_clinical,
     skip_reason,
 )
-from caseload.core.alerts.cycle import amenorrhoea, irregular_cycles, period_overdue, prolonged_bleeding, short_luteal_phase
+from caseload.core.alerts.cycle import (
+    amenorrhoea,
+    irregular_cycles,
+    period_overdue,
+    prolonged_bleeding,
+    short_luteal_phase,
+)
 from caseload.core.alerts.readings import fever, logging_gap
 from caseload.core.alerts.thermal import monophasic_cycle, no_thermal_shift, sustained_high_temps
 from caseload.core.alerts.treatment import hcg_rise_low, multiple_follicles

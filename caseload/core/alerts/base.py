@@ -149,7 +149,9 @@ DEFAULTS = {f.name: f.default for f in fields(Protocol)}
 
 def source_of(protocol: Protocol, names: tuple[str, ...], base: str) -> str:
     """The rule's published source, with the clinic's overrides of its settings named first."""
-    changed = [f"{n} = {getattr(protocol, n):g} (default {DEFAULTS[n]:g})" for n in names if getattr(protocol, n) != DEFAULTS[n]]
+    changed = [
+        f"{n} = {getattr(protocol, n):g} (default {DEFAULTS[n]:g})" for n in names if getattr(protocol, n) != DEFAULTS[n]
+    ]
     return f"clinic protocol: {', '.join(changed)}; defaults from {base}" if changed else base
 
 

@@ -13,6 +13,7 @@ from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, is
 from caseload.core.model import Severity
 
 FIGO = "FIGO 2018 (Munro 2018)"
+FIGO_SETTINGS = ("figo_frequent_below", "figo_infrequent_above", "figo_variation_mid", "figo_variation_young_old")
 
 
 def _figo_findings(f: Facts) -> list[str]:
@@ -55,7 +56,7 @@ def irregular_cycles(f: Facts) -> list[Candidate]:
             },
             f"FIGO frequency outside {p.figo_frequent_below}-{p.figo_infrequent_above} days, or shortest-to-longest "
             f"variation above {p.figo_variation_mid} days (age 26-41; {p.figo_variation_young_old} at 18-25 and 42-45)",
-            source_of(p, ("figo_frequent_below", "figo_infrequent_above", "figo_variation_mid", "figo_variation_young_old"), FIGO),
+            source_of(p, FIGO_SETTINGS, FIGO),
         )
     ]
 

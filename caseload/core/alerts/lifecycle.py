@@ -17,7 +17,8 @@ from caseload.core.alerts.window import p_today
 from caseload.core.model import Alert, AlertState
 from caseload.core.parse import InputError, one_line
 
-OPEN, ACKNOWLEDGED, SNOOZED, RESOLVED = AlertState.OPEN, AlertState.ACKNOWLEDGED, AlertState.SNOOZED, AlertState.RESOLVED
+OPEN, ACKNOWLEDGED = AlertState.OPEN, AlertState.ACKNOWLEDGED
+SNOOZED, RESOLVED = AlertState.SNOOZED, AlertState.RESOLVED
 # Staff actions: the target state and the states it may be reached from.
 ALLOWED_FROM: dict[AlertState, frozenset[AlertState]] = {
     ACKNOWLEDGED: frozenset({OPEN, SNOOZED}),
@@ -30,7 +31,8 @@ MAX_SNOOZE_DAYS = 90
 CURRENT_CYCLE_KINDS = frozenset(
     {
         AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN, AlertKind.NO_THERMAL_SHIFT, AlertKind.PERIOD_OVERDUE,
-        AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP,
+        AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP, AlertKind.HCG_RISE_LOW,
+        AlertKind.MULTIPLE_FOLLICLES,
     }
 )  # fmt: skip
 
@@ -87,11 +89,15 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
         if current is not None and current.start.isoformat() > start:
             return f"a period started on {current.start.isoformat()}"
         return "the cycle's day 1 changed after a correction"
-    if kind is AlertKind.LOGGING_GAP and analysis.last_entry_day and analysis.last_entry_day.isoformat() >= alert.evidence["gap_start"]:
-        return f"an entry was logged for {analysis.last_entry_day.isoformat()}"
+    last = analysis.last_entry_day
+    if kind is AlertKind.LOGGING_GAP and last is not None and last.isoformat() >= alert.evidence["gap_start"]:
+        return f"an entry was logged for {last.isoformat()}"
     windows = (AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN)
     if kind in (*windows, AlertKind.NO_THERMAL_SHIFT) and current is not None and current.shift.confirmed:
         return f"thermal shift confirmed on {current.shift.confirmed_on.isoformat()}"
+    if kind is AlertKind.NO_THERMAL_SHIFT and current is not None and current.shift.agreement == "uncertain":
+        split = current.shift.change_point.split_on.isoformat()
+        return f"the change-point estimate now sees a rise from {split} (shift uncertain)"
     if kind is AlertKind.WINDOW_APPROACHING and current is not None and current.markers.lh_surge is not None:
         return f"LH surge logged on {current.markers.lh_surge.isoformat()}: the window is open"
     if kind in windows and analysis.prediction is not None:
@@ -122,7 +128,6 @@ def parse_future_day(text: str, today: date) -> date:
     if day <= today:
         raise InputError(f"{day.isoformat()} is not after today ({today.isoformat()}): give a later day")
     if (day - today).days > MAX_SNOOZE_DAYS:
-        raise InputError(
-            f"{day.isoformat()} is {(day - today).days} days away: snooze at most {MAX_SNOOZE_DAYS} days, or resolve the alert"
-        )
+        away = (day - today).days
+        raise InputError(f"{day.isoformat()} is {away} days away: snooze at most {MAX_SNOOZE_DAYS} days, or resolve the alert")
     return day

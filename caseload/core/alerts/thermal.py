@@ -9,6 +9,18 @@ from datetime import timedelta
 
 from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, iso, source_of
 from caseload.core.model import Severity
+from caseload.core.thermal import ThermalShift
+
+THERMAL_SOURCE = "common practice; three-over-six rule (Marquette NFP)"
+
+
+def flat(shift: ThermalShift) -> bool:
+    """No rise by either method: neither the three-over-six rule nor the change-point estimate.
+
+    A chart one of them reads as biphasic is uncertain, not evidence of a cycle without ovulation;
+    calling it so would send nurses after cycles that ovulated.
+    """
+    return shift.agreement == "none"
 
 
 def no_thermal_shift(f: Facts) -> list[Candidate]:
@@ -19,7 +31,7 @@ def no_thermal_shift(f: Facts) -> list[Candidate]:
     until a shift or a period, however the charting goes afterwards.
     """
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
-    if current is None or forecast is None or current.shift.confirmed:
+    if current is None or forecast is None or not flat(current.shift):
         return []
     latest = forecast.expected_ovulation_range[1]
     deadline = latest + timedelta(days=p.no_shift_grace_days)
@@ -46,8 +58,9 @@ def no_thermal_shift(f: Facts) -> list[Candidate]:
                 "lh_surge": iso(current.markers.lh_surge),
             },
             f"Cycle day past the 80% upper bound of expected ovulation + {p.no_shift_grace_days} days, valid readings "
-            f"on at least {p.min_reading_coverage:.0%} of days since day 1, no confirmed shift",
-            source_of(p, ("no_shift_grace_days", "min_reading_coverage"), "common practice; three-over-six rule (Marquette NFP)"),
+            f"on at least {p.min_reading_coverage:.0%} of days since day 1, no shift by the three-over-six rule nor "
+            "the change-point estimate",
+            source_of(p, ("no_shift_grace_days", "min_reading_coverage"), THERMAL_SOURCE),
             raisable=coverage >= p.min_reading_coverage,
         )
     ]
@@ -61,7 +74,7 @@ def monophasic_cycle(f: Facts) -> list[Candidate]:
     for record in complete:
         shift = record.shift
         coverage = shift.coverage or 0.0
-        if shift.confirmed or coverage < p.min_reading_coverage:
+        if not flat(shift) or coverage < p.min_reading_coverage:
             continue
         found.append(
             f.candidate(
@@ -75,10 +88,10 @@ def monophasic_cycle(f: Facts) -> list[Candidate]:
                     "cycle_length": record.length,
                     "readings": shift.readings,
                     "coverage": coverage,
-                    "change_point": shift.agreement,
                 },
-                f"A completed cycle with valid readings on at least {p.min_reading_coverage:.0%} of days and no confirmed shift",
-                source_of(p, ("min_reading_coverage",), "common practice; three-over-six rule (Marquette NFP)"),
+                f"A completed cycle with valid readings on at least {p.min_reading_coverage:.0%} of days and no shift by "
+                "the three-over-six rule nor the change-point estimate",
+                source_of(p, ("min_reading_coverage",), THERMAL_SOURCE),
                 raisable=record is complete[-1],
             )
         )

@@ -6,9 +6,11 @@ a new cycle begins; only the latest pair or scan is news enough to raise.
 
 from __future__ import annotations
 
-from caseload.core.alerts.base import AlertKind, Candidate, Facts, source_of
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
 from caseload.core.model import Severity
 from caseload.core.pregnancy import HcgValue
+
+FOLLICLE_SOURCE = "Evans 2020 (more than 2 mature follicles under 40 years)"
 
 
 def rise_per_48h(first: HcgValue, second: HcgValue) -> float:
@@ -27,11 +29,13 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
         rise = rise_per_48h(first, second)
         if rise >= p.hcg_min_rise_48h:
             continue
-        span = f"{first.iu_l:g} to {second.iu_l:g} IU/L from {first.taken.date().isoformat()} to {second.taken.date().isoformat()}"
+        days = f"{first.taken.date().isoformat()} to {second.taken.date().isoformat()}"
+        span = f"{first.iu_l:g} to {second.iu_l:g} IU/L from {days}"
         if rise < 0:
             message = f"Serum hCG falling: {span} ({rise:.0%} per 48 h): review today."
         else:
-            message = f"Serum hCG rising too slowly: {span} ({rise:.0%} per 48 h, minimum {p.hcg_min_rise_48h:.0%}): review today."
+            minimum = f"minimum {p.hcg_min_rise_48h:.0%}"
+            message = f"Serum hCG rising too slowly: {span} ({rise:.0%} per 48 h, {minimum}): review today."
         found.append(
             f.candidate(
                 AlertKind.HCG_RISE_LOW,
@@ -39,6 +43,7 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
                 Severity.URGENT,
                 message,
                 {
+                    "cycle_start": iso(f.analysis.cycle_start),
                     "first": {"taken": first.taken.isoformat(timespec="minutes"), "iu_l": first.iu_l},
                     "second": {"taken": second.taken.isoformat(timespec="minutes"), "iu_l": second.iu_l},
                     "hours": round(hours, 1),
@@ -74,6 +79,7 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
                 f"the scan of {day.isoformat()}, more than {p.max_mature_follicles}: review before any trigger "
                 "(risk of multiple pregnancy).",
                 {
+                    "cycle_start": iso(f.analysis.cycle_start),
                     "scan_day": day.isoformat(),
                     "mature_count": scan.mature_count,
                     "mature_mm": p.mature_follicle_mm,
@@ -82,7 +88,7 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
                     "age": f.analysis.age_years,
                 },
                 f"More than {p.max_mature_follicles} follicles of {p.mature_follicle_mm:g} mm or more on a scan",
-                source_of(p, ("max_mature_follicles", "mature_follicle_mm"), "Evans 2020 (more than 2 mature follicles under 40 years)"),
+                source_of(p, ("max_mature_follicles", "mature_follicle_mm"), FOLLICLE_SOURCE),
                 raisable=day == last_day,
             )
         )

@@ -14,6 +14,7 @@ from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, is
 from caseload.core.model import Plan, Severity
 from caseload.core.prediction import Prediction
 
+WINDOW_SOURCE = "common practice; six-day window: Wilcox 1995"
 # The ovum lives 12-24 hours (common practice): an LH-dated window closes the day after ovulation.
 OVUM_DAYS = 1
 
@@ -36,14 +37,14 @@ def p_today(prediction: Prediction) -> float:
 
 
 def lh_window_open(f: Facts) -> bool:
-    """An LH surge this cycle and no confirmed shift yet. Without temperatures no shift can come,
-    so the surge then holds the window only to the day after the ovulation it dates."""
+    """An LH surge this cycle and no confirmed shift yet, up to the day after the ovulation the
+    surge dates. The shift may confirm late or never (no temperatures, a slow rise), and the fertile
+    time does not wait for it."""
     current = f.analysis.current
     surge = current.markers.lh_surge
     if surge is None or current.shift.confirmed:
         return False
-    closes = surge + timedelta(days=f.protocol.lh_to_ovulation_days + OVUM_DAYS)
-    return f.patient.charting_temps or f.today <= closes
+    return f.today <= surge + timedelta(days=f.protocol.lh_to_ovulation_days + OVUM_DAYS)
 
 
 def window_open(f: Facts) -> list[Candidate]:
@@ -59,7 +60,8 @@ def window_open(f: Facts) -> list[Candidate]:
     cd = cycle_day(current.start, f.today)
     action = OPEN_ACTION[f.patient.plan]
     if lh:
-        message = f"Fertile window open: LH surge on {current.markers.lh_surge.isoformat()}, no shift yet (cycle day {cd}); {action}."
+        surge = current.markers.lh_surge.isoformat()
+        message = f"Fertile window open: LH surge on {surge}, no shift yet (cycle day {cd}); {action}."
     else:
         message = f"Fertile window open: P(fertile) today {chance:.2f} (cycle day {cd}); {action}."
     window = forecast.fertile_window
@@ -78,7 +80,7 @@ def window_open(f: Facts) -> list[Candidate]:
                 "fertile_window": None if window is None else [window[0].isoformat(), window[1].isoformat()],
             },
             f"P(fertile) today at least {p.window_open_p:g}, or an LH surge this cycle with no confirmed shift",
-            source_of(p, ("window_open_p",), "common practice; six-day window: Wilcox 1995; LH to ovulation: WHO Task Force 1980"),
+            source_of(p, ("window_open_p",), WINDOW_SOURCE + "; LH to ovulation: WHO Task Force 1980"),
             raisable=raisable,
         )
     ]
@@ -88,8 +90,8 @@ def window_approaching(f: Facts) -> list[Candidate]:
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
     if current is None or forecast is None or current.shift.confirmed or current.markers.lh_surge is not None:
         return []
-    if p_today(forecast) >= p.window_open_p:
-        return []  # open, not approaching
+    if not forecast.daily or p_today(forecast) >= p.window_open_p:
+        return []  # no forecast of the coming days, or open rather than approaching
     peak = max(forecast.daily, key=lambda d: d.p_fertile)
     reaching = [d for d in forecast.daily if d.p_fertile >= p.window_approaching_p]
     if not reaching or peak.day <= f.today:
@@ -113,7 +115,7 @@ def window_approaching(f: Facts) -> list[Candidate]:
                 "ovulation": iso(forecast.ovulation),
             },
             f"P(fertile) reaches {p.window_approaching_p:g} within the next {p.window_approaching_days} days",
-            source_of(p, ("window_approaching_p", "window_approaching_days"), "common practice; six-day window: Wilcox 1995"),
+            source_of(p, ("window_approaching_p", "window_approaching_days"), WINDOW_SOURCE),
             due=first.day,
             raisable=raisable,
         )

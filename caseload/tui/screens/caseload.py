@@ -18,7 +18,6 @@ from textual.widgets import DataTable, Footer, Input, Static
 from caseload.services.caseload import CaseloadLine, list_caseload
 from caseload.services.derived import RefreshReport, refresh_all
 from caseload.tui.screens.alert_queue import AlertQueueScreen
-from caseload.tui.screens.export import ExportDialog, export_available
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
@@ -58,7 +57,7 @@ class CaseloadScreen(Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
-        Binding("escape", "back_to_list", "List", show=False, id="caseload.back"),
+        Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
 
     class Loaded(Message):
@@ -146,6 +145,10 @@ class CaseloadScreen(Screen):
     def _filters_changed(self, message: FilterBar.Changed) -> None:
         self.app.mine = message.filters.mine
         self._show()
+        self.refresh_bindings()
+
+    def on_descendant_focus(self) -> None:
+        self.refresh_bindings()
 
     # --- acting
 
@@ -184,9 +187,14 @@ class CaseloadScreen(Screen):
         self.app.push_screen(AlertQueueScreen())
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "back_to_list":
+            return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
-            return export_available() and self.app.gate.may("summary.export")
+            return self.app.gate.may("summary.export")
         return True
 
     def action_export(self) -> None:
+        # Loaded on demand: the report writers cost a fifth of a second at start-up, and most never export.
+        from caseload.tui.screens.export import ExportDialog
+
         self.app.push_screen(ExportDialog())

@@ -46,7 +46,7 @@ class CorrectEntryDialog(ModalScreen[Correction | None]):
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
-            yield Label(self._heading, classes="dialog-title")
+            yield Label(Text(self._heading), classes="dialog-title")
             yield Static(_entry_line(self.entry))
             if self.amend:
                 yield Label("New value")

@@ -1,8 +1,7 @@
-"""Supervisors' export of the weekly summary (offered when this installation has the report service)."""
+"""Supervisors' export of the weekly summary: week, format, where to, and whether to de-identify."""
 
 from __future__ import annotations
 
-import importlib
 from datetime import date
 from pathlib import Path
 
@@ -13,18 +12,12 @@ from textual.binding import Binding
 from textual.containers import Vertical
 from textual.message import Message
 from textual.screen import ModalScreen
-from textual.widgets import Checkbox, Footer, Input, Label, Select, Static
+from textual.widgets import Footer, Input, Label, Select, Static
 
+from caseload.services.reports import FOLDER_FORMATS, FORMATS, export_summary
 
-FORMATS = ("csv", "xlsx", "html", "json")
-
-
-def export_available() -> bool:
-    try:
-        importlib.import_module("caseload.services.reports")
-    except ModuleNotFoundError:
-        return False
-    return True
+DEFAULT_FORMAT = "xlsx"
+PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
 
 
 def iso_week(day: date) -> str:
@@ -32,8 +25,14 @@ def iso_week(day: date) -> str:
     return f"{year}-W{week:02d}"
 
 
+def default_target(week: str, fmt: str) -> Path:
+    """A file in the home folder, or a folder for the formats written as several files."""
+    name = f"caseload-summary-{week}"
+    return Path.home() / (name if fmt in FOLDER_FORMATS else f"{name}.{fmt}")
+
+
 class ExportDialog(ModalScreen[None]):
-    """Week, format, file and de-identification; Enter exports, Esc closes."""
+    """Enter in a field exports; Esc closes. Offered to supervisors and admins only."""
 
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
@@ -55,26 +54,24 @@ class ExportDialog(ModalScreen[None]):
             yield Label("Week (YYYY-Www)")
             yield Input(week, id="week", compact=True)
             yield Label("Format")
-            yield Select([(f, f) for f in FORMATS], value="csv", allow_blank=False, id="format", compact=True)
-            yield Label("File")
-            yield Input(str(Path.home() / f"caseload-summary-{week}.csv"), id="out", compact=True)
-            yield Checkbox("De-identify (pseudonyms, no names or birth dates)", value=True, id="deidentify", compact=True)
+            yield Select([(f, f) for f in FORMATS], value=DEFAULT_FORMAT, allow_blank=False, id="format", compact=True)
+            yield Label("Write to")
+            yield Input(str(default_target(week, DEFAULT_FORMAT)), id="out", compact=True)
+            yield Label("Patients shown as")
+            yield Select(PRIVACY, value=True, allow_blank=False, id="deidentify", compact=True)
             yield Static("Enter in a field exports.", id="check", classes="check")
         yield Footer(compact=True)
 
     @on(Select.Changed, "#format")
     def _format(self, event: Select.Changed) -> None:
-        out = self.query_one("#out", Input)
-        out.value = str(Path(out.value).with_suffix(f".{event.value}"))
+        self.query_one("#out", Input).value = str(default_target(self.query_one("#week", Input).value.strip(), str(event.value)))
 
     @on(Input.Submitted)
     def _export(self) -> None:
-        reports = importlib.import_module("caseload.services.reports")
-        out = Path(self.query_one("#out", Input).value).expanduser()
         self.query_one("#check", Static).update(Text("Exporting…", style="dim"))
         self.app.store_job(
-            self, reports.export_summary, self.query_one("#week", Input).value.strip(),
-            str(self.query_one("#format", Select).value), out, self.query_one("#deidentify", Checkbox).value,
+            self, export_summary, self.query_one("#week", Input).value.strip(), str(self.query_one("#format", Select).value),
+            Path(self.query_one("#out", Input).value).expanduser(), bool(self.query_one("#deidentify", Select).value),
             reply=self.Exported, refusal=self.Failed,
         )
 

@@ -21,9 +21,11 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry, Kind
 from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_day, parse_entry
+from caseload.services.context import Context
 from caseload.services.entries import Logged, amend_entry, log_entry, patient_entries
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
+from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.tui.words import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, literal, match_kind, short_day
 from caseload.tui.writes import logged_summary
 
@@ -46,7 +48,9 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-def log_or_find_reading(ctx, patient_id: str, kind: Kind, value: str, on: str, at, flags, note) -> Logged | SameDayReading:
+def log_or_find_reading(
+    ctx: Context, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str
+) -> Logged | SameDayReading:
     """Log the entry, unless it is a temperature on a day that already has one: then say which."""
     if kind is Kind.TEMP:
         day = parse_day(on, ctx.today)
@@ -80,6 +84,7 @@ class QuickLogScreen(ModalScreen[None]):
         self._patient_id = patient_id
         self._settled = settled  # opened from a record: the patient is not in question
         self._saving = False
+        self._typed_from: TypeAheadInput | None = None
 
     def compose(self) -> ComposeResult:
         with Vertical(id="quick-log"):
@@ -89,19 +94,19 @@ class QuickLogScreen(ModalScreen[None]):
                 yield PatientPicker(self.app.roster, self._patient_id, id="picker")
             with Horizontal(classes="row"):
                 yield Label("Kind", classes="field")
-                yield Input(placeholder="temp, bleed…", id="kind", suggester=KindSuggester(), compact=True)
+                yield TypeAheadInput(placeholder="temp, bleed…", id="kind", suggester=KindSuggester(), compact=True)
                 yield Label("Value", classes="field")
-                yield Input(placeholder="", id="value", compact=True)
+                yield TypeAheadInput(placeholder="", id="value", compact=True)
             with Horizontal(classes="row"):
                 yield Label("Day", classes="field")
-                yield Input("today", id="day", compact=True)
+                yield TypeAheadInput("today", id="day", compact=True)
                 yield Label("Time", classes="field")
-                yield Input(placeholder="HH:MM", id="time", compact=True)
+                yield TypeAheadInput(placeholder="HH:MM", id="time", compact=True)
                 yield Label("Flags", classes="field")
-                yield Input(placeholder="", id="flags", compact=True)
+                yield TypeAheadInput(placeholder="", id="flags", compact=True)
             with Horizontal(classes="row"):
                 yield Label("Note", classes="field")
-                yield Input(placeholder="optional", id="note", compact=True)
+                yield TypeAheadInput(placeholder="optional", id="note", compact=True)
             yield Static("", id="check", classes="check")
             yield Static("", id="result")
         yield Footer(compact=True)
@@ -147,37 +152,55 @@ class QuickLogScreen(ModalScreen[None]):
         text.append(" · Enter saves")
         check.update(text)
 
+    def _move_on(self, source: TypeAheadInput, target_id: str) -> None:
+        target = self.query_one(f"#{target_id}", TypeAheadInput)
+        target.focus()
+        source.pass_on(target)
+
     @on(PatientPicker.Picked)
     def _picked(self, message: PatientPicker.Picked) -> None:
         if message.patient is not None:
-            self.query_one("#kind", Input).focus()
+            self._move_on(self.query_one("#patient", TypeAheadInput), "kind")
 
     @on(Input.Submitted, "#kind")
-    def _kind_entered(self) -> None:
-        kind = match_kind(self._text("kind"))
-        if kind is not None:
-            self.query_one("#kind", Input).value = kind.value
-            self.query_one("#value", Input).focus()
+    def _kind_entered(self, event: Input.Submitted) -> None:
+        kind = match_kind(event.value)
+        if kind is None:
+            event.input.keep_typing()
+            return
+        event.input.value = kind.value
+        self._move_on(event.input, "value")
 
     @on(Input.Submitted)
     def _detail_entered(self, event: Input.Submitted) -> None:
         if event.input.id in DETAIL_FIELDS:
-            self.action_save()
+            self._save(event.input)
 
     def action_save(self) -> None:
+        self._save(None)
+
+    def _save(self, field: TypeAheadInput | None) -> None:
+        """Save what is typed; `field` is where Enter was pressed (its typed-ahead keys wait for the outcome)."""
         picker = self.query_one(PatientPicker)
         result = self.query_one("#result", Static)
+        if self._saving:
+            if field is not None:
+                field.keep_typing()
+            return
         if picker.patient is None:
             result.update(Text("Pick a patient first: type an id or a name, then Enter.", style="bold"))
+            if field is not None:
+                field.drop_held()
             self.query_one("#patient", Input).focus()
             return
         try:
             parsed = self._parsed()
         except InputError:
-            return  # the check line already says why
-        if self._saving:
+            if field is not None:
+                field.keep_typing()  # the check line already says why
             return
         self._saving = True
+        self._typed_from = field
         result.update(Text("Saving…", style="dim"))
         self.app.store_job(
             self, log_or_find_reading, picker.patient.id, parsed.kind, self._text("value"),
@@ -185,20 +208,33 @@ class QuickLogScreen(ModalScreen[None]):
             reply=self.Done, refusal=self.Refused,
         )
 
+    def _finish_typing(self, next_field: str | None) -> None:
+        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped."""
+        field, self._typed_from = self._typed_from, None
+        if next_field is None:
+            if field is not None:
+                field.drop_held()
+        elif field is not None:
+            self._move_on(field, next_field)
+        else:
+            self.query_one(f"#{next_field}", Input).focus()
+
     def on_quick_log_screen_refused(self, message: Refused) -> None:
         self._saving = False
+        self._finish_typing(None)
         self.query_one("#result", Static).update(Text(f"Not saved: {message.reason}", style="bold"))
 
     def on_quick_log_screen_done(self, message: Done) -> None:
         self._saving = False
         outcome = message.outcome
         if isinstance(outcome, SameDayReading):
+            self._finish_typing(None)
             self._same_day(outcome)
             return
         self.query_one("#result", Static).update(Text(logged_summary(outcome)))
         for field in ("kind", "value", "time", "flags", "note"):
             self.query_one(f"#{field}", Input).value = ""
-        self.query_one("#kind", Input).focus()
+        self._finish_typing("kind")
         self.app.store_changed()
 
     def _same_day(self, found: SameDayReading) -> None:

@@ -26,6 +26,7 @@ from caseload.tui.words import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
 CYCLES = Binding.Group("Cycle")
+TAB_IDS = ("chart", "cycles", "outlook", "alerts", "entries")
 TAB_FOCUS = {"cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "#entries-table"}
 CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
 
@@ -63,6 +64,7 @@ class RecordScreen(Screen):
         self._record: PatientRecord | None = None
         self._cycle: int | None = None  # None: the latest
         self._loading = False
+        self._stale: set[str] = set()  # tabs whose content is older than the record
 
     def compose(self) -> ComposeResult:
         yield StatusLine(id="status")
@@ -114,21 +116,40 @@ class RecordScreen(Screen):
         self._show(message.record)
 
     def _show(self, record: PatientRecord) -> None:
+        """The title now and the open tab now; the other tabs when they are opened (a long entries
+        list costs more to lay out than everything else together)."""
         self.query_one("#record-title", Static).update(title_text(record))
-        self._show_cycle()
-        table = self.query_one("#cycle-table", DataTable)
-        table.clear(columns=True)
-        table.add_columns(*CYCLE_COLUMNS)
-        table.add_rows(cycle_rows(record.analysis))
-        self.query_one("#classification", Static).update(classification_text(record.analysis))
-        self.query_one("#outlook-text", Static).update(outlook_text(record.analysis, self.app.gate.today))
-        alerts = self.query_one(AlertTable)
-        alerts.show(list(record.alerts), focus_id=self._alert_id)
-        self.query_one(EvidencePanel).show(alerts.current_alert())
-        self.query_one(EntriesTable).show(record.entries)
-        if self._alert_id is not None:
-            alerts.focus()
-            self._alert_id = None
+        self._stale = set(TAB_IDS)
+        self._render_tab(self.query_one(TabbedContent).active)
+
+    @on(TabbedContent.TabActivated)
+    def _tab_opened(self, event: TabbedContent.TabActivated) -> None:
+        self._render_tab(event.pane.id)
+
+    def _render_tab(self, tab: str) -> None:
+        record = self._record
+        if record is None or tab not in self._stale:
+            return
+        self._stale.discard(tab)
+        if tab == "chart":
+            self._show_cycle()
+        elif tab == "cycles":
+            table = self.query_one("#cycle-table", DataTable)
+            table.clear(columns=True)
+            table.add_columns(*CYCLE_COLUMNS)
+            table.add_rows(cycle_rows(record.analysis))
+            self.query_one("#classification", Static).update(classification_text(record.analysis))
+        elif tab == "outlook":
+            self.query_one("#outlook-text", Static).update(outlook_text(record))
+        elif tab == "alerts":
+            alerts = self.query_one(AlertTable)
+            alerts.show(list(record.alerts), focus_id=self._alert_id)
+            self.query_one(EvidencePanel).show(alerts.current_alert())
+            if self._alert_id is not None:
+                alerts.focus()
+                self._alert_id = None
+        elif tab == "entries":
+            self.query_one(EntriesTable).show(record.entries)
 
     def _show_cycle(self) -> None:
         record = self._record
@@ -157,7 +178,8 @@ class RecordScreen(Screen):
         current = last if self._cycle is None else self._cycle
         self._cycle = max(0, min(last, current + step))
         self.query_one(TabbedContent).active = "chart"
-        self._show_cycle()
+        self._stale.add("chart")
+        self._render_tab("chart")
 
     @on(AlertTable.Highlighted)
     def _alert_highlighted(self, message: AlertTable.Highlighted) -> None:

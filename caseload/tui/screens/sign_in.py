@@ -22,17 +22,25 @@ from caseload.services.ui_support import sign_in_roster
 from caseload.tui.words import literal
 
 
+NAME_WIDTH = 20
+
+
 def staff_option(staff: Staff) -> Option:
     text = Text(f"{staff.id:<12}", style="bold").append_text(literal(staff.name))
-    text.append(f"  {staff.role.value}", style="dim")
+    text.pad_right(max(1, NAME_WIDTH - len(staff.name)))
+    text.append(f"{staff.role.value:<11}", style="dim")
     if staff.os_account:
-        text.append("  (signed to another account)", style="dim")
+        text.append("taken: signed to another account", style="dim")
     return Option(text, id=staff.id, disabled=staff.os_account is not None)
+
+
+class StaffList(OptionList):
+    BINDINGS = [Binding("enter", "select", "Sign in as", id="sign_in.take")]
 
 
 class SignInScreen(Screen):
     CSS_PATH = "sign_in.tcss"
-    AUTO_FOCUS = "OptionList"
+    AUTO_FOCUS = "StaffList"
     BINDINGS = [Binding("q", "app.quit", "Quit", id="sign_in.quit")]
 
     class Roster(Message):
@@ -51,14 +59,14 @@ class SignInScreen(Screen):
             account = self.app.gate.account
             yield Static(Text(f"The OS account '{account}' is not linked to a staff record yet. "
                               "Pick yours with the arrows and Enter; it is linked from then on."))
-            yield OptionList(id="staff")
+            yield StaffList(id="staff")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
         self.app.store_job(self, sign_in_roster, reply=self.Roster, before_sign_in=True)
 
     def on_sign_in_screen_roster(self, message: Roster) -> None:
-        self.query_one(OptionList).set_options(staff_option(s) for s in message.staff)
+        self.query_one(StaffList).set_options(staff_option(s) for s in message.staff)
 
     @on(OptionList.OptionSelected)
     def _chosen(self, event: OptionList.OptionSelected) -> None:

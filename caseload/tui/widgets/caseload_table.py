@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import date
-
 from rich.text import Text
 from textual.binding import Binding
 from textual.widgets import DataTable
@@ -29,13 +27,15 @@ COLUMNS = (
     Column("where", "Where", 13),
     Column("alert", "Most urgent alert", 25),
     Column("next", "Next", 15),
-    Column("last", "Last", 4),
+    Column("last", "Last", 5),
     Column("plan", "Plan", 20),
-    Column("nurse", "Nurse", 10),
+    Column("nurse", "Nurse", 12),
 )
 # The last columns are for wide terminals; at 80 columns they are off to the right.
 NARROW_COLUMNS = 6
 MIN_PATIENT_WIDTH = 16
+WIDE_PATIENT_WIDTH = 30
+MAX_PATIENT_WIDTH = 40
 
 
 def patient_cell(line: CaseloadLine) -> Text:
@@ -99,7 +99,6 @@ class CaseloadTable(DataTable):
     def __init__(self, **kwargs):
         super().__init__(cursor_type="row", zebra_stripes=True, cell_padding=0, **kwargs)
         self._lines: tuple[CaseloadLine, ...] = ()
-        self._today: date | None = None
         self._drawn_width = 0
 
     @property
@@ -107,8 +106,14 @@ class CaseloadTable(DataTable):
         return self._lines
 
     def show(self, lines: tuple[CaseloadLine, ...]) -> None:
-        self._lines = lines
-        self._redraw()
+        """Same patients in the same order: only the changed rows are redrawn (a full redraw of a
+        large caseload takes long enough to feel); anything else redraws the table."""
+        before, self._lines = self._lines, lines
+        same_rows = [b.patient.id for b in before] == [line.patient.id for line in lines]
+        if same_rows and self.row_count == len(lines) and self._drawn_width == self.size.width:
+            self._update_rows(before, lines)
+        else:
+            self._redraw()
 
     def current_patient_id(self) -> str | None:
         if not self.row_count:
@@ -119,21 +124,35 @@ class CaseloadTable(DataTable):
         if self.size.width != self._drawn_width:
             self._redraw()
 
-    def _widths(self) -> list[int]:
-        fixed = sum(c.width for c in COLUMNS[1:NARROW_COLUMNS])
-        room = max(MIN_PATIENT_WIDTH, self.size.width - fixed - 1)
-        return [room if c.width == 0 else c.width for c in COLUMNS]
+    def _layout(self) -> list[tuple[Column, int]]:
+        """The columns that fit, with widths: the patient column takes the room the others leave,
+        and the wide-terminal columns come in once it can still be WIDE_PATIENT_WIDTH."""
+        columns = COLUMNS
+        room = self.size.width - 1 - sum(c.width for c in COLUMNS[1:])
+        if room < WIDE_PATIENT_WIDTH:
+            columns = COLUMNS[:NARROW_COLUMNS]
+            room = max(MIN_PATIENT_WIDTH, self.size.width - 1 - sum(c.width for c in columns[1:]))
+        room = min(room, MAX_PATIENT_WIDTH)
+        return [(c, room if c.width == 0 else c.width) for c in columns]
+
+    def _update_rows(self, before: tuple[CaseloadLine, ...], after: tuple[CaseloadLine, ...]) -> None:
+        layout = self._layout()
+        for old, new in zip(before, after):
+            if old == new:
+                continue
+            for cell, (column, width) in zip(row_cells(new, self.app.tone), layout):
+                self.update_cell(new.patient.id, column.key, fitted(cell, width))
 
     def _redraw(self) -> None:
         keep = self.current_patient_id()
         self._drawn_width = self.size.width
-        widths = self._widths()
+        layout = self._layout()
         self.clear(columns=True)
-        for column, width in zip(COLUMNS, widths):
+        for column, width in layout:
             self.add_column(Text(column.label, style="bold"), width=width, key=column.key)
         tone = self.app.tone
         for line in self._lines:
-            cells = [fitted(c, w) for c, w in zip(row_cells(line, tone), widths)]
+            cells = [fitted(c, w) for c, (_, w) in zip(row_cells(line, tone), layout)]
             self.add_row(*cells, key=line.patient.id)
         if keep is not None and keep in {line.patient.id for line in self._lines}:
             self.move_cursor(row=self.get_row_index(keep), animate=False)

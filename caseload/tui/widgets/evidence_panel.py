@@ -11,6 +11,17 @@ from caseload.tui.words import alert_label, literal, long_day
 ALERT_CAUTION = "An alert supports clinical judgement and the clinic's protocols; it does not replace them."
 
 
+def evidence_value(value: object) -> str:
+    """Evidence values as a person reads them: lists joined, nothing as a dash."""
+    if value is None or value == "":
+        return "-"
+    if isinstance(value, (list, tuple)):
+        return ", ".join(evidence_value(v) for v in value)
+    if isinstance(value, float):
+        return f"{value:g}"
+    return str(value)
+
+
 def evidence_text(alert: Alert | None) -> Text:
     if alert is None:
         return Text("Pick an alert to see its evidence.", style="dim")
@@ -20,7 +31,7 @@ def evidence_text(alert: Alert | None) -> Text:
     text.append("\n")
     for key, value in alert.evidence.items():
         text.append(f"  {key}: ", style="bold")
-        text.append_text(literal(value))
+        text.append_text(literal(evidence_value(value)))
         text.append("\n")
     text.append("Rule: ", style="bold")
     text.append_text(literal(alert.rule or "-"))

@@ -1,4 +1,8 @@
-"""Rows of markers under the chart, one column per cycle day: flow, mucus, LH, hCG and scans."""
+"""Rows of markers under the chart, one column per cycle day: flow, mucus, LH, hCG and scans.
+
+The day columns are sized to sit under the chart's own days: the chart spreads the cycle over
+its width less the two scales, so the strip does the same.
+"""
 
 from __future__ import annotations
 
@@ -7,37 +11,60 @@ from textual.widgets import DataTable
 
 from caseload.tui.cycle_view import STRIP_ROWS, CycleView
 
-DAY_WIDTH = 2
-LABEL_WIDTH = 6
+LEFT_SCALE = 6  # the chart's temperature labels and frame: "36.60┤"
+RIGHT_SCALE = 5  # the chart's probability labels: "├1.00"
+MIN_DAY_WIDTH = 2
 LEGEND = "flow ▁▃▅▇ spotting to heavy · mucus 0 dry to 5 stretchy · LH, hCG + - or level · scan: lead mm"
 
 
-def _labelled(day: int, today: int | None) -> bool:
-    """Odd days and today: two-digit numbers in adjacent columns would run together."""
+def day_widths(total: int, days: int) -> list[int]:
+    """Integer column widths for `days` days spread over what the chart's canvas takes of `total`."""
+    canvas = max(total - LEFT_SCALE - RIGHT_SCALE, days * MIN_DAY_WIDTH)
+    edges = [round(canvas * d / days) for d in range(days + 1)]
+    return [b - a for a, b in zip(edges, edges[1:])]
+
+
+def _labelled(day: int, width: int, today: int | None) -> bool:
+    """Every day when the column has room; else odd days and today (two-digit numbers would run together)."""
+    if width >= 3:
+        return True
     if today is not None and abs(day - today) <= 1:
         return day == today
     return day % 2 == 1
 
 
 class MarkerStrip(DataTable):
-    """Not focusable by Tab: it is read, not worked in."""
+    """Not focusable: it is read, not worked in."""
 
     can_focus = False
 
     def __init__(self, **kwargs):
         super().__init__(cursor_type="none", cell_padding=0, show_cursor=False, **kwargs)
+        self._view: CycleView | None = None
+        self._drawn_width = 0
 
     def show(self, view: CycleView | None) -> None:
+        self._view = view
+        self._draw()
+
+    def on_resize(self) -> None:
+        if self.size.width != self._drawn_width:
+            self._draw()
+
+    def _draw(self) -> None:
+        self._drawn_width = self.size.width
         self.clear(columns=True)
+        view = self._view
         if view is None:
             return
-        self.add_column(Text("day", style="dim"), width=LABEL_WIDTH, key="label")
-        for day in range(1, view.last_day + 1):
-            shown = f"{day:<2}" if _labelled(day, view.today_day) else ""
-            label = Text(shown, style="bold reverse" if view.today_day == day else "dim")
-            self.add_column(label, width=DAY_WIDTH, key=str(day))
+        widths = day_widths(self.size.width or 80, view.last_day)
+        self.add_column(Text("day", style="dim"), width=LEFT_SCALE, key="label")
+        for day, width in zip(range(1, view.last_day + 1), widths):
+            shown = str(day) if _labelled(day, width, view.today_day) else ""
+            style = "bold reverse" if view.today_day == day else "dim"
+            self.add_column(Text(shown, style=style, justify="center"), width=width, key=str(day))
         for row in STRIP_ROWS:
             marks = view.strip.get(row, {})
             cells = [Text(row, style="bold")]
-            cells += [Text(marks.get(day, " ")[:DAY_WIDTH]) for day in range(1, view.last_day + 1)]
+            cells += [Text(marks.get(day, ""), justify="center") for day in range(1, view.last_day + 1)]
             self.add_row(*cells, key=row)

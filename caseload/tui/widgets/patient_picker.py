@@ -14,6 +14,7 @@ from textual.widgets.option_list import Option
 from caseload.core.model import Patient
 from caseload.services.caseload import CaseloadLine
 from caseload.tui.search import find_patients
+from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.tui.words import literal, phase_label, plain
 
 SHOWN = 4
@@ -37,8 +38,8 @@ class PatientPicker(Vertical):
     """Up/Down move through the matches; Enter or a click picks; editing the text un-picks."""
 
     BINDINGS = [
-        Binding("down", "move(1)", "Next match", show=False, id="picker.next"),
-        Binding("up", "move(-1)", "Previous match", show=False, id="picker.previous"),
+        Binding("down", "move(1)", "Next match", id="picker.next"),
+        Binding("up", "move(-1)", "Previous match", id="picker.previous"),
     ]
 
     class Picked(Message):
@@ -55,8 +56,10 @@ class PatientPicker(Vertical):
 
     def compose(self) -> ComposeResult:
         start = typed_form(self.patient) if self.patient else ""
-        yield Input(start, placeholder="patient id or name", id="patient", compact=True)
-        yield OptionList(id="matches", compact=True)
+        yield TypeAheadInput(start, placeholder="patient id or name", id="patient", compact=True)
+        matches = OptionList(id="matches", compact=True)
+        matches.can_focus = False  # the typing stays in the field; Up/Down move through the matches
+        yield matches
 
     def on_mount(self) -> None:
         self._show_matches()
@@ -94,6 +97,8 @@ class PatientPicker(Vertical):
         options = self.query_one("#matches", OptionList)
         if self._matches:
             self._pick(self._matches[options.highlighted or 0])
+        else:
+            self.query_one("#patient", TypeAheadInput).keep_typing()
 
     @on(OptionList.OptionSelected, "#matches")
     def _clicked(self, event: OptionList.OptionSelected) -> None:

@@ -7,7 +7,7 @@ from textual.widgets import Static
 
 from caseload.core.model import Severity
 from caseload.services.caseload import CaseloadLine
-from caseload.tui.words import literal, long_day
+from caseload.tui.words import literal
 
 
 def severity_counts(lines: tuple[CaseloadLine, ...]) -> dict[Severity, int]:
@@ -31,7 +31,8 @@ class StatusLine(Static):
     def _redraw(self, _value=None) -> None:
         app = self.app
         actor = app.gate.actor
-        text = Text(long_day(app.gate.today), style="bold")
+        today = app.gate.today
+        text = Text(f"{today.day} {today.strftime('%b %Y')}", style="bold")
         if actor is not None:
             text.append(" ")
             text.append_text(literal(actor.staff.name[:NAME_WIDTH]))

@@ -1,0 +1,70 @@
+"""A text field that keeps fast typing in order across Enter and Tab.
+
+A clerk types "noor⏎t⏎36.72⏎" without waiting, and over SSH those keys can arrive together. A
+plain Input submits on Enter only after the keys behind it have already been typed into it, so
+they would land in the wrong field. This field submits at once on Enter, holds the keys that
+follow, and hands them to whichever field the screen moves on to.
+"""
+
+from __future__ import annotations
+
+from textual import events
+from textual.widget import Widget
+from textual.widgets import Input
+
+TAB_KEYS = {"tab": "focus_next", "shift+tab": "focus_previous"}
+
+
+class TypeAheadInput(Input):
+    """Enter posts Submitted straight away; the screen then calls `pass_on(next_field)` or `keep_typing()`."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self._held: list[events.Key] | None = None  # holding keys until the screen decides
+        self._forward_to: Widget | None = None  # focus has moved on: keys still routed here go there
+
+    async def _on_key(self, event: events.Key) -> None:
+        if self._forward_to is not None or self._held is not None:
+            event.prevent_default()
+            event.stop()
+            if self._forward_to is not None:
+                self._forward_to.post_message(events.Key(event.key, event.character))
+            else:
+                self._held.append(event)
+            return
+        if event.key == "enter":
+            event.prevent_default()
+            event.stop()
+            self._held = []
+            self.post_message(self.Submitted(self, self.value))
+            return
+        if event.key in TAB_KEYS:
+            event.prevent_default()
+            event.stop()
+            getattr(self.screen, TAB_KEYS[event.key])()
+            if self.screen.focused is not self and self.screen.focused is not None:
+                self._forward_to = self.screen.focused
+            return
+        await super()._on_key(event)
+
+    def pass_on(self, target: Widget) -> None:
+        """Typing continues in `target`: the held keys go there first, then any still routed here."""
+        held, self._held = self._held or [], None
+        self._forward_to = None if target is self else target
+        for key in held:
+            target.post_message(events.Key(key.key, key.character))
+
+    def keep_typing(self) -> None:
+        """Enter led nowhere (nothing to pick, nothing saved): the held keys go back into this field."""
+        self.pass_on(self)
+
+    def drop_held(self) -> None:
+        """Enter opened something that needs a look first: what was typed ahead is discarded."""
+        self._held = None
+        self._forward_to = None
+
+    def _on_blur(self, event: events.Blur) -> None:
+        # Keys routed here before the focus moved have been passed on; later ones go to the new field.
+        self._forward_to = None
+        self._held = None
+        super()._on_blur(event)
