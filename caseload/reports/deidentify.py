@@ -13,7 +13,8 @@ from dataclasses import replace
 
 from caseload.core.model import Patient
 from caseload.reports.model import PatientRef, WeeklySummary
-from caseload.reports.summary import count_events, count_reasons, event_order, gap_order, pregnancy_order
+from caseload.reports.clinical import count_events, event_order, pregnancy_order
+from caseload.reports.summary import count_reasons, gap_order
 
 REMOVED = "[removed]"
 BIRTH_DATE_FORMATS = ("%Y-%m-%d", "%d/%m/%Y", "%d.%m.%Y", "%d-%m-%Y")

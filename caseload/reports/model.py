@@ -12,6 +12,7 @@ from datetime import date, datetime
 from caseload.reports.weeks import Week
 
 UNASSIGNED = "unassigned"
+TOTAL = "total"  # the label of a total row
 
 
 @dataclass(frozen=True)

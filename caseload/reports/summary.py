@@ -1,77 +1,34 @@
 """The weekly summary, computed from what the store returned for the week: pure, no SQL, no clock.
 
-Counting is done by SQL (store/reports.py); this module only combines the counts. Two things
-need the core: a thermal shift confirmed in the week is recomputed from each charting patient's
-temperatures and bleeds of the recent past (one cycle's worth, not their whole history), and
-the due date of a positive hCG comes from the core's pregnancy computation for those few patients.
+SQL does the counting (store/reports.py); this module and its two neighbours, alert_summary.py
+and clinical.py, only combine the counts into sections whose totals add up.
 """
 
 from __future__ import annotations
 
-import math
 from collections import Counter, defaultdict
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import date, timedelta
 
-from caseload.core.alerts import ALERT_KINDS
-from caseload.core.analysis import analyse
-from caseload.core.cycles import CycleSpan, cycle_spans, group_by_cycle, menstrual_bleeds
-from caseload.core.model import Entry, Kind, Observation, Patient, PatientStatus, Plan, Role, Severity, Staff, observations
+from caseload.core.cycles import CycleSpan
+from caseload.core.model import Entry, Observation, Patient, PatientStatus, Plan, Role, Staff
 from caseload.core.settings import Protocol
-from caseload.core.thermal import three_over_six, valid_readings
+from caseload.reports.alert_summary import HANDLING, alert_summary
+from caseload.reports.clinical import clinical
 from caseload.reports.model import (
-    UNASSIGNED, AckTime, ActionCount, ActiveCount, AlertSummary, Census, Change, Clinical, ClinicalEvent, Coverage,
-    DayLoad, EventCount, KindCount, LoggingGap, Movement, PatientRef, PositiveHcg, Quality, ReasonCount, RoleLoad,
-    StaffLoad, StatusCount, StatusMove, WeekEndAlerts, WeeklySummary, Workload,
+    TOTAL, UNASSIGNED, ActiveCount, Census, Change, Coverage, DayLoad, LoggingGap, Movement, PatientRef, Quality,
+    ReasonCount, RoleLoad, StaffLoad, StatusCount, StatusMove, WeeklySummary, Workload,
 )
 from caseload.reports.weeks import Week
 from caseload.store.reports import AlertEvent, EntryChange, EntryCount, HcgPositive, PatientVersion
 
-SEVERITIES = tuple(s.value for s in Severity)
 ROLES = tuple(r.value for r in Role)
 STATUSES = tuple(s.value for s in PatientStatus)
 PLANS = tuple(p.value for p in Plan)
 NEW = "new"
-TOTAL = "total"
 UNKNOWN_ROLE = "unknown"
 ACTIVE = PatientStatus.ACTIVE.value
-
-RAISE, ACK = "alert.raise", "alert.ack"
-ACTION_EVENTS = {
-    RAISE: "raised",
-    ACK: "acknowledged",
-    "alert.snooze": "snoozed",
-    "alert.resolve": "resolved",
-    "alert.auto-resolve": "auto-resolved",
-    "alert.escalate": "escalated",
-    "alert.reopen": "reopened",
-}
-# What staff do to an alert (the engine's own transitions are not workload).
-HANDLING = {ACK: "acknowledged", "alert.snooze": "snoozed", "alert.resolve": "resolved"}
-# The state an action leaves; an escalation keeps the state unless the trail records one.
-STATE_AFTER = {
-    RAISE: "open",
-    "alert.reopen": "open",
-    ACK: "acknowledged",
-    "alert.snooze": "snoozed",
-    "alert.resolve": "resolved",
-    "alert.auto-resolve": "resolved",
-}
-SHIFT_CONFIRMED, HCG_POSITIVE = "shift-confirmed", "hcg-positive"
-# (event, description, the alert kinds whose raising counts as the event)
-CLINICAL_EVENTS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
-    ("entered-window", "Entered a predicted fertile window (window-approaching or window-open raised)",
-     ("window-approaching", "window-open")),
-    (SHIFT_CONFIRMED, "Thermal shift confirmed (three-over-six rule)", ()),
-    ("no-thermal-shift", "No thermal shift flagged", ("no-thermal-shift",)),
-    ("monophasic-cycle", "Monophasic cycle flagged", ("monophasic-cycle",)),
-    ("irregular-cycles", "Referred for irregular cycles", ("irregular-cycles",)),
-    ("short-luteal-phase", "Short luteal phase", ("short-luteal-phase",)),
-    (HCG_POSITIVE, "Positive hCG result", ()),
-    ("hcg-rise-low", "Low hCG rise", ("hcg-rise-low",)),
-)
-EVENT_ALERT_KINDS = frozenset(k for _, _, kinds in CLINICAL_EVENTS for k in kinds)
 
 
 @dataclass(frozen=True)
@@ -87,7 +44,7 @@ class WeekData:
     entries_logged: tuple[EntryCount, ...]
     changes: tuple[EntryChange, ...]
     temperature_days: Mapping[str, tuple[date, ...]]
-    cycles: Mapping[str, list[CycleSpan]]  # see `cycles_into_week`
+    cycles: Mapping[str, list[CycleSpan]]  # see `clinical.cycles_into_week`
     temperatures: Mapping[str, list[Observation]]  # from each patient's first such cycle to the week's end
     hcg_positives: tuple[HcgPositive, ...]
     hcg_entries: Mapping[str, list[Entry]]  # the whole record of each patient with a positive hCG
@@ -96,15 +53,6 @@ class WeekData:
 def charting_from(week: Week, protocol: Protocol) -> date:
     """How far back bleeds are read to find the cycles of the week: a longer one is amenorrhoea."""
     return week.first_day - timedelta(days=protocol.amenorrhoea_days)
-
-
-def percentile(values: Sequence[float], q: float) -> float:
-    """Linear interpolation between closest ranks (the 'inclusive' method)."""
-    ordered = sorted(values)
-    position = q * (len(ordered) - 1)
-    low = math.floor(position)
-    high = min(low + 1, len(ordered) - 1)
-    return ordered[low] + (ordered[high] - ordered[low]) * (position - low)
 
 
 def share(part: int, whole: int) -> float | None:
@@ -125,7 +73,9 @@ def compute(week: Week, data: WeekData, protocol: Protocol, prepared_on: date) -
         deidentified=False,
         census=census(data.at_start, data.at_end, nurses),
         alerts=alert_summary(week, data.alert_history, data.unresolved_at_start),
-        clinical=clinical(week, in_week, data, protocol, ref),
+        clinical=clinical(week, in_week, data.cycles, data.temperatures, data.hcg_positives,
+                          {pid: (data.patients[pid], entries) for pid, entries in data.hcg_entries.items()},
+                          protocol, ref),
         quality=quality(week, data, protocol.logging_gap_days, ref),
         workload=workload(week, data.staff, data.entries_logged, data.changes, in_week),
     )
@@ -154,10 +104,8 @@ def census(start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion
         for s in STATUSES
     )
     pairs = Counter((start[pid].status if pid in start else NEW, v.status) for pid, v in end.items())
-    order = (NEW, *STATUSES)
-    moves = tuple(
-        StatusMove(f, t, n) for (f, t), n in sorted(pairs.items(), key=lambda i: (order.index(i[0][0]), order.index(i[0][1])))
-    )
+    order = {status: i for i, status in enumerate((NEW, *STATUSES))}
+    moves = tuple(StatusMove(f, t, n) for (f, t), n in sorted(pairs.items(), key=lambda i: (order[i[0][0]], order[i[0][1]])))
 
     def into(status: str) -> int:
         return sum(n for (f, t), n in pairs.items() if t == status and f != status)
@@ -179,165 +127,6 @@ def census(start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion
         by_plan=tuple(_active(start, end, lambda v, p=plan: v.plan == p, plan) for plan in PLANS),
         by_nurse=tuple(_active(start, end, lambda v, n=nurse: _nurse(v) == n, nurse) for nurse in groups),
         active_total=_active(start, end, lambda v: True, TOTAL),
-    )
-
-
-# --- alerts
-
-
-def _ack_time(severity: str, hours: Sequence[float]) -> AckTime:
-    if not hours:
-        return AckTime(severity, 0, None, None)
-    return AckTime(severity, len(hours), round(percentile(hours, 0.5), 2), round(percentile(hours, 0.9), 2))
-
-
-def _state(event: AlertEvent, previous: str) -> str:
-    return event.state or STATE_AFTER.get(event.action, previous)
-
-
-def _alert_states(week: Week, history: Iterable[AlertEvent],
-                  unresolved_at_start: Iterable[AlertEvent]) -> list[tuple[str, AlertEvent]]:
-    """(state, last transition) at the week's end of every alert not resolved then.
-
-    An alert touched in the week is replayed from its raising; any other keeps its state at the
-    start. As in the queue, a snooze until a day that has come (by the week's last day) is open.
-    """
-    last = {e.alert_id: (_state(e, "open"), e) for e in unresolved_at_start}
-    replayed: dict[str, tuple[str, AlertEvent]] = {}
-    for e in history:  # oldest first
-        previous = replayed[e.alert_id][0] if e.alert_id in replayed else "open"
-        replayed[e.alert_id] = (_state(e, previous), e)
-    last.update(replayed)
-    states = []
-    for state, e in last.values():
-        if state == "snoozed" and e.snooze_until is not None and e.snooze_until <= week.last_day:
-            state = "open"
-        if state != "resolved":
-            states.append((state, e))
-    return states
-
-
-def _week_end_row(severity: str, states: Sequence[tuple[str, AlertEvent]], week: Week) -> WeekEndAlerts:
-    open_ = [e for state, e in states if state == "open"]
-    return WeekEndAlerts(
-        severity=severity,
-        open=len(open_),
-        past_due=sum(1 for e in open_ if e.due is not None and e.due <= week.last_day),
-        acknowledged=sum(state == "acknowledged" for state, _ in states),
-        snoozed=sum(state == "snoozed" for state, _ in states),
-    )
-
-
-def alert_summary(week: Week, history: Sequence[AlertEvent], unresolved_at_start: Sequence[AlertEvent]) -> AlertSummary:
-    in_week = [e for e in history if week.contains(e.at)]
-    raised = Counter((e.kind, e.severity) for e in in_week if e.action == RAISE)
-    kinds = (*ALERT_KINDS, *sorted({k for k, _ in raised} - set(ALERT_KINDS)))
-    rows = tuple(KindCount(k, tuple(raised[(k, s)] for s in SEVERITIES), sum(raised[(k, s)] for s in SEVERITIES))
-                 for k in kinds)
-    raised_total = KindCount(TOTAL, tuple(sum(r.by_severity[i] for r in rows) for i in range(len(SEVERITIES))),
-                             sum(r.total for r in rows))
-    actions = tuple(ActionCount(label, sum(e.action == action for e in in_week)) for action, label in ACTION_EVENTS.items())
-
-    by_alert: dict[str, list[AlertEvent]] = defaultdict(list)
-    for e in history:
-        by_alert[e.alert_id].append(e)
-    hours: dict[str, list[float]] = defaultdict(list)
-    for events in by_alert.values():
-        raising = next((e for e in events if e.action == RAISE), None)
-        first_ack = next((e for e in events if e.action == ACK), None)
-        if raising and first_ack and week.contains(first_ack.at):
-            hours[first_ack.severity].append((first_ack.at - raising.at).total_seconds() / 3600)
-
-    states = _alert_states(week, history, unresolved_at_start)
-    week_end = tuple(_week_end_row(s, [(st, e) for st, e in states if e.severity == s], week) for s in SEVERITIES)
-    return AlertSummary(
-        raised=rows,
-        raised_total=raised_total,
-        actions=actions,
-        ack_times=tuple(_ack_time(s, hours[s]) for s in SEVERITIES),
-        ack_all=_ack_time("all", [h for values in hours.values() for h in values]),
-        week_end=week_end,
-        week_end_total=WeekEndAlerts(
-            TOTAL,
-            open=sum(r.open for r in week_end),
-            past_due=sum(r.past_due for r in week_end),
-            acknowledged=sum(r.acknowledged for r in week_end),
-            snoozed=sum(r.snoozed for r in week_end),
-        ),
-    )
-
-
-# --- clinical events
-
-
-def cycles_into_week(bleeds: Mapping[str, Sequence[Observation]], temperature_days: Mapping[str, Sequence[date]],
-                     week: Week, protocol: Protocol) -> dict[str, list[CycleSpan]]:
-    """Each patient's cycles, as of the week's end, that reach into the week.
-
-    Only patients with a temperature in the week can have a shift confirmed in it, so only they
-    are kept; their readings are then needed from the first such cycle's day 1, not from further back.
-    """
-    found = {}
-    for pid in temperature_days:
-        seen = [b for b in bleeds.get(pid, ()) if b.day <= week.last_day]
-        spans = [s for s in cycle_spans(menstrual_bleeds(seen, protocol)) if s.end is None or s.end >= week.first_day]
-        if spans:
-            found[pid] = spans
-    return found
-
-
-def confirmed_shift(cycles: Sequence[CycleSpan], temperatures: Sequence[Observation], week: Week,
-                    protocol: Protocol) -> date | None:
-    """The day in the week a thermal shift was confirmed by the three-over-six rule, if one was."""
-    for span, group in zip(cycles, group_by_cycle(list(temperatures), list(cycles))):
-        readings = valid_readings(group)
-        confirmed = three_over_six(readings, protocol).confirmed_at
-        if confirmed is not None and week.first_day <= readings[confirmed].day <= week.last_day:
-            return readings[confirmed].day
-    return None
-
-
-def event_order(e: ClinicalEvent) -> tuple:
-    return (e.day, e.event, e.patient.id)
-
-
-def pregnancy_order(p: PositiveHcg) -> tuple:
-    return (p.tested_on, p.patient.id)
-
-
-def count_events(events: Sequence[ClinicalEvent]) -> tuple[EventCount, ...]:
-    counts = []
-    for event, description, kinds in CLINICAL_EVENTS:
-        names = set(kinds) or {event}
-        counts.append(EventCount(event, description, len({e.patient.id for e in events if e.event in names})))
-    return tuple(counts)
-
-
-def clinical(week: Week, in_week: Sequence[AlertEvent], data: WeekData, protocol: Protocol,
-             ref: Callable[[str], PatientRef]) -> Clinical:
-    first_raised: dict[tuple[str, str], date] = {}
-    for e in in_week:
-        if e.action == RAISE and e.kind in EVENT_ALERT_KINDS:
-            day = week.local_day(e.at)
-            key = (e.patient_id, e.kind)
-            first_raised[key] = min(day, first_raised.get(key, day))
-    events = [ClinicalEvent(ref(pid), kind, day) for (pid, kind), day in first_raised.items()]
-    for pid, temperatures in data.temperatures.items():
-        confirmed = confirmed_shift(data.cycles[pid], temperatures, week, protocol)
-        if confirmed is not None:
-            events.append(ClinicalEvent(ref(pid), SHIFT_CONFIRMED, confirmed))
-    pregnancies = []
-    for positive in data.hcg_positives:
-        # As of the test day: the cycle it belongs to dates the pregnancy.
-        found = analyse(data.patients[positive.patient_id], observations(data.hcg_entries[positive.patient_id]),
-                        positive.day, protocol).pregnancy
-        pregnancies.append(PositiveHcg(ref(positive.patient_id), positive.day,
-                                       found.edd if found else None, found.edd_method if found else None))
-        events.append(ClinicalEvent(ref(positive.patient_id), HCG_POSITIVE, positive.day))
-    return Clinical(
-        counts=count_events(events),
-        events=tuple(sorted(events, key=event_order)),
-        pregnancies=tuple(sorted(pregnancies, key=pregnancy_order)),
     )
 
 

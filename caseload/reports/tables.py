@@ -9,7 +9,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from caseload.reports.model import PatientRef, WeeklySummary
-from caseload.reports.summary import SEVERITIES, TOTAL
+from caseload.reports.alert_summary import SEVERITIES
+from caseload.reports.model import TOTAL
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
 

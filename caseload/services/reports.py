@@ -16,10 +16,11 @@ from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
 from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
+from caseload.reports.clinical import cycles_into_week
 from caseload.reports.deidentify import deidentified, text_scrubber
 from caseload.reports.model import WeeklySummary
 from caseload.reports.render import FOLDER_FORMATS, FORMATS, write
-from caseload.reports.summary import WeekData, charting_from, compute, cycles_into_week
+from caseload.reports.summary import WeekData, charting_from, compute
 from caseload.reports.weeks import Week, iso_week
 from caseload.services.context import Context
 from caseload.services.errors import Refused
@@ -71,10 +72,10 @@ def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
 def compute_summary(ctx: Context, week: str) -> WeeklySummary:
     """The summary of one ISO week ('2026-W48'), with patient ids and names (supervisors and admins)."""
     ctx.require("summary.export")
-    span = _week(ctx, week)
+    period = _week(ctx, week)
     with ReportQueries(ctx.store.db).snapshot() as q:
-        data = _week_data(ctx, q, span)
-    return compute(span, data, ctx.protocol, ctx.today)
+        data = _week_data(ctx, q, period)
+    return compute(period, data, ctx.protocol, ctx.today)
 
 
 def _format(fmt: str) -> str:
@@ -97,7 +98,8 @@ def _target(out: Path, fmt: str) -> Path:
 def _secret(ctx: Context) -> str:
     secret = ctx.store.db.meta("pseudonym_secret")
     if not secret:
-        raise Refused("this store has no pseudonym secret, so it cannot de-identify: it was not set up by 'caseload init'")
+        raise Refused("this store has no pseudonym secret, so it cannot de-identify: "
+                      "it was not set up by 'caseload init'")
     return secret
 
 

@@ -78,6 +78,8 @@ def claim_staff(store: Store, staff_id: str, account: str) -> Actor:
         raise Refused(f"staff member {staff.id} is inactive and can do nothing")
     if staff.os_account:
         raise Refused(f"{staff.id} is already signed to another OS account: ask an admin")
+    if staff.role is Role.ADMIN:  # else any unmapped account could make itself an admin
+        raise Refused(f"{staff.id} is an admin record: another admin maps it with 'caseload staff map {staff.id} ACCOUNT'")
     claimed = Staff(staff.id, staff.name, staff.role, True, account)
     actor = Actor(claimed, account)
     store.transact(lambda: store.staff.update(actor, staff, claimed))

@@ -3,6 +3,7 @@
 Stored `at` texts are ISO instants that carry their own UTC offset. A range is read from the
 `at` index widened by a day on each side (no offset exceeds 14 hours, so every row of the exact
 range is inside it), then checked exactly with julianday(), which honours the offset.
+The audit trail is appended in time order, so the highest id before an instant is the latest row.
 """
 
 from __future__ import annotations
@@ -296,7 +297,8 @@ class ReportQueries:
         # index; left to itself the planner would scan every patient's days through (kind, day).
         rows = self.db.db.execute(
             "SELECT e.patient_id, e.day, e.kind, e.number, e.word, e.flags FROM json_each(?) AS j"
-            " CROSS JOIN entry e INDEXED BY entry_patient_day ON e.patient_id = j.key AND e.day >= j.value AND e.day <= ?"
+            " CROSS JOIN entry e INDEXED BY entry_patient_day"
+            "  ON e.patient_id = j.key AND e.day >= j.value AND e.day <= ?"
             f" WHERE e.kind = ? AND {CURRENT} ORDER BY e.patient_id, e.day, e.id",
             [json.dumps({pid: day.isoformat() for pid, day in starts.items()}), last.isoformat(), Kind.TEMP.value],
         )

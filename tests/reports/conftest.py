@@ -12,7 +12,8 @@ Who and what (ids, then what happens in W43; times are London wall-clock):
   P1 Aurelia Quennell  nurse1 natural  charting; temps every day; cycle from 5 Oct, lows 36.40 to 19 Oct,
                        highs 36.70 from 20 Oct: shift confirmed Thu 22 Oct. Positive hCG Sun 1 Nov (W44).
   P2 Bryony Tallisker  nurse1 timed    charting; temps Mon (logged 00:30, = Sunday in UTC), Tue, Sat, Sun;
-                       Sat's 37.10 corrected to 36.71. A Sunday-18 temp logged Sun 23:30 (W42). Paused Mon 26 Oct 00:30 GMT (W44).
+                       Sat's 37.10 corrected to 36.71. A Sunday-18 temp logged Sun 23:30 (W42).
+                       Paused Mon 26 Oct 00:30 GMT (W44).
   P3 Delphine Marchbank nurse2 insemination, not charting; LMP 21 Sep; serum hCG 120 Thu, 150 Sat; pregnant Fri.
   P4 Eulalia Fennimore nurse1 natural  charting; a Monday temp voided; discharged Tue.
   P5 Fenella Ruddock   nurse2 natural  charting; registered Wed; temps Thu to Sun (Sunday's logged 23:30 GMT).
@@ -107,8 +108,9 @@ class Clinic:
     def amend(self, when: str, by: str, old: Entry, value: str, reason: str) -> Entry:
         self._at(when)
         parsed = parse_entry(old.kind.value, value, old.day, on=old.day.isoformat())
+        actor = self.actors[by]
         return self.store.transact(
-            lambda: self.store.entries.add(self.actors[by], old.patient_id, parsed, supersedes=old.id, amend_reason=reason))
+            lambda: self.store.entries.add(actor, old.patient_id, parsed, supersedes=old.id, amend_reason=reason))
 
     def void(self, when: str, by: str, entry: Entry, reason: str) -> None:
         self._at(when)
@@ -124,7 +126,8 @@ class Clinic:
         return Candidate(pid, kind, key, Severity(severity), date.fromisoformat(due), f"{kind} for {pid}",
                          {"test": True}, "hand-built", "test fixture")
 
-    def raise_alert(self, name: str, when: str, pid: str, kind: str, severity: str, due: str, by: str = "phone1") -> None:
+    def raise_alert(self, name: str, when: str, pid: str, kind: str, severity: str, due: str,
+                    by: str = "phone1") -> None:
         """What the engine writes when a rule first finds something."""
         self._at(when)
         candidate = self._candidate(pid, kind, severity, due, f"{pid}:{kind}:{name}")
@@ -234,7 +237,8 @@ def build(store: Store, clock: Clock) -> Clinic:
     c.temps("P5", "2026-10-24", "2026-10-24", "36.45", at="08:00")
     c.log("2026-10-24 09:00", "nurse2", "P3", "hcg", "150", "2026-10-24")
     c.raise_alert("A3", "2026-10-24 11:00", "P3", "hcg-rise-low", "urgent", "2026-10-24")
-    c.entry_ids["P2 correction"] = c.amend("2026-10-24 11:00", "nurse1", p2_saturday, "36.71", "typo: 37.10 for 36.71").id
+    corrected = c.amend("2026-10-24 11:00", "nurse1", p2_saturday, "36.71", "typo: 37.10 for 36.71")
+    c.entry_ids["P2 correction"] = corrected.id
     c.handle("A3", "2026-10-24 12:00", "nurse2", ACK)
     c.update_patient("2026-10-24 15:00", "nurse1", "P7", nurse_id="nurse2")
     c.raise_alert("A7", "2026-10-24 20:00", "P8", "logging-gap", "info", "2026-10-25")

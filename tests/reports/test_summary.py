@@ -8,7 +8,7 @@ from datetime import date, timedelta
 import pytest
 from dateutil.relativedelta import relativedelta
 
-from caseload.reports.summary import percentile
+from caseload.reports.alert_summary import percentile
 from caseload.reports.tables import INT, sections
 from caseload.services.reports import compute_summary
 from tests.reports.conftest import W43, W44

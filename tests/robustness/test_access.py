@@ -26,7 +26,7 @@ from caseload.services.identity import os_account, resolve_actor
 from caseload.services.importer import import_csv
 from caseload.services.patients import add_patient, update_patient
 from caseload.services.permissions import MATRIX
-from caseload.services.staff import add_staff, map_account, set_active
+from caseload.services.staff import add_staff, claim_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
 
@@ -164,6 +164,17 @@ def test_a_deactivated_account_is_refused_before_any_action(store, staffed):
         resolve_actor(store, "nurse-account")
     with pytest.raises(Refused, match="inactive"):
         resolve_actor(store, os_account(), as_staff="nurse1")
+
+
+def test_first_sign_in_may_take_an_unclaimed_record_but_never_an_admin_one(store, staffed):
+    admin = Context(store, staffed[Role.ADMIN], TODAY)
+    add_staff(admin, "admin2", "Second Admin", "admin")
+    before = snapshot(store.path)
+    with pytest.raises(Refused, match="admin record"):
+        claim_staff(store, "admin2", "newcomer")
+    assert snapshot(store.path) == before
+    actor = claim_staff(store, "phone1", "newcomer")
+    assert (actor.id, actor.role, resolve_actor(store, "newcomer").id) == ("phone1", Role.PHONE, "phone1")
 
 
 def test_os_account_comes_from_the_os_not_the_environment(monkeypatch):

@@ -136,6 +136,10 @@ class QuickLogScreen(ModalScreen[None]):
         flags = FLAGS_BY_KIND.get(kind, ()) if kind else ()
         self.query_one("#flags", Input).placeholder = ",".join(flags) if flags else "none"
         check = self.query_one("#check", Static)
+        if not self._text("kind").strip():
+            check.set_class(False, "refused")
+            check.update(Text(f"Next: the kind ({KINDS_HINT}), then Enter", style="dim"))
+            return
         try:
             parsed = self._parsed()
         except InputError as err:
