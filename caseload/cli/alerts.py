@@ -129,9 +129,7 @@ def protocol_group() -> None:
 @pass_session
 def protocol_show(session: Session) -> None:
     """Every setting in use, with its default, accepted range and source."""
-    ctx = session.context()
-    ctx.require("protocol.view")
-    in_use = protocol_service.protocol_in_use(ctx.store)
+    in_use = protocol_service.show_protocol(session.context())
     out = console()
     if in_use.path is None:
         out.print("Protocol file: none; the defaults are in use.")

@@ -77,7 +77,7 @@ def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol:
     temps = [o for o in group if o.kind == Kind.TEMP]
     signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
     shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
-    found = markers(signs, shift, protocol)
+    found = markers(signs, shift, protocol, retrospective=not span.is_open)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -147,7 +147,9 @@ def analyse(
 def _forecast(
     current: CycleRecord, current_obs: list[Observation], complete: list[CycleRecord], today: date, protocol: Protocol
 ) -> Prediction:
-    lengths = [r.length for r in complete]
+    # A "cycle" past the amenorrhoea threshold is an absence of bleeding, not a pattern to learn from
+    # (and a mistyped year would otherwise stretch the forecast grid over decades).
+    lengths = [r.length for r in complete if r.length < protocol.amenorrhoea_days]
     luteals = [r.luteal_length for r in complete if r.luteal_length is not None]
     cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
     luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)

@@ -14,8 +14,13 @@ _MUCUS_LEVEL = {word: level for level, word in enumerate(MUCUS_SCALE)}
 
 # Order of trust for dating ovulation, most trusted first. The LH surge precedes ovulation by a
 # narrow, well-measured interval (WHO Task Force 1980); the thermal shift only follows it, dating
-# it to a range of days (Hilgers 1980); the mucus peak is a self-observation and the least exact.
-OVULATION_METHODS: tuple[str, ...] = ("lh", "shift", "mucus")
+# it to a range of days (Hilgers 1980); a change point without a confirmed shift is the same
+# measurement read with less certainty; the mucus peak is a self-observation and the least exact.
+# Measured on 300 simulated patients over a year (ovulatory cycles, share within 1 / 2 days of the
+# true day): lh 1.00 / 1.00, shift 0.92 / 0.99, change-point 0.89 / 0.97, mucus 0.97 / 0.98. The
+# simulator puts peak-type mucus on the true day by construction, so its mucus figure is no
+# measure of real charts and does not move mucus up the order.
+OVULATION_METHODS: tuple[str, ...] = ("lh", "shift", "change-point", "mucus")
 
 
 @dataclass(frozen=True)
@@ -55,13 +60,22 @@ def mucus_peak(observations: list[Observation]) -> date | None:
     return confirmed
 
 
-def markers(observations: list[Observation], shift: ThermalShift, protocol: Protocol) -> Markers:
-    """The cycle's markers and its ovulation estimate by the first method in the order of trust."""
+def markers(
+    observations: list[Observation], shift: ThermalShift, protocol: Protocol, retrospective: bool = False
+) -> Markers:
+    """The cycle's markers and its ovulation estimate by the first method in the order of trust.
+
+    A thermal shift dates ovulation to the day before the first day of the rise; a change point
+    without a confirmed shift does so only `retrospective`ly, for a completed cycle, where a later
+    reading can no longer undo its split.
+    """
     surge = lh_surge(observations, protocol)
     peak = mucus_peak(observations)
+    before_rise = None if shift.rise_start is None else shift.rise_start - timedelta(days=1)
     estimates = {
         "lh": None if surge is None else surge + timedelta(days=protocol.lh_to_ovulation_days),
-        "shift": shift.first_high - timedelta(days=1) if shift.confirmed and shift.first_high else None,
+        "shift": before_rise if shift.confirmed else None,
+        "change-point": before_rise if retrospective and not shift.confirmed else None,
         "mucus": peak,
     }
     method = next((m for m in OVULATION_METHODS if estimates[m] is not None), None)

@@ -24,6 +24,8 @@ from caseload.core.settings import Protocol
 # Hilgers 1980: ovulation lies from 6 days before to 3 days after the first day of the rise;
 # a confirmed shift means ovulation is past, so only the days before the first high are kept.
 SHIFT_OVULATION_EARLIEST = 6
+# A rise only the change point sees is weaker evidence: the whole of Hilgers' range is kept.
+RISE_OVULATION_LATEST = 3
 # A positive LH test dates ovulation to `lh_to_ovulation_days` later, give or take a day
 # (WHO Task Force 1980: 90% ovulated 16 to 48 h after the rise). Weights: common practice.
 LH_LIKELIHOOD = {-1: 0.25, 0: 0.5, 1: 0.25}
@@ -54,6 +56,7 @@ class Evidence:
     first_high: int | None  # of a confirmed thermal shift
     lh_surge: int | None
     horizon: int | None  # earliest day ovulation can still be on; None when nothing is watched
+    rise_start: int | None = None  # first day of a rise the change point sees without a confirmed shift
 
 
 def watch_horizon(reading_days: list[int], lh_test_days: list[int], protocol: Protocol) -> int | None:
@@ -92,7 +95,7 @@ class Prediction:
     expected_ovulation: date  # from the pattern alone, before this cycle's evidence
     expected_ovulation_range: tuple[date, date]  # 80%, pattern alone
     calendar_rule: tuple[int, int] | None  # Ogino-Knaus, in cycle days
-    evidence: str  # "lh", "shift", "lh+shift"; "elapsed" (watched days, no sign); "pattern" (nothing watched)
+    evidence: str  # "lh", "shift", "change-point", joined by "+"; "elapsed" (watched days, no sign); "pattern"
     cycle_length: Predictive
     luteal_length: Predictive
 
@@ -166,6 +169,10 @@ def _evidence_likelihoods(evidence: Evidence, protocol: Protocol) -> list[tuple[
     if evidence.first_high is not None:
         f = evidence.first_high
         found.append(("shift", {o: 1.0 for o in range(max(f - SHIFT_OVULATION_EARLIEST, 1), f)}))
+    if evidence.rise_start is not None:
+        r = evidence.rise_start
+        rise = range(max(r - SHIFT_OVULATION_EARLIEST, 1), r + RISE_OVULATION_LATEST + 1)
+        found.append(("change-point", {o: 1.0 for o in rise}))
     return found
 
 

@@ -5,6 +5,11 @@ at least `shift_rise_c` above each of the previous `shift_low_days` valid readin
 lies `coverline_above_c` above the highest of those; the shift is confirmed on the
 `shift_confirm_readings`-th consecutive reading above the coverline. Disturbed readings are skipped
 and missing days are tolerated (the rule counts readings, not days).
+
+Hilgers 1980 dates ovulation from the first day of the rise, which the rule's first high marks
+only on an abrupt rise: on a gradual one (WHO Global Handbook) the level has begun to climb before
+any reading clears the six before it by 0.2 C. The change point's first high-level reading marks
+that start, and without a confirmed shift a passing change point is the only sign of the rise.
 """
 
 from __future__ import annotations
@@ -18,6 +23,9 @@ from caseload.core.settings import Protocol
 
 # Change-point levels need a few readings each to mean anything; three matches the confirmation count.
 MIN_LEVEL_READINGS = 3
+# The rise is dated only when the day before it was read or is the one day missed: after a longer
+# gap it may have begun on any unread day, and a date is not guessed (common practice).
+MAX_UNREAD_DAYS_BEFORE_RISE = 1
 
 
 @dataclass(frozen=True)
@@ -44,6 +52,7 @@ class ThermalShift:
 
     confirmed: bool
     first_high: date | None  # the rule's first high (also while awaiting confirmation)
+    rise_start: date | None  # first day of the rise, when the readings date it to the day (`rise_start`)
     confirmed_on: date | None
     coverline: float | None
     low_days: tuple[date, ...]  # the readings the first high was measured against
@@ -143,6 +152,31 @@ def change_point(readings: list[Reading], protocol: Protocol) -> ChangePoint | N
     )
 
 
+def rise_start(readings: list[Reading], rule: _RuleResult, cp: ChangePoint | None, protocol: Protocol) -> date | None:
+    """The first day of the rise, or None when nothing rose or unread days hide its start.
+
+    A confirmed shift rose on its first high, or earlier where a passing change point splits the
+    readings among the six the first high was measured against. Without a confirmed shift a passing
+    change point dates it once it has as many readings before it as the rule needs, and as many
+    after as confirm.
+    """
+    lows = protocol.shift_low_days
+    split = None
+    if cp is not None and cp.passes:
+        split = next(i for i, r in enumerate(readings) if r.day == cp.split_on)
+        if split < lows or len(readings) - split < protocol.shift_confirm_readings:
+            split = None
+    if rule.confirmed_at is not None:
+        first = rule.first_high
+        begins = split if split is not None and first - lows <= split < first else first
+    elif split is None:
+        return None
+    else:
+        begins = split
+    unread = (readings[begins].day - readings[begins - 1].day).days - 1
+    return readings[begins].day if unread <= MAX_UNREAD_DAYS_BEFORE_RISE else None
+
+
 def thermal_shift(readings: list[Reading], start: date, last_day: date, protocol: Protocol) -> ThermalShift:
     """The shift of one cycle from its valid readings; `last_day` is the cycle's end or today."""
     rule = three_over_six(readings, protocol)
@@ -156,6 +190,7 @@ def thermal_shift(readings: list[Reading], start: date, last_day: date, protocol
     return ThermalShift(
         confirmed=confirmed,
         first_high=None if first is None else readings[first].day,
+        rise_start=rise_start(readings, rule, cp, protocol),
         confirmed_on=readings[rule.confirmed_at].day if confirmed else None,
         coverline=coverline,
         low_days=() if first is None else tuple(r.day for r in readings[first - protocol.shift_low_days : first]),

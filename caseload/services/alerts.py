@@ -52,7 +52,7 @@ def list_alerts(ctx: Context, state: str = "open", kind: str | None = None, nurs
 def get_alert(ctx: Context, alert_id: int | str) -> Alert:
     try:
         alert = ctx.store.alerts.get(int(alert_id))
-    except ValueError:
+    except (ValueError, OverflowError):  # not a number, or beyond SQLite's integers
         alert = None
     if alert is None:
         raise NotFound(f"no alert '{one_line(str(alert_id))}': see 'caseload alerts'")
@@ -60,12 +60,11 @@ def get_alert(ctx: Context, alert_id: int | str) -> Alert:
 
 
 def _may_handle(ctx: Context, alert: Alert) -> None:
+    ctx.require("alert.handle-routine")  # refuses inactive staff before anything else
     if is_clinical(alert.kind):
         if not allowed(ctx.actor, "alert.handle"):
             role = ctx.actor.role.value
             raise Refused(f"{alert.kind} is a clinical alert: a nurse, supervisor or admin handles it ({role} staff may not)")
-    else:
-        ctx.require("alert.handle-routine")
 
 
 def _note(alert: Alert, text: str | None) -> str | None:

@@ -36,6 +36,10 @@ def check_loggable(ctx: Context, patient_id: str, parsed: ParsedEntry, supersede
     patient = get_patient(ctx, patient_id)
     if patient.status is PatientStatus.DISCHARGED:
         raise Refused(f"patient {patient.id} is discharged: re-open the patient before logging")
+    if parsed.day < patient.born:
+        raise InputError(
+            f"day {parsed.day.isoformat()} is before {patient.id}'s date of birth ({patient.born.isoformat()}): check the year"
+        )
     if parsed.kind is Kind.TEMP:
         same_day = [e for e in ctx.store.entries.current_on(patient.id, parsed.day, Kind.TEMP) if e.id != supersedes]
         if same_day:

@@ -19,10 +19,15 @@ def backup(ctx: Context, target: str) -> Path:
 def restore(ctx: Context, source: str) -> int:
     """Replace the store with a checked backup; the restore itself is audited in the restored store."""
     ctx.require("store.restore")
+    last_before = ctx.store.audit.last_id()
     version = ctx.store.restore(Path(source))
-    ctx.store.transact(
-        lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after={"path": source, "schema": version})
-    )
+    record = {"path": source, "schema": version}
+    last_restored = ctx.store.audit.last_id()
+    if last_before > last_restored:
+        # Audit rows written after the backup was taken are gone with the replaced file; name their ids,
+        # since the ids that follow will be issued again.
+        record["audit_ids_replaced"] = [last_restored + 1, last_before]
+    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after=record))
     return version
 
 

@@ -58,6 +58,12 @@ def protocol_in_use(store: Store) -> ProtocolInUse:
         return ProtocolInUse(path, DEFAULT_PROTOCOL, str(err))
 
 
+def show_protocol(ctx: Context) -> ProtocolInUse:
+    """`protocol show`: the settings in force, with any error that put the defaults back."""
+    ctx.require("protocol.view")
+    return protocol_in_use(ctx.store)
+
+
 def load_protocol(store: Store) -> Protocol:
     return protocol_in_use(store).protocol
 

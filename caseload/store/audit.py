@@ -32,6 +32,9 @@ class AuditTable:
         )
         return [AuditRow(**r) for r in rows]
 
+    def last_id(self) -> int:
+        return self.db.conn.execute("SELECT coalesce(max(id), 0) FROM audit").fetchone()[0]
+
     def count(self) -> int:
         return self.db.conn.execute("SELECT count(*) FROM audit").fetchone()[0]
 

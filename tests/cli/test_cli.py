@@ -74,6 +74,7 @@ def test_log_each_kind(clinic, kind, value):
         (("log", "P0001", "bleed", "medium"), "use one of spotting"),
         (("log", "P9999", "temp", "36.5"), "no patient"),
         (("log", "P0001", "temp", "36.5", "--flag", "tired"), "does not apply"),
+        (("log", "P0001", "bleed", "heavy", "--on", "1950-01-01"), "before P0001's date of birth"),
         (("--as", "phil", "amend", "1", "36.6", "--reason", "x"), "may not entry amend"),
         (("--as", "phil", "staff", "add", "x1", "--name", "X", "--role", "nurse"), "may not staff add"),
         (("void", "99", "--reason", "x"), "no entry"),

@@ -189,3 +189,13 @@ def test_predictions_never_fall_before_day_one(lengths, open_days, seed, lh_earl
     assert all(d >= day1 for d, _ in p.ovulation_distribution)
     assert p.next_period > day1
     assert all(0.0 <= c.p_fertile <= 1.0 for c in p.daily)
+
+
+def test_a_decades_long_gap_is_not_learnt_as_a_cycle():
+    """A mistyped year must not stretch the forecast: gaps of 90+ days are amenorrhoea (FIGO 2018, 90 days from memory)."""
+    patient = Patient("P1", "Test", date(1940, 1, 1), None)
+    obs = [Observation(date(1950, 1, 1), Kind.BLEED, Value(word="heavy")),
+           Observation(date(2026, 11, 1), Kind.BLEED, Value(word="heavy"))]
+    a = analyse(patient, obs, date(2026, 12, 1))
+    assert a.cycle_day == 31
+    assert a.prediction.cycle_length.observed == 0  # the prior stands alone

@@ -163,3 +163,16 @@ def test_backups_and_their_journal_files_are_owner_only_whatever_the_umask(clini
     finally:
         os.umask(old)
     assert modes == {"open.db": 0o600, "open.db-wal": 0o600, "open.db-shm": 0o600}
+
+
+def test_restore_names_the_audit_ids_it_replaced(clinic, tmp_path):
+    backup = tmp_path / "early.db"
+    assert clinic("backup", str(backup)).exit_code == 0
+    last_in_backup = snapshot(backup)["audit"][-1][0]
+    clinic("log", "P0001", "symptom", "after the backup")
+    clinic("log", "P0001", "note", "also after")
+    last_before = snapshot(clinic.db)["audit"][-1][0]
+    assert clinic("restore", str(backup)).exit_code == 0
+    restore_row = snapshot(clinic.db)["audit"][-1]
+    assert restore_row[4] == "store.restore"
+    assert f'"audit_ids_replaced": [{last_in_backup + 1}, {last_before}]' in restore_row[8]
