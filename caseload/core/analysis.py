@@ -165,6 +165,7 @@ def _forecast(
         first_high=cycle_day(shift.first_high) if shift.confirmed else None,
         lh_surge=cycle_day(current.markers.lh_surge),
         horizon=watch_horizon(readings, lh_tests, protocol),
+        rise_start=None if shift.confirmed else cycle_day(shift.rise_start),
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 

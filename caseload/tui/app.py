@@ -17,6 +17,7 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.message_pump import MessagePump
 from textual.reactive import reactive
+from textual.widgets import Input
 from textual.worker import Worker, WorkerState, get_current_worker
 
 from caseload.core.model import Actor, Role, Severity
@@ -54,7 +55,9 @@ class CaseloadApp(App):
     TITLE = "caseload"
     CSS_PATH = ["app.tcss", "widgets/widgets.tcss"]
     BINDINGS = [
-        Binding("l", "quick_log", "Log call", id="app.quick_log"),
+        # A priority binding, so the keys typed straight after it already go to the quick log; it
+        # stands aside (check_action) wherever text is being typed.
+        Binding("l", "quick_log", "Log call", id="app.quick_log", priority=True),
         Binding("q", "quit", "Quit", id="app.quit"),
     ]
 
@@ -159,12 +162,11 @@ class CaseloadApp(App):
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "quick_log":
-            return self.gate.actor is not None and self.gate.may("entry.log")
+            typing = isinstance(self.focused, Input) or self.screen.is_modal
+            return not typing and self.gate.actor is not None and self.gate.may("entry.log")
         return True
 
     def action_quick_log(self) -> None:
-        if self.screen.is_modal:
-            return
         patient_id = getattr(self.screen, "patient_id", None)
         self.push_screen(QuickLogScreen(patient_id, settled=getattr(self.screen, "patient_settled", False)))
 

@@ -4,8 +4,9 @@ from datetime import date, timedelta
 
 import pytest
 
+from caseload.core.analysis import analyse
 from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
-from caseload.core.model import Kind, Observation, Value
+from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.thermal import thermal_shift, valid_readings
 
@@ -55,9 +56,9 @@ def _shift_chart() -> list[Observation]:
     return [Observation(on(d), Kind.TEMP, Value(number=t)) for d, t in (lows | highs).items()]
 
 
-def _markers(obs: list[Observation]):
+def _markers(obs: list[Observation], retrospective: bool = False):
     shift = thermal_shift(valid_readings(obs), DAY1, on(20), P)
-    return markers(obs, shift, P)
+    return markers(obs, shift, P, retrospective)
 
 
 def test_order_of_trust_lh_then_shift_then_mucus():
@@ -78,3 +79,52 @@ def test_luteal_length_counts_from_the_day_after_ovulation_to_the_day_before_the
     assert luteal_length(on(14), on(29)) == 14
     assert luteal_length(None, on(29)) is None
     assert luteal_length(on(14), None) is None
+
+
+def temps(values: dict[int, float]) -> list[Observation]:
+    return [Observation(on(d), Kind.TEMP, Value(number=t)) for d, t in sorted(values.items())]
+
+
+LOW = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
+# A ramp the three-over-six rule never confirms; the change point's high level starts on day 16.
+RAMP = LOW | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70}
+
+
+def test_a_change_point_dates_a_completed_cycle_the_rule_did_not_confirm():
+    peak = [mucus(13, "stretchy"), mucus(14, "sticky")]
+    done = _markers(temps(RAMP) + peak, retrospective=True)
+    # The day before the first day of the rise, ahead of the mucus peak in the order of trust.
+    assert (done.ovulation, done.ovulation_method) == (on(15), "change-point")
+    # In the open cycle a later reading could still move the split: the mucus peak stands.
+    still_open = _markers(temps(RAMP) + peak)
+    assert (still_open.ovulation, still_open.ovulation_method) == (on(13), "mucus")
+    assert _markers(temps(RAMP), retrospective=False).ovulation is None
+
+
+def test_a_gradual_shift_dates_ovulation_from_the_first_day_of_the_rise():
+    # Hilgers 1980: ovulation is dated from the first day of the rise, not from the rule's first
+    # high (day 18 here); the level began to climb on day 16, so ovulation is put on day 15.
+    gradual = LOW | {15: 36.58, 16: 36.66, 17: 36.70, 18: 36.92, 19: 36.90, 20: 36.92}
+    found = _markers(temps(gradual))
+    assert (found.ovulation, found.ovulation_method) == (on(15), "shift")
+
+
+PATIENT = Patient("p", "Test Patient", date(1990, 6, 1), None)
+
+
+def _gap_chart(extra: list[Observation]) -> list[Observation]:
+    """A 30-day cycle (ovulation about day 15) with days 17-23 unlogged, then the next period."""
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, 4, 31, 32)]
+    readings = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 17)} | {d: 36.80 for d in range(24, 31)}
+    return sorted(bleeds + temps(readings) + extra, key=lambda o: o.day)
+
+
+def test_a_rise_hidden_by_a_logging_gap_gives_no_luteal_length():
+    # Regression: the first reading after a week's gap confirmed the shift and dated ovulation to
+    # day 23, measuring a 15-day luteal phase as 7 (and raising a false short luteal phase).
+    cycle = analyse(PATIENT, _gap_chart([]), on(32)).cycles[0]
+    assert cycle.shift.confirmed and cycle.shift.first_high == on(24)
+    assert cycle.markers.ovulation is None and cycle.luteal_length is None
+    # A mucus peak logged before the gap still dates it: days 16..30 are the luteal phase (Lenton 1984).
+    dated = analyse(PATIENT, _gap_chart([mucus(15, "stretchy"), mucus(16, "sticky")]), on(32)).cycles[0]
+    assert (dated.markers.ovulation_method, dated.luteal_length) == ("mucus", 15)

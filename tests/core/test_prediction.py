@@ -195,3 +195,43 @@ def test_predict_directly_from_evidence():
     assert cycle_day(START, p.ovulation) == 14
     assert p.ovulation_range[0] <= p.ovulation <= p.ovulation_range[1]
     assert p.next_period_range[0] <= p.next_period <= p.next_period_range[1]
+
+
+def _readings(start: date, values: dict[int, float]) -> list[Observation]:
+    return [Observation(start + timedelta(days=d - 1), Kind.TEMP, Value(number=t)) for d, t in values.items()]
+
+
+LOWS_TO_14 = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
+# A ramp the three-over-six rule never confirms; the change point's high level starts on day 16.
+RAMP = LOWS_TO_14 | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70, 21: 36.75}
+
+
+def test_a_rise_only_the_change_point_sees_is_weaker_evidence_than_a_shift():
+    # Hilgers 1980: ovulation from 6 days before to 3 days after the first day of the rise (day 16).
+    # Unlike a confirmed shift the days after it are kept, but day 21 is past them all.
+    obs, start, today = history([28] * 6, current_day=21)
+    p = analyse(PATIENT, obs + _readings(start, RAMP), today).prediction
+    assert p.evidence == "change-point"
+    days = [cycle_day(start, d) for d, m in p.ovulation_distribution if m > 0]
+    assert (min(days), max(days)) == (16 - 6, 16 + 3)
+    assert p.daily[0].p_fertile == 0.0
+    # The same days with no rise leave ovulation ahead, and today possibly fertile.
+    flat = analyse(PATIENT, obs + _readings(start, {d: RAMP[d] for d in LOWS_TO_14} | {d: 36.45 for d in range(15, 22)}), today)
+    assert flat.prediction.evidence == "elapsed" and flat.prediction.daily[0].p_fertile > 0.1
+
+
+def test_a_change_point_needs_three_readings_at_the_high_level():
+    obs, start, _ = history([28] * 6, current_day=17)
+    early = {d: t for d, t in RAMP.items() if d <= 17}
+    p = analyse(PATIENT, obs + _readings(start, early), start + timedelta(days=16)).prediction
+    assert p.evidence == "elapsed"
+
+
+def test_an_lh_surge_and_a_change_point_combine():
+    # WHO Task Force 1980: ovulation about a day after the surge (day 14 -> 15), inside Hilgers'
+    # range around a rise on day 16.
+    cycle = predictive([28] * 12, P.prior_cycle_mean, P.prior_cycle_sd, P.prior_weight_cycles)
+    luteal = predictive([14] * 12, P.prior_luteal_mean, P.prior_luteal_sd, P.prior_weight_cycles)
+    today = START + timedelta(days=19)
+    p = predict(START, Evidence(20, None, 14, None, rise_start=16), cycle, luteal, [28] * 12, today, P)
+    assert p.evidence == "lh+change-point" and cycle_day(START, p.ovulation) == 15

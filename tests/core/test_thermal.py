@@ -1,4 +1,4 @@
-"""Thermal shift: the three-over-six rule on hand-built charts, and the change-point split."""
+"""Thermal shift: the three-over-six rule on hand-built charts, the change-point split, the first day of the rise."""
 
 import random
 from datetime import date, timedelta
@@ -8,8 +8,10 @@ import pytest
 import ruptures
 
 from caseload.core.model import Kind, Observation, Value
+from caseload.core.parse import parse_entry
 from caseload.core.settings import DEFAULT_PROTOCOL as P
-from caseload.core.thermal import Reading, change_point, thermal_shift, valid_readings
+from caseload.core.thermal import Reading, change_point, thermal_shift, three_over_six, valid_readings
+from caseload.sim import simulate_caseload
 
 DAY1 = date(2024, 3, 1)
 
@@ -133,3 +135,77 @@ def test_change_point_figures():
 
 def test_too_few_readings_give_no_change_point():
     assert change_point([Reading(on(i), 36.5) for i in range(1, 6)], P) is None
+
+
+def _literal_three_over_six(readings: list[Reading]) -> tuple[int, int] | None:
+    """The rule read word for word: the first reading at least 0.2 C above each of the six valid
+    readings before it whose next two readings also lie above the coverline (0.1 C over those six)."""
+    temps = [r.celsius for r in readings]
+    for i in range(6, len(temps) - 2):
+        highest = max(temps[i - 6 : i])
+        if temps[i] >= highest + 0.2 - 1e-9 and all(t > highest + 0.1 + 1e-9 for t in temps[i + 1 : i + 3]):
+            return i, i + 2
+    return None
+
+
+def test_the_rule_matches_its_published_wording_on_simulated_charts():
+    # Three-over-six rule (Marquette NFP), checked against a literal reading on every simulated
+    # cycle with temperatures: the rule itself is as published; its misses are its own.
+    start, end = date(2025, 1, 1), date(2025, 6, 30)
+    checked = confirmed = 0
+    for _, chart in simulate_caseload(5, 30, start, end):
+        obs = []
+        for e in chart.entries:
+            if e.kind == Kind.TEMP:
+                p = parse_entry(e.kind, e.raw, end, on=e.day.isoformat(), at=e.time, flags=e.flags)
+                obs.append(Observation(p.day, p.kind, p.value, p.flags, p.time))
+        for cycle in chart.truth:
+            last = cycle.next_start if cycle.length is not None else end
+            readings = valid_readings([o for o in obs if cycle.start <= o.day < last])
+            rule = three_over_six(readings, P)
+            engine = None if rule.confirmed_at is None else (rule.first_high, rule.confirmed_at)
+            assert engine == _literal_three_over_six(readings)
+            checked += bool(readings)
+            confirmed += engine is not None
+    assert checked > 50 and confirmed > 10
+
+
+RISING = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
+
+
+def test_an_abrupt_rise_starts_on_the_first_high():
+    shift = shift_of(LOWS | {14: 36.70, 15: 36.65, 16: 36.75, 17: 36.80})
+    assert shift.rise_start == shift.first_high == on(14)
+
+
+def test_a_gradual_rise_starts_where_the_level_changes():
+    # Hilgers 1980 dates ovulation from the first day of the rise. Here it climbs over days 15-17
+    # (WHO Global Handbook: the rise may be gradual) and only day 18 clears the six before it by
+    # 0.2 C; the change point's first high-level reading, day 16, is among those six.
+    shift = shift_of(RISING | {15: 36.58, 16: 36.66, 17: 36.70, 18: 36.92, 19: 36.90, 20: 36.92, 21: 36.88})
+    assert shift.confirmed and shift.first_high == on(18)
+    assert shift.change_point.split_on == on(16) and on(16) in shift.low_days
+    assert shift.rise_start == on(16)
+
+
+def test_a_change_point_alone_dates_the_rise_with_six_readings_before_it_and_three_after():
+    # A ramp the rule never confirms (no reading clears the six before it by 0.2 C).
+    ramp = RISING | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70, 21: 36.75}
+    shift = shift_of(ramp)
+    assert not shift.confirmed and shift.change_point.passes
+    assert shift.rise_start == shift.change_point.split_on == on(16)
+    # Two highs only: too early to say the level changed.
+    assert shift_of({d: t for d, t in ramp.items() if d <= 17}).rise_start is None
+    # Five readings before the split: fewer than the rule's six lows.
+    early = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 6)} | {d: 36.75 for d in range(6, 12)}
+    assert shift_of(early).change_point.passes and shift_of(early).rise_start is None
+
+
+def test_a_rise_after_a_logging_gap_is_not_dated():
+    # The rule counts readings, so it confirms across a gap; but with days 15-21 unread the rise
+    # may have begun on any of them, and the first reading after the gap is not its first day.
+    shift = shift_of(RISING | {d: 36.80 for d in range(22, 30)})
+    assert shift.confirmed and shift.first_high == on(22)
+    assert shift.rise_start is None
+    # One missed day before the first high still dates it.
+    assert shift_of(RISING | {d: 36.80 for d in range(16, 24)}).rise_start == on(16)

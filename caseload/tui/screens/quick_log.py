@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from rich.text import Text
-from textual import on
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -111,11 +111,21 @@ class QuickLogScreen(ModalScreen[None]):
             yield Static("", id="result")
         yield Footer(compact=True)
 
-    def on_mount(self) -> None:
-        picker = self.query_one(PatientPicker)
+    def _first_field(self) -> TypeAheadInput:
         # From the list the highlighted patient is offered selected: Enter keeps it, typing replaces it.
-        self.query_one("#kind" if picker.patient and self._settled else "#patient", Input).focus()
+        picker = self.query_one(PatientPicker)
+        return self.query_one("#kind" if picker.patient and self._settled else "#patient", TypeAheadInput)
+
+    def on_mount(self) -> None:
+        self._first_field().focus()
         self._check()
+
+    def on_key(self, event: events.Key) -> None:
+        """Keys typed right after `l`, before a field has the focus, go to the field that is getting it."""
+        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
+            event.stop()
+            event.prevent_default()
+            self._first_field().post_message(events.Key(event.key, event.character))
 
     def _text(self, field: str) -> str:
         return self.query_one(f"#{field}", Input).value

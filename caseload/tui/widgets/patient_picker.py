@@ -56,7 +56,11 @@ class PatientPicker(Vertical):
 
     def compose(self) -> ComposeResult:
         start = typed_form(self.patient) if self.patient else ""
-        yield TypeAheadInput(start, placeholder="patient id or name", id="patient", compact=True)
+        field = TypeAheadInput(start, placeholder="patient id or name", id="patient", compact=True, select_on_focus=False)
+        # Selected once, from the start, rather than on focus: keys typed ahead of the focus must
+        # replace the offered patient, and the focus arriving later must not select what they typed.
+        field.select_all()
+        yield field
         matches = OptionList(id="matches", compact=True)
         matches.can_focus = False  # the typing stays in the field; Up/Down move through the matches
         yield matches
