@@ -64,7 +64,8 @@ def main(argv: list[str] | None = None) -> None:
     args = _args(argv)
     console = Console(stderr=True)
     began = time.perf_counter()
-    result: dict = {"command": "python -m caseload.bench " + shlex.join(sys.argv[1:] if argv is None else argv),
+    given = shlex.join(sys.argv[1:] if argv is None else argv)
+    result: dict = {"command": f"python -m caseload.bench {given}".strip(),
                     "machine": machine(), "runs": args.runs, "sizes": []}  # fmt: skip
     if not args.skip_perf:
         (args.folder / "stores").mkdir(parents=True, exist_ok=True)

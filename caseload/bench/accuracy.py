@@ -89,9 +89,9 @@ def observations_of(chart: SimChart, markers: Iterable[Kind]) -> list[Observatio
     for index, sim in enumerate(chart.entries):
         if sim.kind in MARKERS and sim.kind not in kept:
             continue
-        parsed = parsed_entry(sim)
-        out.append((parsed.day, parsed.time or "", index, Observation(parsed.day, parsed.kind, parsed.value, parsed.flags, parsed.time)))
-    return [o for *_, o in sorted(out, key=lambda t: t[:3])]
+        p = parsed_entry(sim)
+        out.append((p.day, p.time or "", index, Observation(p.day, p.kind, p.value, p.flags, p.time)))
+    return [o for *_, o in sorted(out, key=lambda t: t[:3])]  # as model.observations orders them
 
 
 def _truth_by_start(chart: SimChart) -> dict[date, TrueCycle]:

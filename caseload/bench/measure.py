@@ -23,6 +23,7 @@ from caseload.services.context import Context
 from caseload.services.derived import refresh_all
 from caseload.services.entries import log_entry
 from caseload.services.protocol import load_protocol
+from caseload.services.reports import export_summary
 from caseload.store import Store
 
 LOG_PER_RUN = 50
@@ -114,8 +115,6 @@ def week_before(today: date) -> str:
 
 def _summary(fmt: str) -> Callable[[Path, date, int], dict]:
     def measure(path: Path, today: date, run: int) -> dict:
-        from caseload.services.reports import export_summary  # the weekly summary may not exist yet
-
         with tempfile.TemporaryDirectory() as folder:
             began = time.perf_counter()
             with Store(path) as store:

@@ -36,6 +36,31 @@ MATRIX: dict[str, frozenset[Role]] = {
 }
 
 
+# What each action is, in the words a refusal uses.
+DOING: dict[str, str] = {
+    "caseload.view": "view the caseload",
+    "patient.show": "open a patient record",
+    "patient.add": "register a patient",
+    "patient.update": "change a patient's plan, status or nurse",
+    "entry.log": "log entries",
+    "entry.amend": "correct entries",
+    "entry.void": "void entries",
+    "entry.import": "import entries from CSV",
+    "alert.view": "view alerts",
+    "alert.refresh": "refresh alerts",
+    "alert.handle": "handle clinical alerts",
+    "alert.handle-routine": "handle alerts",
+    "summary.export": "export the weekly summary",
+    "protocol.view": "view the clinic protocol",
+    "protocol.set": "change the clinic protocol",
+    "staff.add": "add staff",
+    "staff.update": "change staff records",
+    "store.backup": "back up the store",
+    "store.restore": "restore the store",
+    "store.check": "check the store",
+}
+
+
 def allowed(actor: Actor, action: str) -> bool:
     return actor.staff.active and actor.role in MATRIX[action]
 
@@ -46,5 +71,5 @@ def require(actor: Actor, action: str) -> None:
     if not actor.staff.active:
         raise Refused(f"staff member {actor.id} is inactive and can do nothing: ask an admin")
     if actor.role not in MATRIX[action]:
-        roles = ", ".join(sorted(r.value for r in MATRIX[action]))
-        raise Refused(f"{actor.role.value} staff may not {action.replace('.', ' ')}: it needs {roles}")
+        roles = " or ".join(r.value for r in Role if r in MATRIX[action])
+        raise Refused(f"{actor.role.value} staff may not {DOING[action]}: it needs {roles}")

@@ -18,7 +18,7 @@ from textual.message import Message
 from textual.message_pump import MessagePump
 from textual.reactive import reactive
 from textual.widgets import Input
-from textual.worker import Worker, WorkerState, get_current_worker
+from textual.worker import Worker, WorkerState
 
 from caseload.core.model import Actor, Role, Severity
 from caseload.core.parse import InputError
@@ -115,7 +115,6 @@ class CaseloadApp(App):
         *args,
         reply: Callable[[Any], Message] | None = None,
         refusal: Callable[[str], Message] | None = None,
-        group: str = "store",
         before_sign_in: bool = False,
         **kwargs,
     ) -> Worker:
@@ -128,10 +127,10 @@ class CaseloadApp(App):
 
         def job() -> None:
             result = call(use_case, *args, **kwargs)
-            if reply is not None and not get_current_worker().is_cancelled:
+            if reply is not None:
                 target.post_message(reply(result))
 
-        worker = self.run_worker(job, thread=True, group=group, exit_on_error=False, description=use_case.__name__)
+        worker = self.run_worker(job, thread=True, group="store", exit_on_error=False, description=use_case.__name__)
         if refusal is not None:
             self._refusals[worker] = (target, refusal)
         return worker

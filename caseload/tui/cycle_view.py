@@ -39,8 +39,15 @@ class CycleView:
 
     @property
     def title(self) -> str:
-        day = f"today is day {self.today_day}" if self.today_day else f"{self.last_day} days"
-        return f"Cycle {self.index + 1}/{self.count} from {self.start.day} {self.start.strftime('%b')}, {day}"
+        day = f"today day {self.today_day}" if self.today_day else f"{self.last_day} days"
+        parts = [f"Cycle {self.index + 1}/{self.count} from {self.start.day} {self.start.strftime('%b')}, {day}"]
+        # The chart's lines in words, so they read without colour.
+        if self.coverline is not None:
+            parts.append(f"level line: coverline {self.coverline:.2f} C")
+        parts.append(f"upright line: rise confirmed day {self.confirmed_day}" if self.confirmed_day else "no rise confirmed")
+        if self.fertile:
+            parts.append("bars: P(fertile), right scale")
+        return " · ".join(parts)
 
 
 def cycle_day(start: date, day: date) -> int:

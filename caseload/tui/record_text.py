@@ -9,11 +9,14 @@ from caseload.core.analysis import Analysis
 from caseload.services.caseload import PatientRecord
 from caseload.tui.words import CAUTION, NEXT_EVENT_LABELS, day_span, literal, phase_label, short_day
 
-METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "mucus": "mucus peak"}
+METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
+                "mucus": "mucus peak"}
 EVIDENCE_WORDS = {
     "lh": "a positive LH test",
     "shift": "the temperature rise",
     "lh+shift": "an LH test and the temperature rise",
+    "change-point": "a temperature level change",
+    "lh+change-point": "an LH test and a temperature level change",
     "elapsed": "the days passed without a sign",
 }
 

@@ -103,7 +103,7 @@ def test_protocol_check_and_use(clinic, tmp_path):
     good.write_text("fever_c = 38.5\n", encoding="utf-8")
     checked = clinic("protocol", "check", str(good))
     assert checked.exit_code == 0 and "valid; overrides fever_c = 38.5." in checked.output
-    refused(clinic("--as", "nell", "protocol", "use", str(good)), "may not protocol set")
+    refused(clinic("--as", "nell", "protocol", "use", str(good)), "may not change the clinic protocol")
     used = clinic("protocol", "use", str(good))
     assert used.exit_code == 0 and "1 auto-resolved" in used.output  # 38.4 C is no fever at 38.5
     assert "38.5 *" in clinic("protocol", "show").output

@@ -4,7 +4,7 @@ from datetime import date, timedelta
 
 import pytest
 
-from caseload.core.analysis import analyse
+from caseload.core.analysis import analyse, analysis_json
 from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
@@ -128,3 +128,14 @@ def test_a_rise_hidden_by_a_logging_gap_gives_no_luteal_length():
     # A mucus peak logged before the gap still dates it: days 16..30 are the luteal phase (Lenton 1984).
     dated = analyse(PATIENT, _gap_chart([mucus(15, "stretchy"), mucus(16, "sticky")]), on(32)).cycles[0]
     assert (dated.markers.ovulation_method, dated.luteal_length) == ("mucus", 15)
+
+
+def test_show_json_names_the_change_point_method():
+    # "change-point" is an added ovulation_method word of the `show --json` contract.
+    ramp = RAMP | {d: 36.72 for d in range(21, 29)}
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, 29)]
+    out = analysis_json(analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29)))
+    first = out["cycles"][0]
+    assert (first["ovulation"], first["ovulation_method"]) == (on(15).isoformat(), "change-point")
+    # Lenton 1984: days 16..28 are the luteal phase.
+    assert first["luteal_length"] == 13

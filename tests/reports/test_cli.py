@@ -38,7 +38,7 @@ def test_a_phone_line_identity_is_refused_with_exit_1_and_nothing_written(run, f
     done = run("--as", "phone1", "summary", "--week", "2026-W43", "--format", "xlsx", "--out", str(out))
     assert done.exit_code == 1
     assert done.output.strip() == (
-        "caseload: phone staff may not summary export: it needs admin, supervisor")
+        "caseload: phone staff may not export the weekly summary: it needs supervisor or admin")
     assert not out.exists() and fresh_clinic.store.audit.count() == audit_rows
 
 

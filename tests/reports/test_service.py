@@ -52,7 +52,7 @@ def test_admins_may_export_too(fresh_clinic, tmp_path):
 @pytest.mark.parametrize("fmt", list(OUT))
 def test_phone_and_nurse_staff_are_refused_and_nothing_is_written(fresh_clinic, tmp_path, staff, fmt):
     audit_rows = fresh_clinic.store.audit.count()
-    with pytest.raises(Refused, match="may not summary export: it needs admin, supervisor"):
+    with pytest.raises(Refused, match="may not export the weekly summary: it needs supervisor or admin"):
         export_summary(fresh_clinic.context(staff), W43, fmt, tmp_path / OUT[fmt], deidentify=False)
     assert fresh_clinic.store.audit.count() == audit_rows
     assert not any(p.name != "clinic.db" and not p.name.startswith("clinic.db-") for p in tmp_path.iterdir())

@@ -25,7 +25,7 @@ from caseload.services.errors import Refused
 from caseload.services.identity import os_account, resolve_actor
 from caseload.services.importer import import_csv
 from caseload.services.patients import add_patient, update_patient
-from caseload.services.permissions import MATRIX
+from caseload.services.permissions import DOING, MATRIX
 from caseload.services.protocol import show_protocol, use_protocol
 from caseload.services.reports import export_summary
 from caseload.services.staff import add_staff, claim_staff, map_account, set_active
@@ -279,3 +279,7 @@ def test_check_names_a_gap_in_the_audit_ids(clinic, tmp_path, where):
     gap = "3-3" if where == "middle" else f"{last}-{last}"
     assert result.exit_code == 1 and f"audit id gaps: {gap}" in result.output
     assert clinic("check").exit_code == 0  # the original is whole
+
+
+def test_every_action_has_words_for_its_refusal():
+    assert set(DOING) == set(MATRIX)

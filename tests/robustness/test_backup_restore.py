@@ -138,7 +138,7 @@ def test_restore_is_for_admins_only(clinic, tmp_path, who):
     clinic("backup", str(backup))
     before = snapshot(clinic.db)
     result = clinic("--as", who, "restore", str(backup))
-    assert result.exit_code == 1 and "may not store restore" in result.stderr
+    assert result.exit_code == 1 and "may not restore the store" in result.stderr
     assert snapshot(clinic.db) == before
 
 

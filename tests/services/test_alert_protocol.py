@@ -45,7 +45,7 @@ def test_a_clinic_fever_threshold_of_37_8_flags_the_patient(warm, as_role, store
 def test_only_admins_choose_the_protocol(warm, as_role, tmp_path):
     path = tmp_path / "protocol.toml"
     path.write_text("fever_c = 37.8\n", encoding="utf-8")
-    with pytest.raises(Refused, match="may not protocol set"):
+    with pytest.raises(Refused, match="may not change the clinic protocol"):
         use_protocol(as_role(Role.SUPERVISOR), str(path))
 
 

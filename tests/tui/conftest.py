@@ -64,7 +64,7 @@ def service_ctx(opened):
     return make
 
 
-async def settle(pilot, rounds: int = 3) -> None:
+async def settle(pilot, rounds: int = 2) -> None:
     """Let workers finish and their messages land (a load may start another one)."""
     for _ in range(rounds):
         await pilot.pause()

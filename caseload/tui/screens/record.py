@@ -159,7 +159,7 @@ class RecordScreen(Screen):
         index = count - 1 if self._cycle is None else self._cycle
         view = cycle_view(record, index, self.app.gate.today)
         self.query_one("#chart-title", Static).update(
-            Text(view.title + "   [ earlier  ] later" if view else "No cycle recorded yet", style="bold")
+            Text(view.title if view else "No cycle recorded yet", style="bold")
         )
         self.query_one(CycleChart).show(view)
         self.query_one(MarkerStrip).show(view)

@@ -1,7 +1,8 @@
 """The temperature chart of one cycle, with the coverline, the confirmation day and P(fertile) bars.
 
 Temperatures use the left scale (C); the chance of a fertile day uses the right scale (0-1), drawn
-as bars under the readings. The colours come from the current theme.
+as bars under the readings from today on. The only upright line is the day the rise was confirmed
+(today is marked in the strip below). The colours come from the current theme.
 """
 
 from __future__ import annotations
@@ -55,14 +56,15 @@ class CycleChart(PlotextPlot):
         readings = sorted(view.temps)
         if readings:
             plt.plot([d for d, _ in readings], [t for _, t in readings], yside="left", color=line, marker="hd")
+        else:
+            # A blank point off the chart keeps the temperature scale, so the days line up with the strip.
+            plt.scatter([0], [DEFAULT_RANGE[0]], yside="left", marker=" ")
         if view.disturbed:
             plt.scatter([d for d, _ in view.disturbed], [t for _, t in view.disturbed], yside="left", color=mark, marker="x")
         if view.coverline is not None:
             plt.horizontal_line(view.coverline, color=rule, yside="left")
         if view.confirmed_day is not None:
             plt.vertical_line(view.confirmed_day, color=rule)
-        if view.today_day is not None:
-            plt.vertical_line(view.today_day, color=bars)
         every = [t for _, t in view.temps + view.disturbed] + ([view.coverline] if view.coverline else [])
         lo, hi = (min(every) - 0.15, max(every) + 0.15) if every else DEFAULT_RANGE
         plt.ylim(lo, hi, yside="left")

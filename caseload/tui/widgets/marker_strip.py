@@ -24,13 +24,18 @@ def day_widths(total: int, days: int) -> list[int]:
     return [b - a for a, b in zip(edges, edges[1:])]
 
 
-def _labelled(day: int, width: int, today: int | None) -> bool:
-    """Every day when the column has room; else odd days and today (two-digit numbers would run together)."""
-    if width >= 3:
-        return True
-    if today is not None and abs(day - today) <= 1:
-        return day == today
-    return day % 2 == 1
+def day_labels(widths: list[int], today: int | None) -> list[str]:
+    """The day numbers over the columns, left-aligned; a number that fills its column leaves the
+    next one blank, so that numbers never run together. Today is always numbered."""
+    labels: list[str] = []
+    for day, width in enumerate(widths, start=1):
+        text = str(day)
+        after_full = day > 1 and len(labels[-1]) >= widths[day - 2]
+        fills = len(text) >= width
+        makes_room_for_today = today is not None and day == today - 1 and fills
+        wanted = day == today or not (after_full or makes_room_for_today)
+        labels.append(text if wanted else "")
+    return labels
 
 
 class MarkerStrip(DataTable):
@@ -59,12 +64,11 @@ class MarkerStrip(DataTable):
             return
         widths = day_widths(self.size.width or 80, view.last_day)
         self.add_column(Text("day", style="dim"), width=LEFT_SCALE, key="label")
-        for day, width in zip(range(1, view.last_day + 1), widths):
-            shown = str(day) if _labelled(day, width, view.today_day) else ""
+        for day, (width, shown) in enumerate(zip(widths, day_labels(widths, view.today_day)), start=1):
             style = "bold reverse" if view.today_day == day else "dim"
-            self.add_column(Text(shown, style=style, justify="center"), width=width, key=str(day))
+            self.add_column(Text(shown, style=style), width=width, key=str(day))
         for row in STRIP_ROWS:
             marks = view.strip.get(row, {})
             cells = [Text(row, style="bold")]
-            cells += [Text(marks.get(day, ""), justify="center") for day in range(1, view.last_day + 1)]
+            cells += [Text(marks.get(day, "")) for day in range(1, view.last_day + 1)]
             self.add_row(*cells, key=row)
