@@ -15,6 +15,7 @@ from caseload.services.context import Context
 from caseload.services.derived import refresh_all
 from caseload.services.protocol import load_protocol
 from caseload.store import Store
+from caseload.store.bulk import NewEntry
 from caseload.store.db import utc_now
 
 SEED_DIR = Path(__file__).resolve().parents[2] / "seed_data"
@@ -76,35 +77,41 @@ def build_demo(path: Path, today: date, account: str) -> Demo:
     ]
     entry_rows = _rows("entries.csv")
 
-    def load() -> int:
+    def set_meta() -> None:
         store.db.set_meta("timezone", clinic["timezone"])
         store.db.set_meta("clinic", clinic["name"])
         store.db.set_meta("pseudonym_secret", "demo-" + clinic["name"])
-        for s in staff:
-            store.staff.add(admin, s)
-        for p in patients:
-            store.patients.add(admin, p)
-        last: dict[tuple[str, str, str], int] = {}
-        for r in entry_rows:
-            day = today + timedelta(days=int(r["day_offset"]))
-            parsed = parse_entry(r["kind"], r["value"], today, on=day.isoformat(), at=r["time"] or None,
-                                 flags=r["flags"].replace(";", ","), note=r["note"])
-            actor = by_id[r["by"]]
-            store.db.clock = lambda d=day, t=r["time"]: _logged_at(d, t, zone)
-            key = (r["patient"], r["day_offset"], r["kind"])
-            if r["amend_reason"]:
-                entry = store.entries.add(actor, r["patient"], parsed, supersedes=last[key], amend_reason=r["amend_reason"])
-            else:
-                entry = store.entries.add(actor, r["patient"], parsed)
-            last[key] = entry.id
-            if r["void_reason"]:
-                store.entries.void(actor, entry, r["void_reason"])
-        return len(entry_rows)
 
-    try:
-        count = store.transact(load)
-    finally:
-        store.db.clock = utc_now
+    store.transact(set_meta)
+    store.bulk.staff(admin, staff)
+    store.bulk.patients(admin, patients)
+    items, voids = _entries(entry_rows, by_id, today, zone, store.bulk.next_entry_id())
+    store.bulk.entries(items)
+    for actor, entry_id, reason, at in voids:
+        store.db.clock = lambda at=at: at
+        try:
+            store.transact(lambda: store.entries.void(actor, store.entries.get(entry_id), reason))
+        finally:
+            store.db.clock = utc_now
     ctx = Context(store, admin, today, load_protocol(store))
     refresh_all(ctx)
-    return Demo(store, clinic["name"], staff, len(patients), count, admin)
+    return Demo(store, clinic["name"], staff, len(patients), len(items), admin)
+
+
+def _entries(rows: list[dict], by_id: dict[str, Actor], today: date, zone: ZoneInfo, first_id: int):
+    """The seed rows as entries with ids and logging times, and the voids to record after them."""
+    items: list[NewEntry] = []
+    voids: list[tuple[Actor, int, str, datetime]] = []
+    last: dict[tuple[str, str, str], int] = {}
+    for entry_id, r in enumerate(rows, start=first_id):
+        day = today + timedelta(days=int(r["day_offset"]))
+        parsed = parse_entry(r["kind"], r["value"], today, on=day.isoformat(), at=r["time"] or None,
+                             flags=r["flags"].replace(";", ","), note=r["note"])
+        actor, at = by_id[r["by"]], _logged_at(day, r["time"], zone)
+        key = (r["patient"], r["day_offset"], r["kind"])
+        corrects = last[key] if r["amend_reason"] else None
+        items.append(NewEntry(entry_id, actor, r["patient"], parsed, at, corrects, r["amend_reason"] or None))
+        last[key] = entry_id
+        if r["void_reason"]:
+            voids.append((actor, entry_id, r["void_reason"], at + timedelta(minutes=20)))
+    return items, voids

@@ -68,8 +68,8 @@ def test_the_sample_covers_a_year_of_completed_cycles(sample):
 
 @pytest.mark.parametrize(
     "condition, floor",
-    [("temperatures only", 0.35), ("temperatures + LH", 0.92), ("temperatures + LH + mucus", 0.93)],
-)  # measured 0.43, 0.97 and 0.98
+    [("temperatures only", 0.80), ("temperatures + LH", 0.92), ("temperatures + LH + mucus", 0.93)],
+)  # measured 0.89, 0.96 and 0.97
 def test_ovulation_within_two_days_stays_above_its_floor(sample, condition, floor):
     assert sample["ovulation_estimate"][condition]["within_2_days"] > floor
 
@@ -82,4 +82,4 @@ def test_thermal_shift_detector_stays_above_its_floors(sample):
 
 def test_p_fertile_brier_score_stays_below_its_ceiling(sample):
     assert sample["p_fertile"]["days"] > 900
-    assert sample["p_fertile"]["brier"] < 0.12  # measured 0.08
+    assert sample["p_fertile"]["brier"] < 0.11  # measured 0.077
