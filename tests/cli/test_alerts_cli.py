@@ -5,35 +5,16 @@ from __future__ import annotations
 import json
 
 import pytest
-from click.testing import CliRunner
-
-from caseload.cli import main
-
-TODAY = "2026-12-01"
 JSON_KEYS = {"id", "patient", "kind", "severity", "state", "raised_on", "due", "message", "evidence", "source",
              "rule", "handled_by", "handled_at", "note", "snooze_until"}  # fmt: skip
 
 
 @pytest.fixture
-def run(tmp_path):
-    db = str(tmp_path / "cli.db")
-    runner = CliRunner()
-
-    def invoke(*args):
-        return runner.invoke(main, ["--db", db, "--today", TODAY, *args], catch_exceptions=False)
-
-    return invoke
-
-
-@pytest.fixture
-def clinic(run):
-    assert run("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
-    assert run("staff", "add", "nell", "--name", "Nell Nurse", "--role", "nurse").exit_code == 0
-    assert run("staff", "add", "phil", "--name", "Phil Phone", "--role", "phone").exit_code == 0
-    assert run("patient", "add", "P0001", "--name", "Pia Test", "--born", "1991-04-02", "--nurse", "nell").exit_code == 0
-    done = run("--as", "phil", "log", "P0001", "temp", "38.4", "--on", "yesterday")
+def clinic(clinic):
+    """The base clinic, with a fever logged yesterday by the phone clerk."""
+    done = clinic("--as", "phil", "log", "P0001", "temp", "38.4", "--on", "yesterday")
     assert "Raised: fever (today)" in done.output  # 38.0 C or more (common practice)
-    return run
+    return clinic
 
 
 def refused(result, fragment: str) -> None:

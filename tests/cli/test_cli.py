@@ -6,33 +6,6 @@ import json
 import sqlite3
 
 import pytest
-from click.testing import CliRunner
-
-from caseload.cli import main
-
-TODAY = "2026-12-01"
-
-
-@pytest.fixture
-def run(tmp_path):
-    db = str(tmp_path / "cli.db")
-    runner = CliRunner()
-
-    def invoke(*args, **kwargs):
-        return runner.invoke(main, ["--db", db, "--today", TODAY, *args], catch_exceptions=False, **kwargs)
-
-    invoke.db = db
-    return invoke
-
-
-@pytest.fixture
-def clinic(run):
-    assert run("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
-    assert run("staff", "add", "nell", "--name", "Nell Nurse", "--role", "nurse").exit_code == 0
-    assert run("staff", "add", "phil", "--name", "Phil Phone", "--role", "phone").exit_code == 0
-    assert run("patient", "add", "P0001", "--name", "Pia Test", "--born", "1991-04-02", "--nurse", "nell").exit_code == 0
-    return run
-
 
 def counts(db: str) -> tuple[int, int, int]:
     conn = sqlite3.connect(db)
