@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 
 import pytest
+
 JSON_KEYS = {"id", "patient", "kind", "severity", "state", "raised_on", "due", "message", "evidence", "source",
              "rule", "handled_by", "handled_at", "note", "snooze_until"}  # fmt: skip
 

@@ -7,6 +7,7 @@ import sqlite3
 
 import pytest
 
+
 def counts(db: str) -> tuple[int, int, int]:
     conn = sqlite3.connect(db)
     try:
