@@ -12,7 +12,7 @@ def _fmt(value, unit: str = "") -> str:
     if value is None:
         return "-"
     if isinstance(value, float):
-        value = f"{value:.3f}" if value < 10 else f"{value:.1f}"
+        value = f"{value:.3g}" if value < 0.01 else f"{value:.3f}" if value < 10 else f"{value:.1f}"
     return f"{value}{unit}"
 
 
