@@ -16,7 +16,6 @@ from caseload.services.derived import refresh_all
 from caseload.services.context import Context
 
 PATIENTS_CSV = SEED_DIR / "patients.csv"
-pytestmark = pytest.mark.skipif(not PATIENTS_CSV.exists(), reason="no demo seed data")
 BUILD_DAY = date(2026, 12, 1)
 
 

@@ -2,17 +2,14 @@
 
 from __future__ import annotations
 
-import pytest
-
 from caseload.services.caseload import list_caseload
 from caseload.services.context import Context
-from caseload.services.demo import SEED_DIR, build_demo
+from caseload.services.demo import build_demo
 from caseload.tui.app import make_app
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 
-pytestmark = pytest.mark.skipif(not (SEED_DIR / "patients.csv").exists(), reason="demo seed files not generated")
 
 
 async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(tmp_path):
