@@ -71,16 +71,18 @@ def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
 def list_caseload(ctx: Context, nurse: str | None = None) -> list[CaseloadLine]:
     """Every patient under care (not discharged), most pressing first: alert severity, due day, cycle day."""
     ctx.require("caseload.view")
-    states = ctx.store.state.all()
+    under_care = [
+        p for p in ctx.store.patients.all()
+        if p.status is not PatientStatus.DISCHARGED and (not nurse or p.nurse_id == nurse)
+    ]
+    states = ctx.store.state.all([p.id for p in under_care] if nurse else None)
     open_by_patient: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
         a = effective(stored, ctx.today)  # a snooze whose day has come counts, even before a refresh
         if a.state is AlertState.OPEN:
             open_by_patient.setdefault(a.patient_id, []).append(a)
     lines = []
-    for p in ctx.store.patients.all():
-        if p.status is PatientStatus.DISCHARGED or (nurse and p.nurse_id != nurse):
-            continue
+    for p in under_care:
         snap = states.get(p.id)
         lines.append(
             CaseloadLine(

@@ -11,6 +11,7 @@ import pytest
 from caseload.core.model import Kind, Role
 from caseload.core.parse import parse_entry
 from caseload.services.entries import amend_entry, log_entry, void_entry
+from caseload.services.patients import add_patient
 from caseload.store import Store, StoreError
 from caseload.store import migrations
 
@@ -128,3 +129,12 @@ def test_backup_is_owner_only_and_complete(store, as_role, patient, tmp_path):
     with Store(target) as copy:
         assert copy.entries.count() == store.entries.count()
         assert copy.audit.count() == store.audit.count()
+
+
+def test_snapshots_can_be_read_for_some_patients_only(store, as_role, patient):
+    other = add_patient(as_role(Role.NURSE), "P0002", "Other Patient", "1990-01-01")
+    log_entry(as_role(Role.PHONE), patient.id, "bleed", "heavy")
+    log_entry(as_role(Role.PHONE), other.id, "bleed", "light")
+    assert set(store.state.all()) == {patient.id, other.id}
+    assert set(store.state.all([other.id])) == {other.id}
+    assert store.state.all([]) == {}
