@@ -6,6 +6,7 @@ import click
 
 from caseload.cli.common import Session, pass_session, printable
 from caseload.services import maintenance
+from caseload.store import Report, StoreDamaged
 
 
 @click.command()
@@ -19,25 +20,50 @@ def backup(session: Session, path: str) -> None:
 
 @click.command()
 @click.argument("path", type=click.Path(exists=True, dir_okay=False))
+@click.option("--force", is_flag=True, help="Restore even though the store holds data the backup lacks.")
 @pass_session
-def restore(session: Session, path: str) -> None:
-    """Replace the store with a backup, after checking its integrity and schema (admins only)."""
-    version = maintenance.restore(session.context(), path)
-    click.echo(f"Restored from {printable(path)} (schema {version}).")
+def restore(session: Session, path: str, force: bool) -> None:
+    """Replace the store with a backup, after verifying it as check does (admins only).
+
+    The replaced store is kept beside it as STORE.replaced-DATE (owner-only)."""
+    done = maintenance.restore(session.context(), path, force)
+    click.echo(f"Restored from {printable(path)} (schema {done.version}); the replaced store is kept as "
+               f"{printable(str(done.kept))}.")
+    if done.loss.audit_rows:
+        click.echo(f"Replaced, not in the backup: {done.loss.describe()}.")
 
 
 @click.command()
 @pass_session
 def check(session: Session) -> None:
-    """Check the store: SQLite integrity, references, audit trail ids without gaps."""
-    h = maintenance.check(session.context())
-    click.echo(f"integrity: {', '.join(h.integrity)}")
-    click.echo(f"broken references: {h.foreign_keys}")
-    gaps = ", ".join(f"{a}-{b}" for a, b in h.audit_gaps) or "none"
-    click.echo(f"audit id gaps: {gaps}")
-    click.echo(f"schema version: {h.schema_version}")
-    if not h.ok:
+    """Verify the store: SQLite integrity, references, the audit chain, the triggers and schema caseload
+    makes, and every record against its audit row. Exit 1 when anything is wrong."""
+    try:
+        report = maintenance.check(session.context())
+    except StoreDamaged:
+        report = maintenance.check_damaged(session.path)
+    for line in report_lines(report):
+        click.echo(printable(line))
+    if not report.ok:
         raise click.exceptions.Exit(1)
+
+
+def report_lines(r: Report) -> list[str]:
+    """The check's findings, one topic a line, each problem named (which rows, which trigger)."""
+    if r.integrity != ("ok",):
+        return [f"integrity: {'; '.join(r.integrity)}", f"schema version: {r.schema_version}",
+                "nothing else checked: the file is damaged; restore a backup with 'caseload restore FILE'"]
+    head = f", newest hash {r.audit_head[:16]}" if r.audit_head else ""
+    return [
+        "integrity: ok",
+        f"broken references: {r.foreign_keys}",
+        f"audit id gaps: {', '.join(f'{a}-{b}' for a, b in r.audit_gaps) or 'none'}",
+        f"audit chain: {r.audit_rows} rows{head}; " + (
+            f"broken at rows {', '.join(map(str, r.chain_breaks))}" if r.chain_breaks else "unbroken"),
+        f"triggers: {'; '.join(r.triggers) or 'all present and unchanged'}",
+        f"schema version: {r.schema_version}; " + ('; '.join(r.schema) or "matches it"),
+        f"records against their audit rows: {'; '.join(r.unaudited) or 'all agree'}",
+    ]
 
 
 COMMANDS = [backup, restore, check]

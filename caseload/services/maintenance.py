@@ -1,11 +1,12 @@
-"""Backups, restores and health checks of the store (admins; supervisors may check)."""
+"""Backups, restores and checks of the store (admins; supervisors may check)."""
 
 from __future__ import annotations
 
 from pathlib import Path
 
 from caseload.services.context import Context
-from caseload.store.maintenance import Health
+from caseload.store import Report
+from caseload.store.maintenance import Restored, check_file
 
 
 def backup(ctx: Context, target: str) -> Path:
@@ -16,21 +17,28 @@ def backup(ctx: Context, target: str) -> Path:
     return path
 
 
-def restore(ctx: Context, source: str) -> int:
-    """Replace the store with a checked backup; the restore itself is audited in the restored store."""
+def restore(ctx: Context, source: str, force: bool = False) -> Restored:
+    """Replace the store with a verified backup; the restore itself is audited in the restored store,
+    with what the replaced store held that the backup lacked."""
     ctx.require("store.restore")
     last_before = ctx.store.audit.last_id()
-    version = ctx.store.restore(Path(source))
-    record = {"path": source, "schema": version}
+    done = ctx.store.restore(Path(source), force)
+    record = {"path": source, "schema": done.version, "kept": str(done.kept), "audit_rows_lost": done.loss.audit_rows}
     last_restored = ctx.store.audit.last_id()
     if last_before > last_restored:
         # Audit rows written after the backup was taken are gone with the replaced file; name their ids,
         # since the ids that follow will be issued again.
         record["audit_ids_replaced"] = [last_restored + 1, last_before]
     ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after=record))
-    return version
+    return done
 
 
-def check(ctx: Context) -> Health:
+def check(ctx: Context) -> Report:
     ctx.require("store.check")
-    return ctx.store.health()
+    return ctx.store.check()
+
+
+def check_damaged(path: Path) -> Report:
+    """The report on a store too damaged to open: nothing in it can say who may read it, and the
+    report names only row ids and SQLite's findings."""
+    return check_file(path)

@@ -10,11 +10,12 @@ from caseload.store import maintenance
 from caseload.store.alerts import AlertTable
 from caseload.store.audit import AuditTable
 from caseload.store.bulk import BulkTable
-from caseload.store.db import Database, StoreError, utc_now
+from caseload.store.db import Database, StoreDamaged, StoreError, utc_now
 from caseload.store.entries import EntryTable
 from caseload.store.patients import PatientTable
 from caseload.store.staff import StaffTable
 from caseload.store.state import StateTable
+from caseload.store.verify import Report
 
 
 class Store:
@@ -44,11 +45,12 @@ class Store:
     def backup(self, target: Path) -> None:
         maintenance.backup_to(self.db, Path(target))
 
-    def restore(self, source: Path) -> int:
-        return maintenance.restore_from(self.db, Path(source))
+    def restore(self, source: Path, force: bool = False) -> maintenance.Restored:
+        return maintenance.restore_from(self.db, Path(source), force)
 
-    def health(self) -> maintenance.Health:
-        return maintenance.health(self.db, self.audit.id_gaps())
+    def check(self) -> Report:
+        """Verify the whole file: integrity, audit chain, triggers, schema, records against their audit."""
+        return maintenance.check_file(self.path)
 
     def close(self) -> None:
         self.db.close()
@@ -60,4 +62,4 @@ class Store:
         self.close()
 
 
-__all__ = ["Store", "StoreError"]
+__all__ = ["Report", "Store", "StoreDamaged", "StoreError"]

@@ -37,13 +37,3 @@ class AuditTable:
 
     def count(self) -> int:
         return self.db.conn.execute("SELECT count(*) FROM audit").fetchone()[0]
-
-    def id_gaps(self) -> list[tuple[int, int]]:
-        """Missing id ranges (first, last): a gap means rows were removed behind the tool's back."""
-        ids = [r[0] for r in self.db.conn.execute("SELECT id FROM audit ORDER BY id")]
-        gaps, expected = [], 1
-        for i in ids:
-            if i > expected:
-                gaps.append((expected, i - 1))
-            expected = i + 1
-        return gaps

@@ -15,7 +15,7 @@ from itertools import islice
 
 from caseload.core.model import Actor, Patient, Staff
 from caseload.core.parse import ParsedEntry
-from caseload.store.db import AUDIT_INSERT, Database, StoreError, audit_values
+from caseload.store.db import Database, StoreError, append_audit, audit_values
 from caseload.store.entries import CURRENT_ROWS, IN_ORDER, entry_row
 from caseload.store.records import patient_to_row
 from caseload.store.staff import staff_row
@@ -83,7 +83,7 @@ class BulkTable:
         marks = ", ".join("?" * len(prepared.columns))
         with self.db.write():
             self.db.conn.executemany(f"INSERT INTO entry ({', '.join(prepared.columns)}) VALUES ({marks})", prepared.rows)
-            self.db.conn.executemany(AUDIT_INSERT, prepared.audits)
+            append_audit(self.db.conn, prepared.audits)
         return len(prepared.rows)
 
     def scan_current_entries(self) -> int:
@@ -92,7 +92,7 @@ class BulkTable:
         return sum(1 for _ in self.db.conn.execute(CURRENT_ROWS + IN_ORDER))
 
     def _audit(self, changes: Iterable[tuple]) -> None:
-        self.db.conn.executemany(AUDIT_INSERT, (audit_values(*c) for c in changes))
+        append_audit(self.db.conn, [audit_values(*c) for c in changes])
 
 
 @dataclass(frozen=True)

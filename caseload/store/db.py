@@ -15,7 +15,7 @@ from typing import TypeVar
 import sqlite_utils
 
 from caseload.core.model import Actor
-from caseload.store import migrations
+from caseload.store import chain, migrations
 
 BUSY_TIMEOUT_MS = 5000
 T = TypeVar("T")
@@ -23,6 +23,10 @@ T = TypeVar("T")
 
 class StoreError(Exception):
     """The file cannot be used as a caseload store (newer schema, not a store, damaged)."""
+
+
+class StoreDamaged(StoreError):
+    """The file fails SQLite's quick check: nothing may read or write it but `check` and `restore`."""
 
 
 def utc_now() -> datetime:
@@ -73,6 +77,7 @@ class Database:
         for attempt in range(1, attempts + 1):
             try:
                 self._refuse_foreign()
+                self._refuse_damaged()
                 self.conn.execute("PRAGMA journal_mode = WAL")
                 self.conn.execute("PRAGMA foreign_keys = ON")
                 self.conn.execute("PRAGMA synchronous = FULL")
@@ -103,6 +108,17 @@ class Database:
             )
         if current == 0 and objects:
             raise StoreError(f"{self.path} is an SQLite file but not a caseload store")
+
+    def _refuse_damaged(self) -> None:
+        """SQLite's quick check (every page's structure, not index contents): a damaged file is refused
+        before anything reads or writes it, so no command carries on writing into it."""
+        try:
+            found = self.conn.execute("PRAGMA quick_check(1)").fetchone()[0]
+        except sqlite3.DatabaseError as err:
+            found = str(err)
+        if found != "ok":
+            raise StoreDamaged(f"{self.path} is damaged ({found}): run 'caseload check', then restore a backup "
+                               "with 'caseload restore FILE'")
 
     def migrate(self) -> None:
         current = self.version
@@ -175,7 +191,7 @@ class Database:
         """Append the audit row for a change; call it inside the change's transaction."""
         if not self.conn.in_transaction:
             raise StoreError("audit rows are written only inside the transaction of their change")
-        self.conn.execute(AUDIT_INSERT, audit_values(self.now_text(), actor, action, table, row_id, before, after))
+        append_audit(self.conn, [audit_values(self.now_text(), actor, action, table, row_id, before, after)])
 
     def query(self, sql: str, params=()) -> list[dict]:
         return list(self.db.query(sql, params))
@@ -188,13 +204,28 @@ class Database:
         self.conn.execute("INSERT OR REPLACE INTO meta (key, value) VALUES (?, ?)", (key, value))
 
 
-AUDIT_INSERT = (
-    "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after) VALUES (?, ?, ?, ?, ?, ?, ?, ?)"
-)
+AUDIT_INSERT = f"INSERT INTO audit ({', '.join(chain.COLUMNS)}, hash) VALUES ({', '.join('?' * (len(chain.COLUMNS) + 1))})"
+
+
+def append_audit(conn: sqlite3.Connection, rows: list[tuple]) -> None:
+    """Append audit rows (from `audit_values`) to the chain, inside the caller's write transaction,
+    which holds the write lock: no other writer can append between reading the tail and inserting."""
+    if not rows:
+        return
+    previous, top = conn.execute(
+        "SELECT coalesce((SELECT hash FROM audit ORDER BY id DESC LIMIT 1), ?),"
+        " max(coalesce((SELECT max(id) FROM audit), 0), coalesce((SELECT seq FROM sqlite_sequence WHERE name = 'audit'), 0))",
+        (chain.GENESIS,),
+    ).fetchone()
+    written = conn.executemany(AUDIT_INSERT, chain.chained(previous, top + 1, rows)).rowcount
+    if written != len(rows):
+        # Only a trigger the migrations never made can swallow an insert (RAISE(IGNORE)): refuse the change.
+        raise StoreError("audit rows were not written, so the change was not made: the store's schema has been "
+                         "altered; run 'caseload check' and restore a backup")
 
 
 def audit_values(at: str, actor: Actor, action: str, table: str, row_id, before=None, after=None) -> tuple:
-    """The values of one audit row, in AUDIT_INSERT's column order."""
+    """The values of one audit row: chain.COLUMNS after the id, which `append_audit` gives."""
     return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), _json(before), _json(after))
 
 

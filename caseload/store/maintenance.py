@@ -1,25 +1,51 @@
-"""Online backup, restore and integrity checks of a store file."""
+"""Online backup, verified restore and checks of a store file."""
 
 from __future__ import annotations
 
+import os
 import sqlite3
+import tempfile
+from collections.abc import Iterator
+from contextlib import closing, contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 
 from caseload.store import migrations
+from caseload.store.alerts import HANDLING
 from caseload.store.db import Database, StoreError, create_private
+from caseload.store.verify import Report, verify
+
+# Audit actions that record a store's upkeep rather than clinical work: losing them loses no data.
+UPKEEP_ACTIONS = ("store.backup", "store.restore")
+ALERT_HANDLING = tuple(HANDLING.values())
 
 
 @dataclass(frozen=True)
-class Health:
-    integrity: list[str]
-    foreign_keys: int
-    audit_gaps: list[tuple[int, int]]
-    schema_version: int
+class Loss:
+    """What the current store holds that a backup does not: its audit rows past their common history."""
+
+    audit_rows: int
+    entries: int
+    alerts_handled: int
+    other_changes: int  # patients, staff, protocol, exports...
+    first: str | None  # when the earliest and latest of those rows were written
+    last: str | None
 
     @property
-    def ok(self) -> bool:
-        return self.integrity == ["ok"] and not self.foreign_keys and not self.audit_gaps
+    def data(self) -> bool:
+        """Whether anything but upkeep rows (backups, restores) would go."""
+        return bool(self.entries or self.alerts_handled or self.other_changes)
+
+    def describe(self) -> str:
+        return (f"entries: {self.entries}, alerts handled: {self.alerts_handled}, other changes: {self.other_changes}"
+                f" (audit rows: {self.audit_rows}, written {self.first} to {self.last})")
+
+
+@dataclass(frozen=True)
+class Restored:
+    version: int  # the backup's schema, before it was brought up to date
+    kept: Path  # the replaced store, kept beside it
+    loss: Loss
 
 
 def backup_to(db: Database, target: Path) -> None:
@@ -38,21 +64,73 @@ def backup_to(db: Database, target: Path) -> None:
     dest.close()
 
 
-def inspect_file(source: Path) -> int:
-    """The schema version of a candidate store file, after checking it is whole and ours."""
+def check_file(path: Path) -> Report:
+    """Verify a store file read-only (full integrity check), whatever state it is in."""
+    try:
+        conn = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
+    except sqlite3.Error as err:
+        raise StoreError(f"{path} cannot be opened ({err})") from None
+    with closing(conn):
+        return verify(conn)
+
+
+def restore_from(db: Database, source: Path, force: bool = False) -> Restored:
+    """Replace the store's content with a verified backup. The backup is copied to a private staging
+    file beside the store, verified there (integrity, audit chain, triggers, schema fingerprint, records
+    against their audit rows) and brought up to the current schema; only then is the store kept as
+    `<name>.replaced-<stamp>` and the staged copy written over it in one transaction. A backup missing
+    data the store holds is refused unless `force`."""
+    if source.resolve() == db.path.resolve():
+        raise StoreError(f"{source} is the store itself: restore from a backup file")
     if not source.is_file():
         raise StoreError(f"{source} is not a file")
-    conn = sqlite3.connect(f"file:{source}?mode=ro", uri=True)
+    with _staged(db.path) as stage:
+        version = _copy_in(source, stage)
+        _refuse_unverified(stage, source)
+        if version < migrations.LATEST:
+            Database(stage).close()  # the same upgrade any older store gets when opened
+            _refuse_unverified(stage, source)
+        with closing(sqlite3.connect(f"file:{stage}?mode=ro", uri=True)) as staged:
+            loss = _loss(db.conn, staged)
+            if loss.data and not force:
+                raise StoreError(f"{source} lacks {loss.describe()} that the store holds: "
+                                 "nothing restored; add --force to restore it anyway")
+            kept = db.path.with_name(f"{db.path.name}.replaced-{db.clock():%Y%m%dT%H%M%SZ}")
+            backup_to(db, kept)
+            try:
+                # One write transaction on the live file: other connections see the old store or the
+                # new one, never a mix, and a stale write-ahead log can never be replayed onto it.
+                staged.backup(db.conn)
+            except sqlite3.Error as err:
+                raise StoreError(f"restore from {source} failed ({err}): the store is unchanged") from None
+    return Restored(version, kept, loss)
+
+
+@contextmanager
+def _staged(store: Path) -> Iterator[Path]:
+    """A private file in the store's folder for the candidate, removed with its journals afterwards."""
     try:
-        result = [r[0] for r in conn.execute("PRAGMA integrity_check")]
-        if result != ["ok"]:
-            raise StoreError(f"{source} fails the integrity check ({result[0]}): not restored")
-        version = conn.execute("PRAGMA user_version").fetchone()[0]
-        tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+        fd, name = tempfile.mkstemp(prefix=f".{store.name}.restore-", dir=store.parent)  # 0600, O_EXCL
+    except OSError as err:
+        raise StoreError(f"cannot stage the restore beside {store}: {err.strerror}") from None
+    os.close(fd)
+    stage = Path(name)
+    try:
+        yield stage
+    finally:
+        for leftover in (stage, Path(f"{stage}-wal"), Path(f"{stage}-shm")):
+            leftover.unlink(missing_ok=True)
+
+
+def _copy_in(source: Path, stage: Path) -> int:
+    """Copy `source` into `stage` with the backup API; the staged copy's schema version."""
+    try:
+        with closing(sqlite3.connect(f"file:{source}?mode=ro", uri=True)) as src, closing(sqlite3.connect(stage)) as dst:
+            src.backup(dst)
+            version = dst.execute("PRAGMA user_version").fetchone()[0]
+            tables = {r[0] for r in dst.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
     except sqlite3.DatabaseError as err:
         raise StoreError(f"{source} is damaged or not an SQLite file ({err}): not restored") from None
-    finally:
-        conn.close()
     if version < 1 or not {"staff", "patient", "entry", "audit"} <= tables:
         raise StoreError(f"{source} is not a caseload store: not restored")
     if version > migrations.LATEST:
@@ -60,28 +138,26 @@ def inspect_file(source: Path) -> int:
     return version
 
 
-def restore_from(db: Database, source: Path) -> int:
-    """Replace the store's content with a checked backup, in place, then migrate it if it is older."""
-    if source.resolve() == db.path.resolve():
-        raise StoreError(f"{source} is the store itself: restore from a backup file")
-    version = inspect_file(source)
-    src = sqlite3.connect(f"file:{source}?mode=ro", uri=True)
-    try:
-        src.backup(db.conn)
-    finally:
-        src.close()
-    db.migrate()
-    return version
+def _refuse_unverified(stage: Path, source: Path) -> None:
+    report = check_file(stage)
+    if not report.ok:
+        raise StoreError(f"{source} {report.first_problem()}: not restored")
 
 
-def _tail_gap(db: Database) -> list[tuple[int, int]]:
-    """Audit rows removed from the end: the id counter remembers ids no longer in the table."""
-    issued = db.conn.execute("SELECT seq FROM sqlite_sequence WHERE name = 'audit'").fetchone()
-    top = db.conn.execute("SELECT max(id) FROM audit").fetchone()[0] or 0
-    return [(top + 1, issued[0])] if issued and issued[0] > top else []
-
-
-def health(db: Database, audit_gaps: list[tuple[int, int]]) -> Health:
-    integrity = [r[0] for r in db.conn.execute("PRAGMA integrity_check")]
-    fk = len(db.conn.execute("PRAGMA foreign_key_check").fetchall())
-    return Health(integrity, fk, audit_gaps + _tail_gap(db), db.version)
+def _loss(current: sqlite3.Connection, backup: sqlite3.Connection) -> Loss:
+    """Compare the two audit chains: the newest row both hold with the same hash ends their common
+    history (a hash covers every row before it); the current store's rows past it would be lost."""
+    common = 0
+    for row_id, digest in current.execute("SELECT id, hash FROM audit ORDER BY id DESC"):
+        found = backup.execute("SELECT hash FROM audit WHERE id = ?", (row_id,)).fetchone()
+        if found and found[0] == digest:
+            common = row_id
+            break
+    counts = current.execute(
+        "SELECT count(*), sum(action IN ('entry.log', 'entry.amend')), sum(action IN (?, ?, ?)),"
+        " sum(action NOT IN ('entry.log', 'entry.amend', ?, ?) AND action NOT LIKE 'alert.%'), min(at), max(at)"
+        " FROM audit WHERE id > ?",
+        (*ALERT_HANDLING, *UPKEEP_ACTIONS, common),
+    ).fetchone()
+    rows, entries, alerts, other, first, last = counts
+    return Loss(rows, entries or 0, alerts or 0, other or 0, first, last)

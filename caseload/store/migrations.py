@@ -8,6 +8,8 @@ from __future__ import annotations
 import sqlite3
 from collections.abc import Callable
 
+from caseload.store import chain
+
 APPEND_ONLY = """
 CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table}
 BEGIN SELECT RAISE(ABORT, '{table} is append-only: rows cannot be changed'); END;
@@ -138,7 +140,27 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1]
+def _audit_chain(conn: sqlite3.Connection) -> None:
+    """Each audit row carries a hash chained to the previous row's; existing rows are hashed in id order.
+    The append-only triggers are lifted for the one update that fills the new column, then made again."""
+    for trigger in ("no_update", "no_delete", "no_replace"):
+        conn.execute(f"DROP TRIGGER audit_{trigger}")
+    conn.execute("ALTER TABLE audit ADD COLUMN hash TEXT")
+    previous = chain.GENESIS
+    for row in conn.execute(f"SELECT {', '.join(chain.COLUMNS)} FROM audit ORDER BY id").fetchall():
+        previous = chain.link(previous, row)
+        conn.execute("UPDATE audit SET hash = ? WHERE id = ?", (previous, row[0]))
+    run_script(conn, APPEND_ONLY.format(table="audit"))
+    run_script(
+        conn,
+        """
+        CREATE TRIGGER audit_hash_required BEFORE INSERT ON audit WHEN NEW.hash IS NULL OR length(NEW.hash) != 64
+        BEGIN SELECT RAISE(ABORT, 'audit rows carry the hash that chains them: write them through caseload'); END;
+        """,
+    )
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _audit_chain]
 LATEST = len(MIGRATIONS)
 
 

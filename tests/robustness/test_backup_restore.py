@@ -52,7 +52,12 @@ def test_round_trip_restores_every_table_row_for_row(clinic, tmp_path):
     saved = snapshot(backup)
     clinic("log", "P0001", "symptom", "after the backup")
     clinic("patient", "add", "P0002", "--name", "Later Patient", "--born", "1990-01-01")
-    result = clinic("restore", str(backup))
+    held = snapshot(clinic.db)
+    refused = clinic("restore", str(backup))
+    assert refused.exit_code == 1 and snapshot(clinic.db) == held
+    # 1 entry logged, 1 patient added after the backup; 3 audit rows (the backup's own row, the log, the patient)
+    assert "entries: 1, alerts handled: 0, other changes: 1 (audit rows: 3" in refused.stderr
+    result = clinic("restore", str(backup), "--force")
     assert result.exit_code == 0, result.output
     restored = snapshot(clinic.db)
     *kept, last = restored["audit"]
@@ -172,7 +177,7 @@ def test_restore_names_the_audit_ids_it_replaced(clinic, tmp_path):
     clinic("log", "P0001", "symptom", "after the backup")
     clinic("log", "P0001", "note", "also after")
     last_before = snapshot(clinic.db)["audit"][-1][0]
-    assert clinic("restore", str(backup)).exit_code == 0
+    assert clinic("restore", str(backup), "--force").exit_code == 0
     restore_row = snapshot(clinic.db)["audit"][-1]
     assert restore_row[4] == "store.restore"
     assert f'"audit_ids_replaced": [{last_in_backup + 1}, {last_before}]' in restore_row[8]

@@ -83,20 +83,20 @@ def test_a_failed_transaction_writes_nothing(store, staffed, patient):
 
 def test_older_schema_is_migrated_in_place_keeping_rows(tmp_path, monkeypatch):
     path = tmp_path / "old.db"
+    Store(path).close()
     conn = sqlite3.connect(path)
-    migrations.MIGRATIONS[0](conn)
-    conn.execute("PRAGMA user_version = 1")
     conn.execute("INSERT INTO meta VALUES ('clinic', 'kept')")
     conn.commit()
     conn.close()
 
-    def v2(c):
+    def next_step(c):
         c.execute("ALTER TABLE patient ADD COLUMN phone TEXT")
 
-    monkeypatch.setattr(migrations, "MIGRATIONS", [*migrations.MIGRATIONS, v2])
-    monkeypatch.setattr(migrations, "LATEST", 2)
+    newer = migrations.LATEST + 1
+    monkeypatch.setattr(migrations, "MIGRATIONS", [*migrations.MIGRATIONS, next_step])
+    monkeypatch.setattr(migrations, "LATEST", newer)
     with Store(path) as s:
-        assert s.db.version == 2
+        assert s.db.version == newer
         assert s.db.meta("clinic") == "kept"
         assert "phone" in s.db.db["patient"].columns_dict
 
