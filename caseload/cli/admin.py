@@ -6,7 +6,7 @@ import click
 
 from caseload.cli.common import Session, pass_session, printable
 from caseload.services import maintenance
-from caseload.store import Report, StoreDamaged
+from caseload.store import Report, StoreError
 
 
 @click.command()
@@ -40,11 +40,13 @@ def check(session: Session) -> None:
     makes, and every record against its audit row. Exit 1 when anything is wrong."""
     try:
         report = maintenance.check(session.context())
-    except StoreDamaged:
+    except StoreError:  # damaged or altered past opening: the report says how
         report = maintenance.check_damaged(session.path)
     for line in report_lines(report):
         click.echo(printable(line))
     if not report.ok:
+        click.echo(printable(f"caseload: the store {report.first_problem()}: see the lines above; restore a "
+                             "backup that passes ('caseload restore FILE')"), err=True)
         raise click.exceptions.Exit(1)
 
 

@@ -39,6 +39,6 @@ def check(ctx: Context) -> Report:
 
 
 def check_damaged(path: Path) -> Report:
-    """The report on a store too damaged to open: nothing in it can say who may read it, and the
-    report names only row ids and SQLite's findings."""
+    """The report on a store too damaged or altered to open: nothing in it can say who may read it,
+    and the report names only row ids, schema objects and SQLite's findings."""
     return check_file(path)

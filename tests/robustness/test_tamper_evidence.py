@@ -1,0 +1,202 @@
+"""The audit proves itself: changes made with plain SQL behind the tool's back are found by `check`,
+named (which rows, which trigger), and answered with exit code 1; a damaged file is reported, never
+crashed on, and refused by every other command."""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import sqlite3
+
+import pytest
+
+from caseload.store import Store, migrations
+from caseload.store.maintenance import check_file
+from tests.robustness.robust_support import assert_clean_exit, snapshot
+
+AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after"
+
+
+def sql(path, *statements: str) -> None:
+    """Run statements as someone with the file and the sqlite3 shell would: no caseload code involved."""
+    conn = sqlite3.connect(path, isolation_level=None)
+    try:
+        for statement in statements:
+            conn.execute(statement)
+    finally:
+        conn.close()
+
+
+def trigger_sql(path, name: str) -> str:
+    conn = sqlite3.connect(path)
+    try:
+        return conn.execute("SELECT sql FROM sqlite_master WHERE name = ?", (name,)).fetchone()[0]
+    finally:
+        conn.close()
+
+
+def test_each_audit_row_hashes_its_content_and_the_previous_hash(clinic):
+    conn = sqlite3.connect(clinic.db)
+    rows = conn.execute(f"SELECT {AUDIT_COLUMNS}, hash FROM audit ORDER BY id").fetchall()
+    conn.close()
+    previous = "0" * 64
+    for *content, stored in rows:
+        # SHA-256 (FIPS 180-4, Python's hashlib) over the previous hash, a newline and the row as compact JSON.
+        text = previous + "\n" + json.dumps(content, ensure_ascii=False, separators=(",", ":"))
+        assert stored == hashlib.sha256(text.encode()).hexdigest()
+        previous = stored
+    assert len(rows) >= 7  # init, 3 staff, 1 patient, 2 entries: every write is in the chain
+
+
+def test_a_sound_store_passes_check(clinic):
+    result = clinic("check")
+    assert result.exit_code == 0, result.output
+    for line in ("integrity: ok", "unbroken", "triggers: all present and unchanged", "matches it", "all agree"):
+        assert line in result.output
+
+
+def test_bulk_and_single_writes_extend_one_chain(tmp_path):
+    """The bulk loader and the one-row writes append through the same function: the chain stays whole."""
+    from caseload.bench.build import BenchSpec, build
+    built = build(BenchSpec(patients=3, years=1), tmp_path / "bench.db")
+    with Store(built.path) as store:
+        report = store.check()
+    assert report.ok, report.first_problem()
+    assert report.audit_rows > built.entries  # one row per entry, plus staff, patients and alerts
+
+
+def write_around_triggers(table: str, statement: str) -> list[str]:
+    """Lift a table's append-only triggers, run a statement, put the very same triggers back."""
+    names = [f"{table}_no_update", f"{table}_no_delete", f"{table}_no_replace"]
+    return [*(f"DROP TRIGGER {n}" for n in names), statement, *("{%s}" % n for n in names)]
+
+
+ATTACKS = {
+    "clerk promoted to admin": (["UPDATE staff SET role = 'admin' WHERE id = 'phil'"],
+                                "staff phil differs from its latest audit row (role)"),
+    "patient moved to another nurse": (["UPDATE patient SET nurse_id = 'sue' WHERE id = 'P0001'"],
+                                       "patient P0001 differs from its latest audit row (nurse_id)"),
+    "entry slipped in without audit": (
+        ["INSERT INTO entry (id, patient_id, day, kind, raw, number, by_staff, os_account, at) VALUES"
+         " (99, 'P0001', '2026-11-30', 'temp', '36.9', 36.9, 'phil', 'phil', '2026-11-30T08:00:00+00:00')"],
+        "entry 99 has no audit row"),
+    "audit row rewritten": (write_around_triggers("audit", "UPDATE audit SET by_staff = 'sue' WHERE id = 6"),
+                            "broken at rows 6"),
+    "audit row removed": (write_around_triggers("audit", "DELETE FROM audit WHERE id = 4"), "broken at rows 5"),
+    "append-only trigger dropped": (["DROP TRIGGER entry_no_delete"], "trigger entry_no_delete is missing"),
+    "append-only trigger weakened": (
+        ["DROP TRIGGER audit_no_update",
+         "CREATE TRIGGER audit_no_update BEFORE UPDATE ON audit WHEN 0 BEGIN SELECT RAISE(ABORT, 'no'); END"],
+        "trigger audit_no_update differs from the one caseload makes"),
+    "hidden trigger swallows audit rows": (
+        ["CREATE TRIGGER audit_quiet BEFORE INSERT ON audit WHEN NEW.action = 'entry.log'"
+         " BEGIN SELECT RAISE(IGNORE); END"],
+        "trigger audit_quiet was not made by caseload"),
+    "column added": (["ALTER TABLE staff ADD COLUMN pin TEXT"], "table staff differs from the one caseload makes"),
+}
+
+
+@pytest.mark.parametrize("attack", list(ATTACKS))
+def test_check_names_every_change_made_behind_the_tools_back(clinic, attack):
+    statements, finding = ATTACKS[attack]
+    saved = {n: trigger_sql(clinic.db, n) for n in ("audit_no_update", "audit_no_delete", "audit_no_replace")}
+    sql(clinic.db, *(s.format(**saved) if s.startswith("{") else s for s in statements))
+    result = clinic("check")
+    assert_clean_exit(result)
+    assert result.exit_code == 1
+    assert finding in result.output, result.output
+
+
+def test_a_trigger_edited_through_writable_schema_is_found(clinic):
+    """Editing the stored SQL directly leaves the trigger's name in place: only its text shows it."""
+    sql(clinic.db, "PRAGMA writable_schema = ON",
+        "UPDATE sqlite_master SET sql = replace(sql, 'BEGIN', 'WHEN 0 BEGIN') WHERE name = 'entry_no_delete'")
+    result = clinic("check")
+    assert_clean_exit(result)
+    assert result.exit_code == 1
+    assert "trigger entry_no_delete differs from the one caseload makes" in result.output
+
+
+def test_a_write_whose_audit_row_is_swallowed_is_refused(clinic):
+    """Even before anyone runs check: a change whose audit row did not land is rolled back."""
+    sql(clinic.db, "CREATE TRIGGER audit_quiet BEFORE INSERT ON audit BEGIN SELECT RAISE(IGNORE); END")
+    before = snapshot(clinic.db)
+    result = clinic("log", "P0001", "temp", "36.55")
+    assert_clean_exit(result)
+    assert result.exit_code == 1 and "audit rows were not written" in result.stderr
+    assert snapshot(clinic.db) == before
+
+
+def index_page_offset(path) -> tuple[int, int]:
+    """Byte offset and size of the root page of the entry index, as SQLite's dbstat table lists it."""
+    conn = sqlite3.connect(path)
+    try:
+        conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")  # every page in the main file, where we overwrite it
+        page, size = conn.execute(
+            "SELECT pageno, pgsize FROM dbstat WHERE name = 'entry_patient_day' AND path = '/'").fetchone()
+    finally:
+        conn.close()
+    return (page - 1) * size, size
+
+
+@pytest.fixture
+def damaged(clinic):
+    """The clinic store with its entry index's root page overwritten by junk."""
+    offset, size = index_page_offset(clinic.db)
+    with open(clinic.db, "r+b") as f:
+        f.seek(offset)
+        f.write(b"\xa5" * size)
+    return clinic
+
+
+def test_check_reports_a_damaged_file_without_crashing(damaged):
+    result = damaged("check")
+    assert_clean_exit(result)
+    assert result.exit_code == 1
+    assert result.output.startswith("integrity: ") and "integrity: ok" not in result.output
+    assert "restore a backup" in result.output
+
+
+@pytest.mark.parametrize("command", [("list",), ("log", "P0001", "temp", "36.5"), ("alerts",), ("entries", "P0001"),
+                                     ("backup", "copy.db")])
+def test_every_command_refuses_a_damaged_store_in_one_line(damaged, command):
+    data = damaged.db.read_bytes()
+    result = damaged(*command)
+    assert_clean_exit(result)
+    assert result.exit_code == 1
+    assert "is damaged" in result.stderr and "run 'caseload check'" in result.stderr
+    assert damaged.db.read_bytes() == data  # nothing written into it
+
+
+def test_a_store_upgraded_to_the_chain_verifies_like_a_new_one(tmp_path, clinic):
+    """A store written before the chain gets its existing rows hashed in order, and the schema it ends
+    with is the one a new store gets: check passes on it."""
+    chain_step = migrations.MIGRATIONS.index(migrations._audit_chain)
+    old = tmp_path / "old.db"
+    conn = sqlite3.connect(old, isolation_level=None)
+    conn.execute("BEGIN")
+    for step in migrations.MIGRATIONS[:chain_step]:
+        step(conn)
+    conn.execute("INSERT INTO staff VALUES ('ada', 'Ada', 'admin', 1, 'ada', '2026-01-05T09:00:00+00:00')")
+    for n in range(3):
+        conn.execute("INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, after) VALUES"
+                     f" ('2026-01-0{n + 5}T09:00:00+00:00', 'ada', 'ada', 'staff.add', 'staff', 'ada', ?)",
+                     (json.dumps({"name": "Ada", "role": "admin", "active": 1, "os_account": "ada"}),))
+    conn.execute(f"PRAGMA user_version = {chain_step}")
+    conn.execute("COMMIT")
+    conn.close()
+    with Store(old) as store:
+        assert store.db.version == migrations.LATEST
+        report = store.check()
+    assert report.ok, report.first_problem()
+    assert report.audit_rows == 3
+    assert check_file(clinic.db).ok  # and a store made new at this version, for comparison
+
+
+def test_check_reports_a_schema_sqlite_cannot_parse(clinic):
+    sql(clinic.db, "PRAGMA writable_schema = ON",
+        "UPDATE sqlite_master SET sql = replace(sql, 'BEGIN', 'BEGIN,') WHERE name = 'entry_no_delete'")
+    result = clinic("check")
+    assert_clean_exit(result)
+    assert result.exit_code == 1
+    assert "integrity: unreadable: malformed database schema (entry_no_delete)" in result.output
