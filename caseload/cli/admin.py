@@ -55,6 +55,10 @@ def report_lines(r: Report) -> list[str]:
     if r.integrity != ("ok",):
         return [f"integrity: {'; '.join(r.integrity)}", f"schema version: {r.schema_version}",
                 "nothing else checked: the file is damaged; restore a backup with 'caseload restore FILE'"]
+    if r.schema:
+        return ["integrity: ok", f"schema version: {r.schema_version}; " + "; ".join(r.schema),
+                f"triggers: {'; '.join(r.triggers) or 'all present and unchanged'}",
+                "nothing else checked: the tables are not the ones caseload makes"]
     head = f", newest hash {r.audit_head[:16]}" if r.audit_head else ""
     return [
         "integrity: ok",

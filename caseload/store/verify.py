@@ -46,9 +46,9 @@ class Report:
         if self.integrity != ("ok",):
             return f"fails the integrity check ({self.integrity[0]})"
         found = [
-            *(f"the audit chain breaks at row {i}" for i in self.chain_breaks[:1]),
-            *self.triggers[:1],
             *self.schema[:1],
+            *self.triggers[:1],
+            *(f"the audit chain breaks at row {i}" for i in self.chain_breaks[:1]),
             *self.unaudited[:1],
             *(f"audit rows {a}-{b} are missing" for a, b in self.audit_gaps[:1]),
         ]
@@ -67,8 +67,9 @@ def verify(conn: sqlite3.Connection, thorough: bool = True) -> Report:
         if integrity != ("ok",):
             return _damaged(version, integrity)  # reading on could crash or mislead
         triggers, schema = _schema_problems(conn, version)
-        columns = {r[1] for r in conn.execute("PRAGMA table_info(audit)")}
-        hashed = "hash" in columns
+        if schema:  # tables of other columns cannot be read as ours
+            return Report(version, integrity, 0, 0, "", (), (), triggers, schema, ())
+        hashed = "hash" in {r[1] for r in conn.execute("PRAGMA table_info(audit)")}
         breaks, head, count = _chain(conn) if hashed else ((), "", _count(conn, "audit"))
         return Report(
             schema_version=version,
@@ -80,7 +81,7 @@ def verify(conn: sqlite3.Connection, thorough: bool = True) -> Report:
             chain_breaks=breaks,
             triggers=triggers,
             schema=schema,
-            unaudited=() if schema else _unaudited(conn),  # a schema of other columns cannot be read as ours
+            unaudited=_unaudited(conn),
         )
     except sqlite3.DatabaseError as err:
         return _damaged(version, (f"unreadable: {err}",))

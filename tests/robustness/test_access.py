@@ -228,7 +228,7 @@ def test_store_and_its_journal_files_are_owner_only_whatever_the_umask(cli):
     assert modes == {"clinic.db": 0o600, "clinic.db-wal": 0o600, "clinic.db-shm": 0o600}
 
 
-FORGED = "(1, 'now', 'mallory', 'x', 'staff.add', 'staff', 'ada', NULL, NULL)"
+FORGED = "(1, 'now', 'mallory', 'x', 'staff.add', 'staff', 'ada', NULL, NULL, '" + "0" * 64 + "')"
 
 
 @pytest.mark.parametrize("sql", ["UPDATE audit SET by_staff = 'someone else' WHERE id = 1",
