@@ -33,6 +33,7 @@ def main(ctx: click.Context, db_path: str | None, as_staff: str | None, today: s
     """
     ctx.obj = Session(db_path, as_staff, today)
     if ctx.invoked_subcommand is None:
+        tui.require_terminal()
         tui.open_interface(ctx.obj)
 
 

@@ -11,7 +11,7 @@ import platformdirs
 import pendulum
 
 from caseload.cli.common import Session, pass_session
-from caseload.cli.tui import open_interface
+from caseload.cli.tui import open_interface, require_terminal
 from caseload.cli.views import list_table, print_table
 from caseload.services import caseload as caseload_service
 from caseload.services.demo import build_demo, clinic_timezone
@@ -27,6 +27,8 @@ def demo_store_path() -> Path:
 @pass_session
 def demo(session: Session, no_ui: bool) -> None:
     """Build the invented demo caseload (dated relative to today) and open it."""
+    if not no_ui:
+        require_terminal()
     path = Path(session.db_path) if session.db_path else demo_store_path()
     if session.today_text:
         today = date.fromisoformat(session.today_text)

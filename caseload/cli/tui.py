@@ -2,6 +2,10 @@
 
 from __future__ import annotations
 
+import sys
+
+import click
+
 from caseload.cli.common import Session
 from caseload.services.identity import os_account
 from caseload.services.protocol import load_protocol
@@ -14,3 +18,12 @@ def open_interface(session: Session) -> None:
     with session.open_store() as store:
         app = make_app(store, session.today(store), os_account(), session.as_staff, load_protocol(store))
         app.run()
+
+
+def require_terminal() -> None:
+    """The full-screen interface only on a terminal: piped or redirected, it would write escape codes
+    into the file and wait for keys that never come. Exit code 2, a usage error."""
+    if not (sys.stdin.isatty() and sys.stdout.isatty()):
+        click.echo("caseload: the interface needs a terminal: run caseload in one, or give a command "
+                   "(caseload --help lists them)", err=True)
+        raise click.exceptions.Exit(2)
