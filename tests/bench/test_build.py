@@ -92,7 +92,7 @@ def test_a_bench_store_holds_the_simulated_caseload_and_its_audit(tiny):
         assert logged == entries
         assert len(store.patients.all()) == built.patients == 8
         assert len(store.state.all()) == 8  # refreshed once: every patient has a snapshot
-        assert store.health().ok
+        assert store.check().ok
     assert spec.start == date(2025, 11, 30) and spec.today == date(2026, 11, 30)  # one year, then the Monday
 
 

@@ -27,7 +27,7 @@ def test_demo_holds_every_seed_row_with_its_correction_and_void(tmp_path):
         assert all(store.entries.get(e.supersedes).superseded_by == e.id for e in entries if e.supersedes)
         assert len(store.audit.rows("entry.log")) + len(store.audit.rows("entry.amend")) == len(rows)
         assert len(store.audit.rows("entry.void")) == sum(1 for r in rows if r["void_reason"])
-        assert store.health().ok
+        assert store.check().ok
         # Logged on the day of the entry, by the staff member the seed names.
         first = min(entries, key=lambda e: e.id)
         assert (first.at.date(), first.by) == (BUILD_DAY + timedelta(days=int(rows[0]["day_offset"])), rows[0]["by"])
