@@ -6,7 +6,8 @@ import click
 
 from caseload.cli.common import Session, pass_session, printable
 from caseload.services import maintenance
-from caseload.store import Report, StoreError
+from caseload.services.identity import os_account
+from caseload.store import Report, StoreDamaged, StoreError
 
 
 @click.command()
@@ -26,10 +27,13 @@ def restore(session: Session, path: str, force: bool) -> None:
     """Replace the store with a backup, after verifying it as check does (admins only).
 
     The replaced store is kept beside it as STORE.replaced-DATE (owner-only)."""
-    done = maintenance.restore(session.context(), path, force)
+    try:
+        done = maintenance.restore(session.context(), path, force)
+    except StoreDamaged:
+        done = maintenance.restore_damaged(session.path, path, os_account(), session.as_staff)
     click.echo(f"Restored from {printable(path)} (schema {done.version}); the replaced store is kept as "
                f"{printable(str(done.kept))}.")
-    if done.loss.audit_rows:
+    if done.loss and done.loss.audit_rows:
         click.echo(f"Replaced, not in the backup: {done.loss.describe()}.")
 
 

@@ -5,8 +5,10 @@ from __future__ import annotations
 from pathlib import Path
 
 from caseload.services.context import Context
-from caseload.store import Report
-from caseload.store.maintenance import Restored, check_file
+from caseload.services.identity import resolve_actor
+from caseload.services.permissions import require
+from caseload.store import Report, Store
+from caseload.store.maintenance import Restored, check_file, replace_damaged, verified_copy
 
 
 def backup(ctx: Context, target: str) -> Path:
@@ -31,6 +33,21 @@ def restore(ctx: Context, source: str, force: bool = False) -> Restored:
         record["audit_ids_replaced"] = [last_restored + 1, last_before]
     ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after=record))
     return done
+
+
+def restore_damaged(path: Path, source: str, account: str, as_staff: str | None) -> Restored:
+    """Restore over a store too damaged to open. The damaged store cannot say who may do it, so the
+    verified backup does: the account must map to one of its admins. The damaged file is kept."""
+    with verified_copy(path, Path(source)) as (stage, version):
+        with Store(stage) as staged:
+            actor = resolve_actor(staged, account, as_staff)
+            require(actor, "store.restore")
+            now = staged.db.clock()
+        kept = replace_damaged(path, stage, now)
+    with Store(path) as store:
+        record = {"path": source, "schema": version, "kept": str(kept), "replaced_damaged": True}
+        store.transact(lambda: store.db.audit(actor, "store.restore", "store", None, after=record))
+    return Restored(version, kept, None)
 
 
 def check(ctx: Context) -> Report:

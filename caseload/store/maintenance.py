@@ -3,11 +3,13 @@
 from __future__ import annotations
 
 import os
+import shutil
 import sqlite3
 import tempfile
 from collections.abc import Iterator
 from contextlib import closing, contextmanager
 from dataclasses import dataclass
+from datetime import UTC, datetime
 from pathlib import Path
 
 from caseload.store import migrations
@@ -45,7 +47,7 @@ class Loss:
 class Restored:
     version: int  # the backup's schema, before it was brought up to date
     kept: Path  # the replaced store, kept beside it
-    loss: Loss
+    loss: Loss | None  # None when the replaced store was too damaged to compare
 
 
 def backup_to(db: Database, target: Path) -> None:
@@ -75,27 +77,16 @@ def check_file(path: Path) -> Report:
 
 
 def restore_from(db: Database, source: Path, force: bool = False) -> Restored:
-    """Replace the store's content with a verified backup. The backup is copied to a private staging
-    file beside the store, verified there (integrity, audit chain, triggers, schema fingerprint, records
-    against their audit rows) and brought up to the current schema; only then is the store kept as
-    `<name>.replaced-<stamp>` and the staged copy written over it in one transaction. A backup missing
-    data the store holds is refused unless `force`."""
-    if source.resolve() == db.path.resolve():
-        raise StoreError(f"{source} is the store itself: restore from a backup file")
-    if not source.is_file():
-        raise StoreError(f"{source} is not a file")
-    with _staged(db.path) as stage:
-        version = _copy_in(source, stage)
-        _refuse_unverified(stage, source)
-        if version < migrations.LATEST:
-            Database(stage).close()  # the same upgrade any older store gets when opened
-            _refuse_unverified(stage, source)
+    """Replace the store's content with a verified backup (see `verified_copy`). The store is kept as
+    `<name>.replaced-<UTC time>`, then the staged copy is written over it in one transaction. A backup
+    missing data the store holds is refused unless `force`."""
+    with verified_copy(db.path, source) as (stage, version):
         with closing(sqlite3.connect(f"file:{stage}?mode=ro", uri=True)) as staged:
             loss = _loss(db.conn, staged)
             if loss.data and not force:
                 raise StoreError(f"{source} lacks {loss.describe()} that the store holds: "
                                  "nothing restored; add --force to restore it anyway")
-            kept = db.path.with_name(f"{db.path.name}.replaced-{db.clock():%Y%m%dT%H%M%SZ}")
+            kept = _kept_name(db.path, db.clock())
             backup_to(db, kept)
             try:
                 # One write transaction on the live file: other connections see the old store or the
@@ -104,6 +95,46 @@ def restore_from(db: Database, source: Path, force: bool = False) -> Restored:
             except sqlite3.Error as err:
                 raise StoreError(f"restore from {source} failed ({err}): the store is unchanged") from None
     return Restored(version, kept, loss)
+
+
+@contextmanager
+def verified_copy(store: Path, source: Path) -> Iterator[tuple[Path, int]]:
+    """The backup copied (backup API) into a private staging file beside the store, verified there
+    (integrity, audit chain, triggers, schema fingerprint, records against their audit rows) and
+    brought up to the current schema; yields it with the backup's schema version, removes it after."""
+    if source.resolve() == store.resolve():
+        raise StoreError(f"{source} is the store itself: restore from a backup file")
+    if not source.is_file():
+        raise StoreError(f"{source} is not a file")
+    with _staged(store) as stage:
+        version = _copy_in(source, stage)
+        _refuse_unverified(stage, source)
+        if version < migrations.LATEST:
+            Database(stage).close()  # the same upgrade any older store gets when opened
+            _refuse_unverified(stage, source)
+        yield stage, version
+
+
+def replace_damaged(store: Path, stage: Path, now: datetime) -> Path:
+    """Put a verified staged copy in place of a store too damaged to open. The damaged file and its
+    write-ahead log are kept beside it byte for byte; nothing can be read from them to compare."""
+    kept = _kept_name(store, now)
+    for suffix in ("", "-wal"):
+        damaged = Path(f"{store}{suffix}")
+        if damaged.exists() and (not suffix or damaged.stat().st_size):  # an empty log holds nothing
+            try:
+                create_private(Path(f"{kept}{suffix}"))
+            except FileExistsError:
+                raise StoreError(f"{kept}{suffix} exists already: nothing restored, try again") from None
+            shutil.copyfile(damaged, f"{kept}{suffix}")
+    for journal in ("-wal", "-shm"):  # they belong to the damaged file: never replay them onto the new one
+        Path(f"{store}{journal}").unlink(missing_ok=True)
+    os.replace(stage, store)
+    return kept
+
+
+def _kept_name(store: Path, now: datetime) -> Path:
+    return store.with_name(f"{store.name}.replaced-{now.astimezone(UTC):%Y%m%dT%H%M%SZ}")
 
 
 @contextmanager

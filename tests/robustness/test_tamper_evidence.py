@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 import sqlite3
 
 import pytest
@@ -200,3 +201,35 @@ def test_check_reports_a_schema_sqlite_cannot_parse(clinic):
     assert_clean_exit(result)
     assert result.exit_code == 1
     assert "integrity: unreadable: malformed database schema (entry_no_delete)" in result.output
+
+
+def test_a_damaged_store_is_restored_from_a_verified_backup_and_kept(clinic, tmp_path):
+    backup = tmp_path / "backup.db"
+    assert clinic("backup", str(backup)).exit_code == 0
+    offset, size = index_page_offset(clinic.db)
+    with open(clinic.db, "r+b") as f:
+        f.seek(offset)
+        f.write(b"\xa5" * size)
+    damaged = clinic.db.read_bytes()
+    result = clinic("restore", str(backup))
+    assert result.exit_code == 0, result.output
+    kept = [p for p in tmp_path.iterdir() if p.name.startswith("clinic.db.replaced-")]
+    assert [p.read_bytes() for p in kept] == [damaged]  # the damaged file, byte for byte, owner-only
+    assert os.stat(kept[0]).st_mode & 0o777 == 0o600
+    assert clinic("check").exit_code == 0
+    assert clinic("log", "P0001", "temp", "36.5").exit_code == 0
+
+
+def test_over_a_damaged_store_only_an_admin_of_the_backup_may_restore(clinic, tmp_path, monkeypatch):
+    backup = tmp_path / "backup.db"
+    assert clinic("backup", str(backup)).exit_code == 0
+    sql(backup, "PRAGMA wal_checkpoint(TRUNCATE)")
+    offset, size = index_page_offset(clinic.db)
+    with open(clinic.db, "r+b") as f:
+        f.seek(offset)
+        f.write(b"\xa5" * size)
+    damaged = clinic.db.read_bytes()
+    result = clinic("--as", "phil", "restore", str(backup))
+    assert_clean_exit(result)
+    assert result.exit_code == 1 and "may not restore the store" in result.stderr
+    assert clinic.db.read_bytes() == damaged
