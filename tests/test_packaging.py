@@ -36,10 +36,11 @@ def installed(dist, tmp_path_factory) -> Path:
     python = venv / "bin" / "python"
     site = subprocess.run([python, "-c", "import sysconfig; print(sysconfig.get_paths()['purelib'])"],
                           check=True, capture_output=True, text=True).stdout.strip()
-    Path(site, "outer.pth").write_text(sysconfig.get_paths()["purelib"] + "\n")
     wheel = next(dist.glob("caseload-*.whl"))
     subprocess.run([sys.executable, "-m", "pip", "--python", str(python), "install", "-q", "--no-deps", str(wheel)],
                    check=True, capture_output=True, timeout=300)
+    # Only now, so that pip does not take this environment's caseload for the one to install.
+    Path(site, "outer.pth").write_text(sysconfig.get_paths()["purelib"] + "\n")
     return venv
 
 
