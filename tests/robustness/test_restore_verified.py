@@ -12,7 +12,7 @@ import pytest
 from caseload.store import migrations
 from caseload.store.maintenance import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
-from tests.robustness.test_tamper_evidence import sql
+from tests.robustness.test_tamper_evidence import sql, trigger_sql
 
 
 @pytest.fixture
@@ -48,18 +48,10 @@ def test_a_backup_whose_audit_was_rewritten_is_refused(clinic, backup):
     # The trigger left dropped is named first; the rewritten row shows in the chain.
     assert "trigger audit_no_update is missing" in refused(clinic, str(backup))
     conn = sqlite3.connect(backup)
-    conn.execute(trigger_of(clinic.db, "audit_no_update"))
+    conn.execute(trigger_sql(clinic.db, "audit_no_update"))
     conn.commit()
     conn.close()
     assert "the audit chain breaks at row 3: not restored" in refused(clinic, str(backup))
-
-
-def trigger_of(path, name: str) -> str:
-    conn = sqlite3.connect(path)
-    try:
-        return conn.execute("SELECT sql FROM sqlite_master WHERE name = ?", (name,)).fetchone()[0]
-    finally:
-        conn.close()
 
 
 def test_right_table_names_with_wrong_columns_are_refused_before_anything_is_replaced(clinic, tmp_path):

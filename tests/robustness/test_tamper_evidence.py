@@ -140,13 +140,19 @@ def index_page_offset(path) -> tuple[int, int]:
     return (page - 1) * size, size
 
 
+def damage_index_page(path) -> bytes:
+    """Overwrite the entry index's root page with junk; the damaged file's bytes."""
+    offset, size = index_page_offset(path)
+    with open(path, "r+b") as f:
+        f.seek(offset)
+        f.write(b"\xa5" * size)
+    return path.read_bytes()
+
+
 @pytest.fixture
 def damaged(clinic):
     """The clinic store with its entry index's root page overwritten by junk."""
-    offset, size = index_page_offset(clinic.db)
-    with open(clinic.db, "r+b") as f:
-        f.seek(offset)
-        f.write(b"\xa5" * size)
+    damage_index_page(clinic.db)
     return clinic
 
 
@@ -206,11 +212,7 @@ def test_check_reports_a_schema_sqlite_cannot_parse(clinic):
 def test_a_damaged_store_is_restored_from_a_verified_backup_and_kept(clinic, tmp_path):
     backup = tmp_path / "backup.db"
     assert clinic("backup", str(backup)).exit_code == 0
-    offset, size = index_page_offset(clinic.db)
-    with open(clinic.db, "r+b") as f:
-        f.seek(offset)
-        f.write(b"\xa5" * size)
-    damaged = clinic.db.read_bytes()
+    damaged = damage_index_page(clinic.db)
     result = clinic("restore", str(backup))
     assert result.exit_code == 0, result.output
     kept = [p for p in tmp_path.iterdir() if p.name.startswith("clinic.db.replaced-")]
@@ -223,12 +225,7 @@ def test_a_damaged_store_is_restored_from_a_verified_backup_and_kept(clinic, tmp
 def test_over_a_damaged_store_only_an_admin_of_the_backup_may_restore(clinic, tmp_path, monkeypatch):
     backup = tmp_path / "backup.db"
     assert clinic("backup", str(backup)).exit_code == 0
-    sql(backup, "PRAGMA wal_checkpoint(TRUNCATE)")
-    offset, size = index_page_offset(clinic.db)
-    with open(clinic.db, "r+b") as f:
-        f.seek(offset)
-        f.write(b"\xa5" * size)
-    damaged = clinic.db.read_bytes()
+    damaged = damage_index_page(clinic.db)
     result = clinic("--as", "phil", "restore", str(backup))
     assert_clean_exit(result)
     assert result.exit_code == 1 and "may not restore the store" in result.stderr
