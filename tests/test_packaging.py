@@ -1,5 +1,5 @@
 """The package as a clinic gets it: an sdist with the tests, the guide, the demo data and the licence, and a
-wheel that installs into a fresh virtual environment and runs from there."""
+wheel that installs into a fresh virtual environment and runs from there, demo included."""
 
 from __future__ import annotations
 
@@ -55,16 +55,17 @@ def test_the_sdist_holds_the_tests_the_guide_the_demo_data_and_the_licence(dist)
     sdist = next(dist.glob("caseload-*.tar.gz"))
     with tarfile.open(sdist) as tar:
         names = {name.split("/", 1)[1] for name in tar.getnames() if "/" in name}
-    for needed in ("LICENSE", "DEVELOPERS.md", "README.md", "pyproject.toml", "seed_data/clinic.json",
-                   "seed_data/entries.csv", "tests/conftest.py", "tests/store/test_store.py", "caseload/py.typed"):
+    for needed in ("LICENSE", "DEVELOPERS.md", "README.md", "pyproject.toml", "caseload/seed_data/clinic.json",
+                   "caseload/seed_data/entries.csv", "tests/conftest.py", "tests/store/test_store.py",
+                   "tools/bench/build.py", "caseload/py.typed"):
         assert needed in names, needed
 
 
 def test_the_wheel_holds_the_package_its_data_and_the_licence(dist):
     wheel = next(dist.glob("caseload-*.whl"))
     names = zipfile.ZipFile(wheel).namelist()
-    assert "caseload/py.typed" in names and "caseload/reports/templates/summary.html.j2" in names
-    assert any(n.endswith(".tcss") for n in names)
+    assert "caseload/py.typed" in names and "caseload/exports/templates/summary.html.j2" in names
+    assert any(n.endswith(".tcss") for n in names) and "caseload/seed_data/clinic.json" in names
     assert any(n.endswith("licenses/LICENSE") for n in names)
     metadata = zipfile.ZipFile(wheel).read(next(n for n in names if n.endswith("/METADATA"))).decode()
     assert "License-Expression: MIT" in metadata
@@ -80,7 +81,6 @@ def test_the_installed_wheel_runs_from_its_own_environment(installed, tmp_path):
     assert version.stdout.strip() == "caseload, version 0.1.0"
 
 
-@pytest.mark.xfail(strict=True, reason="the demo data ships outside the package until it moves into caseload/")
 def test_the_installed_wheel_builds_and_lists_the_demo(installed, tmp_path):
     demo = run_installed(installed, "demo", "--no-ui", home=tmp_path)
     assert demo.returncode == 0, demo.stderr

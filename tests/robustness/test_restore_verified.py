@@ -10,7 +10,7 @@ import sqlite3
 import pytest
 
 from caseload.store import migrations
-from caseload.store.maintenance import check_file
+from caseload.store.backup_restore import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
 from tests.robustness.test_tamper_evidence import sql, trigger_sql
 

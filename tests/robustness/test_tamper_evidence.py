@@ -12,7 +12,7 @@ import sqlite3
 import pytest
 
 from caseload.store import Store, migrations
-from caseload.store.maintenance import check_file
+from caseload.store.backup_restore import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
 
 AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after"
@@ -58,7 +58,7 @@ def test_a_sound_store_passes_check(clinic):
 
 def test_bulk_and_single_writes_extend_one_chain(tmp_path):
     """The bulk loader and the one-row writes append through the same function: the chain stays whole."""
-    from caseload.bench.build import BenchSpec, build
+    from tools.bench.build import BenchSpec, build
     built = build(BenchSpec(patients=3, years=1), tmp_path / "bench.db")
     with Store(built.path) as store:
         report = store.check()

@@ -1,0 +1,29 @@
+"""Opening the interface from the command line."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+from caseload.cli.session import Session
+from caseload.application.identity import os_account
+from caseload.application.protocol import load_protocol
+
+
+def open_interface(session: Session) -> None:
+    """Build the interface for the session's store, day and identity, and run it until the user quits."""
+    from caseload.tui.app import make_app  # Textual loads only when the interface opens
+
+    with session.open_store() as store:
+        app = make_app(store, session.today(store), os_account(), session.as_staff, load_protocol(store))
+        app.run()
+
+
+def require_terminal() -> None:
+    """The full-screen interface only on a terminal: piped or redirected, it would write escape codes
+    into the file and wait for keys that never come. Exit code 2, a usage error."""
+    if not (sys.stdin.isatty() and sys.stdout.isatty()):
+        click.echo("caseload: the interface needs a terminal: run caseload in one, or give a command "
+                   "(caseload --help lists them)", err=True)
+        raise click.exceptions.Exit(2)
