@@ -12,7 +12,7 @@ import pytest
 from caseload.store import migrations
 from caseload.store.backup_restore import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
-from tests.robustness.test_tamper_evidence import sql, trigger_sql
+from tests.robustness.test_tamper_evidence import CHAIN_STEP, sql, store_before_chain, trigger_sql
 
 
 @pytest.fixture
@@ -103,16 +103,8 @@ def test_the_latest_backup_restores_without_force(clinic, backup):
 
 def test_a_backup_from_before_the_chain_is_upgraded_and_verified(clinic, tmp_path):
     """An older backup is brought to the current schema in the staging file, then checked again."""
-    chain_step = migrations.MIGRATIONS.index(migrations._audit_chain)
-    old = tmp_path / "old.db"
-    conn = sqlite3.connect(old, isolation_level=None)
-    conn.execute("BEGIN")
-    for step in migrations.MIGRATIONS[:chain_step]:
-        step(conn)
-    conn.execute(f"PRAGMA user_version = {chain_step}")
-    conn.execute("COMMIT")
-    conn.close()
+    old = store_before_chain(tmp_path / "old.db", [])
     result = clinic("restore", str(old), "--force")
     assert result.exit_code == 0, result.output
-    assert f"(schema {chain_step})" in result.output
+    assert f"(schema {CHAIN_STEP})" in result.output
     assert check_file(clinic.db).ok  # the restore's own audit row chained onto the upgraded file

@@ -15,6 +15,7 @@ from caseload.store import Store, migrations
 from caseload.store.backup_restore import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
 
+CHAIN_STEP = migrations.MIGRATIONS.index(migrations._audit_chain)  # the schema just before the chain
 AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after"
 
 
@@ -108,14 +109,19 @@ def test_check_names_every_change_made_behind_the_tools_back(clinic, attack):
     assert finding in result.output, result.output
 
 
-def test_a_trigger_edited_through_writable_schema_is_found(clinic):
-    """Editing the stored SQL directly leaves the trigger's name in place: only its text shows it."""
+@pytest.mark.parametrize("edit, finding", [
+    ("WHEN 0 BEGIN", "triggers: trigger entry_no_delete differs from the one caseload makes"),
+    ("BEGIN,", "integrity: unreadable: malformed database schema (entry_no_delete)"),
+], ids=["weakened", "unparseable"])
+def test_a_trigger_edited_through_writable_schema_is_found(clinic, edit, finding):
+    """Editing the stored SQL directly leaves the trigger's name in place: only its text shows it,
+    and a text SQLite cannot parse is reported, not crashed on."""
     sql(clinic.db, "PRAGMA writable_schema = ON",
-        "UPDATE sqlite_master SET sql = replace(sql, 'BEGIN', 'WHEN 0 BEGIN') WHERE name = 'entry_no_delete'")
+        f"UPDATE sqlite_master SET sql = replace(sql, 'BEGIN', '{edit}') WHERE name = 'entry_no_delete'")
     result = clinic("check")
     assert_clean_exit(result)
     assert result.exit_code == 1
-    assert "trigger entry_no_delete differs from the one caseload makes" in result.output
+    assert finding in result.output, result.output
 
 
 def test_a_write_whose_audit_row_is_swallowed_is_refused(clinic):
@@ -175,38 +181,35 @@ def test_every_command_refuses_a_damaged_store_in_one_line(damaged, command):
     assert damaged.db.read_bytes() == data  # nothing written into it
 
 
+def store_before_chain(path, statements: list[str]):
+    """A store at the schema just before the audit chain, holding the rows the statements write."""
+    conn = sqlite3.connect(path, isolation_level=None)
+    conn.execute("BEGIN")
+    for step in migrations.MIGRATIONS[:CHAIN_STEP]:
+        step(conn)
+    for statement in statements:
+        conn.execute(statement)
+    conn.execute(f"PRAGMA user_version = {CHAIN_STEP}")
+    conn.execute("COMMIT")
+    conn.close()
+    return path
+
+
 def test_a_store_upgraded_to_the_chain_verifies_like_a_new_one(tmp_path, clinic):
     """A store written before the chain gets its existing rows hashed in order, and the schema it ends
     with is the one a new store gets: check passes on it."""
-    chain_step = migrations.MIGRATIONS.index(migrations._audit_chain)
-    old = tmp_path / "old.db"
-    conn = sqlite3.connect(old, isolation_level=None)
-    conn.execute("BEGIN")
-    for step in migrations.MIGRATIONS[:chain_step]:
-        step(conn)
-    conn.execute("INSERT INTO staff VALUES ('ada', 'Ada', 'admin', 1, 'ada', '2026-01-05T09:00:00+00:00')")
-    for n in range(3):
-        conn.execute("INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, after) VALUES"
-                     f" ('2026-01-0{n + 5}T09:00:00+00:00', 'ada', 'ada', 'staff.add', 'staff', 'ada', ?)",
-                     (json.dumps({"name": "Ada", "role": "admin", "active": 1, "os_account": "ada"}),))
-    conn.execute(f"PRAGMA user_version = {chain_step}")
-    conn.execute("COMMIT")
-    conn.close()
+    ada = json.dumps({"name": "Ada", "role": "admin", "active": 1, "os_account": "ada"})
+    old = store_before_chain(tmp_path / "old.db", [
+        "INSERT INTO staff VALUES ('ada', 'Ada', 'admin', 1, 'ada', '2026-01-05T09:00:00+00:00')",
+        *(("INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, after) VALUES"
+           f" ('2026-01-0{n + 5}T09:00:00+00:00', 'ada', 'ada', 'staff.add', 'staff', 'ada', '{ada}')") for n in range(3)),
+    ])
     with Store(old) as store:
         assert store.db.version == migrations.LATEST
         report = store.check()
     assert report.ok, report.first_problem()
     assert report.audit_rows == 3
     assert check_file(clinic.db).ok  # and a store made new at this version, for comparison
-
-
-def test_check_reports_a_schema_sqlite_cannot_parse(clinic):
-    sql(clinic.db, "PRAGMA writable_schema = ON",
-        "UPDATE sqlite_master SET sql = replace(sql, 'BEGIN', 'BEGIN,') WHERE name = 'entry_no_delete'")
-    result = clinic("check")
-    assert_clean_exit(result)
-    assert result.exit_code == 1
-    assert "integrity: unreadable: malformed database schema (entry_no_delete)" in result.output
 
 
 def test_a_damaged_store_is_restored_from_a_verified_backup_and_kept(clinic, tmp_path):
