@@ -85,9 +85,9 @@ def crash_writer(path: str, staff_id: str, patients: tuple[str, ...], ack_path: 
     """Import batches and log single entries until killed. 'begin' is written before each call,
     the ack after it returned: the last 'begin' without its ack is the call the kill cut short."""
     rng = random.Random(seed)
-    store = Store(path)
-    ctx = Context(store, Actor(store.staff.get(staff_id), "crash-writer"), TODAY)
-    with open(ack_path, "a", encoding="utf-8") as acks:
+    with open(ack_path, "a", encoding="utf-8") as acks:  # first: a kill while the store opens acknowledged nothing
+        store = Store(path)
+        ctx = Context(store, Actor(store.staff.get(staff_id), "crash-writer"), TODAY)
         n = 0
         while True:
             token = f"s{seed}-{n:05d}"
