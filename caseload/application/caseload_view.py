@@ -6,7 +6,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from caseload.core.alerts.lifecycle import effective
-from caseload.core.analysis import Analysis, analysis_json
+from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
@@ -38,30 +38,6 @@ class CaseloadLine:
             self.cycle_day if self.cycle_day is not None else 10**6,
             self.patient.id,
         )
-
-    def to_json(self) -> dict:
-        s, top = self.snapshot, self.top_alert
-        return {
-            "patient": self.patient.id,
-            "name": self.patient.name,
-            "nurse": self.patient.nurse_id,
-            "plan": self.patient.plan.value,
-            "status": self.patient.status.value,
-            "cycle_day": self.cycle_day,
-            "phase": s.phase if s else None,
-            "fertile_window": [d.isoformat() for d in s.fertile_window] if s and s.fertile_window else None,
-            "shift_confirmed_on": s.shift_confirmed_on.isoformat() if s and s.shift_confirmed_on else None,
-            "next_event": s.next_event if s else None,
-            "next_event_day": s.next_event_day.isoformat() if s and s.next_event_day else None,
-            "top_alert": None if top is None else alert_brief(top),
-            "more_alerts": max(0, len(self.alerts) - 1),
-            "days_since_entry": self.days_since_entry,
-        }
-
-
-def alert_brief(a: Alert) -> dict:
-    return {"id": a.id, "kind": a.kind, "severity": a.severity.value, "state": a.state.value,
-            "due": a.due.isoformat(), "message": a.message}
 
 
 def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
@@ -104,19 +80,6 @@ class PatientRecord:
     analysis: Analysis
     alerts: tuple[Alert, ...]
     entries: tuple[Entry, ...]
-
-    def to_json(self) -> dict:
-        p = self.patient
-        return {
-            "patient": p.id,
-            "name": p.name,
-            "born": p.born.isoformat(),
-            "nurse": p.nurse_id,
-            "status": p.status.value,
-            "plan": p.plan.value,
-            **analysis_json(self.analysis),
-            "alerts": [alert_brief(a) for a in self.alerts],
-        }
 
 
 def show_patient(ctx: Context, patient_id: str) -> PatientRecord:

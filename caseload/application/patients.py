@@ -50,7 +50,8 @@ def add_patient(
     )
     if ctx.store.patients.get(patient.id):
         raise Refused(f"patient id {patient.id} is taken: choose another")
-    return ctx.store.transact(lambda: ctx.store.patients.add(ctx.actor, patient))
+    with ctx.store.atomic(ctx.today):
+        return ctx.store.patients.add(ctx.actor, patient)
 
 
 def update_patient(
@@ -72,9 +73,7 @@ def update_patient(
         after = replace(after, nurse_id=_nurse(ctx, nurse))
     if charting_temps is not None:
         after = replace(after, charting_temps=charting_temps)
-    def work():
+    with ctx.store.atomic(ctx.today):
         ctx.store.patients.update(ctx.actor, before, after)
         refresh_patient(ctx, after)
-
-    ctx.store.transact(work)
     return after

@@ -126,7 +126,7 @@ def analyse(
         patient_id=patient.id,
         today=today,
         cycle_start=current.start if current else None,
-        cycle_day=(today - current.start).days + 1 if current else None,
+        cycle_day=cy.cycle_day(current.start, today) if current else None,
         cycles=records,
         current=current,
         stats=stats,
@@ -155,7 +155,7 @@ def _forecast(
     luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)
 
     def cycle_day(day: date | None) -> int | None:
-        return None if day is None else (day - current.start).days + 1
+        return None if day is None else cy.cycle_day(current.start, day)
 
     shift = current.shift
     readings = [cycle_day(r.day) for r in valid_readings(current_obs)]
@@ -210,124 +210,3 @@ def _next_event(phase: str, forecast: Prediction | None, scans: Follicles | None
         events.append(NextEvent("trigger size", scans.trigger_day))
     coming = [e for e in events if e.day >= today]
     return min(coming, key=lambda e: e.day) if coming else None
-
-
-def _iso(day: date | None) -> str | None:
-    return None if day is None else day.isoformat()
-
-
-def _span(pair: tuple[date, date] | None) -> list[str] | None:
-    return None if pair is None else [pair[0].isoformat(), pair[1].isoformat()]
-
-
-def _shift_json(shift: ThermalShift) -> dict:
-    cp = shift.change_point
-    return {
-        "confirmed": shift.confirmed,
-        "confirmed_on": _iso(shift.confirmed_on),
-        "first_high": _iso(shift.first_high),
-        "coverline": shift.coverline,
-        "change_point": None
-        if cp is None
-        else {
-            "split_on": cp.split_on.isoformat(),
-            "low_mean": cp.low_mean,
-            "high_mean": cp.high_mean,
-            "difference": cp.difference,
-            "strength": cp.strength,
-            "passes": cp.passes,
-        },
-        "agreement": shift.agreement,
-        "readings": shift.readings,
-        "coverage": shift.coverage,
-        "days_above_coverline": shift.days_above_coverline,
-    }
-
-
-def _prediction_json(p: Prediction) -> dict:
-    return {
-        "ovulation": _iso(p.ovulation),
-        "ovulation_range": _span(p.ovulation_range),
-        "fertile_window": _span(p.fertile_window),
-        "next_period": p.next_period.isoformat(),
-        "next_period_range": _span(p.next_period_range),
-        "daily": [{"day": d.day.isoformat(), "p_fertile": d.p_fertile} for d in p.daily],
-        "calendar_rule": None if p.calendar_rule is None else list(p.calendar_rule),
-        "expected_ovulation": p.expected_ovulation.isoformat(),
-        "expected_ovulation_range": _span(p.expected_ovulation_range),
-        "evidence": p.evidence,
-    }
-
-
-def _pregnancy_json(p: Pregnancy) -> dict:
-    trend = p.hcg_trend
-    return {
-        "edd": _iso(p.edd),
-        "edd_method": p.edd_method,
-        "gestational_age_days": p.gestational_age_days,
-        "gestational_age": p.gestational_age,
-        "hcg_rise_48h": None if trend is None else trend.rise_48h,
-        "hcg_doubling_days": None if trend is None else trend.doubling_days,
-        "positive_test": _iso(p.positive_test),
-    }
-
-
-def _follicles_json(f: Follicles) -> dict:
-    return {
-        "lead_mm": f.lead_mm,
-        "mature_count": f.mature_count,
-        "growth_mm_per_day": f.growth_mm_per_day,
-        "trigger_day": _iso(f.trigger_day),
-        "trigger_reached": f.trigger_reached,
-        "endometrium_mm": f.endometrium_mm,
-        "last_scan": f.scans[-1].day.isoformat(),
-    }
-
-
-def analysis_json(a: Analysis) -> dict:
-    """The analysis keys of the `show --json` contract (the caller adds `patient` and `alerts`)."""
-    s, c = a.stats, a.classification
-    current = a.current
-    return {
-        "today": a.today.isoformat(),
-        "cycle_day": a.cycle_day,
-        "cycle_start": _iso(a.cycle_start),
-        "cycles": [
-            {
-                "start": r.start.isoformat(),
-                "length": r.length,
-                "bleed_days": r.bleed_days,
-                "ovulation": _iso(r.markers.ovulation),
-                "ovulation_method": r.markers.ovulation_method,
-                "luteal_length": r.luteal_length,
-                "open": r.is_open,
-            }
-            for r in a.cycles
-        ],
-        "stats": {
-            "count": s.count,
-            "mean": s.mean,
-            "sd": s.sd,
-            "median": s.median,
-            "shortest": s.shortest,
-            "longest": s.longest,
-            "variation": s.variation,
-        },
-        "classification": {"frequency": c.frequency, "regularity": c.regularity, "duration": c.duration},
-        "prediction": None if a.prediction is None else _prediction_json(a.prediction),
-        "thermal_shift": None if current is None else _shift_json(current.shift),
-        "pregnancy": None if a.pregnancy is None else _pregnancy_json(a.pregnancy),
-        "markers": None
-        if current is None
-        else {
-            "lh_surge": _iso(current.markers.lh_surge),
-            "mucus_peak": _iso(current.markers.mucus_peak),
-            "ovulation": _iso(current.markers.ovulation),
-            "ovulation_method": current.markers.ovulation_method,
-        },
-        "follicles": None if a.follicles is None else _follicles_json(a.follicles),
-        "phase": a.phase,
-        "next_event": None
-        if a.next_event is None
-        else {"label": a.next_event.label, "day": a.next_event.day.isoformat()},
-    }

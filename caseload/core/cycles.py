@@ -18,6 +18,11 @@ from caseload.core.settings import Protocol
 STARTING_FLOWS = frozenset({Flow.LIGHT.value, Flow.MODERATE.value, Flow.HEAVY.value})
 
 
+
+def cycle_day(start: date, day: date) -> int:
+    """The cycle day of `day` in a cycle that began on `start`: the first day of bleeding is day 1."""
+    return (day - start).days + 1
+
 @dataclass(frozen=True)
 class Bleed:
     """One menstrual bleed: from its first day of light flow or more to its last bleeding day."""

@@ -138,7 +138,13 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1]
+def _audit_day_of_record(conn: sqlite3.Connection) -> None:
+    """Each audit row names the clinic day its change was made as of (the date of record); rows
+    written before this column existed keep NULL: their day was never recorded."""
+    conn.execute("ALTER TABLE audit ADD COLUMN day_of_record TEXT")
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _audit_day_of_record]
 LATEST = len(MIGRATIONS)
 
 

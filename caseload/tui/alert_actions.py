@@ -5,10 +5,9 @@ from __future__ import annotations
 from textual.screen import Screen
 
 from caseload.core.model import Alert
-from caseload.application import alert_handling as alert_service
 from caseload.tui.alert_support import note_required
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
-from caseload.tui.words import alert_label
+from caseload.presentation.glossary import alert_label
 from caseload.tui.writes import write
 
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
@@ -24,9 +23,11 @@ def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
             return f"{PAST[verb]} #{handled.id} {alert_label(handled.kind)} for {handled.patient_id}."
 
         if verb == "snooze":
-            write(screen, alert_service.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
+            write(screen, clinic.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
         else:
-            write(screen, getattr(alert_service, verb), alert.id, answer.note, summary=summary)
+            handle = {"acknowledge": clinic.acknowledge, "resolve": clinic.resolve}[verb]
+            write(screen, handle, alert.id, answer.note, summary=summary)
 
-    dialog = NoteDialog(alert, verb, screen.app.gate.today, note_required(alert))
+    clinic = screen.app.clinic
+    dialog = NoteDialog(alert, verb, clinic.as_of, note_required(alert))
     screen.app.push_screen(dialog, done)

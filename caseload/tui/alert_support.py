@@ -4,12 +4,12 @@ from __future__ import annotations
 
 from caseload.core.model import Alert
 from caseload.application.alert_handling import is_clinical
-from caseload.tui.gate import StoreGate
+from caseload.application.clinic import Clinic
 
 
-def may_handle(gate: StoreGate, alert: Alert) -> bool:
+def may_handle(clinic: Clinic, alert: Alert) -> bool:
     """Clinical alerts need a clinical role; routine ones anyone may handle."""
-    return gate.may("alert.handle" if is_clinical(alert.kind) else "alert.handle-routine")
+    return clinic.may("alert.handle" if is_clinical(alert.kind) else "alert.handle-routine")
 
 
 def note_required(alert: Alert) -> bool:

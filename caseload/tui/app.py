@@ -7,9 +7,7 @@ one-line notification (never a traceback).
 
 from __future__ import annotations
 
-import sqlite3
 from collections.abc import Callable
-from datetime import date
 from typing import Any
 
 from textual.app import App
@@ -20,15 +18,9 @@ from textual.reactive import reactive
 from textual.widgets import Input
 from textual.worker import Worker, WorkerState
 
-from caseload.core.model import Actor, Role, Severity
-from caseload.core.parse import InputError
-from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.application.caseload_view import CaseloadLine
-from caseload.application.errors import Refused
-from caseload.application.identity import resolve_actor
-from caseload.application.account_setup import needs_sign_in
-from caseload.store import Store, StoreError
-from caseload.tui.gate import StoreGate
+from caseload.application.clinic import Clinic, plain_reason
+from caseload.core.model import Role, Severity
 from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.sign_in import SignInScreen
@@ -38,19 +30,8 @@ from caseload.tui.writes import Written
 REFRESH_SECONDS = 5.0
 
 
-def reason_for(error: BaseException) -> str:
-    """One line for a person: what went wrong, without a traceback."""
-    if isinstance(error, (InputError, Refused, StoreError)):
-        return str(error)
-    if isinstance(error, sqlite3.OperationalError) and "locked" in str(error).lower():
-        return "the store is busy with another terminal's change: try again in a moment"
-    if isinstance(error, sqlite3.Error):
-        return f"the store could not be read or written ({error})"
-    return f"unexpected {type(error).__name__}: {error}"
-
-
 class CaseloadApp(App):
-    """The caseload interface over one store, as one staff member, on one day."""
+    """The caseload interface over one Clinic: one store, one staff member, one day."""
 
     TITLE = "caseload"
     CSS_PATH = ["app.tcss", "widgets/widgets.tcss"]
@@ -66,9 +47,9 @@ class CaseloadApp(App):
     mine: reactive[bool] = reactive(False)
     """Whether the list and the header counts are limited to the acting nurse's patients."""
 
-    def __init__(self, gate: StoreGate, refresh_seconds: float = REFRESH_SECONDS):
+    def __init__(self, clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS):
         super().__init__()
-        self.gate = gate
+        self.clinic = clinic
         self.refresh_seconds = refresh_seconds
         self._refusals: dict[Worker, tuple[MessagePump, Callable[[str], Message]]] = {}
 
@@ -76,26 +57,25 @@ class CaseloadApp(App):
         for theme in THEMES:
             self.register_theme(theme)
         self.theme = DEFAULT_THEME
-        if self.gate.actor is None:
+        if not self.clinic.signed_in:
             self.push_screen(SignInScreen())
         else:
             self.open_home()
 
     def open_home(self) -> None:
-        self.mine = self.gate.actor.role is Role.NURSE
+        self.mine = self.clinic.actor.role is Role.NURSE
         self.push_screen(CaseloadScreen())
 
-    def signed_in(self, actor: Actor) -> None:
-        self.gate.actor = actor
+    def signed_in(self) -> None:
         self.pop_screen()
         self.open_home()
 
     # --- what the screens share
 
     def scoped_roster(self) -> tuple[CaseloadLine, ...]:
-        if not self.mine or self.gate.actor is None:
+        if not self.mine or not self.clinic.signed_in:
             return self.roster
-        me = self.gate.actor.id
+        me = self.clinic.actor.id
         return tuple(line for line in self.roster if line.patient.nurse_id == me)
 
     def tone(self, severity: Severity) -> str:
@@ -115,18 +95,15 @@ class CaseloadApp(App):
         *args,
         reply: Callable[[Any], Message] | None = None,
         refusal: Callable[[str], Message] | None = None,
-        before_sign_in: bool = False,
         **kwargs,
     ) -> Worker:
-        """Run `use_case(ctx, *args)` in a thread; post `reply(result)` to `target` when done.
+        """Run a Clinic method `use_case(*args)` in a thread; post `reply(result)` to `target` when done.
 
         On failure the one handler below notifies the reason and, if given, posts `refusal(reason)`.
         """
-        gate = self.gate
-        call = gate.call_with_store if before_sign_in else gate.call
 
         def job() -> None:
-            result = call(use_case, *args, **kwargs)
+            result = use_case(*args, **kwargs)
             if reply is not None:
                 target.post_message(reply(result))
 
@@ -138,7 +115,7 @@ class CaseloadApp(App):
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         worker = event.worker
         if event.state is WorkerState.ERROR:
-            reason = reason_for(worker.error)
+            reason = plain_reason(worker.error)
             self.notify(reason, title="Not done", severity="error", markup=False, timeout=8)
             if worker in self._refusals:
                 target, refusal = self._refusals[worker]
@@ -162,7 +139,7 @@ class CaseloadApp(App):
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "quick_log":
             typing = isinstance(self.focused, Input) or self.screen.is_modal
-            return not typing and self.gate.actor is not None and self.gate.may("entry.log")
+            return not typing and self.clinic.may("entry.log")
         return True
 
     def action_quick_log(self) -> None:
@@ -170,18 +147,6 @@ class CaseloadApp(App):
         self.push_screen(QuickLogScreen(patient_id, settled=getattr(self.screen, "patient_settled", False)))
 
 
-def make_app(
-    store: Store,
-    today: date,
-    account: str,
-    as_staff: str | None = None,
-    protocol: Protocol = DEFAULT_PROTOCOL,
-    refresh_seconds: float = REFRESH_SECONDS,
-) -> CaseloadApp:
-    """The interface over `store` as of `today` for the OS `account` (or, for an admin's account, `as_staff`).
-
-    An account mapped to no one gets the sign-in screen; any other refusal of the identity is raised
-    here, before the interface opens.
-    """
-    actor = None if needs_sign_in(store, account) else resolve_actor(store, account, as_staff)
-    return CaseloadApp(StoreGate(store, today, protocol, account, actor), refresh_seconds)
+def make_app(clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS) -> CaseloadApp:
+    """The interface over `clinic`; an OS account mapped to no one gets the sign-in screen first."""
+    return CaseloadApp(clinic, refresh_seconds)

@@ -13,7 +13,8 @@ from textual.screen import Screen
 
 from caseload.core.model import Kind
 from caseload.application.entries import Logged
-from caseload.tui.words import alert_label, phase_label, plain
+from caseload.presentation.glossary import alert_label, phase_label
+from caseload.presentation.safe_text import printable
 
 
 class Written(Message):
@@ -53,7 +54,7 @@ def logged_summary(done: Logged) -> str:
     """What a clerk reads after saving: the entry, the new cycle day, any alert it raised."""
     e = done.entry
     unit = " C" if e.kind is Kind.TEMP else ""
-    value = plain(e.value.display())
+    value = printable(e.value.display())
     return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {value}{unit} on {e.day.isoformat()}." + _state_after(done)
 
 

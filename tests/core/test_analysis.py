@@ -8,7 +8,8 @@ from datetime import date, timedelta
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from caseload.core.analysis import PHASES, analyse, analysis_json
+from caseload.core.analysis import PHASES, analyse
+from caseload.presentation.json_shapes import analysis_json
 from caseload.core.model import Kind, Observation, Patient, PatientStatus, Scan, Value
 
 BORN = date(1991, 7, 9)

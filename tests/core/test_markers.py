@@ -4,7 +4,8 @@ from datetime import date, timedelta
 
 import pytest
 
-from caseload.core.analysis import analyse, analysis_json
+from caseload.core.analysis import analyse
+from caseload.presentation.json_shapes import analysis_json
 from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from datetime import date
 
 import pytest
 from click.testing import CliRunner
@@ -16,7 +17,7 @@ def run(fresh_clinic):
 
     def invoke(*args):
         return runner.invoke(main, ["--db", str(fresh_clinic.store.path), "--today", "2026-11-10", *args],
-                             catch_exceptions=False)
+                             catch_exceptions=False, obj=date(2026, 11, 10))
 
     return invoke
 

@@ -13,6 +13,7 @@ import openpyxl
 import pytest
 from openpyxl.utils import get_column_letter
 
+from caseload.exports.summary_files import write
 from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
 from caseload.application.weekly_summary import compute_summary, export_summary
 from tests.reports.conftest import W43
@@ -25,7 +26,7 @@ FORMATS = {"xlsx": "week.xlsx", "html": "week.html", "csv": "week-csv", "json": 
 def exported(clinic, tmp_path_factory):
     folder = tmp_path_factory.mktemp("exports")
     ctx = clinic.context()
-    return {fmt: export_summary(ctx, W43, fmt, folder / name, False) for fmt, name in FORMATS.items()}
+    return {fmt: export_summary(ctx, W43, fmt, folder / name, False, write) for fmt, name in FORMATS.items()}
 
 
 @pytest.fixture(scope="module")

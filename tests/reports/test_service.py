@@ -12,6 +12,7 @@ from pathlib import Path
 import openpyxl
 import pytest
 
+from caseload.exports.summary_files import write
 from caseload.core.parse import InputError
 from caseload.exports import summary_files as render
 from caseload.application.errors import Refused
@@ -33,17 +34,18 @@ def _leftovers(folder: Path) -> list[str]:
 def test_each_export_is_audited_once_with_who_week_format_and_mode(fresh_clinic, tmp_path, fmt):
     out = tmp_path / "out"
     out.mkdir()
-    path = export_summary(fresh_clinic.context("super1"), W43, fmt, out / OUT[fmt], deidentify=False)
+    path = export_summary(fresh_clinic.context("super1"), W43, fmt, out / OUT[fmt], deidentify=False, render=write)
     assert path == out / OUT[fmt] and path.exists()
     (row,) = _exports(fresh_clinic)
     assert (row.by_staff, row.action, row.table, row.row_id) == ("super1", "summary.export", "summary", "2026-W43")
-    assert json.loads(row.after) == {"week": "2026-W43", "format": fmt, "deidentified": False, "path": str(path)}
+    assert json.loads(row.after) == {"week": "2026-W43", "format": fmt, "deidentified": False, "path": str(path),
+                                     "as_of": "2026-11-10"}
     assert _leftovers(out) == [OUT[fmt]]  # nothing staged is left behind
     assert path.stat().st_mode & 0o777 == (0o700 if fmt == "csv" else 0o600)
 
 
 def test_admins_may_export_too(fresh_clinic, tmp_path):
-    export_summary(fresh_clinic.context("admin1"), W43, "json", tmp_path / "s.json", deidentify=True)
+    export_summary(fresh_clinic.context("admin1"), W43, "json", tmp_path / "s.json", deidentify=True, render=write)
     (row,) = _exports(fresh_clinic)
     assert row.by_staff == "admin1" and json.loads(row.after)["deidentified"] is True
 
@@ -53,7 +55,7 @@ def test_admins_may_export_too(fresh_clinic, tmp_path):
 def test_phone_and_nurse_staff_are_refused_and_nothing_is_written(fresh_clinic, tmp_path, staff, fmt):
     audit_rows = fresh_clinic.store.audit.count()
     with pytest.raises(Refused, match="may not export the weekly summary: it needs supervisor or admin"):
-        export_summary(fresh_clinic.context(staff), W43, fmt, tmp_path / OUT[fmt], deidentify=False)
+        export_summary(fresh_clinic.context(staff), W43, fmt, tmp_path / OUT[fmt], deidentify=False, render=write)
     assert fresh_clinic.store.audit.count() == audit_rows
     assert not any(p.name != "clinic.db" and not p.name.startswith("clinic.db-") for p in tmp_path.iterdir())
 
@@ -80,7 +82,7 @@ def test_bad_requests_are_refused_in_one_line_and_nothing_is_written(fresh_clini
     before = _leftovers(tmp_path)
     audit_rows = fresh_clinic.store.audit.count()
     with pytest.raises(InputError) as refused:
-        export_summary(fresh_clinic.context(), week, fmt, tmp_path / out, deidentify=False)
+        export_summary(fresh_clinic.context(), week, fmt, tmp_path / out, deidentify=False, render=write)
     assert words in str(refused.value) and "\n" not in str(refused.value)
     assert fresh_clinic.store.audit.count() == audit_rows
     assert _leftovers(tmp_path) == before
@@ -95,7 +97,7 @@ def test_a_failed_render_leaves_no_file_and_no_audit_row(fresh_clinic, tmp_path,
     monkeypatch.setitem(render.WRITERS, "html", broken)
     audit_rows = fresh_clinic.store.audit.count()
     with pytest.raises(OSError):
-        export_summary(fresh_clinic.context(), W43, "html", tmp_path / "s.html", deidentify=False)
+        export_summary(fresh_clinic.context(), W43, "html", tmp_path / "s.html", deidentify=False, render=write)
     assert fresh_clinic.store.audit.count() == audit_rows
     assert not (tmp_path / "s.html").exists()
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".partial")]
@@ -104,7 +106,7 @@ def test_a_failed_render_leaves_no_file_and_no_audit_row(fresh_clinic, tmp_path,
 def test_a_store_without_a_secret_cannot_de_identify(fresh_clinic, tmp_path):
     fresh_clinic.store.db.conn.execute("DELETE FROM meta WHERE key = 'pseudonym_secret'")
     with pytest.raises(Refused, match="no pseudonym secret"):
-        export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=True)
+        export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=True, render=write)
     assert not (tmp_path / "s.json").exists()
 
 
@@ -136,7 +138,7 @@ def _values(path: Path) -> str:
 @pytest.fixture
 def deidentified_paths(fresh_clinic, tmp_path):
     ctx = fresh_clinic.context()
-    return {(week, fmt): export_summary(ctx, week, fmt, tmp_path / f"{week}-{OUT[fmt]}", deidentify=True)
+    return {(week, fmt): export_summary(ctx, week, fmt, tmp_path / f"{week}-{OUT[fmt]}", deidentify=True, render=write)
             for week in (W43, W44) for fmt in OUT}
 
 
@@ -160,7 +162,7 @@ def test_de_identified_exports_hold_no_name_birth_date_or_patient_id(deidentifie
 
 
 def test_identified_exports_do_name_patients(fresh_clinic, tmp_path):
-    text = _all_text(export_summary(fresh_clinic.context(), W43, "html", tmp_path / "s.html", deidentify=False))
+    text = _all_text(export_summary(fresh_clinic.context(), W43, "html", tmp_path / "s.html", deidentify=False, render=write))
     assert "Aurelia Quennell" in text and "logged for Bryony Tallisker by mistake" in text
 
 
@@ -185,7 +187,7 @@ def test_free_text_is_escaped_in_the_page(fresh_clinic, tmp_path):
     c = fresh_clinic
     entry = c.log("2026-10-21 08:00", "phone1", "P1", "note", "called", "2026-10-21")
     c.void("2026-10-21 09:00", "nurse1", entry, "<script>alert(1)</script> & more")
-    page = export_summary(c.context(), W43, "html", tmp_path / "s.html", deidentify=False).read_text()
+    page = export_summary(c.context(), W43, "html", tmp_path / "s.html", deidentify=False, render=write).read_text()
     assert "<script>" not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt; &amp; more" in page
 

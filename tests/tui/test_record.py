@@ -7,7 +7,7 @@ from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.marker_strip import MarkerStrip
-from caseload.tui.words import CAUTION
+from caseload.presentation.glossary import CAUTION
 from tests.tui.conftest import settle
 
 

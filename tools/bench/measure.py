@@ -17,6 +17,7 @@ from collections.abc import Callable
 from datetime import date, timedelta
 from pathlib import Path
 
+from caseload.exports.summary_files import write
 from caseload.core.model import Actor, PatientStatus
 from caseload.application.caseload_view import list_caseload
 from caseload.application.context import Context
@@ -119,7 +120,7 @@ def _summary(fmt: str) -> Callable[[Path, date, int], dict]:
             began = time.perf_counter()
             with Store(path) as store:
                 out = export_summary(_context(store, SUPERVISOR, today), week_before(today), fmt,
-                                     Path(folder) / f"summary.{fmt}", deidentify=False)  # fmt: skip
+                                     Path(folder) / f"summary.{fmt}", deidentify=False, render=write)  # fmt: skip
                 size = out.stat().st_size
             return {"seconds": time.perf_counter() - began, "bytes": size}
 

@@ -159,5 +159,3 @@ def iso(day: date | None) -> str | None:
     return None if day is None else day.isoformat()
 
 
-def cycle_day(start: date, day: date) -> int:
-    return (day - start).days + 1

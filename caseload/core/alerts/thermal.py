@@ -7,7 +7,8 @@ from __future__ import annotations
 
 from datetime import timedelta
 
-from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, iso, source_of
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
+from caseload.core.cycles import cycle_day
 from caseload.core.model import Severity
 from caseload.core.thermal import ThermalShift
 

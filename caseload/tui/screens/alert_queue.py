@@ -12,17 +12,11 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from caseload.core.model import Alert
-from caseload.application.alert_handling import list_alerts
-from caseload.application.context import Context
 from caseload.tui.alert_actions import start_handling
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_table import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
-
-
-def open_alerts(ctx: Context, nurse: str | None) -> list[Alert]:
-    return list_alerts(ctx, state="open", nurse=nurse)
 
 
 class AlertQueueScreen(Screen):
@@ -72,8 +66,8 @@ class AlertQueueScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        nurse = self.app.gate.actor.id if self.app.mine else None
-        self.app.store_job(self, open_alerts, nurse, reply=self.Loaded, refusal=self.LoadFailed)
+        nurse = self.app.clinic.actor.id if self.app.mine else None
+        self.app.store_job(self, self.app.clinic.alerts, "open", None, nurse, reply=self.Loaded, refusal=self.LoadFailed)
 
     def on_alert_queue_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False

@@ -15,18 +15,14 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
-from caseload.application.caseload_view import CaseloadLine, list_caseload
-from caseload.application.recompute import RefreshReport, refresh_all
+from caseload.application.caseload_view import CaseloadLine
+from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
 from caseload.tui.widgets.status_line import StatusLine
-
-
-def needs_morning_refresh(lines: tuple[CaseloadLine, ...], today) -> bool:
-    return any(line.snapshot is None or line.snapshot.computed_on < today for line in lines)
 
 
 def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple[CaseloadLine, ...]:
@@ -104,7 +100,7 @@ class CaseloadScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, list_caseload, reply=self.Loaded, refusal=self.LoadFailed)
+        self.app.store_job(self, self.app.clinic.morning_list, reply=self.Loaded, refusal=self.LoadFailed)
 
     def on_caseload_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
@@ -115,9 +111,9 @@ class CaseloadScreen(Screen):
             self._show()
         if not self._refresh_checked:
             self._refresh_checked = True
-            if needs_morning_refresh(message.lines, self.app.gate.today):
+            if self.app.clinic.morning_refresh_due(message.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
-                self.app.store_job(self, refresh_all, reply=self.Refreshed)
+                self.app.store_job(self, self.app.clinic.refresh, reply=self.Refreshed)
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
@@ -130,7 +126,7 @@ class CaseloadScreen(Screen):
 
     def _show(self) -> None:
         filters = self.query_one(FilterBar).filters
-        lines = visible(self.app.roster, filters, self.app.gate.actor.id)
+        lines = visible(self.app.roster, filters, self.app.clinic.actor.id)
         self.query_one(CaseloadTable).show(lines)
         total = len(self.app.roster)
         note = f"{len(lines)} of {total} patients"
@@ -190,7 +186,7 @@ class CaseloadScreen(Screen):
         if action == "back_to_list":
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
-            return self.app.gate.may("summary.export")
+            return self.app.clinic.may("summary.export")
         return True
 
     def action_export(self) -> None:

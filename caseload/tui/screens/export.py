@@ -14,7 +14,8 @@ from textual.message import Message
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
-from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS, export_summary
+from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
+from caseload.exports.summary_files import write
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
@@ -48,7 +49,7 @@ class ExportDialog(ModalScreen[None]):
             self.reason = reason
 
     def compose(self) -> ComposeResult:
-        week = iso_week(self.app.gate.today)
+        week = iso_week(self.app.clinic.as_of)
         with Vertical(classes="dialog"):
             yield Label("Export the weekly summary", classes="dialog-title")
             yield Label("Week (YYYY-Www)")
@@ -70,8 +71,9 @@ class ExportDialog(ModalScreen[None]):
     def _export(self) -> None:
         self.query_one("#check", Static).update(Text("Exporting…", style="dim"))
         self.app.store_job(
-            self, export_summary, self.query_one("#week", Input).value.strip(), str(self.query_one("#format", Select).value),
-            Path(self.query_one("#out", Input).value).expanduser(), bool(self.query_one("#deidentify", Select).value),
+            self, self.app.clinic.export_summary, self.query_one("#week", Input).value.strip(),
+            str(self.query_one("#format", Select).value), Path(self.query_one("#out", Input).value).expanduser(),
+            bool(self.query_one("#deidentify", Select).value), write,
             reply=self.Exported, refusal=self.Failed,
         )
 

@@ -11,7 +11,7 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
-from caseload.application.caseload_view import PatientRecord, show_patient
+from caseload.application.caseload_view import PatientRecord
 from caseload.tui.alert_actions import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
@@ -22,7 +22,7 @@ from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.marker_strip import LEGEND, MarkerStrip
 from caseload.tui.widgets.status_line import StatusLine
-from caseload.tui.words import CAUTION
+from caseload.presentation.glossary import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
 CYCLES = Binding.Group("Cycle")
@@ -101,7 +101,7 @@ class RecordScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, show_patient, self.patient_id, reply=self.Loaded, refusal=self.LoadFailed)
+        self.app.store_job(self, self.app.clinic.patient_record, self.patient_id, reply=self.Loaded, refusal=self.LoadFailed)
 
     def on_record_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
@@ -157,7 +157,7 @@ class RecordScreen(Screen):
             return
         count = len(record.analysis.cycles)
         index = count - 1 if self._cycle is None else self._cycle
-        view = cycle_view(record, index, self.app.gate.today)
+        view = cycle_view(record, index, self.app.clinic.as_of)
         self.query_one("#chart-title", Static).update(
             Text(view.title if view else "No cycle recorded yet", style="bold")
         )

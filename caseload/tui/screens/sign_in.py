@@ -17,9 +17,7 @@ from textual.widgets import Footer, Label, OptionList, Static
 from textual.widgets.option_list import Option
 
 from caseload.core.model import Actor, Staff
-from caseload.application.staff import claim_staff
-from caseload.application.account_setup import sign_in_roster
-from caseload.tui.words import literal
+from caseload.tui.rich_text import literal
 
 
 NAME_WIDTH = 20
@@ -56,22 +54,21 @@ class SignInScreen(Screen):
     def compose(self) -> ComposeResult:
         with Vertical(id="sign-in"):
             yield Label("Who are you?", classes="dialog-title")
-            account = self.app.gate.account
+            account = self.app.clinic.identity.account
             yield Static(Text(f"The OS account '{account}' is not linked to a staff record yet. "
                               "Pick yours with the arrows and Enter; it is linked from then on."))
             yield StaffList(id="staff")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.app.store_job(self, sign_in_roster, reply=self.Roster, before_sign_in=True)
+        self.app.store_job(self, self.app.clinic.sign_in_roster, reply=self.Roster)
 
     def on_sign_in_screen_roster(self, message: Roster) -> None:
         self.query_one(StaffList).set_options(staff_option(s) for s in message.staff)
 
     @on(OptionList.OptionSelected)
     def _chosen(self, event: OptionList.OptionSelected) -> None:
-        self.app.store_job(self, claim_staff, event.option.id, self.app.gate.account,
-                           reply=self.Claimed, before_sign_in=True)
+        self.app.store_job(self, self.app.clinic.claim, event.option.id, reply=self.Claimed)
 
     def on_sign_in_screen_claimed(self, message: Claimed) -> None:
-        self.app.signed_in(message.actor)
+        self.app.signed_in()

@@ -9,7 +9,9 @@ from textual.widgets import DataTable
 
 from caseload.core.model import Alert, Severity
 from caseload.tui.alert_support import may_handle
-from caseload.tui.words import alert_label, literal, short_day
+from caseload.presentation.glossary import alert_label
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
 
 GROUP = "group:"
 
@@ -102,10 +104,10 @@ class AlertTable(DataTable):
             alert = self.current_alert()
             if alert is None:
                 return None
-            return True if may_handle(self.app.gate, alert) else False
+            return True if may_handle(self.app.clinic, alert) else False
         return True
 
     def action_handle(self, verb: str) -> None:
         alert = self.current_alert()
-        if alert is not None and may_handle(self.app.gate, alert):
+        if alert is not None and may_handle(self.app.clinic, alert):
             self.post_message(self.HandleAsked(alert, verb))

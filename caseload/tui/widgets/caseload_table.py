@@ -8,7 +8,9 @@ from textual.binding import Binding
 from textual.widgets import DataTable
 
 from caseload.application.caseload_view import CaseloadLine
-from caseload.tui.words import alert_label, literal, phase_label, short_day
+from caseload.presentation.glossary import alert_label, phase_label
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
 
 NEXT_SHORT = {"window start": "window", "period": "period", "trigger size": "trigger", "pregnancy test": "hCG test"}
 GAP_WARN_DAYS = 3  # days without an entry worth a glance (the logging-gap default)

@@ -6,9 +6,10 @@ from pathlib import Path
 
 import click
 
-from caseload.cli.session import Session, pass_session
-from caseload.exports.summary_files import FORMATS
-from caseload.application import weekly_summary as reports
+from caseload.application.clinic import Clinic
+from caseload.application.weekly_summary import FORMATS
+from caseload.cli.global_options import pass_clinic
+from caseload.exports.summary_files import write
 
 
 @click.command()
@@ -16,10 +17,10 @@ from caseload.application import weekly_summary as reports
 @click.option("--format", "fmt", required=True, type=click.Choice(FORMATS), help="xlsx, html, json (a file) or csv (a folder of files).")
 @click.option("--out", required=True, type=click.Path(), help="File to write; for csv, the folder to write into.")
 @click.option("--deidentify", is_flag=True, help="Patients as keyed pseudonyms, without names or birth dates.")
-@pass_session
-def summary(session: Session, week: str, fmt: str, out: str, deidentify: bool) -> None:
+@pass_clinic
+def summary(clinic: Clinic, week: str, fmt: str, out: str, deidentify: bool) -> None:
     """Export the weekly caseload summary (supervisors and admins); every export is audited."""
-    path = reports.export_summary(session.context(), week, fmt, Path(out), deidentify)
+    path = clinic.export_summary(week, fmt, Path(out), deidentify, write)
     kind = "de-identified " if deidentify else ""
     click.echo(f"Weekly summary {week.strip().upper()} written to {path} ({kind}{fmt}).")
 

@@ -1,4 +1,5 @@
-"""The interface's own words: friendly labels for phases, kinds and alerts, day formats, safe user text.
+"""The glossary: the one label a person reads for each phase, kind, alert and event, and the
+one-line wording of what a change did. Shared by the command line, the interface and the exports.
 
 The stored words (phase words, KIND words, alert kind identifiers) stay the contract; these
 labels are only what a person reads. Every KIND word is also accepted where a label is.
@@ -6,18 +7,20 @@ labels are only what a person reads. Every KIND word is also accepted where a la
 
 from __future__ import annotations
 
-import unicodedata
 from dataclasses import dataclass
-from datetime import date
-
-from rich.text import Text
 
 from caseload.core.analysis import BLEEDING, LUTEAL, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
+from caseload.application.recompute import Refreshed, RefreshReport
+from caseload.core import alerts
 from caseload.core.model import MUCUS_SCALE, Flow, Kind
 
 CAUTION = (
-    "Predictions are estimates, not contraception advice; clinical judgement and the clinic's protocols decide."
+    "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
+    "protocols and licensed clinical judgement."
 )
+"""Shown wherever predictions or alerts are: the list, a record."""
+ALERT_CAUTION = alerts.CAUTION
+"""Shown with every alert (and carried in `alerts --json`)."""
 
 PHASE_LABELS: dict[str, str] = {
     BLEEDING: "flow days",
@@ -117,36 +120,16 @@ def match_kind(text: str) -> Kind | None:
     return next((kind for name, kind in names if name.startswith(typed)), None)
 
 
-def short_day(day: date | None) -> str:
-    """'1 Dec' style: unambiguous in every locale and short enough for a column."""
-    return "-" if day is None else f"{day.day} {day.strftime('%b')}"
+def refreshed_line(done: Refreshed) -> str:
+    """After a change: the patient's cycle day and phase, and any alert it raised."""
+    snap = done.snapshot
+    day = snap.cycle_day(snap.computed_on)
+    text = f"Cycle day {day} ({phase_label(snap.phase)})." if day else f"No cycle start yet ({phase_label(snap.phase)})."
+    if done.raised:
+        text += " Raised: " + "; ".join(f"{alert_label(a.kind)} ({a.severity.value})" for a in done.raised) + "."
+    return text
 
 
-def long_day(day: date) -> str:
-    return f"{day.strftime('%a')} {day.day} {day.strftime('%b %Y')}"
-
-
-def day_span(pair: tuple[date, date] | None) -> str:
-    return "-" if pair is None else f"{short_day(pair[0])} to {short_day(pair[1])}"
-
-
-def plain(text: object) -> str:
-    """User text made inert for a terminal: control and format characters shown as escapes."""
-    out = []
-    for ch in "" if text is None else str(text):
-        if unicodedata.category(ch) in ("Cc", "Cf", "Zl", "Zp"):
-            out.append(ch.encode("unicode_escape").decode("ascii"))
-        else:
-            out.append(ch)
-    return "".join(out)
-
-
-def literal(text: object, style: str = "") -> Text:
-    """User text as a Rich Text: never parsed as markup, so '[bold]' shows as typed."""
-    return Text(plain(text), style=style, no_wrap=True)
-
-
-def folded(text: str) -> str:
-    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês')."""
-    decomposed = unicodedata.normalize("NFKD", text.casefold())
-    return "".join(ch for ch in decomposed if not unicodedata.combining(ch))
+def refresh_line(done: RefreshReport) -> str:
+    """After the whole-caseload refresh."""
+    return f"Refreshed {done.patients} patients: {done.raised} alerts raised or escalated, {done.resolved} auto-resolved."
