@@ -8,7 +8,7 @@ from rich.table import Table
 
 from caseload.core.model import Entry
 from caseload.presentation.days import iso_day, short_day
-from caseload.presentation.glossary import CAUTION, alert_label, phase_label
+from caseload.presentation.glossary import CAUTION, alert_label, next_event_short, phase_label
 from caseload.presentation.safe_text import printable
 
 
@@ -59,7 +59,7 @@ def list_table(lines) -> None:
         alert = "" if top is None else f"{top.severity.value} {alert_label(top.kind)}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
         window = f"{short_day(s.fertile_window[0])}-{short_day(s.fertile_window[1])}" if s and s.fertile_window else ""
         shift = short_day(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""
-        nxt = f"{s.next_event} {short_day(s.next_event_day)}" if s and s.next_event else ""
+        nxt = f"{next_event_short(s.next_event)} {short_day(s.next_event_day)}" if s and s.next_event else ""
         since = "" if line.days_since_entry is None else str(line.days_since_entry)
         rows.append([line.patient.id, line.patient.name, line.cycle_day or "", phase_label(s.phase) if s else "", window, shift, alert, nxt, since])
     print_table(["patient", "name", "day", "phase", "window", "shift", "alert", "next", "quiet"], rows,

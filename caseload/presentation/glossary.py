@@ -38,6 +38,13 @@ NEXT_EVENT_LABELS: dict[str, str] = {
     "pregnancy test": "pregnancy test",
 }
 
+NEXT_EVENT_SHORT: dict[str, str] = {  # the same events in a narrow column
+    "window start": "window",
+    "period": "period",
+    "trigger size": "trigger",
+    "pregnancy test": "hCG test",
+}
+
 ALERT_LABELS: dict[str, str] = {
     "window-approaching": "window near",
     "window-open": "window open",
@@ -86,6 +93,10 @@ WORDS_BY_KIND: dict[Kind, KindWords] = {w.kind: w for w in KIND_WORDS}
 
 def phase_label(phase: str | None) -> str:
     return PHASE_LABELS.get(phase or UNKNOWN, phase or "")
+
+
+def next_event_short(event: str) -> str:
+    return NEXT_EVENT_SHORT.get(event, event)
 
 
 def alert_label(kind: str) -> str:

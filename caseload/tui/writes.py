@@ -13,7 +13,7 @@ from textual.screen import Screen
 
 from caseload.core.model import Kind
 from caseload.application.entries import Logged
-from caseload.presentation.glossary import alert_label, phase_label
+from caseload.presentation.glossary import refreshed_line
 from caseload.presentation.safe_text import printable
 
 
@@ -42,12 +42,7 @@ def write(
 
 
 def _state_after(done: Logged) -> str:
-    snap = done.refreshed.snapshot
-    day = snap.cycle_day(snap.computed_on)
-    text = f" Now cycle day {day}, {phase_label(snap.phase)}." if day else f" No cycle start yet ({phase_label(snap.phase)})."
-    if done.refreshed.raised:
-        text += " Raised: " + "; ".join(f"{alert_label(a.kind)} ({a.severity.value})" for a in done.refreshed.raised) + "."
-    return text
+    return " " + refreshed_line(done.refreshed)
 
 
 def logged_summary(done: Logged) -> str:
