@@ -13,10 +13,8 @@ import click
 import platformdirs
 
 from caseload.application.clinic import Clinic, Identity
-from caseload.application.errors import Refused
-from caseload.core.parse import InputError
+from caseload.application.errors import InputError, Refused, StoreError
 from caseload.presentation.safe_text import printable, quoted
-from caseload.store import StoreError
 
 
 def default_store_path() -> Path:
