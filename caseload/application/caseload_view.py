@@ -44,14 +44,11 @@ def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
     return tuple(sorted(alerts, key=lambda a: (a.severity.rank, a.due, a.id)))
 
 
-def list_caseload(ctx: Context, nurse: str | None = None) -> list[CaseloadLine]:
+def list_caseload(ctx: Context) -> list[CaseloadLine]:
     """Every patient under care (not discharged), most pressing first: alert severity, due day, cycle day."""
     ctx.require("caseload.view")
-    under_care = [
-        p for p in ctx.store.patients.all()
-        if p.status is not PatientStatus.DISCHARGED and (not nurse or p.nurse_id == nurse)
-    ]
-    states = ctx.store.state.all([p.id for p in under_care] if nurse else None)
+    under_care = [p for p in ctx.store.patients.all() if p.status is not PatientStatus.DISCHARGED]
+    states = ctx.store.state.all()
     open_by_patient: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
         a = effective(stored, ctx.today)  # a snooze whose day has come counts, even before a refresh

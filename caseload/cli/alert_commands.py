@@ -8,7 +8,7 @@ from rich.table import Table
 from caseload.application.alert_handling import STATES
 from caseload.application.clinic import Clinic
 from caseload.cli.global_options import echo_json, pass_clinic
-from caseload.cli.text_views import console, safe
+from caseload.cli.printing import console, safe
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import Alert
 from caseload.presentation import json_shapes

@@ -13,7 +13,7 @@ from caseload.application.identity import os_account
 from caseload.application.staff import local_today
 from caseload.cli.global_options import GlobalOptions, pass_options
 from caseload.cli.interface_command import open_interface
-from caseload.cli.text_views import list_table, print_table
+from caseload.cli.printing import list_table, print_table
 
 
 def demo_store_path() -> Path:

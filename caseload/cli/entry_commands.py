@@ -8,7 +8,7 @@ import click
 
 from caseload.application.clinic import Clinic
 from caseload.cli.global_options import echo_json, pass_clinic
-from caseload.cli.text_views import entries_table
+from caseload.cli.printing import entries_table
 from caseload.core.model import Kind
 from caseload.presentation import json_shapes
 from caseload.presentation.glossary import refreshed_line

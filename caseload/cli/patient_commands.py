@@ -6,7 +6,7 @@ import click
 
 from caseload.application.clinic import Clinic
 from caseload.cli.global_options import echo_json, pass_clinic
-from caseload.cli.text_views import list_table, record_text
+from caseload.cli.printing import list_table, record_text
 from caseload.presentation import json_shapes
 from caseload.presentation.safe_text import printable
 

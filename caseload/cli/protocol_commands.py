@@ -7,7 +7,7 @@ import click
 from caseload.application.clinic import Clinic
 from caseload.application.protocol import check_protocol_file
 from caseload.cli.global_options import pass_clinic
-from caseload.cli.text_views import console, print_table, safe
+from caseload.cli.printing import console, print_table, safe
 from caseload.core.protocol_file import LAYOUT, setting_rows
 from caseload.presentation.glossary import refresh_line
 

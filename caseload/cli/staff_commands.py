@@ -6,7 +6,7 @@ import click
 
 from caseload.application.clinic import Clinic
 from caseload.cli.global_options import pass_clinic
-from caseload.cli.text_views import print_table
+from caseload.cli.printing import print_table
 from caseload.presentation.safe_text import printable
 
 

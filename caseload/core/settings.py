@@ -6,7 +6,7 @@ read globals: they receive a `Protocol` instance.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, fields
+from dataclasses import dataclass, field
 
 
 def setting(default, source: str, lo: float | None = None, hi: float | None = None, doc: str = ""):
@@ -65,11 +65,6 @@ class Protocol:
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")
     fever_c: float = setting(38.0, "common practice", 37.5, 39.5, "temperature (C) counted as a fever")
     alert_lookback_days: int = setting(14, "common practice", 1, 90, "days back a fever reading is still raised when first seen")
-
-
-def protocol_fields() -> list[tuple[str, object, dict]]:
-    """(name, default, metadata) for every protocol setting, in declaration order."""
-    return [(f.name, f.default, dict(f.metadata)) for f in fields(Protocol)]
 
 
 DEFAULT_PROTOCOL = Protocol()

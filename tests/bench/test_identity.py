@@ -15,7 +15,7 @@ import pytest
 
 from tools.bench.build import BenchSpec, bench_staff, bench_store
 from caseload.core.analysis import analyse
-from caseload.core.distributions import SUPPORT_SCALES, day_masses, t_lower_tail
+from caseload.core.distributions import SUPPORT_SCALES, _lower, _tail, day_masses
 from caseload.core.model import observations
 from caseload.core.prediction import _joint, _marginal, predictive
 from caseload.application.context import Context
@@ -59,6 +59,11 @@ def test_refresh_all_stores_what_each_patient_computes_alone(charted):
         assert snapshots[patient.id].phase == alone.phase
         assert snapshots[patient.id].cycle_start == alone.cycle_start
         assert snapshots[patient.id].fertile_window == (alone.prediction.fertile_window if alone.prediction else None)
+
+
+def t_lower_tail(z: float, dof: float) -> float:
+    """P(T <= z) from the same tail function day_masses uses, so the two can agree to the last bit."""
+    return _lower(z, _tail(z, dof))
 
 
 def _plain_masses(centre: float, scale: float, dof: float, first_day: int) -> tuple[int, tuple[float, ...]]:

@@ -31,7 +31,7 @@ from caseload.core.alerts.cycle import (
     short_luteal_phase,
 )
 from caseload.core.alerts.readings import fever, logging_gap
-from caseload.core.alerts.thermal import monophasic_cycle, no_thermal_shift, sustained_high_temps
+from caseload.core.alerts.thermal_alerts import monophasic_cycle, no_thermal_shift, sustained_high_temps
 from caseload.core.alerts.treatment import hcg_rise_low, multiple_follicles
 from caseload.core.alerts.window import window_approaching, window_open
 from caseload.core.analysis import Analysis

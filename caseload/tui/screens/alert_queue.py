@@ -12,9 +12,9 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from caseload.core.model import Alert
-from caseload.tui.alert_actions import start_handling
+from caseload.tui.handle_alert import start_handling
 from caseload.tui.screens.record import RecordScreen
-from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
 

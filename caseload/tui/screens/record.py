@@ -12,11 +12,11 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
 from caseload.application.caseload_view import PatientRecord
-from caseload.tui.alert_actions import start_handling
+from caseload.tui.handle_alert import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
-from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel

@@ -8,7 +8,7 @@ from textual.message import Message
 from textual.widgets import DataTable
 
 from caseload.core.model import Alert, Severity
-from caseload.tui.alert_support import may_handle
+from caseload.tui.handle_alert import may_handle
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.days import short_day
 from caseload.tui.rich_text import literal

@@ -1,16 +1,27 @@
-"""Acknowledging, snoozing and resolving an alert from any screen that lists alerts."""
+"""Handling an alert from any screen that lists alerts: who is offered what, then the note dialog
+and the Clinic call (which checks the permission again)."""
 
 from __future__ import annotations
 
 from textual.screen import Screen
 
+from caseload.application.alert_handling import is_clinical
+from caseload.application.clinic import Clinic
 from caseload.core.model import Alert
-from caseload.tui.alert_support import note_required
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
 from caseload.presentation.glossary import alert_label
 from caseload.tui.writes import write
 
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
+
+
+def may_handle(clinic: Clinic, alert: Alert) -> bool:
+    """Clinical alerts need a clinical role; routine ones anyone may handle."""
+    return clinic.may("alert.handle" if is_clinical(alert.kind) else "alert.handle-routine")
+
+
+def note_required(alert: Alert) -> bool:
+    return is_clinical(alert.kind)
 
 
 def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
