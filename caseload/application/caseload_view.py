@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 
 from caseload.core.alerts.lifecycle import effective
@@ -10,7 +10,7 @@ from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
-from caseload.application.recompute import analyse_patient
+from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
 
 NO_ALERT_RANK = 9
@@ -77,6 +77,14 @@ class PatientRecord:
     analysis: Analysis
     alerts: tuple[Alert, ...]
     entries: tuple[Entry, ...]
+
+
+def row_after(line: CaseloadLine, done: Refreshed, today: date) -> CaseloadLine:
+    """A patient's list row after a save, from the snapshot and alerts the save returned: no read."""
+    snap, raised = done.snapshot, {a.id: a for a in done.raised}
+    alerts = [a for a in line.alerts if a.id not in raised] + list(raised.values())
+    return replace(line, snapshot=snap, cycle_day=snap.cycle_day(today), alerts=pressing_first(alerts),
+                   days_since_entry=snap.days_since_entry(today))
 
 
 def show_patient(ctx: Context, patient_id: str) -> PatientRecord:

@@ -296,6 +296,13 @@ class Clinic:
     def morning_list(self) -> list[CaseloadLine]:
         return self._read(caseload_view.list_caseload)
 
+    def list_after(self, lines: tuple[CaseloadLine, ...], done: Logged) -> tuple[CaseloadLine, ...]:
+        """The morning list after a save, with the saved patient's row rebuilt from what the save
+        returned, in triage order again; no store read."""
+        changed = [caseload_view.row_after(line, done.refreshed, self.as_of) if line.patient.id == done.entry.patient_id
+                   else line for line in lines]
+        return tuple(sorted(changed, key=CaseloadLine.sort_key))
+
     def patient_record(self, patient_id: str) -> PatientRecord:
         return self._read(caseload_view.show_patient, patient_id)
 

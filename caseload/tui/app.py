@@ -1,8 +1,8 @@
 """The application: one factory, `make_app`, used by the command line and by the tests.
 
-Every store call runs in a thread worker started by `CaseloadApp.store_job`; its result comes back
-to the asking screen as a typed Message, and any failure reaches one handler that turns it into a
-one-line notification (never a traceback).
+Every call to the Clinic runs in a Textual thread worker (`@work`) of the screen that asks; its result
+comes back as a typed Message, and a failure becomes a one-line notification (never a traceback).
+Saves run in the app's `save` worker; `Saved` then updates the changed row and tells every screen.
 """
 
 from __future__ import annotations
@@ -10,27 +10,27 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+from textual import work
 from textual.app import App
 from textual.binding import Binding
-from textual.message import Message
-from textual.message_pump import MessagePump
 from textual.reactive import reactive
 from textual.widgets import Input
-from textual.worker import Worker, WorkerState
 
 from caseload.application.caseload_view import CaseloadLine
-from caseload.application.clinic import Clinic, plain_reason
+from caseload.application.clinic import Clinic
+from caseload.application.entries import Logged
 from caseload.core.model import Role, Severity
 from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.sign_in import SignInScreen
 from caseload.tui.themes import DEFAULT_THEME, THEMES
-from caseload.tui.writes import Written
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.saving import Saved, StoreChanged
 
 REFRESH_SECONDS = 5.0
 
 
-class CaseloadApp(App):
+class CaseloadApp(ClinicWork, App):
     """The caseload interface over one Clinic: one store, one staff member, one day."""
 
     TITLE = "caseload"
@@ -51,7 +51,6 @@ class CaseloadApp(App):
         super().__init__()
         self.clinic = clinic
         self.refresh_seconds = refresh_seconds
-        self._refusals: dict[Worker, tuple[MessagePump, Callable[[str], Message]]] = {}
 
     def on_mount(self) -> None:
         for theme in THEMES:
@@ -88,51 +87,20 @@ class CaseloadApp(App):
             Severity.INFO: "dim",
         }[severity]
 
-    def store_job(
-        self,
-        target: MessagePump,
-        use_case: Callable[..., Any],
-        *args,
-        reply: Callable[[Any], Message] | None = None,
-        refusal: Callable[[str], Message] | None = None,
-        **kwargs,
-    ) -> Worker:
-        """Run a Clinic method `use_case(*args)` in a thread; post `reply(result)` to `target` when done.
+    @work(**STORE_WORK, name="save")
+    def save(self, call: Callable[..., Any], *args, summary: Callable[[Any], str | None]) -> None:
+        """Run a writing Clinic call; when done the app gets `Saved` with `summary(result)`."""
+        result = call(*args)
+        self.post_message(Saved(summary(result), result))
 
-        On failure the one handler below notifies the reason and, if given, posts `refusal(reason)`.
-        """
-
-        def job() -> None:
-            result = use_case(*args, **kwargs)
-            if reply is not None:
-                target.post_message(reply(result))
-
-        worker = self.run_worker(job, thread=True, group="store", exit_on_error=False, description=use_case.__name__)
-        if refusal is not None:
-            self._refusals[worker] = (target, refusal)
-        return worker
-
-    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
-        worker = event.worker
-        if event.state is WorkerState.ERROR:
-            reason = plain_reason(worker.error)
-            self.notify(reason, title="Not done", severity="error", markup=False, timeout=8)
-            if worker in self._refusals:
-                target, refusal = self._refusals[worker]
-                target.post_message(refusal(reason))
-        if event.state in (WorkerState.SUCCESS, WorkerState.ERROR, WorkerState.CANCELLED):
-            self._refusals.pop(worker, None)
-
-    def on_written(self, message: Written) -> None:
-        self.notify(message.summary, markup=False)
-        self.store_changed()
-
-    def store_changed(self) -> None:
-        """After a write: every screen that shows store data reads it again."""
+    def on_saved(self, message: Saved) -> None:
+        if message.summary:
+            self.notify(message.summary, markup=False)
+        row_updated = isinstance(message.result, Logged)
+        if row_updated:
+            self.roster = self.clinic.list_after(self.roster, message.result)
         for screen in self.screen_stack:
-            reload = getattr(screen, "reload", None)
-            if reload is not None:
-                reload()
+            screen.post_message(StoreChanged(row_updated))
 
     # --- actions
 

@@ -10,7 +10,6 @@ from caseload.application.clinic import Clinic
 from caseload.core.model import Alert
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
 from caseload.presentation.glossary import alert_label
-from caseload.tui.writes import write
 
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
 
@@ -34,10 +33,10 @@ def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
             return f"{PAST[verb]} #{handled.id} {alert_label(handled.kind)} for {handled.patient_id}."
 
         if verb == "snooze":
-            write(screen, clinic.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
+            screen.app.save(clinic.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)
         else:
             handle = {"acknowledge": clinic.acknowledge, "resolve": clinic.resolve}[verb]
-            write(screen, handle, alert.id, answer.note, summary=summary)
+            screen.app.save(handle, alert.id, answer.note, summary=summary)
 
     clinic = screen.app.clinic
     dialog = NoteDialog(alert, verb, clinic.as_of, note_required(alert))

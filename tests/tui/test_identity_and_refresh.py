@@ -80,6 +80,6 @@ async def test_worker_errors_become_one_line_notifications(app_as):
     app = app_as("ada")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        app.store_job(app, broken)
+        app.save(broken, summary=str)
         await settle(pilot)
         assert [n.message for n in app._notifications][-1] == "nurse1 may not do that: it needs supervisor"

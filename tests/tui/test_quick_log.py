@@ -142,3 +142,19 @@ async def test_keys_arriving_in_one_burst_land_in_their_fields(app_as, service_c
         assert kinds == ["bleed", "temp"]
         assert temps_today(check, "P0004")[0].value.number == 36.55
         assert app.screen.query_one("#kind").value == ""
+
+
+async def test_a_save_updates_its_row_from_the_returned_snapshot_without_reading_the_list(app_as):
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        reads = []
+        list_once = app.clinic.morning_list
+        app.clinic.morning_list = lambda: reads.append(1) or list_once()
+        await pilot.press("l", *"noor", "enter", "b", "enter", *"heavy", "enter")
+        await settle(pilot)
+        assert reads == []  # the save's own snapshot rebuilt the row
+        (row,) = [line for line in app.roster if line.patient.id == "P0004"]
+        # A heavy bleed logged today starts a new cycle: today is cycle day 1 (day 1 = first day of flow).
+        assert row.cycle_day == 1 and row.days_since_entry == 0
+        assert row.snapshot.computed_on == TODAY

@@ -8,17 +8,19 @@ today, the morning refresh runs in a worker and the list is read again after it.
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.caseload_view import CaseloadLine
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.saving import StoreChanged
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
@@ -41,7 +43,7 @@ def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple
     return tuple(out)
 
 
-class CaseloadScreen(Screen):
+class CaseloadScreen(ClinicWork, Screen):
     """Who needs attention today, and why."""
 
     CSS_PATH = "caseload.tcss"
@@ -100,7 +102,26 @@ class CaseloadScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, self.app.clinic.morning_list, reply=self.Loaded, refusal=self.LoadFailed)
+        self._load()
+
+    @work(**STORE_WORK, name="load")
+    def _load(self) -> None:
+        self.post_message(self.Loaded(self.app.clinic.morning_list()))
+
+    @work(**STORE_WORK, name="refresh")
+    def _morning_refresh(self) -> None:
+        self.post_message(self.Refreshed(self.app.clinic.refresh()))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        if name == "load":
+            self.post_message(self.LoadFailed(reason))
+
+    def on_store_changed(self, message: StoreChanged) -> None:
+        """After a save: the list already holds a logged entry's row; anything else is read again."""
+        if message.row_updated:
+            self._show()
+        else:
+            self.reload()
 
     def on_caseload_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
@@ -113,7 +134,7 @@ class CaseloadScreen(Screen):
             self._refresh_checked = True
             if self.app.clinic.morning_refresh_due(message.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
-                self.app.store_job(self, self.app.clinic.refresh, reply=self.Refreshed)
+                self._morning_refresh()
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False

@@ -8,7 +8,7 @@ dialog stays open after a save, so a caller's temperature and bleed go in one af
 from __future__ import annotations
 
 from rich.text import Text
-from textual import events, on
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -17,6 +17,7 @@ from textual.screen import ModalScreen
 from textual.suggester import Suggester
 from textual.widgets import Footer, Input, Label, Static
 
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.core.model import Kind
 from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_entry
 from caseload.application.clinic import SameDayReading
@@ -27,7 +28,7 @@ from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.presentation.glossary import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, match_kind
 from caseload.presentation.days import short_day
 from caseload.tui.rich_text import literal
-from caseload.tui.writes import logged_summary
+from caseload.tui.saving import Saved, logged_summary
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
@@ -40,7 +41,7 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-class QuickLogScreen(ModalScreen[None]):
+class QuickLogScreen(ClinicWork, ModalScreen[None]):
     """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
 
     CSS_PATH = "quick_log.tcss"
@@ -196,11 +197,19 @@ class QuickLogScreen(ModalScreen[None]):
         self._saving = True
         self._typed_from = field
         result.update(Text("Saving…", style="dim"))
-        self.app.store_job(
-            self, self.app.clinic.log_call, picker.patient.id, parsed.kind, self._text("value"),
-            self._text("day") or "today", self._text("time").strip() or None, self._text("flags"), self._text("note"),
-            reply=self.Done, refusal=self.Refused,
-        )
+        self._log_call(picker.patient.id, parsed.kind, self._text("value"), self._text("day") or "today",
+                       self._text("time").strip() or None, self._text("flags"), self._text("note"))
+
+    @work(**STORE_WORK, name="save")
+    def _log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str) -> None:
+        self.post_message(self.Done(self.app.clinic.log_call(patient_id, kind, value, on, at, flags, note)))
+
+    @work(**STORE_WORK, name="save")
+    def _amend(self, entry_id: int, value: str, reason: str) -> None:
+        self.post_message(self.Done(self.app.clinic.amend(entry_id, value, reason)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(self.Refused(reason))
 
     def _finish_typing(self, next_field: str | None) -> None:
         """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped."""
@@ -229,7 +238,7 @@ class QuickLogScreen(ModalScreen[None]):
         for field in ("kind", "value", "time", "flags", "note"):
             self.query_one(f"#{field}", Input).value = ""
         self._finish_typing("kind")
-        self.app.store_changed()
+        self.app.post_message(Saved(None, outcome))
 
     def _same_day(self, found: SameDayReading) -> None:
         e = found.existing
@@ -243,8 +252,7 @@ class QuickLogScreen(ModalScreen[None]):
                 self.query_one("#result", Static).update(Text(f"Not saved: {line}, kept as it is."))
                 return
             self._saving = True
-            self.app.store_job(self, self.app.clinic.amend, e.id, correction.value, correction.reason,
-                               reply=self.Done, refusal=self.Refused)
+            self._amend(e.id, correction.value, correction.reason)
 
         dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?")
         self.app.push_screen(dialog, replace)

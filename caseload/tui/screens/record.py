@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
@@ -11,12 +11,14 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.caseload_view import PatientRecord
 from caseload.tui.handle_alert import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
 from caseload.tui.widgets.alert_list import AlertTable
+from caseload.tui.saving import StoreChanged
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
@@ -31,7 +33,7 @@ TAB_FOCUS = {"cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "
 CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
 
 
-class RecordScreen(Screen):
+class RecordScreen(ClinicWork, Screen):
     """Opened from the list or the alert queue; `alert_id` opens the alerts tab with that alert in view."""
 
     CSS_PATH = "record.tcss"
@@ -101,7 +103,17 @@ class RecordScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, self.app.clinic.patient_record, self.patient_id, reply=self.Loaded, refusal=self.LoadFailed)
+        self._load()
+
+    @work(**STORE_WORK, name="load")
+    def _load(self) -> None:
+        self.post_message(self.Loaded(self.app.clinic.patient_record(self.patient_id)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(self.LoadFailed(reason))
+
+    def on_store_changed(self, message: StoreChanged) -> None:
+        self.reload()
 
     def on_record_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False

@@ -1,44 +1,37 @@
-"""Changes made from the interface: each runs in a worker, then one message tells the app it is done.
+"""Changes saved from the interface, and what the app tells its screens afterwards.
 
-The app answers a `Written` by showing its summary and letting every open screen read again.
+A save runs in the app's worker (`CaseloadApp.save`); when it is done the app gets `Saved`, shows
+its summary, updates the one list row the save changed from the snapshot it returned, and sends
+`StoreChanged` to every open screen, which reads again what it shows.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from typing import Any
 
 from textual.message import Message
-from textual.screen import Screen
 
-from caseload.core.model import Kind
 from caseload.application.entries import Logged
+from caseload.core.model import Kind
 from caseload.presentation.glossary import refreshed_line
 from caseload.presentation.safe_text import printable
 
 
-class Written(Message):
-    """A change was saved; `summary` is the one line to show."""
+class Saved(Message):
+    """A change was saved; `summary` is the one line to show (None: the screen that saved shows it)."""
 
-    def __init__(self, summary: str, result: Any = None) -> None:
+    def __init__(self, summary: str | None, result: Any = None) -> None:
         super().__init__()
         self.summary = summary
         self.result = result
 
 
-def write(
-    screen: Screen,
-    use_case: Callable[..., Any],
-    *args,
-    summary: Callable[[Any], str],
-    refusal: Callable[[str], Message] | None = None,
-    **kwargs,
-):
-    """Run a writing use case; when done the app gets a `Written` with `summary(result)`."""
-    app = screen.app
-    return app.store_job(
-        app, use_case, *args, reply=lambda result: Written(summary(result), result), refusal=refusal, **kwargs
-    )
+class StoreChanged(Message):
+    """The store changed; `row_updated` says the caseload list already holds the change."""
+
+    def __init__(self, row_updated: bool) -> None:
+        super().__init__()
+        self.row_updated = row_updated
 
 
 def _state_after(done: Logged) -> str:
