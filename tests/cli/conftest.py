@@ -8,6 +8,7 @@ import pytest
 from click.testing import CliRunner
 
 from caseload.cli import main
+from tests.application.week.conftest import fresh_clinic  # noqa: F401 - the summary command's clinic
 
 TODAY = "2026-12-01"
 DATE_OF_RECORD = date(2026, 12, 1)

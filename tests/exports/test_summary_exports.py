@@ -16,8 +16,8 @@ from openpyxl.utils import get_column_letter
 from caseload.exports.summary_files import write
 from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
 from caseload.application.weekly_summary import compute_summary, export_summary
-from tests.reports.conftest import W43
-from tests.reports.expected import KEYS, w43
+from tests.application.week.conftest import W43
+from tests.application.week.expected import KEYS, w43
 
 FORMATS = {"xlsx": "week.xlsx", "html": "week.html", "csv": "week-csv", "json": "week.json"}
 

@@ -11,8 +11,8 @@ from dateutil.relativedelta import relativedelta
 from caseload.application.week.alert_counts import percentile
 from caseload.exports.summary_tables import INT, sections
 from caseload.application.weekly_summary import compute_summary
-from tests.reports.conftest import W43, W44
-from tests.reports.expected import KEYS, w43
+from tests.application.week.conftest import W43, W44
+from tests.application.week.expected import KEYS, w43
 
 TABLES = KEYS
 

@@ -14,7 +14,7 @@ from caseload.core.model import MUCUS_SCALE, Flow, Kind, PatientStatus, Plan, Ro
 from caseload.core.parse import parse_entry
 from tools.sim.demo_caseload import ALERT_KINDS
 from tools.sim.write_seed import DEFAULT_DIR, main, write_seed
-from tests.sim.chart_rules import (
+from tests.tools.sim.chart_rules import (
     bleed_lengths,
     bleed_starts,
     celsius,

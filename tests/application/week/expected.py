@@ -9,7 +9,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from datetime import date, datetime
 
-from tests.reports.conftest import LONDON, PATIENTS
+from tests.application.week.conftest import LONDON, PATIENTS
 
 
 def name(pid: str) -> str:

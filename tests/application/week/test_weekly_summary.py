@@ -17,7 +17,7 @@ from caseload.core.parse import InputError
 from caseload.exports import summary_files as render
 from caseload.application.errors import Refused
 from caseload.application.weekly_summary import compute_summary, export_summary, pseudonym
-from tests.reports.conftest import PATIENTS, W43, W44
+from tests.application.week.conftest import PATIENTS, W43, W44
 
 OUT = {"xlsx": "s.xlsx", "html": "s.html", "json": "s.json", "csv": "s-csv"}
 
