@@ -162,58 +162,59 @@ class Database:
     @contextmanager
     def atomic(self, day_of_record: date | None = None, attempts: int = 6) -> Iterator[sqlite3.Connection]:
         """One transaction that nests. The outermost takes the write lock (BEGIN IMMEDIATE), waiting
-        with a bounded retry while other writers hold it; an inner one is a savepoint, rolled back
-        alone when it fails. `day_of_record` is the clinic day the outermost one's audit rows record."""
-        if self.conn.in_transaction:
-            self._savepoints += 1
-            name = f"nested_{self._savepoints}"
-            self.conn.execute(f"SAVEPOINT {name}")
-            try:
+        with a bounded retry while other writers hold it; once taken the lock is held to COMMIT. An
+        inner one is a savepoint, rolled back alone when it fails. `day_of_record` is the clinic day
+        the outermost one's audit rows record."""
+        if not self.conn.in_transaction:
+            self._retry_on_lock(lambda: self.conn.execute("BEGIN IMMEDIATE"), attempts)
+            with self._begun(day_of_record):
                 yield self.conn
-            except BaseException:
-                self.conn.execute(f"ROLLBACK TO {name}")
-                self.conn.execute(f"RELEASE {name}")
-                raise
-            else:
-                self.conn.execute(f"RELEASE {name}")
-            finally:
-                self._savepoints -= 1
             return
-        self._begin(attempts)
+        self._savepoints += 1
+        name = f"nested_{self._savepoints}"
+        self.conn.execute(f"SAVEPOINT {name}")
+        try:
+            yield self.conn
+        except BaseException:
+            self.conn.execute(f"ROLLBACK TO {name}")
+            self.conn.execute(f"RELEASE {name}")
+            raise
+        else:
+            self.conn.execute(f"RELEASE {name}")
+        finally:
+            self._savepoints -= 1
+
+    @contextmanager
+    def _begun(self, day_of_record: date | None) -> Iterator[None]:
+        """The transaction just begun: its day of record, then COMMIT, or ROLLBACK if the block raised."""
         self.day_of_record = day_of_record
         try:
             with self._open_transaction():
-                yield self.conn
+                yield
         finally:
             self.day_of_record = None
 
-    def _begin(self, attempts: int) -> None:
-        """BEGIN IMMEDIATE, retried while another writer holds the lock past the busy timeout. Once it
-        succeeds the lock is held to COMMIT, so nothing later in the transaction waits on a writer."""
-        for attempt in range(1, attempts + 1):
-            try:
-                self.conn.execute("BEGIN IMMEDIATE")
-                return
-            except sqlite3.OperationalError as err:
-                if not _is_lock_error(err):
-                    raise
-                if attempt == attempts:
-                    raise StoreError(
-                        f"the store stayed locked by other writers ({err}): nothing was written, try again"
-                    ) from None
-                time.sleep(0.05 * 2**attempt)
-
     def transact(self, work: Callable[[], T], day_of_record: date | None = None, attempts: int = 6) -> T:
-        """Run `work` as one unit in atomic(), rerunning the whole of it while another writer holds the
+        """Run `work` as one transaction, rerunning the whole of it while another writer holds the
         lock past the busy timeout (a lock can also bite at COMMIT outside WAL mode). Inside a
         transaction already open it is one savepoint, and the outermost unit retries."""
         if self.conn.in_transaction:
             with self.atomic():
                 return work()
+
+        def unit() -> T:
+            self.conn.execute("BEGIN IMMEDIATE")
+            with self._begun(day_of_record):
+                return work()
+
+        return self._retry_on_lock(unit, attempts)
+
+    def _retry_on_lock(self, step: Callable[[], T], attempts: int) -> T:
+        """`step()`, tried again with a growing pause while the file is locked by another writer; a
+        lock past every attempt is one line saying nothing was written. Anything else is raised at once."""
         for attempt in range(1, attempts + 1):
             try:
-                with self.atomic(day_of_record, attempts):
-                    return work()
+                return step()
             except sqlite3.OperationalError as err:
                 if not _is_lock_error(err):
                     raise
