@@ -39,7 +39,7 @@ def test_bulk_rows_and_audit_rows_are_those_of_single_row_writes(tmp_path):
         one.entries.add(nurse, "P1", FIXED, supersedes=first.id, amend_reason="keying slip")
         one.entries.add(nurse, "P1", SCAN)
 
-    one.transact(single)
+    one.transact(single, AT.date())  # the day of record bulk rows take from their time
     bulk.bulk.staff(admin, [NURSE])
     bulk.bulk.patients(admin, [PATIENT])
     first = bulk.bulk.next_entry_id()
