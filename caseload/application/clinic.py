@@ -30,7 +30,7 @@ from caseload.application.context import Context
 from caseload.application.csv_import import Imported
 from caseload.application.entries import Logged
 from caseload.application.errors import Refused
-from caseload.application.identity import os_account, resolve_actor
+from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.permissions import allowed
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.recompute import RefreshReport, refresh_all
@@ -57,13 +57,6 @@ class SameDayReading:
 
     existing: Entry
     value: str
-
-
-def not_mapped(account: str) -> Refused:
-    return Refused(
-        f"OS account '{account}' is not mapped to a staff member: ask an admin to run "
-        f"'caseload staff map STAFF {account}'"
-    )
 
 
 def plain_reason(error: BaseException) -> str:

@@ -68,14 +68,13 @@ class GlobalOptions:
     def as_of(self) -> date | None:
         return option_date(self.today_text, "--today")
 
-    def open_clinic(self, path: Path | None = None) -> Clinic:
+    def open_clinic(self) -> Clinic:
         """The Clinic on the store (opened once per command, closed when the command ends)."""
         if self.clinic is None:
-            path = path or self.path
-            if not path.exists():
-                raise Refused(f"no store at {path}: create one with 'caseload init --admin ID --name NAME'")
+            if not self.path.exists():
+                raise Refused(f"no store at {self.path}: create one with 'caseload init --admin ID --name NAME'")
             self.clinic = Clinic.open(
-                path, Identity.from_os(self.as_staff), as_of=self.as_of,
+                self.path, Identity.from_os(self.as_staff), as_of=self.as_of,
                 maintenance_date=option_date(self.maintenance_text, "--maintenance-date"),
                 date_of_record=self.date_of_record,
             )
