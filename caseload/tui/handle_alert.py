@@ -24,7 +24,7 @@ def note_required(alert: Alert) -> bool:
 
 
 def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
-    """Ask for the note, then run the service call in a worker."""
+    """Ask for the note, then run the Clinic call in the app's save worker."""
     def done(answer: HandleNote | None) -> None:
         if answer is None:
             return

@@ -1,4 +1,4 @@
-"""The morning list: one row per patient under care, in the triage order the service gives."""
+"""The morning list: one row per patient under care, in the triage order the Clinic gives."""
 
 from __future__ import annotations
 
