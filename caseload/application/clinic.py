@@ -216,7 +216,8 @@ class Clinic:
         with self.lock:
             if kind is Kind.TEMP:
                 ctx = self._writing("logging")
-                same = entries.same_day_temperature(ctx, patients.get_patient(ctx, patient_id).id, parse_day(on, ctx.today))
+                # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
+                same = entries.same_day_temperature(ctx, patient_id.strip(), parse_day(on, ctx.today))
                 if same is not None:
                     return SameDayReading(same, value)
             return self.log(patient_id, kind.value, value, on, at, flags, note)
