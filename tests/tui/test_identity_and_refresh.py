@@ -71,6 +71,7 @@ async def test_a_view_of_another_day_never_runs_the_morning_refresh(app_as):
             await settle(pilot, rounds=5)
             assert app.roster and all(line.snapshot.computed_on == TODAY for line in app.roster)
             assert not any(n.message.startswith("Morning refresh") for n in app._notifications)
+            assert "read-only view" in app.screen.query_one("#status").render().plain
 
 
 async def test_worker_errors_become_one_line_notifications(app_as):

@@ -33,6 +33,8 @@ class StatusLine(Static):
         actor = app.clinic.actor if app.clinic.signed_in else None
         today = app.clinic.as_of
         text = Text(f"{today.day} {today.strftime('%b %Y')}", style="bold")
+        if app.clinic.viewing_another_day:
+            text.append(" read-only view", style="reverse")
         if actor is not None:
             text.append(" ")
             text.append_text(literal(actor.staff.name[:NAME_WIDTH]))
