@@ -25,6 +25,7 @@ KIND_HELP = "KIND is one of: " + ", ".join(k.value for k in Kind) + "."
 @pass_session
 def init(session: Session, admin_id: str, name: str, timezone: str) -> None:
     """Create a new store with its first admin."""
+    staff.parse_timezone(timezone)  # refused before any file is made
     if session.path.exists() and session.path.stat().st_size:
         raise InputError(f"{session.path} exists already: choose another --db path")
     with session.open_store(create=True) as store:

@@ -25,6 +25,8 @@ class Protocol:
     figo_variation_mid: int = setting(7, "FIGO 2018 (Munro 2018), age 26-41", 3, 20, "normal shortest-to-longest variation (days) at 26-41")
     figo_prolonged_bleed_above: int = setting(8, "FIGO 2018 (Munro 2018)", 5, 14, "bleed length (days) above which flow is prolonged")
     bleed_merge_dry_days: int = setting(2, "common practice", 0, 5, "dry days allowed inside one bleed")
+    min_cycle_days: int = setting(10, "from memory", 5, 20, "days from one day 1 before a flow can start another cycle; sooner it is intermenstrual")
+    lochia_days: int = setting(42, "common practice (lochia lasts up to 6 weeks)", 7, 90, "days after a pregnancy ends in which bleeding is lochia, not a period")
 
     # --- population priors for prediction
     prior_cycle_mean: float = setting(28.9, "Fehring 2006", 21, 40, "population mean cycle length (days)")
@@ -59,6 +61,10 @@ class Protocol:
     hcg_pair_min_hours: int = setting(24, "common practice", 12, 48, "shortest gap (h) between two hCG values compared")
     hcg_pair_max_hours: int = setting(72, "common practice", 48, 168, "longest gap (h) between two hCG values compared")
     hcg_fit_days: int = setting(7, "common practice", 2, 14, "days of serum hCG values used by the log-linear fit")
+    hcg_baseline_iu_l: float = setting(5.0, "common practice (serum hCG under 5 IU/L is negative)", 1, 25, "serum hCG (IU/L) below which a pregnancy has ended")
+    trigger_hcg_days: int = setting(14, "common practice (exogenous hCG after a trigger)", 0, 21, "days after a trigger in which a positive hCG does not mark pregnancy")
+    intermenstrual_alert_days: int = setting(3, "common practice", 1, 14, "bleeding days between periods, in one cycle, that raise intermenstrual-bleeding")
+    intermenstrual_heavy_days: int = setting(1, "common practice", 1, 14, "heavy bleeding days between periods, in one cycle, that raise intermenstrual-bleeding")
     mature_follicle_mm: float = setting(14.0, "Evans 2020", 10, 20, "follicle diameter (mm) counted as mature")
     max_mature_follicles: int = setting(2, "Evans 2020 (under 40 years)", 1, 5, "mature follicles allowed before the multiple-follicles alert")
     trigger_follicle_mm: float = setting(18.0, "common practice", 14, 25, "lead follicle diameter (mm) at which a trigger is planned")

@@ -3,9 +3,10 @@
 from __future__ import annotations
 
 import secrets
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
 from caseload.core.model import Actor, Role, Staff
-from caseload.core.parse import parse_choice, parse_id, parse_name
+from caseload.core.parse import InputError, one_line, parse_choice, parse_id, parse_name
 from caseload.services.context import Context
 from caseload.services.errors import NotFound, Refused
 from caseload.store import Store
@@ -13,9 +14,22 @@ from caseload.store import Store
 DEFAULT_TIMEZONE = "Europe/London"
 
 
+def parse_timezone(text: str) -> str:
+    """An IANA time zone name the clock library knows, or an InputError naming what is accepted."""
+    name = (text or "").strip()
+    try:
+        ZoneInfo(name)
+    except (ZoneInfoNotFoundError, ValueError):
+        raise InputError(
+            f"time zone '{one_line(name)}' is unknown: give an IANA zone name such as Europe/London or America/New_York"
+        ) from None
+    return name
+
+
 def init_store(store: Store, admin_id: str, name: str, account: str, timezone: str = DEFAULT_TIMEZONE) -> Actor:
     """Make a new store's first admin, mapped to the OS account that runs it."""
     admin = Staff(parse_id(admin_id, "staff"), parse_name(name), Role.ADMIN, True, account)
+    timezone = parse_timezone(timezone)
     if store.staff.all():
         raise Refused(f"{store.path} is already set up: add staff with 'caseload staff add'")
     actor = Actor(admin, account)

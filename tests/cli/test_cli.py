@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import sqlite3
+from pathlib import Path
 
 import pytest
 
@@ -125,3 +126,17 @@ def test_list_backup_and_check(clinic, tmp_path):
     assert clinic("backup", str(tmp_path / "b.db")).exit_code == 0
     check = clinic("check")
     assert check.exit_code == 0 and "integrity: ok" in check.output and "audit id gaps: none" in check.output
+
+
+@pytest.mark.parametrize("zone", ["Mars/Base", "Europe/Londn", "", "../etc/passwd"])
+def test_init_refuses_an_unknown_time_zone(run, zone):
+    # IANA time zone database (tzdata): these names are not zones; nothing may be written.
+    result = run("init", "--admin", "ada", "--name", "Ada Admin", "--timezone", zone)
+    assert result.exit_code == 1
+    assert len(result.stderr.strip().splitlines()) == 1 and "time zone" in result.stderr
+    assert not Path(run.db).exists()
+
+
+def test_init_accepts_a_known_time_zone(run):
+    # IANA time zone database (tzdata): America/New_York is a zone.
+    assert run("init", "--admin", "ada", "--name", "Ada Admin", "--timezone", "America/New_York").exit_code == 0

@@ -6,9 +6,16 @@ import pytest
 from dateutil.relativedelta import relativedelta
 
 from caseload.core.model import Kind, Observation, Value
-from caseload.core.pregnancy import HcgValue, from_ovulation, hcg_trend, naegele, pregnancy
+from caseload.core.pregnancy import HcgValue, episodes, from_ovulation, hcg_trend, naegele, pregnancy
+from caseload.core.model import PatientStatus
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.settings import Protocol
+
+
+def pregnant(obs, lmp, ovulation, by_status, today, protocol=P, usual=None):
+    """The pregnancy as `analyse` builds it from the chart's latest episode."""
+    found, _ = episodes(obs, PatientStatus.ACTIVE, None, protocol)
+    return pregnancy(obs, lmp, ovulation, found[-1] if found else None, by_status, usual, (), today, protocol)
 
 
 @pytest.mark.parametrize(
@@ -86,26 +93,26 @@ def test_the_fit_needs_two_distinct_days_within_the_window():
 
 def test_sample_times_are_used_for_the_interval():
     obs = [serum(date(2024, 4, 1), 100.0, "08:00"), serum(date(2024, 4, 3), 153.0, "08:00")]
-    found = pregnancy(obs, date(2024, 3, 1), None, False, date(2024, 4, 3), P)
+    found = pregnant(obs, date(2024, 3, 1), None, False, date(2024, 4, 3), P)
     assert found.hcg_trend.rise_48h == pytest.approx(0.53, abs=1e-4)
 
 
 def test_pregnancy_is_present_on_a_positive_test_or_the_status():
     lmp, today = date(2024, 3, 1), date(2024, 4, 12)
-    assert pregnancy([serum(today, 20.0)], lmp, None, False, today, P) is None
+    assert pregnant([serum(today, 20.0)], lmp, None, False, today, P) is None
     # Common practice: serum hCG of 25 IU/L or more counts as positive.
-    found = pregnancy([serum(today, 25.0)], lmp, None, False, today, P)
+    found = pregnant([serum(today, 25.0)], lmp, None, False, today, P)
     assert found.positive_test == today and found.edd_method == "naegele"
     assert found.edd == date(2024, 12, 6)
     assert found.gestational_age_days == 42 and found.gestational_age == "6w0d"
     urine = Observation(today, Kind.HCG, Value(word="positive"))
-    assert pregnancy([urine], lmp, None, False, today, P) is not None
-    assert pregnancy([], lmp, None, True, today, P).positive_test is None
+    assert pregnant([urine], lmp, None, False, today, P) is not None
+    assert pregnant([], lmp, None, True, today, P).positive_test is None
 
 
 def test_a_dated_ovulation_dates_the_pregnancy():
     today = date(2024, 4, 12)
-    found = pregnancy([], date(2024, 3, 1), date(2024, 3, 18), True, today, P)
+    found = pregnant([], date(2024, 3, 1), date(2024, 3, 18), True, today, P)
     assert found.edd_method == "ovulation" and found.edd == date(2024, 3, 18) + timedelta(days=266)
     # Gestational age counts from two weeks before ovulation: 25 days + 14.
     assert found.gestational_age_days == 25 + 14
