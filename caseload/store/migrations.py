@@ -138,7 +138,12 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1]
+def _status_since(conn: sqlite3.Connection) -> None:
+    """The date of record of a patient's last status change: the day a pregnancy began or ended."""
+    conn.execute("ALTER TABLE patient ADD COLUMN status_since TEXT")
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _status_since]
 LATEST = len(MIGRATIONS)
 
 
