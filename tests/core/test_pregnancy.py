@@ -5,9 +5,9 @@ from datetime import date, datetime, timedelta
 import pytest
 from dateutil.relativedelta import relativedelta
 
-from caseload.core.model import Kind, Observation, Value
+from caseload.core.analysis import analyse, analysis_json
+from caseload.core.model import Kind, Observation, Patient, PatientStatus, Value
 from caseload.core.pregnancy import HcgValue, episodes, from_ovulation, hcg_trend, naegele, pregnancy
-from caseload.core.model import PatientStatus
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.settings import Protocol
 
@@ -116,3 +116,32 @@ def test_a_dated_ovulation_dates_the_pregnancy():
     assert found.edd_method == "ovulation" and found.edd == date(2024, 3, 18) + timedelta(days=266)
     # Gestational age counts from two weeks before ovulation: 25 days + 14.
     assert found.gestational_age_days == 25 + 14
+
+
+@pytest.mark.parametrize("usual, shift", [(32, 4), (35, 7), (24, -4), (28, 0)])
+def test_naegele_is_adjusted_for_the_usual_cycle_length_when_regular(usual, shift):
+    # Naegele's rule adjusted for cycle length, EDD = LMP + 280 + (usual - 28) (common practice):
+    # ovulation comes (usual - 28) days later than on day 14. Reference arithmetic: stdlib timedelta.
+    lmp, today = date(2024, 3, 1), date(2024, 4, 12)
+    urine = Observation(today, Kind.HCG, Value(word="positive"))
+    found = pregnant([urine], lmp, None, False, today, usual=usual)
+    assert found.edd == lmp + timedelta(days=280 + shift)
+    assert found.edd_method == ("naegele" if shift == 0 else "naegele-adjusted")
+    assert found.gestational_age_days == 42 - shift  # dated from the adjusted EDD
+
+
+@pytest.mark.parametrize("length, method", [(32, "naegele-adjusted"), (28, "naegele"), (None, "naegele")])
+def test_show_json_names_the_due_date_rule(length, method):
+    # Naegele's rule, adjusted only when cycles are regular (FIGO 2018 regularity); 6 cycles of
+    # 24-36 days vary by 12 days (irregular at 34), so the plain rule applies.
+    lengths = [length] * 6 if length else [24, 36, 26, 34, 28, 30]
+    start, obs = date(2024, 1, 1), []
+    for n in lengths:
+        obs.append(Observation(start, Kind.BLEED, Value(word="moderate")))
+        start += timedelta(days=n)
+    obs += [Observation(start, Kind.BLEED, Value(word="moderate")),
+            Observation(start + timedelta(days=30), Kind.HCG, Value(word="positive"))]
+    who = Patient("P1", "A", date(1990, 1, 1), None)
+    shown = analysis_json(analyse(who, obs, start + timedelta(days=31), P))["pregnancy"]
+    assert shown["edd_method"] == method
+    assert shown["edd"] == (start + timedelta(days=280 + ((length or 28) - 28))).isoformat()
