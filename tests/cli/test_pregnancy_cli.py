@@ -12,8 +12,10 @@ P0001,2026-10-03,bleed,light,
 P0001,2026-10-30,hcg,positive,
 P0001,2026-10-31,hcg,120,09:00
 P0001,2026-11-02,hcg,150,09:00
-P0001,2026-11-04,bleed,moderate,
-P0001,2026-11-05,bleed,moderate,
+"""
+BLEED = """patient,day,kind,value
+P0001,2026-11-04,bleed,moderate
+P0001,2026-11-05,bleed,moderate
 """
 
 
@@ -25,10 +27,14 @@ def alerts(clinic) -> dict[str, dict]:
 def test_bleeding_in_early_pregnancy_keeps_the_pregnancy_and_its_hcg_alert(clinic, tmp_path):
     # 120 -> 150 IU/L in 48 h is a 25% rise, under Barnhart 2004's 53%; the bleed two days later
     # is a bleed in pregnancy (common practice), not day 1 of a cycle.
-    chart = tmp_path / "chart.csv"
+    chart, bleed = tmp_path / "chart.csv", tmp_path / "bleed.csv"
     chart.write_text(CHART)
+    bleed.write_text(BLEED)
     assert clinic("import", str(chart)).exit_code == 0
+    slow = alerts(clinic)["hcg-rise-low"]
+    assert clinic("import", str(bleed)).exit_code == 0
     found = alerts(clinic)
+    assert found["hcg-rise-low"]["id"] == slow["id"]  # never auto-resolved by the bleed
     assert found["hcg-rise-low"]["state"] == "open" and found["hcg-rise-low"]["severity"] == "urgent"
     assert found["bleeding-in-pregnancy"]["severity"] == "urgent"
     shown = json.loads(clinic("show", "P0001", "--json").output)

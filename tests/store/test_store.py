@@ -138,3 +138,19 @@ def test_snapshots_can_be_read_for_some_patients_only(store, as_role, patient):
     assert set(store.state.all()) == {patient.id, other.id}
     assert set(store.state.all([other.id])) == {other.id}
     assert store.state.all([]) == {}
+
+
+def test_a_schema_1_patient_upgrades_with_no_status_date(tmp_path):
+    # The latest schema adds the date of record of a patient's last status change (when a
+    # pregnancy began or ended); rows from before it have none, and nothing else changes.
+    path = tmp_path / "v1.db"
+    conn = sqlite3.connect(path)
+    migrations.MIGRATIONS[0](conn)
+    conn.execute("INSERT INTO patient VALUES ('P0001', 'Pia Test', '1991-04-02', NULL, 'pregnant', 'natural', '2026-01-06', 1)")
+    conn.execute("PRAGMA user_version = 1")
+    conn.commit()
+    conn.close()
+    with Store(path) as s:
+        assert s.db.version == migrations.LATEST
+        old = s.patients.get("P0001")
+        assert old.status.value == "pregnant" and old.status_since is None and old.born == date(1991, 4, 2)
