@@ -81,14 +81,20 @@ def test_a_failed_transaction_writes_nothing(store, staffed, patient):
     assert (store.entries.count(), store.audit.count()) == (entries, audits)
 
 
-def test_older_schema_is_migrated_in_place_keeping_rows(tmp_path, monkeypatch):
-    path = tmp_path / "old.db"
+def schema_1_file(path, *rows: str):
+    """A store file at schema 1 holding `rows` (SQL inserts)."""
     conn = sqlite3.connect(path)
     migrations.MIGRATIONS[0](conn)
     conn.execute("PRAGMA user_version = 1")
-    conn.execute("INSERT INTO meta VALUES ('clinic', 'kept')")
+    for sql in rows:
+        conn.execute(sql)
     conn.commit()
     conn.close()
+    return path
+
+
+def test_older_schema_is_migrated_in_place_keeping_rows(tmp_path, monkeypatch):
+    path = schema_1_file(tmp_path / "old.db", "INSERT INTO meta VALUES ('clinic', 'kept')")
 
     def v2(c):
         c.execute("ALTER TABLE patient ADD COLUMN phone TEXT")
@@ -143,13 +149,10 @@ def test_snapshots_can_be_read_for_some_patients_only(store, as_role, patient):
 def test_a_schema_1_patient_upgrades_with_no_status_date(tmp_path):
     # The latest schema adds the date of record of a patient's last status change (when a
     # pregnancy began or ended); rows from before it have none, and nothing else changes.
-    path = tmp_path / "v1.db"
-    conn = sqlite3.connect(path)
-    migrations.MIGRATIONS[0](conn)
-    conn.execute("INSERT INTO patient VALUES ('P0001', 'Pia Test', '1991-04-02', NULL, 'pregnant', 'natural', '2026-01-06', 1)")
-    conn.execute("PRAGMA user_version = 1")
-    conn.commit()
-    conn.close()
+    path = schema_1_file(
+        tmp_path / "v1.db",
+        "INSERT INTO patient VALUES ('P0001', 'Pia Test', '1991-04-02', NULL, 'pregnant', 'natural', '2026-01-06', 1)",
+    )
     with Store(path) as s:
         assert s.db.version == migrations.LATEST
         old = s.patients.get("P0001")
