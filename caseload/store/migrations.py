@@ -139,8 +139,20 @@ def _v1(conn: sqlite3.Connection) -> None:
 
 
 def _status_since(conn: sqlite3.Connection) -> None:
-    """The date of record of a patient's last status change: the day a pregnancy began or ended."""
-    conn.execute("ALTER TABLE patient ADD COLUMN status_since TEXT")
+    """The date of record of a patient's last status change: the day a pregnancy began or ended.
+    Filled from the audit for patients whose status was changed before this version."""
+    run_script(
+        conn,
+        """
+        ALTER TABLE patient ADD COLUMN status_since TEXT;
+        UPDATE patient SET status_since = (
+            SELECT substr(a.at, 1, 10) FROM audit a
+            WHERE a.tbl = 'patient' AND a.row_id = patient.id AND a.before IS NOT NULL
+              AND json_extract(a.before, '$.status') IS NOT json_extract(a.after, '$.status')
+            ORDER BY a.id DESC LIMIT 1
+        );
+        """,
+    )
 
 
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _status_since]
