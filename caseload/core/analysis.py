@@ -245,7 +245,7 @@ def _next_event(phase: str, forecast: Prediction | None, scans: Follicles | None
     """The earliest coming event worth planning for."""
     if phase == PREGNANT or forecast is None:
         return None
-    if today > forecast.next_period_range[1]:
+    if today > forecast.next_period_range[1] and phase != BLEEDING:  # a bleed that runs on is no missed period
         return NextEvent("pregnancy test", today)
     events = [NextEvent("period", forecast.next_period)]
     if forecast.fertile_window is not None and phase in (BLEEDING, PRE_WINDOW):

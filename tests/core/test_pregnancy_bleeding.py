@@ -193,8 +193,9 @@ def test_no_period_overdue_while_bleeding_prolonged_bleeding_instead(days):
     chart = Chart()
     current = chart.history([28] * 6, temps=False)
     chart.bleed(current, days)
-    _, found = run(chart, day(current, days))
+    analysis, found = run(chart, day(current, days))
     assert K.PERIOD_OVERDUE not in kinds(found) and K.PROLONGED_BLEEDING in kinds(found)
+    assert analysis.phase == "bleeding" and (analysis.next_event is None or analysis.next_event.label != "pregnancy test")
 
 
 @pytest.mark.parametrize(
