@@ -215,3 +215,43 @@ def test_intermenstrual_bleeding_over_the_protocol_thresholds(flow, days, raised
     analysis, found = run(chart, day(current, 14 + days))
     assert analysis.cycle_start == current
     assert (K.INTERMENSTRUAL_BLEEDING in kinds(found)) is raised
+
+
+# --- serial hCG: every value against the latest one 24 h or more before it (Barnhart 2004)
+
+
+def serial(*values: tuple[int, float]) -> tuple[Chart, date]:
+    """A positive urine test, then serum values at (hours after the first, IU/L)."""
+    chart = Chart()
+    current = chart.history([28] * 6)
+    chart.bleed(current)
+    first = at(day(current, 28))
+    chart.add(first.date(), Kind.HCG, Value(word="positive"))
+    for hours, iu_l in values:
+        chart.hcg(first + timedelta(hours=hours), iu_l)
+    return chart, (first + timedelta(hours=values[-1][0])).date()
+
+
+@pytest.mark.parametrize(
+    "series, pairs",
+    [
+        # A lab batch entered at once: 200 -> 230 (15% in 48 h) fails although 230 -> 460 doubles.
+        (((0, 200), (48, 230), (96, 460)), [(200, 230)]),
+        (((0, 200), (48, 460), (96, 530)), [(460, 530)]),
+        (((0, 100), (48, 160), (96, 260)), []),
+        (((0, 300), (48, 250), (96, 500)), [(300, 250)]),
+    ],
+)
+def test_a_series_raises_for_every_abnormal_consecutive_pair(series, pairs):
+    chart, today = serial(*series)
+    found = of(run(chart, today)[1], K.HCG_RISE_LOW)
+    assert sorted((c.evidence["first"]["iu_l"], c.evidence["second"]["iu_l"]) for c in found) == pairs
+    assert all(c.raisable and c.severity is Severity.URGENT for c in found)
+
+
+def test_values_under_24_h_apart_are_bridged_to_the_one_before():
+    # 100 at 0 h, 104 at 12 h (a repeat, not compared), 130 at 48 h: 130/100 over 48 h is 30%
+    # (under 53%, Barnhart 2004); 130/104 over 36 h would be 35% per 48 h, also low.
+    chart, today = serial((0, 100), (12, 104), (48, 130))
+    (alert,) = of(run(chart, today)[1], K.HCG_RISE_LOW)
+    assert alert.evidence["first"]["iu_l"] == 104 and alert.evidence["hours"] == 36.0
