@@ -105,6 +105,7 @@ class Clinic:
     def create(cls, path: str | Path, identity: Identity, admin_id: str, name: str, timezone: str,
                date_of_record: date | None = None) -> Actor:
         """Set up a new store at `path` with its first admin, mapped to the identity's OS account."""
+        staff.parse_timezone(timezone)  # refused before any file is made
         with Store(path) as store:
             return staff.init_store(store, admin_id, name, identity.account, timezone, date_of_record)
 

@@ -69,6 +69,9 @@ def update_patient(
         after = replace(after, plan=parse_choice(plan, Plan, "plan"))
     if status is not None:
         after = replace(after, status=parse_choice(status, PatientStatus, "status"))
+        if after.status is not before.status:
+            # The day a pregnancy begins or ends by the nurse's decision.
+            after = replace(after, status_since=ctx.today)
     if nurse is not None:
         after = replace(after, nurse_id=_nurse(ctx, nurse))
     if charting_temps is not None:

@@ -6,16 +6,27 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
-from datetime import date
+from datetime import date, timedelta
 
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
-from caseload.core.markers import Markers, luteal_length, markers
+from caseload.core.markers import Markers, days_after_ovulation, luteal_length, markers
 from caseload.core.model import Kind, Observation, Patient, PatientStatus
 from caseload.core.prediction import Evidence, Prediction, predict, predictive, watch_horizon
-from caseload.core.pregnancy import HcgTrend, HcgValue, Pregnancy, hcg_trend, pregnancy, serum_values
+from caseload.core.pregnancy import (
+    Discounted,
+    Episode,
+    HcgTrend,
+    HcgValue,
+    Pregnancy,
+    episodes,
+    hcg_trend,
+    pregnancy,
+    serum_values,
+)
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
 from caseload.core.thermal import ThermalShift, thermal_shift, valid_readings
@@ -43,6 +54,7 @@ class CycleRecord:
     shift: ThermalShift
     markers: Markers
     luteal_length: int | None  # complete cycles with a dated ovulation only
+    pregnancy: bool = False  # a pregnancy began in it: not a cycle for statistics or prediction
 
 
 @dataclass(frozen=True)
@@ -71,13 +83,19 @@ class Analysis:
     last_bleed_day: date | None  # last day of the latest menstrual bleed
     last_entry_day: date | None  # of any kind
     age_years: int
+    intermenstrual: tuple[cy.Bleed, ...] = ()  # bleeds between periods, flagged or too soon to start a cycle
+    episode: Episode | None = None  # the latest pregnancy while no period has followed it
+    pregnancy_bleeds: tuple[cy.Bleed, ...] = ()  # bleeds during `episode`
+    hcg_discounted: tuple[Discounted, ...] = ()  # positive urine tests taken as a trigger's hCG
 
 
-def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol) -> CycleRecord:
+def _record(
+    span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol, found: tuple[Episode, ...]
+) -> CycleRecord:
     temps = [o for o in group if o.kind == Kind.TEMP]
     signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
     shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
-    found = markers(signs, shift, protocol, retrospective=not span.is_open)
+    marks = markers(signs, shift, protocol, retrospective=not span.is_open)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -86,8 +104,9 @@ def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol:
         bleed_days=span.bleed.days,
         bleed_end=span.bleed.end,
         shift=shift,
-        markers=found,
-        luteal_length=luteal_length(found.ovulation, span.next_start),
+        markers=marks,
+        luteal_length=luteal_length(marks, span.next_start),
+        pregnancy=any(span.start <= e.start and (span.next_start is None or e.start < span.next_start) for e in found),
     )
 
 
@@ -96,20 +115,32 @@ def analyse(
 ) -> Analysis:
     """Everything the core can say about one patient as of `today`."""
     seen = sorted((o for o in observations if o.day <= today), key=lambda o: o.day)
-    spans = cy.cycle_spans(cy.menstrual_bleeds(seen, protocol))
+    found, discounted = episodes(seen, patient.status, patient.status_since, protocol)
+    lochia = timedelta(days=protocol.lochia_days)
+    bleeding = cy.sort_bleeding(seen, protocol, tuple((e.start, e.end and e.end + lochia) for e in found))
+    spans = cy.cycle_spans(list(bleeding.menstrual))
     groups = cy.group_by_cycle(seen, spans)
-    records = tuple(_record(span, group, today, protocol) for span, group in zip(spans, groups))
-    current = records[-1] if records else None
+    records = tuple(_record(span, group, today, protocol, found) for span, group in zip(spans, groups))
+    last = records[-1] if records else None
+    # The latest pregnancy counts until a period follows it: cycles restart with that period.
+    episode = found[-1] if found and (last is None or last.start <= found[-1].start) else None
+    ended = episode is not None and episode.end is not None
+    current = None if ended else last
     current_obs = groups[-1] if groups else seen
-    complete = [r for r in records if not r.is_open][-protocol.stats_cycles :]
+    complete = [r for r in records if not r.is_open and not r.pregnancy][-protocol.stats_cycles :]
     stats = cycle_stats([r.length for r in complete], [r.bleed_days for r in complete])
     age = age_on(patient.born, today)
-
+    during = () if episode is None else tuple(
+        b for b in bleeding.in_pregnancy if episode.start <= b.start and (episode.end is None or b.start <= episode.end)
+    )
     pregnant = pregnancy(
         current_obs,
-        current.start if current else None,
-        current.markers.ovulation if current else None,
-        patient.status == PatientStatus.PREGNANT,
+        last.start if last else None,
+        last.markers.ovulation if last else None,
+        episode,
+        patient.status == PatientStatus.PREGNANT and patient.status_since is None,
+        usual_cycle(stats, age, protocol),
+        during,
         today,
         protocol,
     )
@@ -141,7 +172,18 @@ def analyse(
         last_bleed_day=last_bleed,
         last_entry_day=seen[-1].day if seen else None,
         age_years=age,
+        intermenstrual=bleeding.intermenstrual,
+        episode=episode,
+        pregnancy_bleeds=during,
+        hcg_discounted=discounted,
     )
+
+
+def usual_cycle(stats: CycleStats, age: int, protocol: Protocol) -> int | None:
+    """The usual cycle length (the median) when cycles classify as regular (FIGO 2018), else None."""
+    if classify(stats, None, False, age, protocol).regularity != "regular":
+        return None
+    return math.floor(stats.median + 0.5)
 
 
 def _forecast(
@@ -150,7 +192,9 @@ def _forecast(
     # A "cycle" past the amenorrhoea threshold is an absence of bleeding, not a pattern to learn from
     # (and a mistyped year would otherwise stretch the forecast grid over decades).
     lengths = [r.length for r in complete if r.length < protocol.amenorrhoea_days]
-    luteals = [r.luteal_length for r in complete if r.luteal_length is not None]
+    # The model counts from the day after the estimated ovulation day, whatever dated it.
+    luteals = [days_after_ovulation(r.markers.ovulation, r.end + timedelta(days=1)) for r in complete]
+    luteals = [days for days in luteals if days is not None]
     cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
     luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)
 
@@ -201,7 +245,7 @@ def _next_event(phase: str, forecast: Prediction | None, scans: Follicles | None
     """The earliest coming event worth planning for."""
     if phase == PREGNANT or forecast is None:
         return None
-    if today > forecast.next_period_range[1]:
+    if today > forecast.next_period_range[1] and phase != BLEEDING:  # a bleed that runs on is no missed period
         return NextEvent("pregnancy test", today)
     events = [NextEvent("period", forecast.next_period)]
     if forecast.fertile_window is not None and phase in (BLEEDING, PRE_WINDOW):

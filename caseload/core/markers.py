@@ -87,9 +87,21 @@ def markers(
     return Markers(surge, peak, None if method is None else estimates[method], method)
 
 
-def luteal_length(ovulation: date | None, next_start: date | None) -> int | None:
-    """Days from the day after ovulation to the day before the next period (Lenton 1984)."""
+def days_after_ovulation(ovulation: date | None, next_start: date | None) -> int | None:
+    """Days from the day after the estimated ovulation day to the day before the next period:
+    the luteal length as the prediction's model counts it."""
     if ovulation is None or next_start is None:
         return None
     days = (next_start - ovulation).days - 1
     return days if days > 0 else None
+
+
+def luteal_length(found: Markers, next_start: date | None) -> int | None:
+    """Days from the luteal phase's first day to the day before the next period (Lenton 1984).
+
+    The phase begins the day after the event that dated ovulation: the day after the LH peak
+    when the surge dated it, as Lenton 1984 counted (with ovulation dated to the day after the
+    surge, that is the ovulation day itself), else the day after the estimated ovulation day.
+    """
+    dated_by = found.lh_surge if found.ovulation_method == "lh" else found.ovulation
+    return None if found.ovulation is None else days_after_ovulation(dated_by, next_start)

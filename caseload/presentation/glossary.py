@@ -60,6 +60,8 @@ ALERT_LABELS: dict[str, str] = {
     "multiple-follicles": "many follicles",
     "logging-gap": "no entries",
     "fever": "fever",
+    "intermenstrual-bleeding": "midcycle bleed",
+    "bleeding-in-pregnancy": "bleed in pregnancy",
 }
 
 

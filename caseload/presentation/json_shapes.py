@@ -10,6 +10,7 @@ from datetime import date
 from caseload.application.caseload_view import CaseloadLine, PatientRecord
 from caseload.application.alert_handling import is_clinical
 from caseload.core.analysis import Analysis
+from caseload.core.cycles import Bleed
 from caseload.core.follicles import Follicles
 from caseload.core.model import Alert, Entry
 from caseload.core.prediction import Prediction
@@ -165,7 +166,12 @@ def _pregnancy_json(p: Pregnancy) -> dict:
         "hcg_rise_48h": None if trend is None else trend.rise_48h,
         "hcg_doubling_days": None if trend is None else trend.doubling_days,
         "positive_test": _iso(p.positive_test),
+        "bleeds": [_bleed_json(b) for b in p.bleeds],
     }
+
+
+def _bleed_json(b: Bleed) -> dict:
+    return {"start": b.start.isoformat(), "end": b.end.isoformat(), "days": b.days, "heavy_days": b.heavy_days}
 
 
 def _follicles_json(f: Follicles) -> dict:
@@ -197,6 +203,7 @@ def analysis_json(a: Analysis) -> dict:
                 "ovulation_method": r.markers.ovulation_method,
                 "luteal_length": r.luteal_length,
                 "open": r.is_open,
+                "pregnancy": r.pregnancy,
             }
             for r in a.cycles
         ],
@@ -226,4 +233,17 @@ def analysis_json(a: Analysis) -> dict:
         "next_event": None
         if a.next_event is None
         else {"label": a.next_event.label, "day": a.next_event.day.isoformat()},
+        "intermenstrual": [_bleed_json(b) for b in a.intermenstrual],
+        "pregnancy_episode": None
+        if a.episode is None
+        else {"start": a.episode.start.isoformat(), "end": _iso(a.episode.end), "ended_by": a.episode.ended_by},
+        "hcg_discounted": [
+            {
+                "day": d.day.isoformat(),
+                "trigger": d.trigger_day.isoformat(),
+                "reason": f"positive urine hCG {(d.day - d.trigger_day).days} days after the trigger of "
+                f"{d.trigger_day.isoformat()}: taken as the injected hCG, not a pregnancy (common practice)",
+            }
+            for d in a.hcg_discounted
+        ],
     }

@@ -363,9 +363,34 @@ def test_hcg_pair_24_h_apart_is_scaled_to_48_h():
     assert alert.evidence["rise_48h"] == 0.44 and alert.evidence["hours"] == 24.0
 
 
-def test_hcg_pair_more_than_72_h_apart_is_not_compared():
-    chart, today, who = _hcg(100, 110, hours=96)
-    assert not of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+@pytest.mark.parametrize(
+    "hours, second, raised",
+    [
+        # Barnhart 2004: at least 24% in 1 day and 53% in 2 days. Other intervals scale log-linearly:
+        # a factor 1.53 ** (hours / 48), i.e. sqrt(1.53) = 1.237 a day (consistent with 24% in 1 day),
+        # 1.53 ** 1.5 = 1.8925 over 3 days and 1.53 ** 2 = 2.3409 over 4 days.
+        (24, 124, False),
+        (24, 123, True),
+        (72, 190, False),
+        (72, 189, True),
+        (96, 235, False),
+        (96, 234, True),
+        (96, 110, True),
+        (120, 290, False),  # 1.53 ** 2.5 = 2.896
+        (120, 289, True),
+    ],
+)
+def test_hcg_minimum_rise_is_scaled_to_any_interval_of_24_h_or_more(hours, second, raised):
+    chart, today, who = _hcg(100, second, hours=hours)
+    assert bool(of(run(chart, today, who)[1], K.HCG_RISE_LOW)) is raised
+
+
+@pytest.mark.parametrize("hours", [6, 30, 96, 144])
+def test_hcg_any_fall_is_urgent_whatever_the_gap(hours):
+    # Barnhart 2004: any fall of serum hCG in early pregnancy is abnormal (200 -> 120 over 96 h).
+    chart, today, who = _hcg(200, 120, hours=hours)
+    (alert,) = of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    assert alert.severity is Severity.URGENT and alert.evidence["rise_48h"] < 0
 
 
 def test_morse_minimum_as_a_clinic_setting():

@@ -6,7 +6,7 @@ import pytest
 
 from caseload.core.analysis import analyse
 from caseload.presentation.json_shapes import analysis_json
-from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
+from caseload.core.markers import Markers, luteal_length, lh_surge, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.thermal import thermal_shift, valid_readings
@@ -75,11 +75,36 @@ def test_order_of_trust_lh_then_shift_then_mucus():
     assert _markers([]).ovulation is None and _markers([]).ovulation_method is None
 
 
+def dated(ovulation: date | None, method: str | None, surge: date | None = None) -> Markers:
+    return Markers(surge, None, ovulation, method)
+
+
 def test_luteal_length_counts_from_the_day_after_ovulation_to_the_day_before_the_period():
     # Lenton 1984 convention: ovulation on day 14, next period on day 29 -> days 15..28 = 14.
-    assert luteal_length(on(14), on(29)) == 14
-    assert luteal_length(None, on(29)) is None
-    assert luteal_length(on(14), None) is None
+    assert luteal_length(dated(on(14), "shift"), on(29)) == 14
+    assert luteal_length(dated(None, None), on(29)) is None
+    assert luteal_length(dated(on(14), "shift"), None) is None
+
+
+@pytest.mark.parametrize(
+    "surge, next_period, days",
+    [
+        (date(2024, 6, 8), date(2024, 6, 20), 11),  # bleed 26 May, LH positive 8 Jun, bleed 20 Jun
+        (date(2024, 6, 7), date(2024, 6, 20), 12),
+        (date(2024, 6, 9), date(2024, 6, 20), 10),
+        (date(2024, 6, 8), date(2024, 6, 23), 14),
+    ],
+)
+def test_short_luteal_phase_counts_from_the_day_after_the_lh_peak(surge, next_period, days):
+    # Lenton 1984: the luteal phase runs from the day after the LH peak to the day before menses,
+    # so 8 Jun peak, 20 Jun period -> 9..19 Jun = 11 days (not 10), whatever the surge-to-ovulation lag.
+    chart = [
+        Observation(date(2024, 5, 26), Kind.BLEED, Value(word="moderate")),
+        Observation(surge, Kind.LH, Value(word="positive")),
+        Observation(next_period, Kind.BLEED, Value(word="moderate")),
+    ]
+    first = analyse(Patient("P1", "A", date(1990, 1, 1), None), chart, next_period + timedelta(days=1), P).cycles[0]
+    assert first.markers.ovulation == surge + timedelta(days=1) and first.luteal_length == days
 
 
 def temps(values: dict[int, float]) -> list[Observation]:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import os
 import sqlite3
 from datetime import date
@@ -111,3 +112,36 @@ def test_audit_rows_record_the_day_of_record_of_the_outermost_transaction(store,
             store.entries.add(staffed[Role.PHONE], patient.id, parse_entry("lh", "positive", day))
     assert store.audit.rows("entry.log")[-1].day_of_record == day.isoformat()
     assert store.db.day_of_record is None  # nothing left over for the next transaction
+
+def schema_1_file(path, *rows: str):
+    """A store file at schema 1 holding `rows` (SQL inserts)."""
+    conn = sqlite3.connect(path)
+    migrations.MIGRATIONS[0](conn)
+    conn.execute("PRAGMA user_version = 1")
+    for sql in rows:
+        conn.execute(sql)
+    conn.commit()
+    conn.close()
+    return path
+
+
+def test_a_schema_1_patient_upgrades_with_the_date_of_its_last_status_change(tmp_path):
+    # The latest schema adds the day of a patient's last status change (when a pregnancy began or
+    # ended), taken from the audit; a patient whose status never changed has none.
+    def change(at: str, patient: str, old: str, new: str) -> str:
+        before, after = json.dumps({"status": old}), json.dumps({"status": new})
+        return ("INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after) VALUES "
+                f"('{at}', 'nell', 'nell-os', 'patient.update', 'patient', '{patient}', '{before}', '{after}')")
+
+    path = schema_1_file(
+        tmp_path / "v1.db",
+        "INSERT INTO staff VALUES ('nell', 'Nell Nurse', 'nurse', 1, 'nell-os', '2026-01-01T09:00:00')",
+        "INSERT INTO patient VALUES ('P0001', 'Pia Test', '1991-04-02', NULL, 'pregnant', 'natural', '2026-01-06', 1)",
+        "INSERT INTO patient VALUES ('P0002', 'Pat Test', '1988-01-09', NULL, 'active', 'timed', '2026-01-07', 1)",
+        change("2026-03-02T10:00:00+00:00", "P0001", "active", "pregnant"),
+        change("2026-03-05T10:00:00+00:00", "P0001", "pregnant", "pregnant"),  # another field changed
+    )
+    with Store(path) as s:
+        assert s.db.version == migrations.LATEST
+        assert s.patients.get("P0001").status_since == date(2026, 3, 2)
+        assert s.patients.get("P0002").status_since is None and s.patients.get("P0002").born == date(1988, 1, 9)

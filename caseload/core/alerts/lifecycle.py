@@ -32,7 +32,7 @@ CURRENT_CYCLE_KINDS = frozenset(
     {
         AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN, AlertKind.NO_THERMAL_SHIFT, AlertKind.PERIOD_OVERDUE,
         AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP, AlertKind.HCG_RISE_LOW,
-        AlertKind.MULTIPLE_FOLLICLES,
+        AlertKind.MULTIPLE_FOLLICLES, AlertKind.BLEEDING_IN_PREGNANCY,
     }
 )  # fmt: skip
 

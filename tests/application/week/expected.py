@@ -52,7 +52,8 @@ def w43(ids: Mapping[str, int]) -> dict[tuple[str, str], tuple[list[tuple], tupl
             ("short-luteal-phase", 0, 0, 1, 0, 1), ("prolonged-bleeding", 0, 0, 0, 0, 0),
             ("period-overdue", 0, 0, 0, 0, 0), ("sustained-high-temps", 0, 1, 0, 0, 1), ("amenorrhoea", 0, 0, 0, 0, 0),
             ("hcg-rise-low", 1, 0, 0, 0, 1), ("multiple-follicles", 0, 0, 0, 0, 0), ("logging-gap", 0, 0, 0, 1, 1),
-            ("fever", 0, 0, 0, 0, 0)], ("total", 1, 2, 7, 1, 11)),
+            ("fever", 0, 0, 0, 0, 0), ("intermenstrual-bleeding", 0, 0, 0, 0, 0),
+            ("bleeding-in-pregnancy", 0, 0, 0, 0, 0)], ("total", 1, 2, 7, 1, 11)),
         # Acks: A1 A3 A5 A6 A7 A14 A15; snoozes A2 A16; resolves A5 A9 A12; auto A1; escalate A6;
         # reopen A12 (its snooze until 20 Oct came).
         ("alerts", "actions"): ([("raised", 11), ("acknowledged", 7), ("snoozed", 2), ("resolved", 3),

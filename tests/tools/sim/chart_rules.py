@@ -49,8 +49,11 @@ def celsius(raw: str) -> float:
 
 def bleed_starts(rows: list[Row]) -> list[int]:
     """Day 1 of each cycle: first day of light flow or more after 3+ days without flow
-    (flow days separated by at most 2 dry days are one bleed; spotting alone starts nothing)."""
-    flow_days = sorted({r.day for r in rows if r.kind == "bleed" and r.value != "spotting"})
+    (flow days separated by at most 2 dry days are one bleed; spotting alone starts nothing, nor
+    does a bleed flagged mid-cycle)."""
+    flow_days = sorted(
+        {r.day for r in rows if r.kind == "bleed" and r.value != "spotting" and "midcycle" not in r.flags}
+    )
     starts: list[int] = []
     last = None
     for day in flow_days:
