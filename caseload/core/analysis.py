@@ -18,7 +18,7 @@ from caseload.core.prediction import Evidence, Prediction, predict, predictive, 
 from caseload.core.pregnancy import HcgTrend, HcgValue, Pregnancy, hcg_trend, pregnancy, serum_values
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
-from caseload.core.thermal import ThermalShift, thermal_shift, valid_readings
+from caseload.core.thermal import ThermalShift, excluded_readings, thermal_shift, valid_readings
 
 # The caseload list's phase words.
 BLEEDING = "bleeding"
@@ -76,7 +76,8 @@ class Analysis:
 def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol) -> CycleRecord:
     temps = [o for o in group if o.kind == Kind.TEMP]
     signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
-    shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
+    readings, left_out = valid_readings(temps, protocol), excluded_readings(temps, protocol)
+    shift = thermal_shift(readings, span.start, span.end or today, protocol, left_out)
     found = markers(signs, shift, protocol, retrospective=not span.is_open)
     return CycleRecord(
         start=span.start,
@@ -158,7 +159,7 @@ def _forecast(
         return None if day is None else (day - current.start).days + 1
 
     shift = current.shift
-    readings = [cycle_day(r.day) for r in valid_readings(current_obs)]
+    readings = [cycle_day(r.day) for r in valid_readings(current_obs, protocol)]
     lh_tests = [cycle_day(o.day) for o in current_obs if o.kind == Kind.LH]
     evidence = Evidence(
         cycle_day=cycle_day(today),
@@ -241,6 +242,7 @@ def _shift_json(shift: ThermalShift) -> dict:
         "readings": shift.readings,
         "coverage": shift.coverage,
         "days_above_coverline": shift.days_above_coverline,
+        "excluded_readings": [{"day": e.day.isoformat(), "celsius": e.celsius, "reason": e.reason} for e in shift.excluded],
     }
 
 

@@ -19,6 +19,7 @@ ORDERED = (
     ("figo_frequent_below", "figo_infrequent_above"),
     ("hcg_pair_min_hours", "hcg_pair_max_hours"),
     ("mature_follicle_mm", "trigger_follicle_mm"),
+    ("shift_level_rise_c", "shift_quick_rise_c"),
 )
 FIELDS = {f.name: f for f in fields(Protocol)}
 

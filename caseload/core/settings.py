@@ -38,10 +38,14 @@ class Protocol:
     lh_positive_iu_l: float = setting(25.0, "common practice", 5, 100, "urinary LH (IU/L) counted as a positive test")
 
     # --- thermal shift
-    shift_low_days: int = setting(6, "three-over-six rule (Marquette NFP)", 3, 10, "readings the first high must exceed")
-    shift_rise_c: float = setting(0.2, "three-over-six rule (Marquette NFP)", 0.05, 0.6, "rise (C) of the first high over the low readings")
-    coverline_above_c: float = setting(0.1, "three-over-six rule (Marquette NFP)", 0.0, 0.5, "coverline height (C) above the highest low reading")
-    shift_confirm_readings: int = setting(3, "three-over-six rule (Marquette NFP)", 2, 5, "consecutive readings above the coverline that confirm")
+    shift_rule: int = setting(1, "Miolo 1993 (WHO multicentre study); Marshall 1968", 1, 2, "three-over-six form: 1 as published (three readings above the six before, one spike allowed), 2 coverline form (common practice)")
+    shift_low_days: int = setting(6, "three-over-six rule (Miolo 1993; Marshall 1968)", 3, 10, "readings the highs must exceed")
+    shift_spike_c: float = setting(0.2, "Miolo 1993 (WHO multicentre study)", 0.1, 0.6, "a low reading this far (C) above both neighbours is a spike, set aside once")
+    shift_quick_rise_c: float = setting(0.25, "common practice (simulated charts, README)", 0.05, 0.6, "published form: rise (C) of the mean of three highs over the six's that confirms on the third")
+    shift_level_rise_c: float = setting(0.2, "WHO Global Handbook (rise 0.2-0.5 C)", 0.05, 0.6, "published form: rise (C) of the mean of four highs over the six's that confirms on the fourth")
+    shift_rise_c: float = setting(0.2, "coverline form (common practice)", 0.05, 0.6, "coverline form: rise (C) of the first high over the low readings")
+    coverline_above_c: float = setting(0.1, "coverline form (common practice)", 0.0, 0.5, "coverline form: coverline height (C) above the highest low reading")
+    shift_confirm_readings: int = setting(3, "three-over-six rule (Miolo 1993; Marshall 1968)", 2, 5, "consecutive high readings that confirm")
     change_point_min_delta_c: float = setting(0.2, "WHO Global Handbook (rise 0.2-0.5 C)", 0.05, 0.6, "level difference (C) for a change point to count")
     change_point_min_strength: float = setting(2.0, "common practice", 0.5, 10, "level difference in noise SDs for a change point to count")
 

@@ -111,7 +111,7 @@ def test_every_plan_times_something_to_ovulation(plan):
     assert K.WINDOW_OPEN in kinds(run(chart, today, patient(plan=plan))[1])
 
 
-# --- no-thermal-shift (grace of 3 days and 70% coverage: common practice; three-over-six rule, Marquette NFP)
+# --- no-thermal-shift (grace of 3 days and 70% coverage: common practice; three-over-six rule, Miolo 1993; Marshall 1968)
 
 
 def test_no_thermal_shift_the_day_after_the_deadline():
@@ -187,10 +187,10 @@ def test_monophasic_cycle_near_miss_readings_on_19_of_28_days():
 
 
 def _uncertain(chart: Chart, start, until_cd: int) -> None:
-    """Low to day 14, then mostly high with every third reading back under the coverline: the
+    """Low to day 14, then mostly high with every third reading back to the low level: the
     three-over-six rule never sees three highs in a row, the change-point estimate sees the rise."""
     for cd in range(1, until_cd + 1):
-        chart.temp(day(start, cd), LOW if cd <= 14 else (LOW + 0.05 if (cd - 15) % 3 == 2 else HIGH))
+        chart.temp(day(start, cd), LOW if cd <= 14 or (cd - 15) % 3 == 2 else HIGH)
 
 
 def test_no_monophasic_cycle_when_the_change_point_sees_a_rise():

@@ -1,5 +1,6 @@
 """Ovulation markers: LH surge, mucus peak, the estimate's order of trust, luteal length."""
 
+from dataclasses import replace
 from datetime import date, timedelta
 
 import pytest
@@ -8,7 +9,8 @@ from caseload.core.analysis import analyse, analysis_json
 from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
-from caseload.core.thermal import thermal_shift, valid_readings
+from caseload.core.settings import Protocol
+from caseload.core.thermal import COVERLINE_FORM, thermal_shift, valid_readings
 
 DAY1 = date(2024, 5, 1)
 
@@ -56,9 +58,9 @@ def _shift_chart() -> list[Observation]:
     return [Observation(on(d), Kind.TEMP, Value(number=t)) for d, t in (lows | highs).items()]
 
 
-def _markers(obs: list[Observation], retrospective: bool = False):
-    shift = thermal_shift(valid_readings(obs), DAY1, on(20), P)
-    return markers(obs, shift, P, retrospective)
+def _markers(obs: list[Observation], retrospective: bool = False, protocol: Protocol = P):
+    shift = thermal_shift(valid_readings(obs, protocol), DAY1, on(20), protocol)
+    return markers(obs, shift, protocol, retrospective)
 
 
 def test_order_of_trust_lh_then_shift_then_mucus():
@@ -86,26 +88,27 @@ def temps(values: dict[int, float]) -> list[Observation]:
 
 
 LOW = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
-# A ramp the three-over-six rule never confirms; the change point's high level starts on day 16.
+# A ramp the coverline form never confirms; the change point's high level starts on day 16.
+COVER = replace(P, shift_rule=COVERLINE_FORM)
 RAMP = LOW | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70}
 
 
 def test_a_change_point_dates_a_completed_cycle_the_rule_did_not_confirm():
     peak = [mucus(13, "stretchy"), mucus(14, "sticky")]
-    done = _markers(temps(RAMP) + peak, retrospective=True)
+    done = _markers(temps(RAMP) + peak, retrospective=True, protocol=COVER)
     # The day before the first day of the rise, ahead of the mucus peak in the order of trust.
     assert (done.ovulation, done.ovulation_method) == (on(15), "change-point")
     # In the open cycle a later reading could still move the split: the mucus peak stands.
-    still_open = _markers(temps(RAMP) + peak)
+    still_open = _markers(temps(RAMP) + peak, protocol=COVER)
     assert (still_open.ovulation, still_open.ovulation_method) == (on(13), "mucus")
-    assert _markers(temps(RAMP), retrospective=False).ovulation is None
+    assert _markers(temps(RAMP), retrospective=False, protocol=COVER).ovulation is None
 
 
 def test_a_gradual_shift_dates_ovulation_from_the_first_day_of_the_rise():
     # Hilgers 1980: ovulation is dated from the first day of the rise, not from the rule's first
     # high (day 18 here); the level began to climb on day 16, so ovulation is put on day 15.
     gradual = LOW | {15: 36.58, 16: 36.66, 17: 36.70, 18: 36.92, 19: 36.90, 20: 36.92}
-    found = _markers(temps(gradual))
+    found = _markers(temps(gradual), protocol=COVER)
     assert (found.ovulation, found.ovulation_method) == (on(15), "shift")
 
 
@@ -134,7 +137,7 @@ def test_show_json_names_the_change_point_method():
     # "change-point" is an added ovulation_method word of the `show --json` contract.
     ramp = RAMP | {d: 36.72 for d in range(21, 29)}
     bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, 29)]
-    out = analysis_json(analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29)))
+    out = analysis_json(analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29), COVER))
     first = out["cycles"][0]
     assert (first["ovulation"], first["ovulation_method"]) == (on(15).isoformat(), "change-point")
     # Lenton 1984: days 16..28 are the luteal phase.

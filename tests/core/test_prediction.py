@@ -1,6 +1,7 @@
 """Prediction of ovulation, the fertile days and the next period."""
 
 import math
+from dataclasses import replace
 from datetime import date, timedelta
 
 import pytest
@@ -10,6 +11,7 @@ from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.prediction import Evidence, calendar_rule, predict, predictive
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.settings import Protocol
+from caseload.core.thermal import COVERLINE_FORM
 
 PATIENT = Patient("p", "Test Patient", date(1992, 4, 2), None)
 START = date(2024, 1, 1)
@@ -202,7 +204,8 @@ def _readings(start: date, values: dict[int, float]) -> list[Observation]:
 
 
 LOWS_TO_14 = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
-# A ramp the three-over-six rule never confirms; the change point's high level starts on day 16.
+# A ramp the coverline form never confirms; the change point's high level starts on day 16.
+COVER = replace(P, shift_rule=COVERLINE_FORM)
 RAMP = LOWS_TO_14 | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70, 21: 36.75}
 
 
@@ -210,21 +213,21 @@ def test_a_rise_only_the_change_point_sees_is_weaker_evidence_than_a_shift():
     # Hilgers 1980: ovulation from 6 days before to 3 days after the first day of the rise (day 16).
     # Unlike a confirmed shift the days after it are kept, but day 21 is past them all.
     obs, start, today = history([28] * 6, current_day=21)
-    p = analyse(PATIENT, obs + _readings(start, RAMP), today).prediction
+    p = analyse(PATIENT, obs + _readings(start, RAMP), today, COVER).prediction
     assert p.evidence == "change-point"
     days = [cycle_day(start, d) for d, m in p.ovulation_distribution if m > 0]
     assert (min(days), max(days)) == (16 - 6, 16 + 3)
     assert p.daily[0].p_fertile == 0.0
     # The same days with no rise leave ovulation ahead, and today possibly fertile.
     level = LOWS_TO_14 | {d: 36.45 for d in range(15, 22)}
-    flat = analyse(PATIENT, obs + _readings(start, level), today).prediction
+    flat = analyse(PATIENT, obs + _readings(start, level), today, COVER).prediction
     assert flat.evidence == "elapsed" and flat.daily[0].p_fertile > 0.1
 
 
 def test_a_change_point_needs_three_readings_at_the_high_level():
     obs, start, _ = history([28] * 6, current_day=17)
     early = {d: t for d, t in RAMP.items() if d <= 17}
-    p = analyse(PATIENT, obs + _readings(start, early), start + timedelta(days=16)).prediction
+    p = analyse(PATIENT, obs + _readings(start, early), start + timedelta(days=16), COVER).prediction
     assert p.evidence == "elapsed"
 
 
