@@ -12,9 +12,16 @@ from datetime import date
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
-from caseload.core.markers import Markers, luteal_length, markers
+from caseload.core.markers import Markers, dating_conflict, lh_positive, luteal_length, markers
 from caseload.core.model import Kind, Observation, Patient, PatientStatus
-from caseload.core.prediction import Evidence, Prediction, predict, predictive, watch_horizon
+from caseload.core.prediction import (
+    Evidence,
+    Prediction,
+    cycle_predictive,
+    luteal_predictive,
+    predict,
+    watch_horizon,
+)
 from caseload.core.pregnancy import HcgTrend, HcgValue, Pregnancy, hcg_trend, pregnancy, serum_values
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
@@ -43,6 +50,7 @@ class CycleRecord:
     shift: ThermalShift
     markers: Markers
     luteal_length: int | None  # complete cycles with a dated ovulation only
+    dating_conflict: str | None = None  # why the dated luteal length is not believed (shown, not learnt)
 
 
 @dataclass(frozen=True)
@@ -79,6 +87,7 @@ def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol:
     readings, left_out = valid_readings(temps, protocol), excluded_readings(temps, protocol)
     shift = thermal_shift(readings, span.start, span.end or today, protocol, left_out)
     found = markers(signs, shift, protocol, retrospective=not span.is_open)
+    luteal = luteal_length(found.ovulation, span.next_start)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -88,7 +97,8 @@ def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol:
         bleed_end=span.bleed.end,
         shift=shift,
         markers=found,
-        luteal_length=luteal_length(found.ovulation, span.next_start),
+        luteal_length=luteal,
+        dating_conflict=dating_conflict(luteal, found, protocol),
     )
 
 
@@ -151,22 +161,23 @@ def _forecast(
     # A "cycle" past the amenorrhoea threshold is an absence of bleeding, not a pattern to learn from
     # (and a mistyped year would otherwise stretch the forecast grid over decades).
     lengths = [r.length for r in complete if r.length < protocol.amenorrhoea_days]
-    luteals = [r.luteal_length for r in complete if r.luteal_length is not None]
-    cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
-    luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)
+    luteals = [r.luteal_length for r in complete if r.luteal_length is not None and r.dating_conflict is None]
+    cycle = cycle_predictive(lengths, protocol)
+    luteal = luteal_predictive(luteals, protocol)
 
     def cycle_day(day: date | None) -> int | None:
         return None if day is None else (day - current.start).days + 1
 
     shift = current.shift
     readings = [cycle_day(r.day) for r in valid_readings(current_obs, protocol)]
-    lh_tests = [cycle_day(o.day) for o in current_obs if o.kind == Kind.LH]
+    negatives = tuple(cycle_day(o.day) for o in current_obs if o.kind == Kind.LH and not lh_positive(o, protocol))
     evidence = Evidence(
         cycle_day=cycle_day(today),
         first_high=cycle_day(shift.first_high) if shift.confirmed else None,
         lh_surge=cycle_day(current.markers.lh_surge),
-        horizon=watch_horizon(readings, lh_tests, protocol),
+        horizon=watch_horizon(readings, protocol),
         rise_start=None if shift.confirmed else cycle_day(shift.rise_start),
+        lh_negatives=negatives,
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 
@@ -253,11 +264,15 @@ def _prediction_json(p: Prediction) -> dict:
         "fertile_window": _span(p.fertile_window),
         "next_period": p.next_period.isoformat(),
         "next_period_range": _span(p.next_period_range),
-        "daily": [{"day": d.day.isoformat(), "p_fertile": d.p_fertile} for d in p.daily],
+        "daily": [
+            {"day": d.day.isoformat(), "p_fertile": d.p_fertile, "p_fertile_percent": round(100 * d.p_fertile, 1)}
+            for d in p.daily
+        ],
         "calendar_rule": None if p.calendar_rule is None else list(p.calendar_rule),
         "expected_ovulation": p.expected_ovulation.isoformat(),
         "expected_ovulation_range": _span(p.expected_ovulation_range),
         "evidence": p.evidence,
+        "reason": p.reason,
     }
 
 
@@ -302,6 +317,7 @@ def analysis_json(a: Analysis) -> dict:
                 "ovulation": _iso(r.markers.ovulation),
                 "ovulation_method": r.markers.ovulation_method,
                 "luteal_length": r.luteal_length,
+                "dating_conflict": r.dating_conflict,
                 "open": r.is_open,
             }
             for r in a.cycles
@@ -326,6 +342,7 @@ def analysis_json(a: Analysis) -> dict:
             "mucus_peak": _iso(current.markers.mucus_peak),
             "ovulation": _iso(current.markers.ovulation),
             "ovulation_method": current.markers.ovulation_method,
+            "conflict": current.markers.conflict,
         },
         "follicles": None if a.follicles is None else _follicles_json(a.follicles),
         "phase": a.phase,

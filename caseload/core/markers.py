@@ -23,12 +23,20 @@ _MUCUS_LEVEL = {word: level for level, word in enumerate(MUCUS_SCALE)}
 OVULATION_METHODS: tuple[str, ...] = ("lh", "shift", "change-point", "mucus")
 
 
+# Hilgers 1980: ovulation lies from 6 days before to 3 days after the first day of the rise.
+RISE_BEFORE_DAYS, RISE_AFTER_DAYS = 6, 3
+# Positive tests more than this many days apart are separate surges (a surge lasts about two days,
+# from memory); a negative test between two positives also separates them.
+SURGE_GAP_DAYS = 3
+
+
 @dataclass(frozen=True)
 class Markers:
-    lh_surge: date | None  # first positive LH test of the cycle
+    lh_surge: date | None  # first positive LH test of the surge that dates ovulation
     mucus_peak: date | None  # last peak-type mucus day followed by a less fertile day
     ovulation: date | None
     ovulation_method: str | None  # one of OVULATION_METHODS
+    conflict: str | None = None  # a marker left out because the other evidence contradicts it
 
 
 def lh_positive(obs: Observation, protocol: Protocol) -> bool:
@@ -37,10 +45,56 @@ def lh_positive(obs: Observation, protocol: Protocol) -> bool:
     return obs.value.number is not None and obs.value.number >= protocol.lh_positive_iu_l
 
 
-def lh_surge(observations: list[Observation], protocol: Protocol) -> date | None:
-    """The day of the first positive LH test among the cycle's observations."""
-    days = [o.day for o in observations if o.kind == Kind.LH and lh_positive(o, protocol)]
-    return min(days, default=None)
+def lh_surges(observations: list[Observation], protocol: Protocol) -> list[date]:
+    """The first positive test of each surge in the cycle, in day order."""
+    tested: dict[date, bool] = {}
+    for obs in observations:
+        if obs.kind == Kind.LH:
+            tested[obs.day] = tested.get(obs.day, False) or lh_positive(obs, protocol)
+    starts, previous = [], None
+    for day in sorted(tested):
+        positive = tested[day]
+        if positive and (previous is None or not tested[previous] or (day - previous).days > SURGE_GAP_DAYS):
+            starts.append(day)
+        previous = day
+    return starts
+
+
+def _rise(shift: ThermalShift) -> date | None:
+    return shift.rise_start or (shift.first_high if shift.confirmed else None)
+
+
+def _fits_the_rise(surge: date, shift: ThermalShift, protocol: Protocol) -> bool:
+    """Whether ovulation dated by this surge lies where the temperatures put it: from 6 days before
+    to 3 days after the first day of the rise (Hilgers 1980)."""
+    ovulation = surge + timedelta(days=protocol.lh_to_ovulation_days)
+    rise = _rise(shift)
+    return rise is None or -RISE_BEFORE_DAYS <= (ovulation - rise).days <= RISE_AFTER_DAYS
+
+
+def _days_before(days: list[date], rise: date) -> str:
+    return ", ".join(f"{(rise - d).days} days before" if d < rise else f"{(d - rise).days} days after" for d in days)
+
+
+def dating_surge(
+    observations: list[Observation], shift: ThermalShift, protocol: Protocol
+) -> tuple[date | None, str | None]:
+    """(the surge that dates ovulation, why a logged surge was left out).
+
+    The first positive test does not always win: an early positive may be a surge that did not
+    lead to ovulation. The latest surge consistent with the temperatures dates it; when none is,
+    the temperatures do, and the nurse is told.
+    """
+    surges = lh_surges(observations, protocol)
+    fitting = [s for s in surges if _fits_the_rise(s, shift, protocol)]
+    left = [s for s in surges if s not in fitting]
+    if not left:
+        return (fitting[-1] if fitting else None), None
+    note = (
+        f"LH positive {_days_before(left, _rise(shift))} the temperature rise, where no ovulation fits it "
+        "(Hilgers 1980: 6 days before to 3 after): not used to date ovulation, a dating conflict to review"
+    )
+    return (fitting[-1] if fitting else None), note
 
 
 def mucus_peak(observations: list[Observation]) -> date | None:
@@ -74,7 +128,7 @@ def markers(
     confirmed shift dates ovulation the same way, but only `retrospective`ly, for a completed
     cycle, where no later reading can move its split.
     """
-    surge = lh_surge(observations, protocol)
+    surge, conflict = dating_surge(observations, shift, protocol)
     peak = mucus_peak(observations)
     before_rise = None if shift.rise_start is None else shift.rise_start - timedelta(days=1)
     estimates = {
@@ -84,7 +138,19 @@ def markers(
         "mucus": peak,
     }
     method = next((m for m in OVULATION_METHODS if estimates[m] is not None), None)
-    return Markers(surge, peak, None if method is None else estimates[method], method)
+    return Markers(surge, peak, None if method is None else estimates[method], method, conflict)
+
+
+def dating_conflict(luteal: int | None, found: Markers, protocol: Protocol) -> str | None:
+    """Why a measured luteal length is not believed, or None: outside the plausible range it says
+    the ovulation dating is wrong, not that the phase was so (ASRM 2021: typical 11-17 days)."""
+    if luteal is None or protocol.luteal_conflict_below <= luteal <= protocol.luteal_conflict_above:
+        return None
+    return (
+        f"luteal phase of {luteal} days by {found.ovulation_method} dating is outside "
+        f"{protocol.luteal_conflict_below}-{protocol.luteal_conflict_above} days (ASRM 2021: typical 11-17): "
+        "a dating conflict, not learnt"
+    )
 
 
 def luteal_length(ovulation: date | None, next_start: date | None) -> int | None:

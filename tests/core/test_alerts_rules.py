@@ -419,9 +419,9 @@ def test_logging_gap_near_miss_two_whole_days():
 
 
 def test_logging_gap_is_soon_once_it_covers_the_expected_fertile_days():
-    chart, current, today = _gap(9)  # days 3-8; the pattern expects fertile days from day 6
+    chart, current, today = _gap(9)  # days 3-8; six 28-day cycles: ovulation from day 12 (80% range), fertile from day 7
     (alert,) = of(run(chart, today)[1], K.LOGGING_GAP)
-    assert alert.severity is Severity.SOON and alert.evidence["expected_fertile_days"][0] == day(current, 6).isoformat()
+    assert alert.severity is Severity.SOON and alert.evidence["expected_fertile_days"][0] == day(current, 7).isoformat()
 
 
 def test_no_logging_gap_for_a_paused_patient():

@@ -6,7 +6,7 @@ from datetime import date, timedelta
 import pytest
 
 from caseload.core.analysis import analyse, analysis_json
-from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
+from caseload.core.markers import luteal_length, lh_surges, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.settings import Protocol
@@ -29,13 +29,13 @@ def mucus(n: int, word: str) -> Observation:
 
 def test_the_surge_is_the_first_positive_test():
     obs = [lh(11, "negative"), lh(13, "positive"), lh(14, "positive")]
-    assert lh_surge(obs, P) == on(13)
+    assert lh_surges(obs, P) == [on(13)]
 
 
 @pytest.mark.parametrize("iu_l, positive", [(24.9, False), (25.0, True)])
 def test_a_numeric_lh_counts_from_the_protocol_threshold(iu_l, positive):
     # Common practice: 25 IU/L urinary LH read as a positive test.
-    assert (lh_surge([lh(12, number=iu_l)], P) == on(12)) is positive
+    assert (lh_surges([lh(12, number=iu_l)], P) == [on(12)]) is positive
 
 
 def test_mucus_peak_is_the_last_peak_type_day_confirmed_by_a_drier_one():
