@@ -142,3 +142,47 @@ def test_show_json_names_the_change_point_method():
     assert (first["ovulation"], first["ovulation_method"]) == (on(15).isoformat(), "change-point")
     # Lenton 1984: days 16..28 are the luteal phase.
     assert first["luteal_length"] == 13
+
+
+def _cycle_with(extra: list[Observation], length: int = 33) -> list[Observation]:
+    """A cycle of `length` days with lows to day 19 and highs from day 20, then the next period."""
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, length + 1)]
+    readings = {d: 36.40 + 0.05 * (d % 2) for d in range(4, 20)} | {d: 36.80 for d in range(20, length + 1)}
+    return sorted(bleeds + temps(readings) + extra, key=lambda o: o.day)
+
+
+@pytest.mark.parametrize("early", [3, 5, 8])
+def test_an_early_lh_positive_that_contradicts_the_shift_does_not_date_ovulation(early):
+    # A positive on an early day and a clear shift from day 20: ovulation by the LH test would lie
+    # more than 6 days before the rise (Hilgers 1980), so the shift dates it (day 19) and the
+    # luteal phase is 14 days (Lenton 1984), not 27; the nurse is told of the conflict.
+    record = analyse(PATIENT, _cycle_with([lh(early, "positive")]), on(34)).cycles[0]
+    assert (record.markers.ovulation, record.markers.ovulation_method) == (on(19), "shift")
+    assert record.luteal_length == 14 and record.dating_conflict is None
+    assert "dating conflict" in record.markers.conflict and f"{20 - early} days before" in record.markers.conflict
+
+
+def test_a_later_surge_that_fits_the_shift_wins_over_an_earlier_one():
+    # Two surges (a negative between them): the one consistent with the shift dates ovulation
+    # (WHO Task Force 1980: about a day after the surge).
+    obs = [lh(5, "positive"), lh(6, "negative"), lh(18, "positive")]
+    record = analyse(PATIENT, _cycle_with(obs), on(34)).cycles[0]
+    assert (record.markers.lh_surge, record.markers.ovulation, record.markers.ovulation_method) == (on(18), on(19), "lh")
+    assert "15 days before" in record.markers.conflict  # the day-5 positive, 15 days before the rise
+
+
+@pytest.mark.parametrize(
+    "length, lh_day, conflict", [(33, 5, True), (40, 14, True), (30, 8, True), (30, 9, False), (28, 13, False), (20, 12, False), (20, 13, True)],
+)
+def test_a_luteal_phase_outside_7_to_20_days_is_a_dating_conflict_not_learnt(length, lh_day, conflict):
+    # ASRM 2021: luteal phases are typically 11-17 days; one under 7 or over 20 says the dating is
+    # wrong. Without temperatures the LH test dates ovulation alone (WHO Task Force 1980: a day later).
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, length + 1)]
+    obs = sorted(bleeds + [lh(lh_day, "positive")], key=lambda o: o.day)
+    a = analyse(PATIENT, obs, on(length + 2))
+    record = a.cycles[0]
+    assert record.luteal_length == length - lh_day - 1  # Lenton 1984: day after ovulation to day before the period
+    assert (record.dating_conflict is not None) is conflict
+    # Not learnt: the forecast's luteal length stays the population's when the only one conflicts.
+    assert (a.prediction.luteal_length.observed == 0) is conflict
+    assert analysis_json(a)["cycles"][0]["dating_conflict"] == record.dating_conflict

@@ -303,3 +303,36 @@ def test_an_lh_surge_and_a_change_point_combine():
     today = START + timedelta(days=19)
     p = predict(START, Evidence(20, None, 14, None, rise_start=16), cycle, luteal, [28] * 12, today, P)
     assert p.evidence == "lh+change-point" and cycle_day(START, p.ovulation) == 15
+
+
+@pytest.mark.parametrize("length", [26, 28, 32])
+def test_sporadic_late_ovulation_keeps_a_tail_in_regular_women(length):
+    # Wilcox 2000 (BMJ): the window can come late sporadically even in regular women, 4-6%
+    # potentially fertile in the fifth week. A regular history keeps a small daily tail (the late
+    # share, 5%, spread over days 8-42: 0.05 * 6 / 35 = 0.9% a day at least) instead of 0.000.
+    obs, start, today = history([length] * 6, current_day=length - 6)
+    p = analyse(PATIENT, obs, today).prediction
+    late = [c.p_fertile for c in p.daily[8 : 44 - length]]  # cycle days length + 2 to 37, whole windows
+    assert all(0.0085 <= c <= 0.05 for c in late)
+    # No ovulation in the first days of flow (common practice: not before cycle day 8).
+    assert min(cycle_day(start, d) for d, m in p.ovulation_distribution if m > 0) == 8
+
+
+@pytest.mark.parametrize("watched_to", [29, 31, 34])
+def test_watched_with_no_sign_into_the_fifth_week_she_may_still_be_fertile(watched_to):
+    # Wilcox 2000: 4-6% of women whose cycles had not resumed were potentially fertile in the fifth
+    # week. Flat temperatures to that day in a regular 28-day woman leave P(fertile) today at least 4%.
+    obs, start, today = history([28] * 6, current_day=watched_to)
+    p = analyse(PATIENT, obs + flat_temps(start, watched_to), today).prediction
+    assert p.daily[0].p_fertile >= 0.04
+    assert p.reason.startswith("Not yet")
+
+
+def test_p_fertile_is_shown_as_a_percentage_too():
+    from caseload.core.analysis import analysis_json
+
+    obs, start, today = history([28] * 6, current_day=10)
+    out = analysis_json(analyse(PATIENT, obs, today))
+    for day in out["prediction"]["daily"]:
+        assert day["p_fertile_percent"] == round(100 * day["p_fertile"], 1)
+    assert out["prediction"]["reason"].startswith("From her 6 cycles")
