@@ -128,6 +128,7 @@ class Prediction:
     cycle_length: Predictive
     luteal_length: Predictive
     reason: str = ""  # in words: what the forecast rests on and why it moved from the pattern
+    peak_p_fertile: float = 0.0  # the highest P(fertile) of any day of the cycle, past days included
 
 
 def predictive(
@@ -299,6 +300,7 @@ def predict(
 
     next_period, period_range = _summary(*_marginal(informed, 1), PERIOD_RANGE, on)
     ovulation = ov_range = window = None
+    peak = 0.0
     daily: tuple[DayChance, ...] = ()
     distribution: tuple[tuple[date, float], ...] = ()
     if current:
@@ -307,7 +309,9 @@ def predict(
         width = protocol.fertile_window_days
         window = (max(ovulation - timedelta(days=width - 1), start), ovulation)
         distribution = tuple((on(d), round(p, 6)) for d, p in zip(days, probs))
-        daily = _daily(dict(zip(days, probs)), evidence.cycle_day, today, width)
+        by_day = dict(zip(days, probs))
+        daily = _daily(by_day, evidence.cycle_day, today, width)
+        peak = max(_fertile(by_day, d, width) for d in range(max(days[0] - width + 1, 1), days[-1] + 1))
         # The most likely day of each margin may disagree; the outlook keeps them one luteal phase apart.
         next_period = ovulation + timedelta(days=round(luteal.centre) + 1)
     return Prediction(
@@ -324,6 +328,7 @@ def predict(
         evidence=label,
         cycle_length=cycle,
         luteal_length=luteal,
+        peak_p_fertile=round(min(peak, 1.0), 4),
         reason=_reason(
             label, evidence, horizon, cycle, day_of(expected), None if ovulation is None else day_of(ovulation),
             day_of(next_period),
@@ -380,11 +385,14 @@ def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tup
     }
 
 
+def _fertile(p_ovulation: dict[int, float], d: int, width: int) -> float:
+    """P(fertile) on cycle day d = P(ovulation falls on d .. d + width - 1) (Wilcox 1995)."""
+    return math.fsum(p_ovulation.get(o, 0.0) for o in range(d, d + width))
+
+
 def _daily(p_ovulation: dict[int, float], cycle_day: int, today: date, width: int) -> tuple[DayChance, ...]:
-    """P(fertile) on day d = P(ovulation falls on d .. d + width - 1) (Wilcox 1995)."""
     out = []
     for ahead in range(DAILY_DAYS):
-        d = cycle_day + ahead
-        p = math.fsum(p_ovulation.get(o, 0.0) for o in range(d, d + width))
+        p = _fertile(p_ovulation, cycle_day + ahead, width)
         out.append(DayChance(today + timedelta(days=ahead), round(min(max(p, 0.0), 1.0), 4)))
     return tuple(out)

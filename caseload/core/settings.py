@@ -60,6 +60,7 @@ class Protocol:
     window_approaching_p: float = setting(0.2, "common practice", 0.01, 0.99, "P(fertile) that makes the window approach")
     window_approaching_days: int = setting(3, "common practice", 1, 10, "days ahead the window-approaching alert looks")
     window_open_p: float = setting(0.5, "common practice", 0.05, 0.99, "P(fertile) today that opens the window")
+    window_open_share_of_peak: float = setting(0.8, "common practice", 0.3, 1.0, "on a flat curve, P(fertile) today this share of the cycle's peak opens the window")
     no_shift_grace_days: int = setting(3, "common practice", 0, 14, "days past the upper ovulation bound before no-thermal-shift")
     min_reading_coverage: float = setting(0.7, "common practice", 0.1, 1.0, "share of days with a valid reading for thermal alerts")
     short_luteal_max_days: int = setting(10, "ASRM 2021", 7, 12, "luteal length (days) at or below which it is short")

@@ -11,10 +11,10 @@ from datetime import timedelta
 
 import pytest
 
-from caseload.core.alerts import CAUTION, RULES, AlertKind
+from caseload.core.alerts import CAUTION, RULES, AlertKind, Facts
 from caseload.core.model import Kind, PatientStatus, Plan, Severity, Value
 from caseload.core.settings import DEFAULT_PROTOCOL
-from tests.core.alert_charts import HIGH, LOW, Chart, at, day, kinds, of, patient, run
+from tests.core.alert_charts import HIGH, LOW, START, Chart, at, day, kinds, of, patient, run
 
 K = AlertKind
 
@@ -96,6 +96,60 @@ def test_window_alerts_end_with_a_confirmed_shift():
     analysis, found = run(chart, today)
     assert analysis.current.shift.confirmed
     assert not {K.WINDOW_OPEN, K.WINDOW_APPROACHING} & kinds(found, raisable_only=False)
+
+
+def _window_days(chart: Chart, start, days: range, who=None) -> dict[int, set]:
+    """Cycle day -> the window kinds raised that day."""
+    out = {}
+    for cd in days:
+        found = run(chart, day(start, cd), who or patient(temps=False))[1]
+        out[cd] = kinds(found) & {K.WINDOW_OPEN, K.WINDOW_APPROACHING}
+    return out
+
+
+@pytest.mark.parametrize(
+    "lengths", [(), (35,), (24, 38, 30, 45, 27, 35), (40, 26, 33, 48, 29, 37, 31), (22, 23, 36, 37)]
+)
+def test_window_open_for_new_and_irregular_patients_whose_curve_stays_flat(lengths):
+    # A new patient (population prior, Fehring 2006) or an irregular one never reaches P(fertile)
+    # 0.5; the window opens at the top of her own curve (0.8 of its peak, common practice) instead,
+    # and approaches before that (0.2, common practice; six-day window: Wilcox 1995).
+    chart = Chart()
+    current = chart.history(list(lengths), temps=False) if lengths else day(START, 1)
+    chart.bleed(current)
+    seen = _window_days(chart, current, range(2, 40))
+    opened = [cd for cd, k in seen.items() if K.WINDOW_OPEN in k]
+    approached = [cd for cd, k in seen.items() if K.WINDOW_APPROACHING in k]
+    assert opened and approached and min(approached) < min(opened)
+    first = run(chart, day(current, min(opened)), patient(temps=False))[0].prediction
+    assert first.daily[0].p_fertile >= 0.8 * first.peak_p_fertile - 1e-9
+
+
+def test_window_approaching_never_ends_as_passed_at_the_peak():
+    # A new patient: every day up to the peak of her curve, a raised window-approaching alert ends
+    # (if it ends) because the window opened, never because it passed.
+    from caseload.core.alerts.lifecycle import ended_reason
+    from caseload.core.model import Alert, AlertState
+
+    chart = Chart()
+    current = day(START, 1)
+    chart.bleed(current)
+    who = patient(temps=False)
+    raised = None
+    for cd in range(2, 30):
+        analysis, found = run(chart, day(current, cd), who)
+        approaching = of(found, K.WINDOW_APPROACHING)
+        if raised is None and approaching and approaching[0].raisable:
+            c = approaching[0]
+            raised = Alert(id=1, patient_id=c.patient_id, kind=c.kind, key=c.key, severity=c.severity,
+                           raised_on=day(current, cd), due=c.due, message=c.message, evidence=c.evidence,
+                           rule=c.rule, source=c.source, state=AlertState.OPEN)  # fmt: skip
+        elif raised is not None and not approaching:
+            facts = Facts(who, analysis, chart.obs, day(current, cd), DEFAULT_PROTOCOL)
+            assert "has passed" not in ended_reason(raised, facts)
+            assert K.WINDOW_OPEN in kinds(found)
+            break
+    assert raised is not None
 
 
 @pytest.mark.parametrize("status", [PatientStatus.PREGNANT, PatientStatus.PAUSED, PatientStatus.DISCHARGED])
