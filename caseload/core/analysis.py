@@ -12,7 +12,7 @@ from datetime import date
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
-from caseload.core.markers import Markers, dating_conflict, lh_positive, luteal_length, markers
+from caseload.core.markers import Markers, dating_conflict, fertile_until, lh_positive, luteal_length, markers
 from caseload.core.model import Kind, Observation, Patient, PatientStatus
 from caseload.core.prediction import (
     Evidence,
@@ -195,8 +195,12 @@ def _phase(
         return UNKNOWN
     if (today - current.bleed_end).days <= 1:
         return BLEEDING
-    ovulation = current.markers.ovulation
-    if current.shift.confirmed or (ovulation is not None and ovulation < today):
+    ovulation, until = current.markers.ovulation, fertile_until(current.markers, protocol)
+    if current.shift.confirmed:
+        return LUTEAL
+    if until is not None and today <= until:
+        return WINDOW  # the fertile time the LH surge or mucus peak shows has not ended
+    if ovulation is not None and ovulation < today:
         return LUTEAL
     if current.markers.lh_surge is not None:
         return WINDOW

@@ -153,6 +153,22 @@ def dating_conflict(luteal: int | None, found: Markers, protocol: Protocol) -> s
     )
 
 
+# The ovum lives 12-24 hours (common practice): an LH-dated fertile time ends the day after ovulation.
+OVUM_DAYS = 1
+# Mucus observation: the fertile time lasts to the end of the third day after the peak (common practice).
+DAYS_AFTER_MUCUS_PEAK = 3
+
+
+def fertile_until(found: Markers, protocol: Protocol) -> date | None:
+    """The last fertile day the cycle's markers show, or None without an LH surge or mucus peak."""
+    ends = []
+    if found.lh_surge is not None:
+        ends.append(found.lh_surge + timedelta(days=protocol.lh_to_ovulation_days + OVUM_DAYS))
+    if found.mucus_peak is not None:
+        ends.append(found.mucus_peak + timedelta(days=DAYS_AFTER_MUCUS_PEAK))
+    return max(ends, default=None)
+
+
 def luteal_length(ovulation: date | None, next_start: date | None) -> int | None:
     """Days from the day after ovulation to the day before the next period (Lenton 1984)."""
     if ovulation is None or next_start is None:

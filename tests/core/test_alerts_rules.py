@@ -98,6 +98,24 @@ def test_window_alerts_end_with_a_confirmed_shift():
     assert not {K.WINDOW_OPEN, K.WINDOW_APPROACHING} & kinds(found, raisable_only=False)
 
 
+@pytest.mark.parametrize("peak_cd", [18, 20, 22])
+def test_mucus_fertile_time_lasts_to_the_third_day_after_the_peak(peak_cd):
+    # Mucus observation: fertile to the end of the third day after the peak (common practice); a
+    # late peak, where the pattern alone gives P(fertile) under 0.5, still opens the window, and the
+    # phase is not luteal the day after the peak while the window is open.
+    chart, current = regular(temps=False)
+    chart.add(day(current, peak_cd - 1), Kind.MUCUS, Value(word="stretchy"))
+    chart.add(day(current, peak_cd), Kind.MUCUS, Value(word="stretchy"))
+    chart.add(day(current, peak_cd + 1), Kind.MUCUS, Value(word="sticky"))
+    who = patient(temps=False)
+    for cd in range(peak_cd + 1, peak_cd + 4):
+        analysis, found = run(chart, day(current, cd), who)
+        assert analysis.current.markers.mucus_peak == day(current, peak_cd)
+        assert K.WINDOW_OPEN in kinds(found) and analysis.phase == "window", cd
+    analysis, found = run(chart, day(current, peak_cd + 4), who)
+    assert analysis.phase == "luteal" and K.WINDOW_OPEN not in kinds(found)
+
+
 def _window_days(chart: Chart, start, days: range, who=None) -> dict[int, set]:
     """Cycle day -> the window kinds raised that day."""
     out = {}
