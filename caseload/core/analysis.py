@@ -302,6 +302,7 @@ def _follicles_json(f: Follicles) -> dict:
         "trigger_reached": f.trigger_reached,
         "endometrium_mm": f.endometrium_mm,
         "last_scan": f.scans[-1].day.isoformat(),
+        "possible_cysts": list(f.possible_cysts),
     }
 
 

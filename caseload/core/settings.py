@@ -73,6 +73,8 @@ class Protocol:
     hcg_fit_days: int = setting(7, "common practice", 2, 14, "days of serum hCG values used by the log-linear fit")
     mature_follicle_mm: float = setting(14.0, "Evans 2020", 10, 20, "follicle diameter (mm) counted as mature")
     max_mature_follicles: int = setting(2, "Evans 2020 (under 40 years)", 1, 5, "mature follicles allowed before the multiple-follicles alert")
+    multiple_follicle_rule: int = setting(1, "1: Evans 2020; 2: Thessaloniki ESHRE/ASRM consensus 2008 (thresholds from memory)", 1, 2, "too many follicles: 1 more than max_mature_follicles at mature_follicle_mm; 2 more than 2 at 16 mm, or 1 at 16 mm plus 2 at 14 mm")
+    cyst_mm: float = setting(25.0, "from memory", 20, 40, "a structure this size (mm) or more, unchanged on two scans days apart, is a possible cyst, not the lead follicle")
     trigger_follicle_mm: float = setting(18.0, "common practice", 14, 25, "lead follicle diameter (mm) at which a trigger is planned")
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")
     fever_c: float = setting(38.0, "common practice", 37.5, 39.5, "temperature (C) counted as a fever")

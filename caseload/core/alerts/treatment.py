@@ -7,10 +7,14 @@ a new cycle begins; only the latest pair or scan is news enough to raise.
 from __future__ import annotations
 
 from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
+from caseload.core.follicles import THESSALONIKI_RULE
 from caseload.core.model import Severity
 from caseload.core.pregnancy import HcgValue
 
-FOLLICLE_SOURCE = "Evans 2020 (more than 2 mature follicles under 40 years)"
+FOLLICLE_SOURCE = (
+    "Evans 2020 (more than 2 mature follicles under 40 years); or, by protocol, Thessaloniki ESHRE/ASRM "
+    "consensus 2008 (from memory)"
+)
 
 
 def rise_per_48h(first: HcgValue, second: HcgValue) -> float:
@@ -68,7 +72,7 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
     last_day = max(by_day)
     found = []
     for day, scan in sorted(by_day.items()):
-        if scan.mature_count <= p.max_mature_follicles:
+        if not scan.too_many:
             continue
         found.append(
             f.candidate(
@@ -85,10 +89,13 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
                     "mature_mm": p.mature_follicle_mm,
                     "lead_mm": scan.lead_mm,
                     "allowed": p.max_mature_follicles,
+                    "rule": "Thessaloniki 2008" if p.multiple_follicle_rule == THESSALONIKI_RULE else "Evans 2020",
                     "age": f.analysis.age_years,
                 },
-                f"More than {p.max_mature_follicles} follicles of {p.mature_follicle_mm:g} mm or more on a scan",
-                source_of(p, ("max_mature_follicles", "mature_follicle_mm"), FOLLICLE_SOURCE),
+                f"More than {p.max_mature_follicles} follicles of {p.mature_follicle_mm:g} mm or more on a scan"
+                if p.multiple_follicle_rule != THESSALONIKI_RULE
+                else "More than 2 follicles of 16 mm or more, or one of 16 mm plus two of 14 mm, on a scan",
+                source_of(p, ("max_mature_follicles", "mature_follicle_mm", "multiple_follicle_rule"), FOLLICLE_SOURCE),
                 raisable=day == last_day,
             )
         )
