@@ -545,3 +545,23 @@ def test_every_candidate_carries_rule_source_evidence_and_the_caution():
     for c in found:
         assert c.rule and c.source and c.evidence and c.message.endswith(".") and c.caution == CAUTION
         assert c.key.startswith(f"P0001:{c.kind}:")
+
+
+@pytest.mark.parametrize("fevers", [(38.1, 38.3, 38.4), (38.0, 38.0, 38.2), (38.6, 39.0, 38.8)])
+def test_fever_readings_neither_confirm_a_shift_nor_end_the_window(fevers):
+    # Readings at or above 38.0 C (fever threshold, common practice) after 36.40 lows are left out
+    # of the shift rules (Miolo 1993 counts undisturbed readings only): no shift, the window alerts
+    # stay on, the fever alert is raised, and the chart lists the readings left out and why.
+    from caseload.core.analysis import analysis_json
+
+    chart, current = regular()
+    chart.temps(current, day(current, 11))
+    for cd, t in zip((12, 13, 14), fevers):
+        chart.temp(day(current, cd), t)
+    analysis, found = run(chart, day(current, 14))
+    assert not analysis.current.shift.confirmed and analysis.phase == "window"
+    assert {K.WINDOW_OPEN, K.FEVER} <= kinds(found)
+    excluded = analysis_json(analysis)["thermal_shift"]["excluded_readings"]
+    assert [(e["day"], e["celsius"], e["reason"]) for e in excluded] == [
+        (day(current, cd).isoformat(), t, "fever") for cd, t in zip((12, 13, 14), fevers)
+    ]
