@@ -276,9 +276,8 @@ def predict(
         return (day - start).days + 1
 
     pattern = _joint(cycle, luteal, protocol)
-    pattern_days = _marginal(pattern, 0)
-    expected_days = (_quantile(*pattern_days, OVULATION_RANGE[0]), _quantile(*pattern_days, OVULATION_RANGE[1]))
-    expected, expected_range = _summary(*pattern_days, OVULATION_RANGE, on)
+    expected, expected_range = _summary(*_marginal(pattern, 0), OVULATION_RANGE, on)
+    expected_days = (day_of(expected_range[0]), day_of(expected_range[1]))
     found = _evidence_likelihoods(evidence, protocol)
     if not found:
         watched = [h for h in (evidence.horizon, lh_horizon(evidence.lh_negatives, expected_days, protocol)) if h]
