@@ -336,3 +336,33 @@ def test_p_fertile_is_shown_as_a_percentage_too():
     for day in out["prediction"]["daily"]:
         assert day["p_fertile_percent"] == round(100 * day["p_fertile"], 1)
     assert out["prediction"]["reason"].startswith("From her 6 cycles")
+
+
+def test_the_ovulation_distribution_matches_scipy():
+    # Cross-check with scipy.stats.t: the pattern is L - T of two whole-day Student's t lengths
+    # (day k takes the mass from k - 0.5 to k + 0.5), never before day 8, weighted 0.95; the
+    # sporadic late ovulation (Wilcox 2000) adds 0.05 spread evenly over days 8 to 42.
+    from collections import defaultdict
+
+    from scipy import stats
+
+    cycle, luteal = cycle_predictive([27, 29, 31, 28, 30], P), luteal_predictive([13, 14], P)
+    p = predict(START, Evidence(1, None, None, None), cycle, luteal, [27, 29, 31, 28, 30], START, P)
+    got = {cycle_day(START, d): m for d, m in p.ovulation_distribution}
+
+    def masses(pred, first: int) -> dict[int, float]:
+        dist = stats.t(pred.dof, loc=pred.centre, scale=pred.scale)
+        out = {k: dist.cdf(k + 0.5) - dist.cdf(k - 0.5) for k in range(first, round(pred.centre + 10 * pred.scale) + 1)}
+        total = sum(out.values())
+        return {k: v / total for k, v in out.items()}
+
+    pattern: defaultdict[int, float] = defaultdict(float)
+    for length, a in masses(cycle, 2).items():
+        for t, b in masses(luteal, 1).items():
+            if length - t >= 8:
+                pattern[length - t] += a * b
+    total = sum(pattern.values())
+    spread = max(got) - 7  # the late share runs to day 42 or the pattern's far tail, whichever is later
+    assert min(got) == 8 and spread >= 35
+    for o in range(8, 43):
+        assert got.get(o, 0.0) == pytest.approx(0.95 * pattern.get(o, 0.0) / total + 0.05 / spread, abs=2e-4), o
