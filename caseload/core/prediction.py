@@ -128,7 +128,7 @@ class Prediction:
     cycle_length: Predictive
     luteal_length: Predictive
     reason: str = ""  # in words: what the forecast rests on and why it moved from the pattern
-    peak_p_fertile: float = 0.0  # the highest P(fertile) of any day of the cycle, past days included
+    peak_p_fertile: float = 0.0  # the highest P(fertile) of any cycle day by her pattern alone
 
 
 def predictive(
@@ -276,7 +276,8 @@ def predict(
         return (day - start).days + 1
 
     pattern = _joint(cycle, luteal, protocol)
-    expected, expected_range = _summary(*_marginal(pattern, 0), OVULATION_RANGE, on)
+    pattern_days = _marginal(pattern, 0)
+    expected, expected_range = _summary(*pattern_days, OVULATION_RANGE, on)
     expected_days = (day_of(expected_range[0]), day_of(expected_range[1]))
     found = _evidence_likelihoods(evidence, protocol)
     if not found:
@@ -299,7 +300,6 @@ def predict(
 
     next_period, period_range = _summary(*_marginal(informed, 1), PERIOD_RANGE, on)
     ovulation = ov_range = window = None
-    peak = 0.0
     daily: tuple[DayChance, ...] = ()
     distribution: tuple[tuple[date, float], ...] = ()
     if current:
@@ -310,7 +310,6 @@ def predict(
         distribution = tuple((on(d), round(p, 6)) for d, p in zip(days, probs))
         by_day = dict(zip(days, probs))
         daily = _daily(by_day, evidence.cycle_day, today, width)
-        peak = max(_fertile(by_day, d, width) for d in range(max(days[0] - width + 1, 1), days[-1] + 1))
         # The most likely day of each margin may disagree; the outlook keeps them one luteal phase apart.
         next_period = ovulation + timedelta(days=round(luteal.centre) + 1)
     return Prediction(
@@ -327,7 +326,7 @@ def predict(
         evidence=label,
         cycle_length=cycle,
         luteal_length=luteal,
-        peak_p_fertile=round(min(peak, 1.0), 4),
+        peak_p_fertile=_peak(pattern_days, protocol.fertile_window_days),
         reason=_reason(
             label, evidence, horizon, cycle, day_of(expected), None if ovulation is None else day_of(ovulation),
             day_of(next_period),
@@ -382,6 +381,13 @@ def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tup
         for j, pt in enumerate(t_masses)
         if lk * pt > 0.0
     }
+
+
+def _peak(pattern_days: tuple[list[int], list[float]], width: int) -> float:
+    """The highest P(fertile) of any cycle day by the pattern: how peaked her own curve is."""
+    by_day = dict(zip(*pattern_days))
+    first, last = min(by_day), max(by_day)
+    return round(min(max(_fertile(by_day, d, width) for d in range(max(first - width + 1, 1), last + 1)), 1.0), 4)
 
 
 def _fertile(p_ovulation: dict[int, float], d: int, width: int) -> float:
