@@ -17,7 +17,8 @@ _MUCUS_LEVEL = {word: level for level, word in enumerate(MUCUS_SCALE)}
 # it to a range of days (Hilgers 1980); a change point without a confirmed shift is the same
 # measurement read with less certainty; the mucus peak is a self-observation and the least exact.
 # On simulated charts (300 patients, a year) the ovulatory cycles each method dated were within
-# 1 / 2 days of the true day in: lh 1.00 / 1.00, shift 0.93 / 0.98, change-point 0.89 / 0.97.
+# 1 / 2 days of the true day in: lh 1.00 / 1.00 (all markers charted), shift 0.90 / 0.97,
+# change-point 0.79 / 0.90 (temperatures only).
 # The simulator puts the last peak-type mucus on the true day by construction (1.00 where it and
 # a change point are both charted), so its mucus figure says nothing of real charts.
 OVULATION_METHODS: tuple[str, ...] = ("lh", "shift", "change-point", "mucus")
@@ -120,9 +121,7 @@ def markers(
     A thermal shift dates ovulation to the day before the first day of the rise, its last low day.
     The LH surge falls within a day of the temperature nadir (Morris 1976) and ovulation about a day
     after the surge (WHO Task Force 1980), so no source puts it earlier. On simulated charts with a
-    confirmed shift that day is exact in 63% of cycles (mean absolute error 0.46 days); two days
-    before the rise would more often be within a day (0.97 against 0.92) but exact in only 28%
-    (error 0.75 days), a gain from the simulator's gradual rises alone. A change point without a
+    confirmed shift that day is exact in 58% of cycles and within a day in 90%. A change point without a
     confirmed shift dates ovulation the same way, but only `retrospective`ly, for a completed
     cycle, where no later reading can move its split.
     """
