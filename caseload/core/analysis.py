@@ -13,9 +13,24 @@ from datetime import date, timedelta
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
-from caseload.core.markers import Markers, days_after_ovulation, luteal_length, markers
+from caseload.core.markers import (
+    Markers,
+    dating_conflict,
+    days_after_ovulation,
+    fertile_until,
+    lh_positive,
+    luteal_length,
+    markers,
+)
 from caseload.core.model import Kind, Observation, Patient, PatientStatus
-from caseload.core.prediction import Evidence, Prediction, predict, predictive, watch_horizon
+from caseload.core.prediction import (
+    Evidence,
+    Prediction,
+    cycle_predictive,
+    luteal_predictive,
+    predict,
+    watch_horizon,
+)
 from caseload.core.pregnancy import (
     Discounted,
     Episode,
@@ -29,7 +44,7 @@ from caseload.core.pregnancy import (
 )
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
-from caseload.core.thermal import ThermalShift, thermal_shift, valid_readings
+from caseload.core.thermal import ThermalShift, excluded_readings, thermal_shift, valid_readings
 
 # The caseload list's phase words.
 BLEEDING = "bleeding"
@@ -55,6 +70,7 @@ class CycleRecord:
     markers: Markers
     luteal_length: int | None  # complete cycles with a dated ovulation only
     pregnancy: bool = False  # a pregnancy began in it: not a cycle for statistics or prediction
+    dating_conflict: str | None = None  # why the dated luteal length is not believed (shown, not learnt)
 
 
 @dataclass(frozen=True)
@@ -94,8 +110,10 @@ def _record(
 ) -> CycleRecord:
     temps = [o for o in group if o.kind == Kind.TEMP]
     signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
-    shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
+    readings, left_out = valid_readings(temps, protocol), excluded_readings(temps, protocol)
+    shift = thermal_shift(readings, span.start, span.end or today, protocol, left_out)
     marks = markers(signs, shift, protocol, retrospective=not span.is_open)
+    luteal = luteal_length(marks, span.next_start)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -105,8 +123,9 @@ def _record(
         bleed_end=span.bleed.end,
         shift=shift,
         markers=marks,
-        luteal_length=luteal_length(marks, span.next_start),
+        luteal_length=luteal,
         pregnancy=any(span.start <= e.start and (span.next_start is None or e.start < span.next_start) for e in found),
+        dating_conflict=dating_conflict(luteal, marks, protocol),
     )
 
 
@@ -192,24 +211,28 @@ def _forecast(
     # A "cycle" past the amenorrhoea threshold is an absence of bleeding, not a pattern to learn from
     # (and a mistyped year would otherwise stretch the forecast grid over decades).
     lengths = [r.length for r in complete if r.length < protocol.amenorrhoea_days]
-    # The model counts from the day after the estimated ovulation day, whatever dated it.
-    luteals = [days_after_ovulation(r.markers.ovulation, r.end + timedelta(days=1)) for r in complete]
+    # The model counts from the day after the estimated ovulation day, whatever dated it; a length
+    # that says the dating is wrong is shown, not learnt.
+    luteals = [
+        days_after_ovulation(r.markers.ovulation, r.end + timedelta(days=1)) for r in complete if r.dating_conflict is None
+    ]
     luteals = [days for days in luteals if days is not None]
-    cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
-    luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)
+    cycle = cycle_predictive(lengths, protocol)
+    luteal = luteal_predictive(luteals, protocol)
 
     def cycle_day(day: date | None) -> int | None:
         return None if day is None else cy.cycle_day(current.start, day)
 
     shift = current.shift
-    readings = [cycle_day(r.day) for r in valid_readings(current_obs)]
-    lh_tests = [cycle_day(o.day) for o in current_obs if o.kind == Kind.LH]
+    readings = [cycle_day(r.day) for r in valid_readings(current_obs, protocol)]
+    negatives = tuple(cycle_day(o.day) for o in current_obs if o.kind == Kind.LH and not lh_positive(o, protocol))
     evidence = Evidence(
         cycle_day=cycle_day(today),
         first_high=cycle_day(shift.first_high) if shift.confirmed else None,
         lh_surge=cycle_day(current.markers.lh_surge),
-        horizon=watch_horizon(readings, lh_tests, protocol),
+        horizon=watch_horizon(readings, protocol),
         rise_start=None if shift.confirmed else cycle_day(shift.rise_start),
+        lh_negatives=negatives,
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 
@@ -227,8 +250,12 @@ def _phase(
         return UNKNOWN
     if (today - current.bleed_end).days <= 1:
         return BLEEDING
-    ovulation = current.markers.ovulation
-    if current.shift.confirmed or (ovulation is not None and ovulation < today):
+    ovulation, until = current.markers.ovulation, fertile_until(current.markers, protocol)
+    if current.shift.confirmed:
+        return LUTEAL
+    if until is not None and today <= until:
+        return WINDOW  # the fertile time the LH surge or mucus peak shows has not ended
+    if ovulation is not None and ovulation < today:
         return LUTEAL
     if current.markers.lh_surge is not None:
         return WINDOW

@@ -138,6 +138,7 @@ def _shift_json(shift: ThermalShift) -> dict:
         "readings": shift.readings,
         "coverage": shift.coverage,
         "days_above_coverline": shift.days_above_coverline,
+        "excluded_readings": [{"day": e.day.isoformat(), "celsius": e.celsius, "reason": e.reason} for e in shift.excluded],
     }
 
 
@@ -148,11 +149,15 @@ def _prediction_json(p: Prediction) -> dict:
         "fertile_window": _span(p.fertile_window),
         "next_period": p.next_period.isoformat(),
         "next_period_range": _span(p.next_period_range),
-        "daily": [{"day": d.day.isoformat(), "p_fertile": d.p_fertile} for d in p.daily],
+        "daily": [
+            {"day": d.day.isoformat(), "p_fertile": d.p_fertile, "p_fertile_percent": round(100 * d.p_fertile, 1)}
+            for d in p.daily
+        ],
         "calendar_rule": None if p.calendar_rule is None else list(p.calendar_rule),
         "expected_ovulation": p.expected_ovulation.isoformat(),
         "expected_ovulation_range": _span(p.expected_ovulation_range),
         "evidence": p.evidence,
+        "reason": p.reason,
     }
 
 
@@ -183,6 +188,7 @@ def _follicles_json(f: Follicles) -> dict:
         "trigger_reached": f.trigger_reached,
         "endometrium_mm": f.endometrium_mm,
         "last_scan": f.scans[-1].day.isoformat(),
+        "possible_cysts": list(f.possible_cysts),
     }
 
 
@@ -202,6 +208,7 @@ def analysis_json(a: Analysis) -> dict:
                 "ovulation": _iso(r.markers.ovulation),
                 "ovulation_method": r.markers.ovulation_method,
                 "luteal_length": r.luteal_length,
+                "dating_conflict": r.dating_conflict,
                 "open": r.is_open,
                 "pregnancy": r.pregnancy,
             }
@@ -227,6 +234,7 @@ def analysis_json(a: Analysis) -> dict:
             "mucus_peak": _iso(current.markers.mucus_peak),
             "ovulation": _iso(current.markers.ovulation),
             "ovulation_method": current.markers.ovulation_method,
+            "conflict": current.markers.conflict,
         },
         "follicles": None if a.follicles is None else _follicles_json(a.follicles),
         "phase": a.phase,

@@ -99,7 +99,8 @@ def test_show_json_has_the_contract_keys(clinic):
     assert data["patient"] == "P0001"
     assert data["cycle_start"] == "2026-11-29" and data["cycle_day"] == 3
     assert data["cycles"][0] == {"start": "2026-11-01", "length": 28, "bleed_days": 2, "ovulation": None,
-                                 "ovulation_method": None, "luteal_length": None, "open": False, "pregnancy": False}
+                                 "ovulation_method": None, "luteal_length": None, "dating_conflict": None,
+                                 "open": False, "pregnancy": False}
     assert set(data["stats"]) >= {"count", "mean", "sd", "shortest", "longest", "variation"}
     assert set(data["classification"]) == {"frequency", "regularity", "duration"}
     assert set(data["prediction"]) >= {"ovulation", "ovulation_range", "fertile_window", "next_period",

@@ -1,6 +1,6 @@
 """Temperature alerts: no shift when one was due, a cycle that ended without one, a rise that lasts.
 
-Only for patients charting temperatures. The shift is the three-over-six rule's (Marquette NFP).
+Only for patients charting temperatures. The shift is the three-over-six rule's (Miolo 1993; Marshall 1968).
 """
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ from caseload.core.cycles import cycle_day
 from caseload.core.model import Severity
 from caseload.core.thermal import ThermalShift
 
-THERMAL_SOURCE = "common practice; three-over-six rule (Marquette NFP)"
+THERMAL_SOURCE = "common practice; three-over-six rule (Miolo 1993, WHO multicentre study; Marshall 1968)"
 
 
 def flat(shift: ThermalShift) -> bool:

@@ -8,10 +8,14 @@ current cycle (or pregnancy) are held until a new cycle begins; a bleed in pregn
 from __future__ import annotations
 
 from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
+from caseload.core.follicles import THESSALONIKI_RULE
 from caseload.core.model import Severity
 from caseload.core.pregnancy import HcgValue, abnormal_pairs
 
-FOLLICLE_SOURCE = "Evans 2020 (more than 2 mature follicles under 40 years)"
+FOLLICLE_SOURCE = (
+    "Evans 2020 (more than 2 mature follicles under 40 years); or, by protocol, Thessaloniki ESHRE/ASRM "
+    "consensus 2008 (from memory)"
+)
 
 
 HCG_SOURCE = "Barnhart 2004 (minimum 24% in 1 day, 53% in 2 days); Morse 2012: 35%"
@@ -116,7 +120,7 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
     last_day = max(by_day)
     found = []
     for day, scan in sorted(by_day.items()):
-        if scan.mature_count <= p.max_mature_follicles:
+        if not scan.too_many:
             continue
         found.append(
             f.candidate(
@@ -133,10 +137,13 @@ def multiple_follicles(f: Facts) -> list[Candidate]:
                     "mature_mm": p.mature_follicle_mm,
                     "lead_mm": scan.lead_mm,
                     "allowed": p.max_mature_follicles,
+                    "rule": "Thessaloniki 2008" if p.multiple_follicle_rule == THESSALONIKI_RULE else "Evans 2020",
                     "age": f.analysis.age_years,
                 },
-                f"More than {p.max_mature_follicles} follicles of {p.mature_follicle_mm:g} mm or more on a scan",
-                source_of(p, ("max_mature_follicles", "mature_follicle_mm"), FOLLICLE_SOURCE),
+                f"More than {p.max_mature_follicles} follicles of {p.mature_follicle_mm:g} mm or more on a scan"
+                if p.multiple_follicle_rule != THESSALONIKI_RULE
+                else "More than 2 follicles of 16 mm or more, or one of 16 mm plus two of 14 mm, on a scan",
+                source_of(p, ("max_mature_follicles", "mature_follicle_mm", "multiple_follicle_rule"), FOLLICLE_SOURCE),
                 raisable=day == last_day,
             )
         )

@@ -19,6 +19,7 @@ from tools.bench.accuracy import (
     figures,
     observations_of,
     run_accuracy,
+    shift_sweep,
     simulated,
 )
 from caseload.core.model import Kind
@@ -68,18 +69,31 @@ def test_the_sample_covers_a_year_of_completed_cycles(sample):
 
 @pytest.mark.parametrize(
     "condition, floor",
-    [("temperatures only", 0.80), ("temperatures + LH", 0.92), ("temperatures + LH + mucus", 0.93)],
-)  # measured 0.89, 0.96 and 0.97
+    [("temperatures only", 0.85), ("temperatures + LH", 0.93), ("temperatures + LH + mucus", 0.94)],
+)  # measured 0.90, 0.96 and 0.97
 def test_ovulation_within_two_days_stays_above_its_floor(sample, condition, floor):
     assert sample["ovulation_estimate"][condition]["within_2_days"] > floor
 
 
 def test_thermal_shift_detector_stays_above_its_floors(sample):
     shift = sample["thermal_shift"]
-    assert shift["sensitivity"] > 0.35  # measured 0.46
+    assert shift["sensitivity"] > 0.88  # measured 0.96 (three-over-six as published, Miolo 1993)
     assert shift["specificity"] > 0.85  # measured 1.0
 
 
 def test_p_fertile_brier_score_stays_below_its_ceiling(sample):
     assert sample["p_fertile"]["days"] > 900
-    assert sample["p_fertile"]["brier"] < 0.11  # measured 0.077
+    assert sample["p_fertile"]["brier"] < 0.11  # measured 0.082
+
+
+def test_thermal_shift_sweep_meets_the_goal_at_noise_sd_0_10():
+    # Three-over-six as published (Miolo 1993; Marshall 1968) with the WHO Global Handbook's rise:
+    # the goal is sensitivity of 90% or more at reading noise SD 0.10 C with 3% or fewer false
+    # confirmations on flat charts (measured 91.7% and 2.0% on 150 women per cell, README); this
+    # small sample keeps a margin for its own scatter.
+    sweep = shift_sweep(30, noise_sds=(0.10,))["by_noise_sd"]["0.10"]
+    rule, cover, cp = sweep["three-over-six"], sweep["coverline form"], sweep["change point"]
+    assert rule["ovulatory_cycles"] > 120 and rule["flat_cycles"] > 80
+    assert rule["sensitivity"] > 0.86 and rule["false_confirmation"] < 0.06
+    assert cover["sensitivity"] < rule["sensitivity"]  # the coverline form misses more rises
+    assert cp["sensitivity"] > 0.85

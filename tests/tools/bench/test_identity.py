@@ -18,6 +18,7 @@ from caseload.core.analysis import analyse
 from caseload.core.distributions import SUPPORT_SCALES, _lower, _tail, day_masses
 from caseload.core.model import observations
 from caseload.core.prediction import _joint, _marginal, predictive
+from caseload.core.settings import DEFAULT_PROTOCOL
 from caseload.application.context import Context
 from caseload.application.recompute import refresh_all
 from caseload.application.entries import amend_entry, log_entry, void_entry
@@ -98,10 +99,10 @@ def _plain_marginal(grid: dict, index: int) -> tuple[list[int], list[float]]:
 
 
 def test_forecast_margins_equal_the_plain_sums_exactly():
-    cycle = predictive([27, 29, 31, 28, 30, 26, 33], 28.9, 3.4, 3.0)
-    luteal = predictive([13, 14, 12], 14.13, 1.41, 3.0)
-    grid = _joint(cycle, luteal)
-    assert all(o >= 1 for o, _ in grid) and len(grid) > 500
+    cycle = predictive([27, 29, 31, 28, 30, 26, 33], 28.9, 3.4, 2.5, 3.0)
+    luteal = predictive([13, 14, 12], 14.13, 1.41, 1.0, 3.0)
+    grid = _joint(cycle, luteal, DEFAULT_PROTOCOL)
+    assert all(o >= DEFAULT_PROTOCOL.earliest_ovulation_day for o, _ in grid) and len(grid) > 500
     for index in (0, 1):
         assert _marginal(grid, index) == _plain_marginal(grid, index)
 

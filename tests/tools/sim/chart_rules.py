@@ -92,7 +92,7 @@ class Shift:
 
 
 def three_over_six(temps: list[tuple[int, float]]) -> Shift | None:
-    """Three-over-six rule (Marquette NFP): a reading 0.2 C above each of the previous six,
+    """Coverline form of the three-over-six rule (common practice): a reading 0.2 C above each of the previous six,
     coverline 0.1 C above their highest, confirmed by three consecutive readings above it."""
     for i in range(6, len(temps)):
         lows = [t for _, t in temps[i - 6 : i]]
