@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from datetime import date
 from pathlib import Path
 
 from caseload.application.context import Context
 from caseload.application.identity import resolve_actor
 from caseload.application.permissions import require
+from caseload.application.staff import clinic_today
 from caseload.store import Report, Store
 from caseload.store.backup_restore import Restored, check_file, replace_damaged, verified_copy
 
@@ -15,7 +17,8 @@ def backup(ctx: Context, target: str) -> Path:
     ctx.require("store.backup")
     path = Path(target)
     ctx.store.backup(path)
-    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.backup", "store", None, after={"path": str(path)}))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.audit.record(ctx.actor, "store.backup", "store", None, after={"path": str(path)})
     return path
 
 
@@ -31,11 +34,13 @@ def restore(ctx: Context, source: str, force: bool = False) -> Restored:
         # Audit rows written after the backup was taken are gone with the replaced file; name their ids,
         # since the ids that follow will be issued again.
         record["audit_ids_replaced"] = [last_restored + 1, last_before]
-    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after=record))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.audit.record(ctx.actor, "store.restore", "store", None, after=record)
     return done
 
 
-def restore_damaged(path: Path, source: str, account: str, as_staff: str | None) -> Restored:
+def restore_damaged(path: Path, source: str, account: str, as_staff: str | None,
+                    date_of_record: date | None = None) -> Restored:
     """Restore over a store too damaged to open. The damaged store cannot say who may do it, so the
     verified backup does: the account must map to one of its admins. The damaged file is kept."""
     with verified_copy(path, Path(source)) as (stage, version):
@@ -46,7 +51,8 @@ def restore_damaged(path: Path, source: str, account: str, as_staff: str | None)
         kept = replace_damaged(path, stage, now)
     with Store(path) as store:
         record = {"path": source, "schema": version, "kept": str(kept), "replaced_damaged": True}
-        store.transact(lambda: store.db.audit(actor, "store.restore", "store", None, after=record))
+        with store.atomic(date_of_record or clinic_today(store)):
+            store.audit.record(actor, "store.restore", "store", None, after=record)
     return Restored(version, kept, None)
 
 

@@ -1,36 +1,55 @@
-"""Commands for keeping the store safe: backup, restore, check, and the clinic protocol."""
+"""Commands for the store itself: setting it up, backup, restore, check."""
 
 from __future__ import annotations
 
 import click
 
-from caseload.cli.session import Session, pass_session, printable
-from caseload.application import store_care as maintenance
-from caseload.application.identity import os_account
-from caseload.store import Report, StoreDamaged, StoreError
+from caseload.application.clinic import Clinic, Identity
+from caseload.application.errors import StoreDamaged, StoreError
+from caseload.application.staff import DEFAULT_TIMEZONE
+from caseload.application.store_care import Report
+from caseload.cli.global_options import GlobalOptions, pass_clinic, pass_options
+from caseload.core.parse import InputError
+from caseload.presentation.safe_text import printable
+
+
+@click.command()
+@click.option("--admin", "admin_id", required=True, help="Id of the first admin (mapped to your OS account).")
+@click.option("--name", required=True, help="The admin's full name.")
+@click.option("--timezone", default=DEFAULT_TIMEZONE, show_default=True, help="The clinic's time zone.")
+@pass_options
+def init(options: GlobalOptions, admin_id: str, name: str, timezone: str) -> None:
+    """Create a new store with its first admin."""
+    path = options.path
+    if path.exists() and path.stat().st_size:
+        raise InputError(f"{path} exists already: choose another --db path")
+    actor = Clinic.create(path, Identity.from_os(), admin_id, name, timezone, date_of_record=options.date_of_record)
+    click.echo(f"Store created at {path}; admin {actor.id} is mapped to OS account '{actor.os_account}'.")
 
 
 @click.command()
 @click.argument("path", type=click.Path(dir_okay=False))
-@pass_session
-def backup(session: Session, path: str) -> None:
+@pass_clinic
+def backup(clinic: Clinic, path: str) -> None:
     """Copy the store to PATH while others keep working (admins only)."""
-    maintenance.backup(session.context(), path)
+    clinic.backup(path)
     click.echo(f"Backup written to {printable(path)} (owner-only).")
 
 
 @click.command()
 @click.argument("path", type=click.Path(exists=True, dir_okay=False))
 @click.option("--force", is_flag=True, help="Restore even though the store holds data the backup lacks.")
-@pass_session
-def restore(session: Session, path: str, force: bool) -> None:
+@pass_options
+def restore(options: GlobalOptions, path: str, force: bool) -> None:
     """Replace the store with a backup, after verifying it as check does (admins only).
 
     The replaced store is kept beside it as STORE.replaced-DATE (owner-only)."""
     try:
-        done = maintenance.restore(session.context(), path, force)
+        clinic = options.open_clinic()
     except StoreDamaged:
-        done = maintenance.restore_damaged(session.path, path, os_account(), session.as_staff)
+        done = Clinic.restore_damaged(options.path, path, Identity.from_os(options.as_staff), options.date_of_record)
+    else:
+        done = clinic.restore(path, force)
     click.echo(f"Restored from {printable(path)} (schema {done.version}); the replaced store is kept as "
                f"{printable(str(done.kept))}.")
     if done.loss and done.loss.audit_rows:
@@ -38,14 +57,16 @@ def restore(session: Session, path: str, force: bool) -> None:
 
 
 @click.command()
-@pass_session
-def check(session: Session) -> None:
+@pass_options
+def check(options: GlobalOptions) -> None:
     """Verify the store: SQLite integrity, references, the audit chain, the triggers and schema caseload
     makes, and every record against its audit row. Exit 1 when anything is wrong."""
     try:
-        report = maintenance.check(session.context())
+        clinic = options.open_clinic()
     except StoreError:  # damaged or altered past opening: the report says how
-        report = maintenance.check_damaged(session.path)
+        report = Clinic.check_damaged(options.path)
+    else:
+        report = clinic.check()
     for line in report_lines(report):
         click.echo(printable(line))
     if not report.ok:
@@ -76,4 +97,4 @@ def report_lines(r: Report) -> list[str]:
     ]
 
 
-COMMANDS = [backup, restore, check]
+COMMANDS = [init, backup, restore, check]

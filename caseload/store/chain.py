@@ -12,7 +12,7 @@ from collections.abc import Iterable, Iterator, Sequence
 
 GENESIS = "0" * 64  # the "previous hash" of the first audit row
 # The columns a hash covers, in this order; the row's id is among them, so renumbering shows too.
-COLUMNS = ("id", "at", "by_staff", "os_account", "action", "tbl", "row_id", "before", "after")
+COLUMNS = ("id", "at", "by_staff", "os_account", "action", "tbl", "row_id", "before", "after", "day_of_record")
 
 
 def link(previous: str, row: Sequence) -> str:

@@ -16,7 +16,7 @@ from caseload.store.backup_restore import check_file
 from tests.robustness.robust_support import assert_clean_exit, snapshot
 
 CHAIN_STEP = migrations.MIGRATIONS.index(migrations._audit_chain)  # the schema just before the chain
-AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after"
+AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after, day_of_record"
 
 
 def sql(path, *statements: str) -> None:
@@ -84,6 +84,8 @@ ATTACKS = {
         "entry 99 has no audit row"),
     "audit row rewritten": (write_around_triggers("audit", "UPDATE audit SET by_staff = 'sue' WHERE id = 6"),
                             "broken at rows 6"),
+    "audit row redated": (write_around_triggers("audit", "UPDATE audit SET day_of_record = '2026-01-01' WHERE id = 5"),
+                          "broken at rows 5"),
     "audit row removed": (write_around_triggers("audit", "DELETE FROM audit WHERE id = 4"), "broken at rows 5"),
     "append-only trigger dropped": (["DROP TRIGGER entry_no_delete"], "trigger entry_no_delete is missing"),
     "append-only trigger weakened": (
