@@ -56,7 +56,7 @@ def test_the_sdist_holds_the_tests_the_guide_the_demo_data_and_the_licence(dist)
     with tarfile.open(sdist) as tar:
         names = {name.split("/", 1)[1] for name in tar.getnames() if "/" in name}
     for needed in ("LICENSE", "DEVELOPERS.md", "README.md", "pyproject.toml", "caseload/seed_data/clinic.json",
-                   "caseload/seed_data/entries.csv", "tests/conftest.py", "tests/store/test_store.py",
+                   "caseload/seed_data/entries.csv", "tests/conftest.py", "tests/store/test_db.py",
                    "tools/bench/build.py", "caseload/py.typed"):
         assert needed in names, needed
 
