@@ -13,7 +13,7 @@ import pytest
 
 from caseload.store import Store, migrations
 from caseload.store.backup_restore import check_file
-from tests.robustness.robust_support import assert_clean_exit, snapshot
+from tests.robustness.robust_support import assert_clean_exit, damage_index_page, snapshot
 
 CHAIN_STEP = migrations.MIGRATIONS.index(migrations._audit_chain)  # the schema just before the chain
 AUDIT_COLUMNS = "id, at, by_staff, os_account, action, tbl, row_id, before, after, day_of_record"
@@ -134,27 +134,6 @@ def test_a_write_whose_audit_row_is_swallowed_is_refused(clinic):
     assert_clean_exit(result)
     assert result.exit_code == 1 and "audit rows were not written" in result.stderr
     assert snapshot(clinic.db) == before
-
-
-def index_page_offset(path) -> tuple[int, int]:
-    """Byte offset and size of the root page of the entry index, as SQLite's dbstat table lists it."""
-    conn = sqlite3.connect(path)
-    try:
-        conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")  # every page in the main file, where we overwrite it
-        page, size = conn.execute(
-            "SELECT pageno, pgsize FROM dbstat WHERE name = 'entry_patient_day' AND path = '/'").fetchone()
-    finally:
-        conn.close()
-    return (page - 1) * size, size
-
-
-def damage_index_page(path) -> bytes:
-    """Overwrite the entry index's root page with junk; the damaged file's bytes."""
-    offset, size = index_page_offset(path)
-    with open(path, "r+b") as f:
-        f.seek(offset)
-        f.write(b"\xa5" * size)
-    return path.read_bytes()
 
 
 @pytest.fixture
