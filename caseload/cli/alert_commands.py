@@ -9,7 +9,7 @@ from caseload.cli.session import Session, echo_json, pass_session
 from caseload.cli.text_views import console, print_table, safe
 from caseload.core.alerts import ALERT_KINDS, CAUTION
 from caseload.core.model import Alert
-from caseload.core.protocol_file import LAYOUT, setting_rows
+from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows
 from caseload.application import alert_handling as alert_service
 from caseload.application import protocol as protocol_service
 from caseload.application.recompute import RefreshReport, refresh_all
@@ -60,9 +60,6 @@ def _handled(a: Alert) -> str:
 def alerts(session: Session, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool) -> None:
     """The alert queue, most pressing first (severity, then due day)."""
     ctx = session.context()
-    in_use = protocol_service.protocol_in_use(ctx.store)
-    if in_use.error:
-        click.echo(f"caseload: warning: {in_use.error}; the default protocol is in use", err=True)
     if refresh:
         done = refresh_all(ctx)
         click.echo(_refreshed(done), err=as_json)
@@ -128,30 +125,24 @@ def protocol_group() -> None:
 @protocol_group.command("show")
 @pass_session
 def protocol_show(session: Session) -> None:
-    """Every setting in use, with its default, accepted range and source."""
+    """The version in force: every setting, with its default, accepted range and source."""
     in_use = protocol_service.show_protocol(session.context())
     out = console()
-    if in_use.path is None:
-        out.print("Protocol file: none; the defaults are in use.")
-    elif in_use.error:
-        out.print(f"Protocol file: {safe(in_use.path)} [bold]REFUSED[/]: {safe(in_use.error)}")
-        out.print("The defaults are in use until the file is fixed.")
-    else:
-        out.print(f"Protocol file: {safe(in_use.path)} ({len(in_use.overrides())} settings differ from the defaults).")
+    out.print(f"Protocol version {in_use.version}, set by {safe(in_use.set_by)} at {safe(in_use.set_at)} "
+              f"({safe(in_use.source)}): {len(in_use.overrides())} settings differ from the defaults.")  # fmt: skip
     rows = [
         [r.name, f"{r.value:g}" + (" *" if r.overridden else ""), f"{r.default:g}", f"{r.lo:g}-{r.hi:g}", r.source, r.doc]
         for r in setting_rows(in_use.protocol)
     ]
     print_table(["setting", "in use", "default", "accepted", "source", "meaning"], rows)
-    out.print(f"* set by the clinic's file. TOML layout: {LAYOUT}; unknown names are refused.", style="dim")
+    out.print(f"* set by the clinic. Files for 'protocol use': {LAYOUT}; unknown names are refused.", style="dim")
 
 
 @protocol_group.command("check")
 @click.argument("file", type=click.Path(dir_okay=False))
 def protocol_check(file: str) -> None:
     """Check a protocol file without using it."""
-    checked = protocol_service.check_protocol_file(file)
-    changed = checked.overrides()
+    changed = overrides_of(protocol_service.check_protocol_file(file))
     listed = ", ".join(f"{k} = {v:g}" for k, v in changed.items()) or "none: every setting at its default"
     click.echo(f"{file}: valid; overrides {listed}.")
 
@@ -160,10 +151,19 @@ def protocol_check(file: str) -> None:
 @click.argument("file", type=click.Path(dir_okay=False))
 @pass_session
 def protocol_use(session: Session, file: str) -> None:
-    """Make a checked file the store's protocol (admins), then refresh every patient's alerts under it."""
+    """Store a checked file's settings as the next protocol version (admins), then refresh every patient's alerts."""
     in_use, done = protocol_service.use_protocol(session.context(), file)
-    click.echo(f"Protocol file {in_use.path} in use ({len(in_use.overrides())} settings differ from the defaults).")
+    click.echo(f"Protocol version {in_use.version} in use ({len(in_use.overrides())} settings differ from the defaults).")
     click.echo(_refreshed(done))
+
+
+@protocol_group.command("export")
+@click.argument("file", type=click.Path(dir_okay=False))
+@pass_session
+def protocol_export(session: Session, file: str) -> None:
+    """Write the protocol in force to a new file, in the layout 'protocol use' reads."""
+    in_use = protocol_service.export_protocol(session.context(), file)
+    click.echo(f"Protocol version {in_use.version} written to {file}.")
 
 
 COMMANDS = [alerts, ack, snooze, resolve, protocol_group]

@@ -13,6 +13,7 @@ from caseload.store.bulk_load import BulkTable
 from caseload.store.db import Database, StoreError, utc_now
 from caseload.store.entry_table import EntryTable
 from caseload.store.patient_table import PatientTable
+from caseload.store.protocol_table import ProtocolTable
 from caseload.store.staff_table import StaffTable
 from caseload.store.snapshot_table import StateTable
 
@@ -29,6 +30,7 @@ class Store:
         self.alerts = AlertTable(self.db)
         self.state = StateTable(self.db)
         self.bulk = BulkTable(self.db)
+        self.protocol = ProtocolTable(self.db)
 
     @property
     def path(self) -> Path:

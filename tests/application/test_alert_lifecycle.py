@@ -87,17 +87,19 @@ def test_acknowledged_then_refresh_does_not_raise_it_again(fever, as_role, store
         service.acknowledge(nurse, alert.id, "again")
 
 
-def test_a_corrected_reading_auto_resolves_and_the_key_is_never_raised_again(fever, as_role, store):
+def test_a_corrected_reading_auto_resolves_and_is_raised_again_when_corrected_back(fever, as_role, store):
     alert, entry = fever
     nurse = as_role(Role.NURSE)
     fixed = amend_entry(nurse, entry.id, "36.84", "misheard on the phone")
     resolved = store.alerts.get(alert.id)
     assert resolved.state is AlertState.RESOLVED and resolved.handled_by == "nurse1"
     assert resolved.resolved_reason == "auto: the entries behind it were corrected or voided"
-    amend_entry(nurse, fixed.entry.id, "38.5", "it was a fever after all")
-    assert store.alerts.count() == 1  # same reading day, same key: not raised twice
+    again = amend_entry(nurse, fixed.entry.id, "38.5", "it was a fever after all")
+    (back,) = again.refreshed.raised  # same reading day, same key: the condition came back
+    assert (back.key, back.state, back.evidence["celsius"]) == (alert.key, AlertState.OPEN, 38.5)
+    assert store.alerts.get(alert.id).state is AlertState.RESOLVED  # the first episode's row is history
     actions = [(a, by) for a, by, _ in audit(store)]
-    assert actions == [("alert.raise", "phone1"), ("alert.auto-resolve", "nurse1")]
+    assert actions == [("alert.raise", "phone1"), ("alert.auto-resolve", "nurse1"), ("alert.raise", "nurse1")]
 
 
 def test_resolve_by_a_nurse_then_nothing_left_to_do(fever, as_role, store):

@@ -1,8 +1,12 @@
 """An alert's life: open -> acknowledged -> resolved, snoozed until a day, auto-resolved when the
 condition ends, escalated when the evidence worsens. Pure: it decides, the services write.
 
-One stored row per key, ever: a resolved key is never raised again. A candidate that is only
-held (not raisable) keeps an alert alive but never raises or escalates one.
+A key names the episode an alert is about (the cycle, the bleed, the hCG pair, the scan, the gap,
+the reading day, the run of abnormal cycles), and at most one alert per key is unresolved. An alert
+the rules resolved is raised again, as a new row, when its condition comes back (a new episode has
+a new key; the same episode comes back after a correction); one a person resolved stays resolved
+for its episode unless the evidence worsens. A candidate that is only held (not raisable) keeps an
+alert alive but never raises or escalates one.
 """
 
 from __future__ import annotations
@@ -60,9 +64,9 @@ def effective(alert: Alert, today: date) -> Alert:
 
 def plan_sync(existing: list[Alert], candidates: list[Candidate], facts: Facts) -> SyncPlan:
     """Compare the patient's stored alerts (all of them, resolved ones too) with today's candidates."""
-    stored = {a.key: a for a in existing}
+    latest = {a.key: a for a in sorted(existing, key=lambda a: a.id)}
     found = {c.key: c for c in candidates}
-    raises = tuple(c for c in candidates if c.raisable and c.key not in stored)
+    raises = tuple(c for c in candidates if c.raisable and raised_again(latest.get(c.key), c))
     escalations, reopens, resolutions = [], [], []
     for alert in existing:
         if alert.state is RESOLVED:
@@ -75,6 +79,21 @@ def plan_sync(existing: list[Alert], candidates: list[Candidate], facts: Facts) 
         elif effective(alert, facts.today) is not alert:
             reopens.append(alert)
     return SyncPlan(raises, tuple(escalations), tuple(reopens), tuple(resolutions))
+
+
+def auto_resolved(alert: Alert) -> bool:
+    """Resolved by the rules (the condition ended), not by a person."""
+    return alert.state is RESOLVED and (alert.resolved_reason or "").startswith("auto: ")
+
+
+def raised_again(previous: Alert | None, candidate: Candidate) -> bool:
+    """Whether a raisable candidate raises a new alert, given the key's latest stored alert: none
+    yet; the condition came back after the rules resolved it; or worse than when a person resolved it."""
+    if previous is None:
+        return True
+    if previous.state is not RESOLVED:
+        return False
+    return auto_resolved(previous) or candidate.severity.rank < previous.severity.rank
 
 
 def ended_reason(alert: Alert, facts: Facts) -> str:
