@@ -9,6 +9,7 @@ recomputed inside the write, so two refreshes at once, or a refresh and a log, n
 
 from __future__ import annotations
 
+import time
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -23,6 +24,12 @@ from caseload.application.errors import Refused
 # Patients written per transaction: each takes a few milliseconds, so a writer queued behind one
 # batch waits tens of milliseconds, while the caseload is not fsynced patient by patient.
 BATCH_PATIENTS = 16
+# After each batch the refresh pauses this share of the batch's own time. A writer queued on the
+# lock is woken by SQLite's busy handler at growing intervals; a refresh that took the lock again at
+# once would make it miss the lock batch after batch.
+PAUSE_SHARE = 1.0
+# Writes of one patient before the last, which recomputes her inside the write.
+WRITE_TRIES = 3
 
 # progress(stage, done, total): stage "computed" while reading and computing, then "written".
 Progress = Callable[[str, int, int], None]
@@ -68,8 +75,8 @@ class RefreshPlan:
     work: tuple[PatientWork, ...]  # only the patients with something to write
 
     @property
-    def resolutions(self) -> int:
-        return sum(len(w.plan.resolutions) for w in self.work)
+    def vanishing(self) -> int:
+        return sum(w.plan.vanishing for w in self.work)
 
 
 def analyse_patient(ctx: Context, patient: Patient, entries: list[Entry] | None = None) -> Analysis:
@@ -92,6 +99,18 @@ def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     return Refreshed(snap, tuple(raised))
 
 
+def _compute(ctx: Context, patient: Patient, seen: list[Observation], mark: str | None) -> PatientWork:
+    """Outside any write: the patient's snapshot and alert plan, with the mark read before `seen`."""
+    analysis = analyse(patient, seen, ctx.today, ctx.protocol)
+    return PatientWork(patient, mark, snapshot_of(analysis), plan_alerts(ctx, patient, analysis, seen))
+
+
+def _compute_again(ctx: Context, patient_id: str) -> PatientWork:
+    """A patient who changed after her compute, computed afresh (mark first, as in the whole pass)."""
+    mark = ctx.store.patients.change_marks(patient_id).get(patient_id)
+    return _compute(ctx, ctx.store.patients.get(patient_id), ctx.store.entries.observations_for(patient_id), mark)
+
+
 def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
     """Every patient as of ctx.today, computed in one pass over the entries; writes nothing.
     Refused when it would auto-resolve too many alerts at once (see `check_mass_resolve`)."""
@@ -103,12 +122,10 @@ def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
     work: list[PatientWork] = []
 
     def compute(patient: Patient, seen: list[Observation]) -> None:
-        analysis = analyse(patient, seen, ctx.today, ctx.protocol)
-        snap = snapshot_of(analysis)
-        plan = plan_alerts(ctx, patient, analysis, seen)
+        done = _compute(ctx, patient, seen, marks.get(patient.id))
         before = stored.get(patient.id)
-        if not plan.empty or before is None or before.to_dict() != snap.to_dict():
-            work.append(PatientWork(patient, marks.get(patient.id), snap, plan))
+        if not done.plan.empty or before is None or before.to_dict() != done.snapshot.to_dict():
+            work.append(done)
         if progress is not None:
             progress("computed", len(patients) - len(unseen), len(patients))
 
@@ -120,13 +137,14 @@ def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
     for patient_id in list(unseen):
         compute(unseen.pop(patient_id), [])
     found = RefreshPlan(len(patients), tuple(work))
-    check_mass_resolve(ctx, found.resolutions)
+    check_mass_resolve(ctx, found.vanishing)
     return found
 
 
 def check_mass_resolve(ctx: Context, resolutions: int) -> None:
     """Refuse a refresh that would auto-resolve more than the protocol's share of the unresolved
-    alerts at once: a wrong date, a wrong protocol or a damaged store looks exactly like that."""
+    alerts at once: a wrong date, a wrong protocol or a damaged store looks exactly like that.
+    `resolutions` counts the alerts that would leave the lists, not those replaced by a new one."""
     p = ctx.protocol
     unresolved = ctx.store.alerts.count_unresolved()
     if resolutions >= p.mass_resolve_min and resolutions > p.mass_resolve_share * unresolved:
@@ -137,26 +155,37 @@ def check_mass_resolve(ctx: Context, resolutions: int) -> None:
         )
 
 
-def _write_patient(ctx: Context, w: PatientWork) -> tuple[int, int]:
-    """Inside the batch's write: the computed state, or a fresh recompute when she changed meanwhile."""
+def _write_patient(ctx: Context, w: PatientWork, last_try: bool) -> tuple[int, int] | None:
+    """Inside the batch's write: the computed state, or None when she changed meanwhile (she is
+    computed again outside the write). On the last try she is recomputed here instead, so a patient
+    logged again and again cannot hold the refresh up; that costs one patient's compute, no more."""
     pid = w.patient.id
     if ctx.store.patients.change_marks(pid).get(pid) != w.mark:
-        patient = ctx.store.patients.get(pid)
-        _, raised, resolved = _recompute(ctx, patient, ctx.store.entries.observations_for(pid))
+        if not last_try:
+            return None
+        _, raised, resolved = _recompute(ctx, ctx.store.patients.get(pid), ctx.store.entries.observations_for(pid))
         return len(raised), resolved
     ctx.store.state.put(w.snapshot)
     return len(apply_plan(ctx, w.plan)), len(w.plan.resolutions)
 
 
 def write_refresh(ctx: Context, found: RefreshPlan, progress: Progress | None = None) -> RefreshReport:
-    """Write a computed refresh a few patients per short transaction."""
+    """Write a computed refresh a few patients per short transaction; patients changed since their
+    compute are computed again outside the write and retried."""
     raised = resolved = done = 0
-    for first in range(0, len(found.work), BATCH_PATIENTS):
-        batch = found.work[first : first + BATCH_PATIENTS]
-        counts = ctx.store.transact(lambda: [_write_patient(ctx, w) for w in batch])  # noqa: B023 - run at once
-        raised += sum(c[0] for c in counts)
-        resolved += sum(c[1] for c in counts)
-        done += len(batch)
+    queue = [(w, 1) for w in found.work]  # (work, try)
+    while queue:
+        batch, queue = queue[:BATCH_PATIENTS], queue[BATCH_PATIENTS:]
+        began = time.perf_counter()
+        counts = ctx.store.transact(
+            lambda: [_write_patient(ctx, w, tries >= WRITE_TRIES) for w, tries in batch]  # noqa: B023 - run at once
+        )
+        time.sleep((time.perf_counter() - began) * PAUSE_SHARE)
+        for (w, tries), count in zip(batch, counts):
+            if count is None:
+                queue.append((_compute_again(ctx, w.patient.id), tries + 1))
+                continue
+            raised, resolved, done = raised + count[0], resolved + count[1], done + 1
         if progress is not None:
             progress("written", done, len(found.work))
     return RefreshReport(found.patients, raised, resolved)

@@ -51,6 +51,13 @@ class SyncPlan:
     resolutions: tuple[tuple[Alert, str], ...]  # with the reason, "auto: ..."
 
     @property
+    def vanishing(self) -> int:
+        """Auto-resolutions not replaced by a new alert of the same kind (an episode re-keyed, a
+        cycle's alert handing over to the next): the alerts that leave the lists."""
+        replaced = {c.kind for c in self.raises}
+        return sum(1 for alert, _ in self.resolutions if alert.kind not in replaced)
+
+    @property
     def empty(self) -> bool:
         return not (self.raises or self.escalations or self.reopens or self.resolutions)
 
