@@ -1,11 +1,13 @@
-"""The morning refresh in its own process: a clerk's log goes through while it runs, and a refresh
-killed with SIGKILL leaves every patient either refreshed or as she was, her alerts in step."""
+"""The morning refresh in its own process or worker thread: a clerk's log goes through while it runs,
+two at once raise each alert once, and a refresh killed with SIGKILL leaves every patient either
+refreshed or as she was, her alerts in step."""
 
 from __future__ import annotations
 
 import multiprocessing
 import os
 import signal
+import threading
 import time
 from datetime import timedelta
 from pathlib import Path
@@ -20,6 +22,7 @@ from caseload.application.alert_sync import plan_alerts
 from caseload.application.context import Context
 from caseload.application.csv_import import import_csv
 from caseload.application.entries import log_entry
+from caseload.application.morning_refresh import run_morning_refresh
 from caseload.application.patients import add_patient
 from caseload.application.protocol import load_protocol
 from caseload.application.staff import add_staff, init_store
@@ -142,3 +145,28 @@ def test_two_refreshes_at_once_raise_each_alert_once(caseload, tmp_path):
         assert sorted(gaps) == PATIENTS  # one each, though both refreshes computed one for everyone
         for pid in PATIENTS:
             assert fresh(store, pid)[0] == store.state.get(pid).to_dict()
+
+
+def test_the_interface_refresh_in_a_worker_thread_leaves_its_own_connection_free(caseload):
+    stages: list[tuple[str, int, int]] = []
+
+    def progress(stage: str, done: int, total: int) -> None:
+        stages.append((stage, done, total))
+        if stage == "written":
+            time.sleep(PAUSE_S)
+
+    with Store(caseload) as store:
+        ada = actor(store, "ada")
+        worker = threading.Thread(target=run_morning_refresh, args=(caseload, ada, MORNING, progress))
+        worker.start()
+        try:
+            while not any(s[0] == "written" for s in stages):
+                assert worker.is_alive()
+                time.sleep(0.01)
+            clerk = Context(store, actor(store, "phil"), TODAY, load_protocol(store))
+            assert log_entry(clerk, PATIENTS[0], "temp", "36.50", on="today", at="06:50").entry.id is not None
+            assert worker.is_alive()  # logged on the interface's connection while the refresh ran
+        finally:
+            worker.join(60)
+    assert stages[-1] == ("written", len(PATIENTS), len(PATIENTS))
+    assert ("computed", len(PATIENTS), len(PATIENTS)) in stages
