@@ -23,7 +23,7 @@ from caseload.application.errors import Refused
 
 # Patients written per transaction: each takes a few milliseconds, so a writer queued behind one
 # batch waits tens of milliseconds, while the caseload is not fsynced patient by patient.
-BATCH_PATIENTS = 16
+BATCH_PATIENTS = 8
 # After each batch the refresh pauses this share of the batch's own time. A writer queued on the
 # lock is woken by SQLite's busy handler at growing intervals; a refresh that took the lock again at
 # once would make it miss the lock batch after batch.

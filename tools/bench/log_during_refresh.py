@@ -26,7 +26,7 @@ from pathlib import Path
 
 from caseload.core.model import PatientStatus
 from caseload.application.entries import log_entry
-from caseload.application.recompute import refresh_all
+from caseload.application import recompute
 from caseload.store import Store
 from tools.bench.build import bench_store, parse_sizes
 from tools.bench.measure import CLERK, SUPERVISOR, _context
@@ -38,12 +38,12 @@ INTERVAL_S = 0.05
 def refresh_process(path: Path, today: date) -> None:
     """The refresh as its own process; prints one line when it starts writing and one when done."""
     def progress(stage: str, done: int, total: int) -> None:
-        if stage == "written" and done <= 16:  # the first batch: writing has begun
+        if stage == "written" and done <= recompute.BATCH_PATIENTS:  # the first batch: writing has begun
             print(json.dumps({"writing_from": time.time()}), flush=True)
 
     with Store(path) as store:
         began = time.time()
-        report = refresh_all(_context(store, SUPERVISOR, today), progress)
+        report = recompute.refresh_all(_context(store, SUPERVISOR, today), progress)
         print(json.dumps({"began": began, "ended": time.time(), "patients": report.patients}), flush=True)
 
 
