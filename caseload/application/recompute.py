@@ -4,7 +4,9 @@ The whole-caseload refresh computes outside any write transaction, then writes a
 short transaction, so a clerk's log never waits long behind it. Each patient's snapshot and alerts
 are written together: a refresh killed half way leaves every patient refreshed or as she was. A
 patient changed between the compute and the write (a log, an alert handled, another refresh) is
-recomputed inside the write, so two refreshes at once, or a refresh and a log, never store stale work.
+seen by her change mark inside the write and computed again, so two refreshes at once, or a refresh
+and a log, never store stale work. A refresh that would auto-resolve too many alerts at once writes
+nothing (`check_mass_resolve`).
 """
 
 from __future__ import annotations

@@ -362,3 +362,13 @@ def test_irregular_cycles_a_new_run_is_a_new_episode_even_after_a_person_resolve
     (second,) = of(found3, K.IRREGULAR_CYCLES)
     assert second.key == f"P0001:irregular-cycles:{later.isoformat()}" != first.key
     assert plan_sync([done], found3, f3).raises == (second,)
+
+
+def test_an_alert_under_an_older_key_hands_over_and_does_not_count_as_vanishing():
+    chart, current = _regular((26, 30, 34, 28))  # irregular: variation 8 days at 34 (FIGO 2018)
+    f, found = facts(chart, current + timedelta(days=1))
+    (c,) = of(found, K.IRREGULAR_CYCLES)
+    older = stored(replace(c, key="P0001:irregular-cycles:irregular"))  # keyed on the label, as stores once were
+    plan = plan_sync([older], found, f)
+    assert plan.resolutions == ((older, "auto: the finding goes on in the alert keyed on the first cycle of its run"),)
+    assert c in plan.raises and plan.vanishing == 0

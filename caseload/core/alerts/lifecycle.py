@@ -132,6 +132,8 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
         return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
     if kind is AlertKind.IRREGULAR_CYCLES:
         c = analysis.classification
+        if c.frequency in ("frequent", "infrequent") or c.regularity == "irregular":
+            return "the finding goes on in the alert keyed on the first cycle of its run"
         return f"cycles now classify as frequency {c.frequency}, regularity {c.regularity} (FIGO 2018)"
     return "the entries behind it were corrected or voided"
 
