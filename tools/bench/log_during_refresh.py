@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import os
 import shutil
 import statistics
 import subprocess
@@ -33,10 +34,13 @@ from tools.bench.measure import CLERK, SUPERVISOR, _context
 
 LOGS = 40
 INTERVAL_S = 0.05
+REFRESH_NICE = 10  # as `nice -n 10` in the README's cron line
 
 
 def refresh_process(path: Path, today: date) -> None:
-    """The refresh as its own process; prints one line when it starts writing and one when done."""
+    """The refresh as its own process, at the lower CPU priority the README's cron line gives it;
+    prints one line when it starts writing and one when done."""
+    os.nice(REFRESH_NICE)
     def progress(stage: str, done: int, total: int) -> None:
         if stage == "written" and done <= recompute.BATCH_PATIENTS:  # the first batch: writing has begun
             print(json.dumps({"writing_from": time.time()}), flush=True)
