@@ -124,3 +124,14 @@ def test_the_store_keeps_the_protocol_when_its_file_goes_bad_and_export_gives_it
     assert exported.exit_code == 0 and f"Protocol version 2 written to {out}." in exported.output
     assert "fever_c = 37.8" in out.read_text(encoding="utf-8")
     refused(clinic("protocol", "export", str(out)), "already exists")
+
+
+def test_a_protocol_that_would_clear_most_alerts_is_refused_in_one_line(clinic, tmp_path):
+    for days_ago in range(2, 7):  # five more fevers (38.0 C: common practice), six in all
+        assert clinic("log", "P0001", "temp", "38.3", "--on", f"-{days_ago}").exit_code == 0
+    path = tmp_path / "clinic.toml"
+    path.write_text("fever_c = 39.0\n", encoding="utf-8")
+    before = clinic("alerts", "--json", "--state", "all").output
+    refused(clinic("protocol", "use", str(path)), "refresh stopped: it would auto-resolve 6 of the 6 unresolved alerts")
+    assert clinic("alerts", "--json", "--state", "all").output == before
+    assert "Protocol version 1," in clinic("protocol", "show").output
