@@ -80,7 +80,7 @@ def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]
     under it. The refresh is computed (and checked against mass resolution) before anything is written."""
     ctx.require("protocol.set")
     chosen = str(Path(path).expanduser().resolve())
-    before = protocol_in_use(ctx.store)
+    before = ctx.store.protocol.current()
     protocol = replace(read_protocol_file(chosen), version=before.version + 1)
     under_new = replace(ctx, protocol=protocol)
     found = plan_refresh(under_new)
