@@ -90,7 +90,7 @@ def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]
             raise Refused("the clinic protocol was changed by someone else meanwhile: nothing was written, try again")
         ctx.store.protocol.add(ctx.actor, f"imported from {chosen}", overrides_of(protocol))
 
-    ctx.store.transact(work)
+    ctx.store.transact(work, ctx.today)
     return protocol_in_use(ctx.store), write_refresh(under_new, found)
 
 

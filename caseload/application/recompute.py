@@ -44,13 +44,6 @@ class Refreshed:
     snapshot: Snapshot
     raised: tuple[Alert, ...]
 
-    def summary(self) -> str:
-        day = self.snapshot.cycle_day(self.snapshot.computed_on)
-        text = f"Cycle day {day} ({self.snapshot.phase})." if day else f"No cycle start yet ({self.snapshot.phase})."
-        if self.raised:
-            text += " Raised: " + "; ".join(f"{a.kind} ({a.severity.value})" for a in self.raised) + "."
-        return text
-
 
 @dataclass(frozen=True)
 class RefreshReport:
@@ -180,7 +173,8 @@ def write_refresh(ctx: Context, found: RefreshPlan, progress: Progress | None = 
         batch, queue = queue[:BATCH_PATIENTS], queue[BATCH_PATIENTS:]
         began = time.perf_counter()
         counts = ctx.store.transact(
-            lambda: [_write_patient(ctx, w, tries >= WRITE_TRIES) for w, tries in batch]  # noqa: B023 - run at once
+            lambda: [_write_patient(ctx, w, tries >= WRITE_TRIES) for w, tries in batch],  # noqa: B023 - run at once
+            ctx.today,
         )
         time.sleep((time.perf_counter() - began) * PAUSE_SHARE)
         for (w, tries), count in zip(batch, counts):

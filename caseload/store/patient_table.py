@@ -42,7 +42,7 @@ class PatientTable:
 
 MARK_SQL = """
 SELECT p.id, json_array(
-    p.name, p.born, p.nurse_id, p.status, p.plan, p.created, p.charting_temps,
+    p.name, p.born, p.nurse_id, p.status, p.status_since, p.plan, p.created, p.charting_temps,
     (SELECT json_array(count(*), max(id), count(voided_at)) FROM entry WHERE patient_id = p.id),
     (SELECT json_group_array(json_array(id, state, severity, snooze_until, due)) FROM alert WHERE patient_id = p.id)
 ) FROM patient p

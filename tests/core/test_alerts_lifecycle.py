@@ -303,13 +303,32 @@ def _fever():
     return chart, day(current, 6), patient(), lambda c: _copy(c, lambda o: o.value.number != 38.4)
 
 
+def _intermenstrual_bleeding():
+    chart, current = _regular()
+    for n in range(3):  # FIGO 2018 abnormal bleeding symptom; 3 days in a cycle by default (common practice)
+        chart.add(day(current, 14 + n), Kind.BLEED, Value(word="light"))
+    chart.obs = [replace(o, flags=("midcycle",)) if o.kind is Kind.BLEED and o.day >= day(current, 14) else o
+                 for o in chart.obs]  # fmt: skip
+    third = day(current, 16)
+    return chart, third, patient(), lambda c: _copy(c, lambda o: not (o.kind is Kind.BLEED and o.day == third))
+
+
+def _bleeding_in_pregnancy():
+    chart, current = _regular()
+    chart.add(day(current, 30), Kind.HCG, Value(word="positive"))
+    chart.hcg(at(day(current, 31)), 120).hcg(at(day(current, 33)), 240)  # doubling: Barnhart 2004 normal
+    chart.bleed(day(current, 35), 2, "light")  # a bleed after a positive test: common practice
+    bled = {day(current, 35), day(current, 36)}
+    return chart, day(current, 36), patient(), lambda c: _copy(c, lambda o: not (o.kind is Kind.BLEED and o.day in bled))
+
+
 EPISODES = {
     K.WINDOW_APPROACHING: _window_approaching, K.WINDOW_OPEN: _window_open, K.NO_THERMAL_SHIFT: _no_thermal_shift,
     K.MONOPHASIC_CYCLE: _monophasic_cycle, K.IRREGULAR_CYCLES: _irregular_cycles,
     K.SHORT_LUTEAL_PHASE: _short_luteal_phase, K.PROLONGED_BLEEDING: _prolonged_bleeding,
     K.PERIOD_OVERDUE: _period_overdue, K.SUSTAINED_HIGH_TEMPS: _sustained_high_temps, K.AMENORRHOEA: _amenorrhoea,
     K.HCG_RISE_LOW: _hcg_rise_low, K.MULTIPLE_FOLLICLES: _multiple_follicles, K.LOGGING_GAP: _logging_gap,
-    K.FEVER: _fever,
+    K.FEVER: _fever, K.INTERMENSTRUAL_BLEEDING: _intermenstrual_bleeding, K.BLEEDING_IN_PREGNANCY: _bleeding_in_pregnancy,
 }  # fmt: skip
 
 
@@ -372,3 +391,16 @@ def test_an_alert_under_an_older_key_hands_over_and_does_not_count_as_vanishing(
     plan = plan_sync([older], found, f)
     assert plan.resolutions == ((older, "auto: the finding goes on in the alert keyed on the first cycle of its run"),)
     assert c in plan.raises and plan.vanishing == 0
+
+
+def test_the_window_approaching_hands_over_to_the_window_open_and_does_not_count_as_vanishing():
+    chart, current = follicular(4)
+    f, found = facts(chart, day(current, 4))
+    (approaching,) = of(found, K.WINDOW_APPROACHING)
+    earlier = stored(approaching)
+    chart.temps(day(current, 5), day(current, 9))
+    f2, found2 = facts(chart, day(current, 9))  # P(fertile) above 0.5: the window is open (common practice)
+    plan = plan_sync([earlier], found2, f2)
+    assert [a for a, _ in plan.resolutions] == [earlier] and of(list(plan.raises), K.WINDOW_OPEN)
+    assert plan.vanishing == 0
+    assert plan_sync([earlier], [], f2).vanishing == 1  # nothing in its place: it leaves the lists

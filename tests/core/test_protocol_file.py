@@ -8,7 +8,7 @@ from hypothesis import strategies as st
 
 from caseload.core.parse import InputError
 from caseload.core.protocol_file import overrides_of, parse_protocol, protocol_from_values, protocol_text, setting_rows
-from caseload.core.settings import DEFAULT_PROTOCOL, protocol_fields
+from caseload.core.settings import DEFAULT_PROTOCOL, SETTINGS
 
 
 def test_an_empty_file_keeps_every_default():
@@ -23,7 +23,7 @@ def test_defaults_carry_their_published_sources():
     assert rows["figo_prolonged_bleed_above"].value == 8  # FIGO 2018: normal up to 8 days
     assert rows["fever_c"].value == 38.0 and rows["fever_c"].source == "common practice"
     assert not any(r.overridden for r in rows.values())
-    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [name for name, _, _ in protocol_fields()]
+    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [f.name for f in SETTINGS]
 
 
 def test_overrides_are_typed_and_marked():
@@ -79,9 +79,9 @@ def _setting_value(default, meta: dict):
 
 
 OVERRIDES = st.dictionaries(
-    st.sampled_from([name for name, _, _ in protocol_fields()]), st.just(None), max_size=6
+    st.sampled_from([f.name for f in SETTINGS]), st.just(None), max_size=6
 ).flatmap(lambda chosen: st.fixed_dictionaries(
-    {name: _setting_value(default, meta) for name, default, meta in protocol_fields() if name in chosen}))
+    {f.name: _setting_value(f.default, f.metadata) for f in SETTINGS if f.name in chosen}))
 
 
 @given(OVERRIDES)

@@ -31,7 +31,8 @@ from tests.application.test_alert_lifecycle import history_csv
 from tests.robustness.conftest import TODAY
 
 PATIENTS = [f"R{n:03d}" for n in range(1, 25)]
-# Three days after the last entries: every patient's snapshot moves and a logging gap is raised.
+# Three days after the last entries: every patient's snapshot moves, a logging gap is raised and
+# the window approaching hands over to the window open (two alerts raised per patient).
 MORNING = TODAY + timedelta(days=3)
 PAUSE_S = 0.25  # the test hook: the refresh sleeps after each batch it writes, outside any transaction
 
@@ -104,14 +105,14 @@ def test_a_log_during_a_refresh_in_another_process_goes_through_and_is_kept(case
     with Store(caseload) as store:
         # The refresh saw the patient change after its compute and recomputed her inside its write.
         snapshot, plan = fresh(store, PATIENTS[-1])
-        assert store.state.get(PATIENTS[-1]).to_dict() == snapshot and plan.empty
-        kept = store.state.get(PATIENTS[-1])
+        assert store.state.all()[PATIENTS[-1]].to_dict() == snapshot and plan.empty
+        kept = store.state.all()[PATIENTS[-1]]
         assert (kept.last_entry_day, kept.computed_on) == (TODAY, MORNING)
 
 
 def test_a_refresh_killed_half_way_leaves_every_patient_refreshed_or_as_she_was(caseload, tmp_path):
     with Store(caseload) as store:
-        before = {pid: (store.state.get(pid).to_dict(), store.alerts.for_patient(pid)) for pid in PATIENTS}
+        before = {pid: (store.state.all()[pid].to_dict(), store.alerts.for_patient(pid)) for pid in PATIENTS}
     proc, flag = start_refresh(caseload, tmp_path)
     written(flag, 6, proc)
     os.kill(proc.pid, signal.SIGKILL)
@@ -120,7 +121,7 @@ def test_a_refresh_killed_half_way_leaves_every_patient_refreshed_or_as_she_was(
     with Store(caseload) as store:
         for pid in PATIENTS:
             snapshot, plan = fresh(store, pid)
-            now = (store.state.get(pid).to_dict(), store.alerts.for_patient(pid))
+            now = (store.state.all()[pid].to_dict(), store.alerts.for_patient(pid))
             if now[0] == snapshot:
                 refreshed += 1
                 assert plan.empty, pid  # her alerts were written with her snapshot
@@ -131,7 +132,8 @@ def test_a_refresh_killed_half_way_leaves_every_patient_refreshed_or_as_she_was(
         assert live == []
         assert 6 <= refreshed < len(PATIENTS)
         again = recompute.refresh_all(Context(store, actor(store, "ada"), MORNING, load_protocol(store)))
-        assert again.raised == len(PATIENTS) - refreshed  # the rest get their logging gap now, once
+        # The rest get their logging gap and their window open now, once.
+        assert again.raised == 2 * (len(PATIENTS) - refreshed)
 
 
 def test_two_refreshes_at_once_raise_each_alert_once(caseload, tmp_path):
@@ -143,8 +145,10 @@ def test_two_refreshes_at_once_raise_each_alert_once(caseload, tmp_path):
     with Store(caseload) as store:
         gaps = [a.patient_id for a in store.alerts.all() if a.kind == "logging-gap"]
         assert sorted(gaps) == PATIENTS  # one each, though both refreshes computed one for everyone
+        opened = [a.patient_id for a in store.alerts.all() if a.kind == "window-open"]
+        assert sorted(opened) == PATIENTS
         for pid in PATIENTS:
-            assert fresh(store, pid)[0] == store.state.get(pid).to_dict()
+            assert fresh(store, pid)[0] == store.state.all()[pid].to_dict()
 
 
 def test_the_interface_refresh_in_a_worker_thread_leaves_its_own_connection_free(caseload):

@@ -17,7 +17,7 @@ from datetime import date, timedelta
 
 from caseload.core.alerts import AlertKind, Candidate, Facts, scope_of
 from caseload.core.alerts.base import skip_reason
-from caseload.core.alerts.window import p_today
+from caseload.core.alerts.window import open_threshold, p_today
 from caseload.core.model import Alert, AlertState
 from caseload.core.parse import InputError, one_line
 
@@ -36,9 +36,12 @@ CURRENT_CYCLE_KINDS = frozenset(
     {
         AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN, AlertKind.NO_THERMAL_SHIFT, AlertKind.PERIOD_OVERDUE,
         AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP, AlertKind.HCG_RISE_LOW,
-        AlertKind.MULTIPLE_FOLLICLES,
+        AlertKind.MULTIPLE_FOLLICLES, AlertKind.BLEEDING_IN_PREGNANCY,
     }
 )  # fmt: skip
+# Kinds whose alert hands over to the next kind's as the cycle moves on: the window approaching
+# becomes the window open. Such a resolution is a hand-over, not an alert leaving the lists.
+HANDS_OVER_TO = {AlertKind.WINDOW_APPROACHING: AlertKind.WINDOW_OPEN}
 
 
 @dataclass(frozen=True)
@@ -53,9 +56,13 @@ class SyncPlan:
     @property
     def vanishing(self) -> int:
         """Auto-resolutions not replaced by a new alert of the same kind (an episode re-keyed, a
-        cycle's alert handing over to the next): the alerts that leave the lists."""
+        cycle's alert handing over to the next) or of the kind it hands over to (`HANDS_OVER_TO`):
+        the alerts that leave the lists."""
         replaced = {c.kind for c in self.raises}
-        return sum(1 for alert, _ in self.resolutions if alert.kind not in replaced)
+        return sum(
+            1 for alert, _ in self.resolutions
+            if alert.kind not in replaced and HANDS_OVER_TO.get(alert.kind) not in replaced
+        )  # fmt: skip
 
     @property
     def empty(self) -> bool:
@@ -128,7 +135,7 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
         return f"LH surge logged on {current.markers.lh_surge.isoformat()}: the window is open"
     if kind in windows and analysis.prediction is not None:
         chance = p_today(analysis.prediction)
-        opened = kind is AlertKind.WINDOW_APPROACHING and chance >= facts.protocol.window_open_p
+        opened = kind is AlertKind.WINDOW_APPROACHING and chance >= open_threshold(analysis.prediction, facts.protocol)
         return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
     if kind is AlertKind.IRREGULAR_CYCLES:
         c = analysis.classification
