@@ -33,7 +33,8 @@ from caseload.application.errors import Refused
 from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.permissions import allowed
 from caseload.application.protocol import ProtocolInUse
-from caseload.application.recompute import RefreshReport, refresh_all
+from caseload.application.morning_refresh import run_morning_refresh
+from caseload.application.recompute import Progress, RefreshReport, refresh_all
 from caseload.application.week.figures import WeeklySummary
 from caseload.store import Report, Store, StoreError
 from caseload.store.backup_restore import Restored
@@ -173,13 +174,30 @@ class Clinic:
             ctx = self._writing(doing)
 
             def unit():
-                if self.maintenance_date is not None:
-                    self.store.audit.record(ctx.actor, "maintenance.write", "meta", None,
-                                            after={"date_of_record": self.date_of_record.isoformat(),
-                                                   "real_date": self.real_date.isoformat(), "doing": doing})
+                self._audit_maintenance(ctx, doing)
                 return use_case(ctx, *args, **kwargs)
 
             return self.store.transact(unit, self.date_of_record)
+
+    def _audit_maintenance(self, ctx: Context, doing: str) -> None:
+        """In maintenance mode, inside the caller's transaction: who wrote as of which day, and the real date."""
+        if self.maintenance_date is not None:
+            self.store.audit.record(ctx.actor, "maintenance.write", "meta", None,
+                                    after={"date_of_record": self.date_of_record.isoformat(),
+                                           "real_date": self.real_date.isoformat(), "doing": doing})
+
+    def _write_in_batches(self, doing: str, use_case: Callable, *args):
+        """Run a use case that writes in many short transactions of its own (the whole-caseload refresh),
+        so other terminals' writes get the lock between them; each records the date of record."""
+        with self.lock:
+            ctx = self._writing(doing)
+            self._mark_maintenance(ctx, doing)
+            return use_case(ctx, *args)
+
+    def _mark_maintenance(self, ctx: Context, doing: str) -> None:
+        """Before a write in batches, in maintenance mode: its maintenance row in a transaction of its own."""
+        if self.maintenance_date is not None:
+            self.store.transact(lambda: self._audit_maintenance(ctx, doing), self.date_of_record)
 
     def _maintain(self, doing: str, use_case: Callable, *args):
         """Backup and restore: they copy or replace the whole file, so they open their own short
@@ -276,8 +294,18 @@ class Clinic:
         return self._write("resolving an alert", alert_handling.resolve, alert_id, note)
 
     def refresh(self) -> RefreshReport:
-        """Every patient's snapshot and alerts brought up to the date of record."""
-        return self._write("the alert refresh", refresh_all)
+        """Every patient's snapshot and alerts brought up to the date of record, computed outside any
+        write and written a few patients per transaction."""
+        return self._write_in_batches("the alert refresh", refresh_all)
+
+    def refresh_on_own_connection(self, progress: Progress | None = None) -> RefreshReport:
+        """The interface's morning refresh, for a worker thread: the same refresh on a store
+        connection of its own, without the clinic's lock, so the interface stays free to read and
+        save meanwhile. `progress(stage, done, total)` is called from the worker's thread."""
+        with self.lock:
+            ctx = self._writing("the morning refresh")
+            self._mark_maintenance(ctx, "the morning refresh")
+        return run_morning_refresh(self.store.path, ctx.actor, ctx.today, progress)
 
     def morning_refresh_due(self, lines: list[CaseloadLine] | tuple[CaseloadLine, ...]) -> bool:
         """Whether opening the list should run the refresh: some snapshot is older than the date of
@@ -341,7 +369,7 @@ class Clinic:
     # --- the clinic protocol
 
     def protocol_in_use(self) -> ProtocolInUse:
-        """The protocol in force and any error that put the defaults back (no permission needed)."""
+        """The stored protocol version in force (no permission needed)."""
         with self.lock:
             return protocol.protocol_in_use(self.store)
 
@@ -349,6 +377,11 @@ class Clinic:
         return self._read(protocol.show_protocol)
 
     def protocol_use(self, path: str) -> tuple[ProtocolInUse, RefreshReport]:
-        in_use, report = self._write("changing the protocol", protocol.use_protocol, path)
+        """Store a checked file as the next protocol version, then refresh every patient under it
+        (the version in one transaction, the refresh in batches)."""
+        in_use, report = self._write_in_batches("changing the protocol", protocol.use_protocol, path)
         self.protocol = in_use.protocol
         return in_use, report
+
+    def protocol_export(self, path: str) -> ProtocolInUse:
+        return self._read(protocol.export_protocol, path)

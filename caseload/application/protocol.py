@@ -1,7 +1,10 @@
-"""The clinic protocol in force for a store: the TOML file named in the store's meta table, or the defaults.
+"""The clinic protocol in force: a numbered version stored in the store, changed only by an admin.
 
-A file that has gone bad (moved, edited into nonsense) never stops the store from opening: the
-defaults apply and `protocol_in_use` carries the error for `caseload protocol show`.
+A protocol file is only an import and export format: `protocol use FILE` checks a file and stores
+its settings as a new version (audited, before and after); `protocol export FILE` writes the version
+in force back out. A store upgraded from the time of files keeps the file it named as version 1 when
+it still read as valid, else the defaults, with the reason recorded: no reader ever falls back to
+the defaults because a file cannot be read.
 """
 
 from __future__ import annotations
@@ -10,24 +13,28 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from caseload.core.parse import InputError
-from caseload.core.protocol_file import parse_protocol, setting_rows
-from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.core.protocol_file import overrides_of, parse_protocol, protocol_from_values, protocol_text
+from caseload.core.settings import Protocol
 from caseload.application.context import Context
-from caseload.application.recompute import RefreshReport, refresh_all
+from caseload.application.errors import Refused
+from caseload.application.recompute import RefreshReport, plan_refresh, write_refresh
 from caseload.store import Store
 
-META_KEY = "protocol_file"
 MAX_BYTES = 256 * 1024
 
 
 @dataclass(frozen=True)
 class ProtocolInUse:
-    path: str | None  # None: no file chosen, the defaults apply
+    """The version in force: its settings, who set it, when and from where."""
+
+    version: int
+    set_at: str
+    set_by: str
+    source: str
     protocol: Protocol
-    error: str | None  # why the chosen file was refused; the defaults apply meanwhile
 
     def overrides(self) -> dict[str, float | int]:
-        return {r.name: r.value for r in setting_rows(self.protocol) if r.overridden}
+        return overrides_of(self.protocol)
 
 
 def read_protocol_file(path: str) -> Protocol:
@@ -49,40 +56,59 @@ def read_protocol_file(path: str) -> Protocol:
 
 
 def protocol_in_use(store: Store) -> ProtocolInUse:
-    path = store.meta(META_KEY)
-    if path is None:
-        return ProtocolInUse(None, DEFAULT_PROTOCOL, None)
-    try:
-        return ProtocolInUse(path, read_protocol_file(path), None)
-    except InputError as err:
-        return ProtocolInUse(path, DEFAULT_PROTOCOL, str(err))
+    """The stored version in force, checked as a file would be (a setting this code no longer
+    accepts is refused with one line, never replaced by its default)."""
+    stored = store.protocol.current()
+    protocol = protocol_from_values(stored.overrides, f"protocol version {stored.version} in the store")
+    return ProtocolInUse(stored.version, stored.set_at, stored.set_by, stored.source,
+                         replace(protocol, version=stored.version))  # fmt: skip
 
 
 def show_protocol(ctx: Context) -> ProtocolInUse:
-    """`protocol show`: the settings in force, with any error that put the defaults back."""
+    """`protocol show`: the version in force and its settings."""
     ctx.require("protocol.view")
     return protocol_in_use(ctx.store)
 
 
 def load_protocol(store: Store) -> Protocol:
+    """The settings in force, carrying their version number."""
     return protocol_in_use(store).protocol
 
 
 def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]:
-    """Admins: check the file, record it as the store's protocol, then refresh every patient under it."""
+    """Admins: check the file, store its settings as the next version, then refresh every patient
+    under it. The refresh is computed (and checked against mass resolution) before anything is written."""
     ctx.require("protocol.set")
     chosen = str(Path(path).expanduser().resolve())
-    protocol = read_protocol_file(chosen)
-    in_use = ProtocolInUse(chosen, protocol, None)
-    with ctx.store.atomic(ctx.today):
-        before = ctx.store.meta(META_KEY)
-        ctx.store.set_meta(META_KEY, chosen)
-        ctx.store.audit.record(ctx.actor, "protocol.use", "meta", META_KEY, before={"path": before},
-                               after={"path": chosen, "overrides": in_use.overrides()})
-    report = refresh_all(replace(ctx, protocol=protocol))
-    return in_use, report
+    before = ctx.store.protocol.current()
+    protocol = replace(read_protocol_file(chosen), version=before.version + 1)
+    under_new = replace(ctx, protocol=protocol)
+    found = plan_refresh(under_new)
+
+    def work() -> None:
+        if ctx.store.protocol.current().version != before.version:
+            raise Refused("the clinic protocol was changed by someone else meanwhile: nothing was written, try again")
+        ctx.store.protocol.add(ctx.actor, f"imported from {chosen}", overrides_of(protocol))
+
+    ctx.store.transact(work, ctx.today)
+    return protocol_in_use(ctx.store), write_refresh(under_new, found)
 
 
-def check_protocol_file(path: str) -> ProtocolInUse:
+def export_protocol(ctx: Context, path: str) -> ProtocolInUse:
+    """`protocol export FILE`: the version in force as a protocol file; never overwrites a file."""
+    ctx.require("protocol.view")
+    in_use = protocol_in_use(ctx.store)
+    header = f"caseload clinic protocol version {in_use.version}, set by {in_use.set_by} at {in_use.set_at}"
+    try:
+        with Path(path).open("x", encoding="utf-8") as out:
+            out.write(protocol_text(in_use.protocol, header))
+    except FileExistsError:
+        raise InputError(f"{path}: already exists: give a new file name (an export never overwrites)") from None
+    except OSError as err:
+        raise InputError(f"{path}: cannot be written ({err.strerror}): give a writable path") from None
+    return in_use
+
+
+def check_protocol_file(path: str) -> Protocol:
     """`protocol check`: the file's settings, or InputError; needs no store."""
-    return ProtocolInUse(path, read_protocol_file(path), None)
+    return read_protocol_file(path)

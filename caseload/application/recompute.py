@@ -1,14 +1,40 @@
-"""Recomputing a patient's derived state and alerts: after each write, and for the whole caseload."""
+"""Recomputing a patient's derived state and alerts: after each write, and for the whole caseload.
+
+The whole-caseload refresh computes outside any write transaction, then writes a few patients per
+short transaction, so a clerk's log never waits long behind it. Each patient's snapshot and alerts
+are written together: a refresh killed half way leaves every patient refreshed or as she was. A
+patient changed between the compute and the write (a log, an alert handled, another refresh) is
+seen by her change mark inside the write and computed again, so two refreshes at once, or a refresh
+and a log, never store stale work. A refresh that would auto-resolve too many alerts at once writes
+nothing (`check_mass_resolve`).
+"""
 
 from __future__ import annotations
 
+import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
+from caseload.core.alerts.lifecycle import SyncPlan
 from caseload.core.analysis import Analysis, analyse
 from caseload.core.model import Alert, Entry, Observation, Patient, observations
 from caseload.core.snapshot import Snapshot, snapshot_of
-from caseload.application.alert_sync import sync_alerts
+from caseload.application.alert_sync import apply_plan, plan_alerts, sync_alerts
 from caseload.application.context import Context
+from caseload.application.errors import Refused
+
+# Patients written per transaction: each takes a few milliseconds, so a writer queued behind one
+# batch waits tens of milliseconds, while the caseload is not fsynced patient by patient.
+BATCH_PATIENTS = 8
+# After each batch the refresh pauses this share of the batch's own time. A writer queued on the
+# lock is woken by SQLite's busy handler at growing intervals; a refresh that took the lock again at
+# once would make it miss the lock batch after batch.
+PAUSE_SHARE = 1.0
+# Writes of one patient before the last, which recomputes her inside the write.
+WRITE_TRIES = 3
+
+# progress(stage, done, total): stage "computed" while reading and computing, then "written".
+Progress = Callable[[str, int, int], None]
 
 
 @dataclass(frozen=True)
@@ -24,6 +50,28 @@ class RefreshReport:
     patients: int
     raised: int
     resolved: int
+
+
+@dataclass(frozen=True)
+class PatientWork:
+    """One patient's refresh as computed outside the write, with the change mark it was computed at."""
+
+    patient: Patient
+    mark: str | None
+    snapshot: Snapshot
+    plan: SyncPlan
+
+
+@dataclass(frozen=True)
+class RefreshPlan:
+    """The whole caseload's refresh, computed and checked, not yet written."""
+
+    patients: int
+    work: tuple[PatientWork, ...]  # only the patients with something to write
+
+    @property
+    def vanishing(self) -> int:
+        return sum(w.plan.vanishing for w in self.work)
 
 
 def analyse_patient(ctx: Context, patient: Patient, entries: list[Entry] | None = None) -> Analysis:
@@ -46,18 +94,100 @@ def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     return Refreshed(snap, tuple(raised))
 
 
-def refresh_all(ctx: Context) -> RefreshReport:
-    """Every patient as of ctx.today, in one pass over the entries and one transaction. Idempotent."""
+def _compute(ctx: Context, patient: Patient, seen: list[Observation], mark: str | None) -> PatientWork:
+    """Outside any write: the patient's snapshot and alert plan, with the mark read before `seen`."""
+    analysis = analyse(patient, seen, ctx.today, ctx.protocol)
+    return PatientWork(patient, mark, snapshot_of(analysis), plan_alerts(ctx, patient, analysis, seen))
+
+
+def _compute_again(ctx: Context, patient_id: str) -> PatientWork:
+    """A patient who changed after her compute, computed afresh (mark first, as in the whole pass)."""
+    mark = ctx.store.patients.change_marks(patient_id).get(patient_id)
+    return _compute(ctx, ctx.store.patients.get(patient_id), ctx.store.entries.observations_for(patient_id), mark)
+
+
+def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
+    """Every patient as of ctx.today, computed in one pass over the entries; writes nothing.
+    Refused when it would auto-resolve too many alerts at once (see `check_mass_resolve`)."""
     ctx.require("alert.refresh")
-    with ctx.store.atomic(ctx.today):
-        patients = {p.id: p for p in ctx.store.patients.all()}
-        raised = resolved = 0
-        unseen = dict(patients)
-        # Streamed patient by patient: the caseload's entries are never all in memory at once.
-        for patient_id, seen in ctx.store.entries.observations_by_patient():
-            _, new, gone = _recompute(ctx, unseen.pop(patient_id), seen)
-            raised, resolved = raised + len(new), resolved + gone
-        for patient in unseen.values():
-            _, new, gone = _recompute(ctx, patient, [])
-            raised, resolved = raised + len(new), resolved + gone
-        return RefreshReport(len(patients), raised, resolved)
+    # Marks first: whatever changes after this read is seen as changed at write time.
+    marks = ctx.store.patients.change_marks()
+    patients = {p.id: p for p in ctx.store.patients.all()}
+    stored = ctx.store.state.all()
+    work: list[PatientWork] = []
+
+    def compute(patient: Patient, seen: list[Observation]) -> None:
+        done = _compute(ctx, patient, seen, marks.get(patient.id))
+        before = stored.get(patient.id)
+        if not done.plan.empty or before is None or before.to_dict() != done.snapshot.to_dict():
+            work.append(done)
+        if progress is not None:
+            progress("computed", len(patients) - len(unseen), len(patients))
+
+    unseen = dict(patients)
+    # Streamed patient by patient: the caseload's entries are never all in memory at once.
+    for patient_id, seen in ctx.store.entries.observations_by_patient():
+        if patient_id in unseen:  # a patient added after the list was read waits for the next refresh
+            compute(unseen.pop(patient_id), seen)
+    for patient_id in list(unseen):
+        compute(unseen.pop(patient_id), [])
+    found = RefreshPlan(len(patients), tuple(work))
+    check_mass_resolve(ctx, found.vanishing)
+    return found
+
+
+def check_mass_resolve(ctx: Context, resolutions: int) -> None:
+    """Refuse a refresh that would auto-resolve more than the protocol's share of the unresolved
+    alerts at once: a wrong date, a wrong protocol or a damaged store looks exactly like that.
+    `resolutions` counts the alerts that would leave the lists, not those replaced by a new one."""
+    p = ctx.protocol
+    unresolved = ctx.store.alerts.count_unresolved()
+    if resolutions >= p.mass_resolve_min and resolutions > p.mass_resolve_share * unresolved:
+        raise Refused(
+            f"refresh stopped: it would auto-resolve {resolutions} of the {unresolved} unresolved alerts at once "
+            f"(more than {p.mass_resolve_share:.0%}, protocol mass_resolve_share), which a wrong date, a wrong "
+            "protocol or a damaged store would also do: nothing was written; check the date and the protocol"
+        )
+
+
+def _write_patient(ctx: Context, w: PatientWork, last_try: bool) -> tuple[int, int] | None:
+    """Inside the batch's write: the computed state, or None when she changed meanwhile (she is
+    computed again outside the write). On the last try she is recomputed here instead, so a patient
+    logged again and again cannot hold the refresh up; that costs one patient's compute, no more."""
+    pid = w.patient.id
+    if ctx.store.patients.change_marks(pid).get(pid) != w.mark:
+        if not last_try:
+            return None
+        _, raised, resolved = _recompute(ctx, ctx.store.patients.get(pid), ctx.store.entries.observations_for(pid))
+        return len(raised), resolved
+    ctx.store.state.put(w.snapshot)
+    return len(apply_plan(ctx, w.plan)), len(w.plan.resolutions)
+
+
+def write_refresh(ctx: Context, found: RefreshPlan, progress: Progress | None = None) -> RefreshReport:
+    """Write a computed refresh a few patients per short transaction; patients changed since their
+    compute are computed again outside the write and retried."""
+    raised = resolved = done = 0
+    queue = [(w, 1) for w in found.work]  # (work, try)
+    while queue:
+        batch, queue = queue[:BATCH_PATIENTS], queue[BATCH_PATIENTS:]
+        began = time.perf_counter()
+        counts = ctx.store.transact(
+            lambda: [_write_patient(ctx, w, tries >= WRITE_TRIES) for w, tries in batch],  # noqa: B023 - run at once
+            ctx.today,
+        )
+        time.sleep((time.perf_counter() - began) * PAUSE_SHARE)
+        for (w, tries), count in zip(batch, counts):
+            if count is None:
+                queue.append((_compute_again(ctx, w.patient.id), tries + 1))
+                continue
+            raised, resolved, done = raised + count[0], resolved + count[1], done + 1
+        if progress is not None:
+            progress("written", done, len(found.work))
+    return RefreshReport(found.patients, raised, resolved)
+
+
+def refresh_all(ctx: Context, progress: Progress | None = None) -> RefreshReport:
+    """Every patient as of ctx.today: computed outside any write, then written in short
+    transactions. Idempotent; safe to run twice at once and to interrupt."""
+    return write_refresh(ctx, plan_refresh(ctx, progress), progress)

@@ -31,9 +31,6 @@ def _handled(a: Alert) -> str:
 @pass_clinic
 def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool) -> None:
     """The alert queue, most pressing first (severity, then due day)."""
-    in_use = clinic.protocol_in_use()
-    if in_use.error:
-        click.echo(f"caseload: warning: {in_use.error}; the default protocol is in use", err=True)
     if refresh:
         click.echo(refresh_line(clinic.refresh()), err=as_json)
     found = clinic.alerts(state, kind, nurse)

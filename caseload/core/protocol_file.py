@@ -7,10 +7,10 @@ default. Every refusal is one line naming the file, the setting, the value and w
 from __future__ import annotations
 
 import tomllib
-from dataclasses import dataclass, fields, replace
+from dataclasses import dataclass, replace
 
 from caseload.core.parse import InputError, one_line
-from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.core.settings import DEFAULT_PROTOCOL, SETTINGS, Protocol
 
 LAYOUT = "flat 'name = value' lines, one per setting to override (e.g. fever_c = 38.0); '#' starts a comment"
 # (lower, upper): settings that must not cross, or a rule could never fire or fires for everyone.
@@ -23,7 +23,7 @@ ORDERED = (
     ("prior_cycle_within_sd", "prior_cycle_sd"),
     ("prior_luteal_within_sd", "prior_luteal_sd"),
 )
-FIELDS = {f.name: f for f in fields(Protocol)}
+FIELDS = {f.name: f for f in SETTINGS}
 
 
 @dataclass(frozen=True)
@@ -72,10 +72,16 @@ def parse_protocol(text: str, name: str) -> Protocol:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
         raise InputError(f"{name}: not valid TOML ({one_line(str(err))}): write {LAYOUT}") from None
-    values = {}
     for key, value in data.items():
         if isinstance(value, dict):
             raise InputError(f"{name}: [{one_line(key)}] is a table: write {LAYOUT}")
+    return protocol_from_values(data, name)
+
+
+def protocol_from_values(data: dict, name: str) -> Protocol:
+    """The protocol that overrides `data` (setting name -> value) set, checked as a file is."""
+    values = {}
+    for key, value in data.items():
         if key not in FIELDS:
             known = ", ".join(sorted(FIELDS))
             raise InputError(f"{name}: unknown setting '{one_line(key)}': known settings are {known}")
@@ -95,5 +101,17 @@ def setting_rows(protocol: Protocol) -> list[SettingRow]:
     return [
         SettingRow(f.name, getattr(protocol, f.name), f.default, f.metadata["lo"], f.metadata["hi"],
                    f.metadata["source"], f.metadata["doc"])
-        for f in fields(Protocol)
+        for f in SETTINGS
     ]  # fmt: skip
+
+
+def overrides_of(protocol: Protocol) -> dict[str, float | int]:
+    """The settings that differ from the defaults, by name: what a protocol file writes."""
+    return {r.name: r.value for r in setting_rows(protocol) if r.overridden}
+
+
+def protocol_text(protocol: Protocol, header: str) -> str:
+    """The protocol as a file `parse_protocol` reads back: a comment, then one line per override."""
+    lines = [f"# {one_line(header)}"]
+    lines += [f"{name} = {value!r}" for name, value in overrides_of(protocol).items()]
+    return "\n".join(lines) + "\n"

@@ -6,7 +6,7 @@ read globals: they receive a `Protocol` instance.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, fields
 
 
 def setting(default, source: str, lo: float | None = None, hi: float | None = None, doc: str = ""):
@@ -85,6 +85,14 @@ class Protocol:
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")
     fever_c: float = setting(38.0, "common practice", 37.5, 39.5, "temperature (C) counted as a fever")
     alert_lookback_days: int = setting(14, "common practice", 1, 90, "days back a fever reading is still raised when first seen")
+    mass_resolve_share: float = setting(0.5, "common practice", 0.1, 1.0, "share of the unresolved alerts above which one refresh's auto-resolutions stop it")
+    mass_resolve_min: int = setting(5, "common practice", 1, 1000, "auto-resolutions one refresh may always make, whatever the share")
+
+    # Which stored version of the clinic's protocol this is; None when not read from a store. Not a setting.
+    version: int | None = field(default=None, compare=False, metadata={"setting": False})
+
+
+SETTINGS = tuple(f for f in fields(Protocol) if f.metadata.get("setting", True))
 
 
 DEFAULT_PROTOCOL = Protocol()

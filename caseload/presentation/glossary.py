@@ -146,3 +146,10 @@ def refreshed_line(done: Refreshed) -> str:
 def refresh_line(done: RefreshReport) -> str:
     """After the whole-caseload refresh."""
     return f"Refreshed {done.patients} patients: {done.raised} alerts raised or escalated, {done.resolved} auto-resolved."
+
+
+def refresh_progress_line(stage: str, done: int, total: int) -> str:
+    """While the morning refresh runs: how far it has come, in whole percent of its stage."""
+    share = 100 * done // total if total else 100
+    doing = "Computing today's picture" if stage == "computed" else "Saving today's picture"
+    return f"{doing}: {share}% of {total} patients… (the list stays usable meanwhile)"

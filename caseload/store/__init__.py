@@ -14,6 +14,7 @@ from caseload.store.bulk_load import BulkTable
 from caseload.store.db import Database, StoreDamaged, StoreError, utc_now
 from caseload.store.entry_table import EntryTable
 from caseload.store.patient_table import PatientTable
+from caseload.store.protocol_table import ProtocolTable
 from caseload.store.snapshot_table import StateTable
 from caseload.store.staff_table import StaffTable
 from caseload.store.summary_queries import ReportQueries
@@ -32,6 +33,7 @@ class Store:
         self.alerts = AlertTable(self.db)
         self.state = StateTable(self.db)
         self.bulk = BulkTable(self.db)
+        self.protocol = ProtocolTable(self.db)
 
     @property
     def path(self) -> Path:

@@ -1,4 +1,5 @@
-"""Alert rows: raised by the engine, handled by staff. One row per dedup key, ever.
+"""Alert rows: raised by the engine, handled by staff. At most one unresolved row per key (the
+kind's episode); a key whose condition comes back after an automatic resolution gets a new row.
 
 Every change writes its audit row (the whole alert before and after) in the caller's transaction.
 """
@@ -64,6 +65,9 @@ class AlertTable:
     def all(self) -> list[Alert]:
         return [alert_from_row(r) for r in self.db.query("SELECT * FROM alert ORDER BY id")]
 
+    def count_unresolved(self) -> int:
+        return self.db.conn.execute("SELECT count(*) FROM alert WHERE state != 'resolved'").fetchone()[0]
+
     def count(self) -> int:
         return self.db.conn.execute("SELECT count(*) FROM alert").fetchone()[0]
 
@@ -80,6 +84,7 @@ class AlertTable:
             "rule": c.rule,
             "source": c.source,
             "state": AlertState.OPEN.value,
+            "protocol_version": c.protocol_version,
         }
         alert_id = self.db.db["alert"].insert(row).last_pk
         alert = self.get(alert_id)
@@ -91,7 +96,7 @@ class AlertTable:
         return self._change(actor, a, "alert.escalate", {
             "severity": c.severity.value, "due": c.due.isoformat(), "message": c.message,
             "evidence": json.dumps(c.evidence, sort_keys=True), "rule": c.rule, "source": c.source,
-            "state": AlertState.OPEN.value, "snooze_until": None,
+            "state": AlertState.OPEN.value, "snooze_until": None, "protocol_version": c.protocol_version,
         })  # fmt: skip
 
     def reopen(self, actor: Actor, a: Alert) -> Alert:

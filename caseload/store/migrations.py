@@ -7,6 +7,10 @@ from __future__ import annotations
 
 import sqlite3
 from collections.abc import Callable
+from pathlib import Path
+
+from caseload.core.parse import InputError, one_line
+from caseload.core.protocol_file import overrides_of, parse_protocol
 
 from caseload.store import chain
 
@@ -183,7 +187,89 @@ def _audit_chain(conn: sqlite3.Connection) -> None:
     )
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _audit_day_of_record, _status_since, _audit_chain]
+def _alert_episodes(conn: sqlite3.Connection) -> None:
+    """A key names an episode, and an episode may be raised again after an automatic resolution:
+    one live (unresolved) row per key instead of one row per key ever. Alerts record the protocol
+    version that raised them. The table is rebuilt from its own definition, so columns added by
+    other steps survive."""
+    (table_sql,) = conn.execute("SELECT sql FROM sqlite_master WHERE type = 'table' AND name = 'alert'").fetchone()
+    indexes = [r[0] for r in conn.execute(
+        "SELECT sql FROM sqlite_master WHERE type = 'index' AND tbl_name = 'alert' AND sql IS NOT NULL")]
+    rebuilt = table_sql.replace("key TEXT NOT NULL UNIQUE", "key TEXT NOT NULL", 1)
+    conn.execute(rebuilt.replace("CREATE TABLE alert", "CREATE TABLE alert_rebuilt", 1))
+    conn.execute("INSERT INTO alert_rebuilt SELECT * FROM alert")
+    conn.execute("DROP TABLE alert")
+    conn.execute("ALTER TABLE alert_rebuilt RENAME TO alert")
+    for sql in indexes:
+        conn.execute(sql)
+    run_script(
+        conn,
+        """
+        ALTER TABLE alert ADD COLUMN protocol_version INTEGER;
+        CREATE INDEX alert_key ON alert(key);
+        CREATE UNIQUE INDEX alert_live_key ON alert(key) WHERE state != 'resolved';
+        """,
+    )
+
+
+PROTOCOL_APPEND_ONLY = """
+CREATE TRIGGER {table}_no_update BEFORE UPDATE ON {table}
+BEGIN SELECT RAISE(ABORT, '{table} is append-only: a protocol version cannot be changed'); END;
+CREATE TRIGGER {table}_no_delete BEFORE DELETE ON {table}
+BEGIN SELECT RAISE(ABORT, '{table} is append-only: a protocol version cannot be deleted'); END;
+CREATE TRIGGER {table}_no_replace BEFORE INSERT ON {table} WHEN EXISTS (SELECT 1 FROM {table} WHERE {same})
+BEGIN SELECT RAISE(ABORT, '{table} is append-only: rows cannot be replaced'); END;
+"""
+
+
+def _protocol_versions(conn: sqlite3.Connection) -> None:
+    """The clinic protocol in force lives in the store: numbered versions, each a set of settings
+    that differ from the defaults (no rows: the defaults). Version 1 is the file chosen before this
+    step when it still reads as valid, else the defaults, with the reason in its source."""
+    run_script(
+        conn,
+        """
+        CREATE TABLE protocol_version (
+            version INTEGER PRIMARY KEY,
+            set_at TEXT NOT NULL,
+            set_by TEXT NOT NULL,
+            source TEXT NOT NULL
+        );
+        CREATE TABLE protocol_setting (
+            version INTEGER NOT NULL REFERENCES protocol_version(version),
+            name TEXT NOT NULL,
+            value NOT NULL,
+            PRIMARY KEY (version, name)
+        );
+        """,
+    )
+    source, overrides = _earlier_protocol_file(conn)
+    conn.execute(
+        "INSERT INTO protocol_version (version, set_at, set_by, source)"
+        " VALUES (1, strftime('%Y-%m-%dT%H:%M:%S+00:00', 'now'), 'system', ?)",
+        (source,),
+    )
+    conn.executemany("INSERT INTO protocol_setting (version, name, value) VALUES (1, ?, ?)", overrides.items())
+    run_script(conn, PROTOCOL_APPEND_ONLY.format(table="protocol_version", same="version = NEW.version"))
+    run_script(conn, PROTOCOL_APPEND_ONLY.format(table="protocol_setting",
+                                                 same="version = NEW.version AND name = NEW.name"))
+
+
+def _earlier_protocol_file(conn: sqlite3.Connection) -> tuple[str, dict]:
+    """(source, overrides) of the protocol file an older store named in its meta table."""
+    row = conn.execute("SELECT value FROM meta WHERE key = 'protocol_file'").fetchone()
+    if row is None:
+        return "defaults", {}
+    try:
+        protocol = parse_protocol(Path(row[0]).read_bytes().decode("utf-8"), row[0])
+    except (OSError, UnicodeDecodeError, InputError) as err:
+        return f"defaults: the earlier protocol file could not be imported ({one_line(str(err))})", {}
+    return f"imported from {row[0]}", overrides_of(protocol)
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
+    _v1, _audit_day_of_record, _status_since, _audit_chain, _alert_episodes, _protocol_versions,
+]
 LATEST = len(MIGRATIONS)
 
 

@@ -4,6 +4,7 @@ a reason, escalated, snoozed and back; every transition in the audit trail, refr
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from datetime import date, timedelta
 
 import pytest
@@ -16,6 +17,7 @@ from caseload.application.recompute import refresh_all
 from caseload.application.entries import amend_entry, log_entry
 from caseload.application.errors import NotFound, Refused
 from caseload.application.csv_import import import_csv
+from caseload.application.protocol import protocol_in_use, use_protocol
 from tests.conftest import TODAY
 
 
@@ -87,17 +89,19 @@ def test_acknowledged_then_refresh_does_not_raise_it_again(fever, as_role, store
         service.acknowledge(nurse, alert.id, "again")
 
 
-def test_a_corrected_reading_auto_resolves_and_the_key_is_never_raised_again(fever, as_role, store):
+def test_a_corrected_reading_auto_resolves_and_is_raised_again_when_corrected_back(fever, as_role, store):
     alert, entry = fever
     nurse = as_role(Role.NURSE)
     fixed = amend_entry(nurse, entry.id, "36.84", "misheard on the phone")
     resolved = store.alerts.get(alert.id)
     assert resolved.state is AlertState.RESOLVED and resolved.handled_by == "nurse1"
     assert resolved.resolved_reason == "auto: the entries behind it were corrected or voided"
-    amend_entry(nurse, fixed.entry.id, "38.5", "it was a fever after all")
-    assert store.alerts.count() == 1  # same reading day, same key: not raised twice
+    again = amend_entry(nurse, fixed.entry.id, "38.5", "it was a fever after all")
+    (back,) = again.refreshed.raised  # same reading day, same key: the condition came back
+    assert (back.key, back.state, back.evidence["celsius"]) == (alert.key, AlertState.OPEN, 38.5)
+    assert store.alerts.get(alert.id).state is AlertState.RESOLVED  # the first episode's row is history
     actions = [(a, by) for a, by, _ in audit(store)]
-    assert actions == [("alert.raise", "phone1"), ("alert.auto-resolve", "nurse1")]
+    assert actions == [("alert.raise", "phone1"), ("alert.auto-resolve", "nurse1"), ("alert.raise", "nurse1")]
 
 
 def test_resolve_by_a_nurse_then_nothing_left_to_do(fever, as_role, store):
@@ -193,3 +197,40 @@ def test_discharge_resolves_everything_with_the_reason(fever, as_role, store):
     update_patient(as_role(Role.NURSE), "P0001", status="discharged")
     done = store.alerts.get(alert.id)
     assert (done.state, done.resolved_reason, done.handled_by) == (AlertState.RESOLVED, "auto: patient discharged", "nurse1")
+
+
+def _fevers(as_role, patient, readings: list[str]) -> None:
+    phone = as_role(Role.PHONE)
+    for back, reading in enumerate(readings, start=1):
+        log_entry(phone, patient.id, "temp", reading, on=(TODAY - timedelta(days=back)).isoformat(), at="06:40")
+
+
+def _under(ctx, **settings):
+    return replace(ctx, protocol=replace(ctx.protocol, **settings))
+
+
+def test_a_refresh_that_would_auto_resolve_every_alert_stops_and_writes_nothing(as_role, patient, store):
+    _fevers(as_role, patient, ["38.2"] * 6)  # six fevers by the default 38.0 C (common practice)
+    rows, audits = [a.state for a in store.alerts.all()], store.audit.count()
+    wrong = _under(as_role(Role.NURSE), fever_c=39.0)  # a wrong protocol: none of them is a fever any more
+    with pytest.raises(Refused) as err:
+        refresh_all(wrong)
+    assert str(err.value).startswith("refresh stopped: it would auto-resolve 6 of the 6 unresolved alerts at once")
+    assert "\n" not in str(err.value) and "nothing was written" in str(err.value)
+    assert [a.state for a in store.alerts.all()] == rows and store.audit.count() == audits
+
+
+def test_a_refresh_resolving_under_half_or_fewer_than_five_goes_ahead(as_role, patient, store):
+    _fevers(as_role, patient, ["38.2"] * 6 + ["38.8"] * 7)  # 13 alerts
+    report = refresh_all(_under(as_role(Role.NURSE), fever_c=38.5))  # 6 of 13: under half
+    assert report.resolved == 6
+    assert refresh_all(_under(as_role(Role.NURSE), fever_c=39.0, mass_resolve_min=8)).resolved == 7  # 7 of 7, under 8
+
+
+def test_a_protocol_that_would_auto_resolve_most_alerts_is_refused_before_it_is_stored(as_role, patient, store, tmp_path):
+    _fevers(as_role, patient, ["38.2"] * 6)
+    path = tmp_path / "protocol.toml"
+    path.write_text("fever_c = 39.0\n", encoding="utf-8")
+    with pytest.raises(Refused, match="refresh stopped: it would auto-resolve 6 of the 6"):
+        use_protocol(as_role(Role.ADMIN), str(path))
+    assert protocol_in_use(store).version == 1 and not store.audit.rows("protocol.")

@@ -153,3 +153,36 @@ def test_a_demo_store_records_a_day_on_every_audit_row(tmp_path):
     assert all(r.day_of_record for r in rows)
     # the invented history is recorded as of the days it was logged, before the day it is built for
     assert max(r.day_of_record for r in rows if r.action == "entry.log") <= REAL.isoformat()
+
+
+def test_the_clinic_refresh_writes_its_batches_outside_any_one_transaction_each_with_the_day(db):
+    # The whole-caseload refresh writes a few patients per transaction, so another terminal's write
+    # waits for one batch, never for the whole refresh (common practice for SQLite writers).
+    day = date(2026, 12, 5)  # five days without an entry: a logging gap to raise (3 days, common practice)
+    with Clinic.open(db, Identity(os_account(), "nell"), date_of_record=day) as clinic:
+        opened_inside: list[bool] = []
+        transact = clinic.store.transact
+
+        def watched(work, day_of_record=None):
+            opened_inside.append(clinic.store.db.conn.in_transaction)
+            return transact(work, day_of_record)
+
+        clinic.store.transact = watched
+        before = clinic.store.audit.last_id()
+        assert clinic.refresh().patients == 1
+        rows = [r for r in clinic.store.audit.rows() if r.id > before]
+    assert opened_inside and not any(opened_inside)
+    assert rows and {r.day_of_record for r in rows} == {day.isoformat()}
+
+
+def test_the_interface_refresh_on_its_own_connection_refuses_a_view_and_records_maintenance(db):
+    with Clinic.open(db, Identity(os_account(), "nell"), as_of=date(2020, 1, 1), date_of_record=REAL) as clinic:
+        with pytest.raises(Refused, match="read-only"):
+            clinic.refresh_on_own_connection()
+    with Clinic.open(db, Identity(os_account()), maintenance_date=date(2026, 12, 5), date_of_record=REAL) as clinic:
+        assert clinic.refresh_on_own_connection().patients == 1
+    with Store(db) as store:
+        (mark,) = store.audit.rows("maintenance.write")
+        refreshed = [r for r in store.audit.rows("alert.") if r.id > mark.id]
+    assert json.loads(mark.after)["doing"] == "the morning refresh" and mark.day_of_record == "2026-12-05"
+    assert refreshed and {r.day_of_record for r in refreshed} == {"2026-12-05"}

@@ -28,7 +28,7 @@ def test_alerts_json_has_the_contract_keys(clinic):
     (alert,) = json.loads(clinic("alerts", "--json").output)
     assert JSON_KEYS <= alert.keys()
     assert (alert["patient"], alert["kind"], alert["severity"], alert["state"]) == ("P0001", "fever", "today", "open")
-    assert alert["evidence"] == {"day": "2026-11-30", "celsius": 38.4, "threshold_c": 38.0, "flags": []}
+    assert alert["evidence"] == {"day": "2026-11-30", "celsius": 38.4, "threshold_c": 38.0, "flags": [], "protocol_version": 1}
     assert alert["source"] == "common practice" and alert["clinical"] is True
 
 
@@ -75,9 +75,10 @@ def test_handling_refusals_exit_1_and_change_nothing(clinic, args, fragment):
 
 def test_protocol_show_lists_every_setting_with_default_and_source(clinic):
     shown = clinic("protocol", "show")
-    assert shown.exit_code == 0 and "Protocol file: none; the defaults are in use." in shown.output
+    assert shown.exit_code == 0 and "Protocol version 1, set by system at " in shown.output
+    assert "(defaults): 0 settings differ from the defaults." in shown.output
     assert "short_luteal_max_days" in shown.output and "ASRM 2021" in shown.output
-    assert "TOML layout: flat 'name = value' lines" in shown.output
+    assert "Files for 'protocol use': flat 'name = value' lines" in shown.output
 
 
 def test_protocol_check_and_use(clinic, tmp_path):
@@ -88,7 +89,9 @@ def test_protocol_check_and_use(clinic, tmp_path):
     refused(clinic("--as", "nell", "protocol", "use", str(good)), "may not change the clinic protocol")
     used = clinic("protocol", "use", str(good))
     assert used.exit_code == 0 and "1 auto-resolved" in used.output  # 38.4 C is no fever at 38.5
-    assert "38.5 *" in clinic("protocol", "show").output
+    assert "Protocol version 2 in use (1 settings differ from the defaults)." in used.output
+    shown = clinic("protocol", "show").output
+    assert "38.5 *" in shown and "Protocol version 2, set by ada at " in shown
 
 
 @pytest.mark.parametrize(
@@ -107,12 +110,28 @@ def test_protocol_check_refuses_a_bad_file_in_one_line(clinic, tmp_path, text, f
     refused(clinic("protocol", "use", str(bad)), fragment)
 
 
-def test_a_file_gone_bad_is_shown_and_the_defaults_keep_working(clinic, tmp_path):
+def test_the_store_keeps_the_protocol_when_its_file_goes_bad_and_export_gives_it_back(clinic, tmp_path):
     path = tmp_path / "clinic.toml"
     path.write_text("fever_c = 37.8\n", encoding="utf-8")
     assert clinic("protocol", "use", str(path)).exit_code == 0
     path.write_text("fever_c = 99\n", encoding="utf-8")
     shown = clinic("protocol", "show")
-    assert shown.exit_code == 0 and "REFUSED" in shown.output and "fever_c = 99 is outside 37.5-39.5" in shown.output
+    assert shown.exit_code == 0 and "37.8 *" in shown.output
     listed = clinic("alerts")
-    assert listed.exit_code == 0 and "the default protocol is in use" in listed.stderr
+    assert listed.exit_code == 0 and listed.stderr == ""
+    out = tmp_path / "exported.toml"
+    exported = clinic("protocol", "export", str(out))
+    assert exported.exit_code == 0 and f"Protocol version 2 written to {out}." in exported.output
+    assert "fever_c = 37.8" in out.read_text(encoding="utf-8")
+    refused(clinic("protocol", "export", str(out)), "already exists")
+
+
+def test_a_protocol_that_would_clear_most_alerts_is_refused_in_one_line(clinic, tmp_path):
+    for days_ago in range(2, 7):  # five more fevers (38.0 C: common practice), six in all
+        assert clinic("log", "P0001", "temp", "38.3", "--on", f"-{days_ago}").exit_code == 0
+    path = tmp_path / "clinic.toml"
+    path.write_text("fever_c = 39.0\n", encoding="utf-8")
+    before = clinic("alerts", "--json", "--state", "all").output
+    refused(clinic("protocol", "use", str(path)), "refresh stopped: it would auto-resolve 6 of the 6 unresolved alerts")
+    assert clinic("alerts", "--json", "--state", "all").output == before
+    assert "Protocol version 1," in clinic("protocol", "show").output

@@ -292,7 +292,8 @@ def test_an_older_monophasic_cycle_is_held_but_not_raised():
 def test_irregular_cycles_variation_8_days_at_34():
     chart, today = regular((26, 30, 34, 28))
     (alert,) = of(run(chart, today + timedelta(days=1))[1], K.IRREGULAR_CYCLES)
-    assert alert.key == "P0001:irregular-cycles:irregular" and alert.evidence["variation"] == 8
+    # The run began once three cycles (FIGO 2018's minimum here) varied by 8 days: the day after the 34-day cycle.
+    assert alert.key == "P0001:irregular-cycles:2026-05-31" and alert.evidence["variation"] == 8
 
 
 def test_irregular_cycles_near_miss_variation_7_days_at_34():
@@ -300,10 +301,12 @@ def test_irregular_cycles_near_miss_variation_7_days_at_34():
     assert K.IRREGULAR_CYCLES not in kinds(run(chart, today + timedelta(days=1))[1])
 
 
-def test_infrequent_cycles_are_referred_and_keyed_on_the_classification():
+def test_infrequent_cycles_are_referred_and_keyed_on_the_run_of_abnormal_cycles():
     chart, today = regular((40, 41, 42, 40))  # median 40.5 > 38
     (alert,) = of(run(chart, today + timedelta(days=1))[1], K.IRREGULAR_CYCLES)
-    assert alert.key == "P0001:irregular-cycles:infrequent" and "refer" in alert.message
+    # Infrequent from the third cycle on (median 41 > 38, FIGO 2018): the run began the day after it.
+    assert alert.key == f"P0001:irregular-cycles:{(START + timedelta(days=40 + 41 + 42)).isoformat()}"
+    assert "refer" in alert.message
 
 
 # --- short-luteal-phase (ASRM 2021: 10 days or fewer)

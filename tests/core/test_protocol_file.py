@@ -2,13 +2,13 @@
 
 from __future__ import annotations
 
-from dataclasses import fields
-
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from caseload.core.parse import InputError
-from caseload.core.protocol_file import parse_protocol, setting_rows
-from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.core.protocol_file import overrides_of, parse_protocol, protocol_from_values, protocol_text, setting_rows
+from caseload.core.settings import DEFAULT_PROTOCOL, SETTINGS
 
 
 def test_an_empty_file_keeps_every_default():
@@ -23,7 +23,7 @@ def test_defaults_carry_their_published_sources():
     assert rows["figo_prolonged_bleed_above"].value == 8  # FIGO 2018: normal up to 8 days
     assert rows["fever_c"].value == 38.0 and rows["fever_c"].source == "common practice"
     assert not any(r.overridden for r in rows.values())
-    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [f.name for f in fields(Protocol)]
+    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [f.name for f in SETTINGS]
 
 
 def test_overrides_are_typed_and_marked():
@@ -69,3 +69,28 @@ def test_broken_toml_syntax_is_refused_with_its_position():
         parse_protocol("fever_c 38.0\n", "protocol.toml")
     text = str(err.value)
     assert text.startswith("protocol.toml: not valid TOML (") and "line 1" in text and "\n" not in text
+
+
+def _setting_value(default, meta: dict):
+    lo, hi = meta["lo"], meta["hi"]
+    if isinstance(default, int):
+        return st.integers(int(lo), int(hi))
+    return st.floats(lo, hi, allow_nan=False)
+
+
+OVERRIDES = st.dictionaries(
+    st.sampled_from([f.name for f in SETTINGS]), st.just(None), max_size=6
+).flatmap(lambda chosen: st.fixed_dictionaries(
+    {f.name: _setting_value(f.default, f.metadata) for f in SETTINGS if f.name in chosen}))
+
+
+@given(OVERRIDES)
+def test_an_exported_protocol_reads_back_as_the_same_settings(overrides):
+    try:
+        protocol = protocol_from_values(overrides, "generated")
+    except InputError as err:
+        assert "must not be above" in str(err)  # only a crossed pair of ordered settings is refused
+        return
+    text = protocol_text(protocol, "exported\nwith a two-line header")
+    assert parse_protocol(text, "exported.toml") == protocol
+    assert overrides_of(parse_protocol(text, "exported.toml")) == overrides_of(protocol)

@@ -175,3 +175,25 @@ def test_processes_creating_a_new_store_at_once_all_open_it(tmp_path, round_):
     assert [p.exitcode for p in procs] == [0, 0, 0, 0]
     with Store(path) as store:
         assert store.db.version == migrations.LATEST
+
+
+def test_the_real_migrations_keep_alert_rows_and_allow_an_episode_raised_again(tmp_path):
+    path = tmp_path / "alerts.db"
+    conn = sqlite3.connect(path, isolation_level=None)
+    migrations.MIGRATIONS[0](conn)
+    for sql in V1_ROWS[:4]:
+        conn.execute(sql)
+    conn.execute("INSERT INTO alert (id, patient_id, kind, key, severity, raised_on, due, message, state, resolved_reason)"
+                 " VALUES (7, 'P0001', 'fever', 'P0001:fever:2026-01-11', 'today', '2026-01-12', '2026-01-12', 'Fever',"
+                 " 'resolved', 'auto: the entries behind it were corrected or voided')")
+    conn.execute("PRAGMA user_version = 1")
+    conn.close()
+    with Store(path) as store:
+        (old,) = store.alerts.all()
+        assert (old.id, old.key, old.resolved_reason) == (7, "P0001:fever:2026-01-11", "auto: the entries behind it were corrected or voided")
+        live = ("INSERT INTO alert (patient_id, kind, key, severity, raised_on, due, message, state)"
+                " VALUES ('P0001', 'fever', 'P0001:fever:2026-01-11', 'today', '2026-01-13', '2026-01-13', 'Fever', 'open')")
+        store.db.conn.execute(live)  # the same episode again, beside its resolved row
+        with pytest.raises(sqlite3.IntegrityError):
+            store.db.conn.execute(live)  # but never two unresolved alerts for one key
+        assert store.protocol.current().version == 1

@@ -3,13 +3,16 @@
 from __future__ import annotations
 
 import asyncio
+import threading
 
 import pytest
 
 from caseload.application.clinic import Clinic, Identity
 from caseload.application.entries import log_entry
 from caseload.application.errors import Refused
+from caseload.presentation.glossary import refresh_progress_line
 from caseload.tui.app import make_app
+from caseload.tui.screens import caseload as caseload_screen
 from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.sign_in import SignInScreen
 from tests.tui.conftest import settle
@@ -60,6 +63,36 @@ async def test_stale_snapshots_get_the_morning_refresh(app_as):
         assert all(line.snapshot.computed_on == tomorrow for line in app.roster)
         assert any(n.message.startswith("Morning refresh done") for n in app._notifications)
         assert app.screen.query_one("#caseload").get_cell("P0001", "cd").plain.strip() == "19"
+
+
+async def test_the_morning_refresh_shows_its_progress_and_leaves_the_clinic_free(app_as, monkeypatch):
+    """It runs on a connection of its own: while it computes and writes, another thread can take the
+    interface's clinic lock (a save or a list read is never held up behind it)."""
+    tomorrow = TODAY.replace(day=2)
+    app = app_as("ada", today=tomorrow)
+    seen: list[tuple[str, bool]] = []
+
+    def line(stage: str, done: int, total: int) -> str:
+        free: list[bool] = []
+
+        def try_lock() -> None:
+            free.append(app.clinic.lock.acquire(blocking=False))
+            if free[0]:
+                app.clinic.lock.release()
+
+        other = threading.Thread(target=try_lock)
+        other.start()
+        other.join()
+        seen.append((stage, free[0]))
+        return refresh_progress_line(stage, done, total)
+
+    monkeypatch.setattr(caseload_screen, "refresh_progress_line", line)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot, rounds=5)
+        assert all(line.snapshot.computed_on == tomorrow for line in app.roster)
+    assert {stage for stage, _ in seen} == {"computed", "written"}
+    assert all(free for _, free in seen)
+    assert refresh_progress_line("written", 3, 12) == "Saving today's picture: 25% of 12 patients… (the list stays usable meanwhile)"
 
 
 async def test_a_view_of_another_day_never_runs_the_morning_refresh(app_as):

@@ -85,17 +85,20 @@ class Facts:
             severity=severity,
             due=due or self.today,
             message=message,
-            evidence=evidence,
+            evidence={**evidence, "protocol_version": self.protocol.version},
             rule=rule,
             source=source,
             raisable=raisable,
+            protocol_version=self.protocol.version,
         )
 
 
 @dataclass(frozen=True)
 class Candidate:
-    """An alert as a rule sees it today. The key names the patient, the kind and the cycle or event,
-    so that the same finding is never raised twice."""
+    """An alert as a rule sees it today. The key names the patient, the kind and the episode (the
+    cycle, the bleed, the hCG pair, the scan, the gap, the reading day, the run of abnormal cycles):
+    one alert per episode at a time, raised again only when the condition comes back after an
+    automatic resolution or the evidence worsens after a person resolved it."""
 
     patient_id: str
     kind: str
@@ -108,6 +111,7 @@ class Candidate:
     source: str
     raisable: bool = True
     caution: str = CAUTION
+    protocol_version: int | None = None  # the stored protocol version whose settings found it
 
 
 @dataclass(frozen=True)

@@ -7,11 +7,13 @@ completed cycle's finding is news enough to raise.
 
 from __future__ import annotations
 
-from datetime import timedelta
+from datetime import date, timedelta
 
 from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
 from caseload.core.cycles import cycle_day
+from caseload.core.figo import classify
 from caseload.core.model import Kind, Severity
+from caseload.core.stats import cycle_stats
 
 FIGO = "FIGO 2018 (Munro 2018)"
 FIGO_SETTINGS = ("figo_frequent_below", "figo_infrequent_above", "figo_variation_mid", "figo_variation_young_old")
@@ -29,19 +31,33 @@ def _figo_findings(f: Facts) -> list[str]:
     return found
 
 
+def _abnormal_since(f: Facts) -> date | None:
+    """The day the current run of abnormal classifications began: the day after the completed cycle
+    that first made the window frequent, infrequent or irregular, every later cycle keeping it so.
+    The irregular-cycles episode: a run that ends and a later one that begins are two alerts."""
+    p, age = f.protocol, f.analysis.classification.age_years
+    complete = [r for r in f.analysis.cycles if not r.is_open and not r.pregnancy]
+    since = None
+    for k in range(len(complete), 0, -1):
+        window = complete[:k][-p.stats_cycles :]
+        c = classify(cycle_stats([r.length for r in window], [r.bleed_days for r in window]), None, False, age, p)
+        if c.frequency not in ("frequent", "infrequent") and c.regularity != "irregular":
+            break
+        since = complete[k - 1].end + timedelta(days=1)
+    return since
+
+
 def irregular_cycles(f: Facts) -> list[Candidate]:
-    """Keyed on the classification, so it is raised once and again only when the classification changes.
-    Absent bleeding is the amenorrhoea alert's."""
+    """Keyed on the run of abnormal cycles it belongs to. Absent bleeding is the amenorrhoea alert's."""
     c, s, p = f.analysis.classification, f.analysis.stats, f.protocol
     findings = _figo_findings(f)
     if not findings:
         return []
-    labels = [c.frequency] if c.frequency in ("frequent", "infrequent") else []
-    labels += ["irregular"] if c.regularity == "irregular" else []
+    since = _abnormal_since(f) or f.analysis.cycles[-1].start
     return [
         f.candidate(
             AlertKind.IRREGULAR_CYCLES,
-            "+".join(labels),
+            since.isoformat(),
             Severity.SOON,
             f"FIGO 2018: cycles {'; '.join(findings)} over the last {s.count} cycles: refer.",
             {
@@ -54,6 +70,7 @@ def irregular_cycles(f: Facts) -> list[Candidate]:
                 "variation": s.variation,
                 "variation_limit": c.variation_limit,
                 "age": c.age_years,
+                "abnormal_since": since.isoformat(),
             },
             f"FIGO frequency outside {p.figo_frequent_below}-{p.figo_infrequent_above} days, or shortest-to-longest "
             f"variation above {p.figo_variation_mid} days (age 26-41; {p.figo_variation_young_old} at 18-25 and 42-45)",
@@ -64,7 +81,7 @@ def irregular_cycles(f: Facts) -> list[Candidate]:
 
 def short_luteal_phase(f: Facts) -> list[Candidate]:
     p = f.protocol
-    complete = [r for r in f.analysis.cycles if not r.is_open]
+    complete = [r for r in f.analysis.cycles if not r.is_open and not r.pregnancy]
     found = []
     for record in complete:
         days = record.luteal_length

@@ -1,8 +1,12 @@
 """An alert's life: open -> acknowledged -> resolved, snoozed until a day, auto-resolved when the
 condition ends, escalated when the evidence worsens. Pure: it decides, the services write.
 
-One stored row per key, ever: a resolved key is never raised again. A candidate that is only
-held (not raisable) keeps an alert alive but never raises or escalates one.
+A key names the episode an alert is about (the cycle, the bleed, the hCG pair, the scan, the gap,
+the reading day, the run of abnormal cycles), and at most one alert per key is unresolved. An alert
+the rules resolved is raised again, as a new row, when its condition comes back (a new episode has
+a new key; the same episode comes back after a correction); one a person resolved stays resolved
+for its episode unless the evidence worsens. A candidate that is only held (not raisable) keeps an
+alert alive but never raises or escalates one.
 """
 
 from __future__ import annotations
@@ -35,6 +39,9 @@ CURRENT_CYCLE_KINDS = frozenset(
         AlertKind.MULTIPLE_FOLLICLES, AlertKind.BLEEDING_IN_PREGNANCY,
     }
 )  # fmt: skip
+# Kinds whose alert hands over to the next kind's as the cycle moves on: the window approaching
+# becomes the window open. Such a resolution is a hand-over, not an alert leaving the lists.
+HANDS_OVER_TO = {AlertKind.WINDOW_APPROACHING: AlertKind.WINDOW_OPEN}
 
 
 @dataclass(frozen=True)
@@ -45,6 +52,17 @@ class SyncPlan:
     escalations: tuple[tuple[Alert, Candidate], ...]
     reopens: tuple[Alert, ...]  # snoozed until a day that has come
     resolutions: tuple[tuple[Alert, str], ...]  # with the reason, "auto: ..."
+
+    @property
+    def vanishing(self) -> int:
+        """Auto-resolutions not replaced by a new alert of the same kind (an episode re-keyed, a
+        cycle's alert handing over to the next) or of the kind it hands over to (`HANDS_OVER_TO`):
+        the alerts that leave the lists."""
+        replaced = {c.kind for c in self.raises}
+        return sum(
+            1 for alert, _ in self.resolutions
+            if alert.kind not in replaced and HANDS_OVER_TO.get(alert.kind) not in replaced
+        )  # fmt: skip
 
     @property
     def empty(self) -> bool:
@@ -60,9 +78,9 @@ def effective(alert: Alert, today: date) -> Alert:
 
 def plan_sync(existing: list[Alert], candidates: list[Candidate], facts: Facts) -> SyncPlan:
     """Compare the patient's stored alerts (all of them, resolved ones too) with today's candidates."""
-    stored = {a.key: a for a in existing}
+    latest = {a.key: a for a in sorted(existing, key=lambda a: a.id)}
     found = {c.key: c for c in candidates}
-    raises = tuple(c for c in candidates if c.raisable and c.key not in stored)
+    raises = tuple(c for c in candidates if c.raisable and raised_again(latest.get(c.key), c))
     escalations, reopens, resolutions = [], [], []
     for alert in existing:
         if alert.state is RESOLVED:
@@ -75,6 +93,21 @@ def plan_sync(existing: list[Alert], candidates: list[Candidate], facts: Facts) 
         elif effective(alert, facts.today) is not alert:
             reopens.append(alert)
     return SyncPlan(raises, tuple(escalations), tuple(reopens), tuple(resolutions))
+
+
+def auto_resolved(alert: Alert) -> bool:
+    """Resolved by the rules (the condition ended), not by a person."""
+    return alert.state is RESOLVED and (alert.resolved_reason or "").startswith("auto: ")
+
+
+def raised_again(previous: Alert | None, candidate: Candidate) -> bool:
+    """Whether a raisable candidate raises a new alert, given the key's latest stored alert: none
+    yet; the condition came back after the rules resolved it; or worse than when a person resolved it."""
+    if previous is None:
+        return True
+    if previous.state is not RESOLVED:
+        return False
+    return auto_resolved(previous) or candidate.severity.rank < previous.severity.rank
 
 
 def ended_reason(alert: Alert, facts: Facts) -> str:
@@ -106,6 +139,8 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
         return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
     if kind is AlertKind.IRREGULAR_CYCLES:
         c = analysis.classification
+        if c.frequency in ("frequent", "infrequent") or c.regularity == "irregular":
+            return "the finding goes on in the alert keyed on the first cycle of its run"
         return f"cycles now classify as frequency {c.frequency}, regularity {c.regularity} (FIGO 2018)"
     return "the entries behind it were corrected or voided"
 

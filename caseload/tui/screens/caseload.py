@@ -16,6 +16,7 @@ from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.presentation.glossary import refresh_progress_line
 from caseload.application.caseload_view import CaseloadLine
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
@@ -108,9 +109,24 @@ class CaseloadScreen(ClinicWork, Screen):
     def _load(self) -> None:
         self.post_message(self.Loaded(self.app.clinic.morning_list()))
 
+    class RefreshProgress(Message):
+        def __init__(self, note: str) -> None:
+            super().__init__()
+            self.note = note
+
     @work(**STORE_WORK, name="refresh")
     def _morning_refresh(self) -> None:
-        self.post_message(self.Refreshed(self.app.clinic.refresh()))
+        """On a store connection of its own, never holding the clinic's lock: the list can be read
+        and entries saved while it runs; its progress shows under the list."""
+        shown = [""]
+
+        def progress(stage: str, done: int, total: int) -> None:
+            note = refresh_progress_line(stage, done, total)
+            if note != shown[0]:  # one message per step of the percentage, not per patient
+                shown[0] = note
+                self.post_message(self.RefreshProgress(note))
+
+        self.post_message(self.Refreshed(self.app.clinic.refresh_on_own_connection(progress)))
 
     def work_failed(self, name: str, reason: str) -> None:
         if name == "load":
@@ -139,6 +155,9 @@ class CaseloadScreen(ClinicWork, Screen):
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
         self.query_one("#list-note", Static).update(Text(f"Could not read the caseload: {message.reason}"))
+
+    def on_caseload_screen_refresh_progress(self, message: RefreshProgress) -> None:
+        self.query_one("#list-note", Static).update(message.note)
 
     def on_caseload_screen_refreshed(self, message: Refreshed) -> None:
         r = message.report
