@@ -138,7 +138,35 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1]
+def _patient_history(conn: sqlite3.Connection) -> None:
+    """Each patient's status, plan, nurse and charting from the moment they took effect, so a past
+    week's census reads registrations and status changes, not the audit trail's free-form rows.
+    Filled from the audit trail of existing stores."""
+    run_script(
+        conn,
+        """
+        CREATE TABLE patient_history (
+            id INTEGER PRIMARY KEY,
+            patient_id TEXT NOT NULL REFERENCES patient(id),
+            at TEXT NOT NULL,
+            status TEXT NOT NULL,
+            plan TEXT NOT NULL,
+            nurse_id TEXT,
+            charting_temps INTEGER NOT NULL,
+            by_staff TEXT NOT NULL
+        );
+        CREATE INDEX patient_history_patient_at ON patient_history(patient_id, at);
+        INSERT INTO patient_history (patient_id, at, status, plan, nurse_id, charting_temps, by_staff)
+        SELECT a.row_id, a.at, json_extract(a.after, '$.status'), json_extract(a.after, '$.plan'),
+               json_extract(a.after, '$.nurse_id'), json_extract(a.after, '$.charting_temps'), a.by_staff
+        FROM audit a JOIN patient p ON p.id = a.row_id
+        WHERE a.action IN ('patient.add', 'patient.update') ORDER BY a.id;
+        """,
+    )
+    run_script(conn, APPEND_ONLY.format(table="patient_history"))
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _patient_history]
 LATEST = len(MIGRATIONS)
 
 
