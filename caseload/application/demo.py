@@ -201,7 +201,7 @@ class _Replay:
         seen[entry_id] = (order, Observation(p.day, p.kind, p.value, p.flags, p.time))
 
     def flush(self) -> None:
-        """Entries are written in batches, before anything that may read them."""
+        """Entries are written in batches, before any other write, so the audit trail stays in time order."""
         if self.pending:
             self.store.bulk.write_prepared(prepare_entries(self.pending))
             self.pending = []
@@ -215,6 +215,7 @@ class _Replay:
     # --- patients
 
     def register(self, nurse: Actor, patient: Patient) -> None:
+        self.flush()
         self.store.patients.add(nurse, patient)
         self.patients[patient.id] = patient
 
