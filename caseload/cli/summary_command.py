@@ -12,14 +12,17 @@ from caseload.application import weekly_summary as reports
 
 
 @click.command()
-@click.option("--week", required=True, metavar="YYYY-Www", help="ISO week in the clinic's time zone, e.g. 2026-W48.")
+@click.option("--week", metavar="YYYY-Www",
+              help="ISO week in the clinic's time zone, e.g. 2026-W48; by default the last complete week.")
 @click.option("--format", "fmt", required=True, type=click.Choice(FORMATS), help="xlsx, html, json (a file) or csv (a folder of files).")
 @click.option("--out", required=True, type=click.Path(), help="File to write; for csv, the folder to write into.")
 @click.option("--deidentify", is_flag=True, help="Patients as keyed pseudonyms, without names or birth dates.")
 @pass_session
-def summary(session: Session, week: str, fmt: str, out: str, deidentify: bool) -> None:
+def summary(session: Session, week: str | None, fmt: str, out: str, deidentify: bool) -> None:
     """Export the weekly caseload summary (supervisors and admins); every export is audited."""
-    path = reports.export_summary(session.context(), week, fmt, Path(out), deidentify)
+    ctx = session.context()
+    week = week or reports.last_complete_week(ctx.today)
+    path = reports.export_summary(ctx, week, fmt, Path(out), deidentify)
     kind = "de-identified " if deidentify else ""
     click.echo(f"Weekly summary {week.strip().upper()} written to {path} ({kind}{fmt}).")
 

@@ -67,6 +67,8 @@ class AlertEvent:
     state: str | None  # the alert's state after the transition, when the trail records it
     due: date | None
     snooze_until: date | None
+    raised_on: date | None
+    note: str | None  # what the staff member wrote, on a handling transition
 
 
 @dataclass(frozen=True)
@@ -140,7 +142,9 @@ _ALERT_COLUMNS = """
     COALESCE(json_extract(a.after, '$.severity'), al.severity) AS severity,
     json_extract(a.after, '$.state') AS state,
     COALESCE(json_extract(a.after, '$.due'), al.due) AS due,
-    json_extract(a.after, '$.snooze_until') AS snooze_until
+    json_extract(a.after, '$.snooze_until') AS snooze_until,
+    COALESCE(json_extract(a.after, '$.raised_on'), al.raised_on) AS raised_on,
+    json_extract(a.after, '$.note') AS note
 """
 
 
@@ -157,6 +161,8 @@ def _alert_event(row: dict) -> AlertEvent:
         state=row["state"],
         due=_day(row["due"]),
         snooze_until=_day(row["snooze_until"]),
+        raised_on=_day(row["raised_on"]),
+        note=row["note"],
     )
 
 

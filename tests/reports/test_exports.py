@@ -13,7 +13,8 @@ import openpyxl
 import pytest
 from openpyxl.utils import get_column_letter
 
-from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
+from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, NONE, SHARE, sections
+from caseload.exports.summary_xlsx import MAX_WIDTH
 from caseload.application.weekly_summary import compute_summary, export_summary
 from tests.reports.conftest import W43
 from tests.reports.expected import KEYS, w43
@@ -69,12 +70,13 @@ def workbook(exported):
 
 
 def _xlsx_table(sheet, title: str, height: int) -> list[tuple]:
-    """A table by its title (row 3), its header on row 4, `height` rows below."""
-    first = next(cell.column for cell in sheet[3] if cell.value == title)
+    """A table by its title (in column A), its header on the next row, `height` rows below."""
+    top = next(cell.row for cell in sheet["A"] if cell.value == title)
     width = 0
-    while sheet.cell(4, first + width).value is not None:
+    while sheet.cell(top + 1, 1 + width).value is not None:
         width += 1
-    return [tuple(sheet.cell(r, first + i).value for i in range(width)) for r in range(5, 5 + height)]
+    first = top + 2 + (sheet.cell(top + 2, 1).value == NONE)
+    return [tuple(sheet.cell(r, 1 + i).value for i in range(width)) for r in range(first, first + height)]
 
 
 def _xlsx_expected(value):
@@ -107,23 +109,25 @@ def test_xlsx_cells_hold_the_numbers_and_dates(workbook, clinic, expected, key):
 def test_xlsx_has_a_sheet_per_section_with_frozen_headers_and_native_charts(workbook):
     assert workbook.sheetnames == list(SHEETS.values())
     for sheet in workbook:
-        assert sheet.freeze_panes == "A5"  # title, caption, table titles and the header row stay put
+        assert sheet.freeze_panes == "A4"  # the title and caption stay put
     charts = {name: len(workbook[name]._charts) for name in SHEETS.values()}
     assert charts == {"Census": 1, "Alerts": 2, "Clinical events": 0, "Data quality": 0, "Workload": 0}
 
 
 def test_xlsx_number_formats_and_column_widths(workbook):
     sheet = workbook["Data quality"]
-    share = next(c for c in sheet[5] if c.value == 0.7857)
+    share = next(c for row in sheet.iter_rows() for c in row if c.value == 0.7857)
     assert share.number_format == "0.0%"
     changes = workbook["Data quality"]
     when = next(c for row in changes.iter_rows(min_row=5) for c in row if isinstance(c.value, datetime)
                 and c.value.hour == 9)
     assert when.number_format == "yyyy-mm-dd hh:mm"
     counts = workbook["Clinical events"]
-    description = next(c for c in counts[4] if c.value == "Description")
-    longest = max(len(str(counts.cell(r, description.column).value or "")) for r in range(5, 13))
-    assert counts.column_dimensions[get_column_letter(description.column)].width >= longest
+    description = next(c for row in counts.iter_rows() for c in row if c.value == "Description")
+    texts = [str(counts.cell(r, description.column).value or "") for r in range(description.row + 1, description.row + 9)]
+    # Fitted to the longest text, up to a cap beyond which the text wraps.
+    width = counts.column_dimensions[get_column_letter(description.column)].width
+    assert width >= min(max(map(len, texts)), MAX_WIDTH) and counts.cell(description.row + 1, description.column).alignment.wrap_text
 
 
 # --- HTML
@@ -225,15 +229,18 @@ def test_html_page_is_self_contained_with_inline_svg_charts(page):
 def test_csv_folder_holds_one_file_per_table_and_the_week(exported):
     names = sorted(p.name for p in exported["csv"].iterdir())
     assert names == sorted(["week.csv", *(f"{s}-{t}.csv" for s, t in KEYS)])
-    with open(exported["csv"] / "week.csv", newline="", encoding="utf-8") as f:
+    with open(exported["csv"] / "week.csv", newline="", encoding="utf-8-sig") as f:
         (week,) = list(csv.DictReader(f))
     assert week == {"week": "2026-W43", "first_day": "2026-10-19", "last_day": "2026-10-25",
-                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "deidentified": "False"}
+                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "complete": "True",
+                    "deidentified": "False"}
+    # RFC 3629 section 6: a UTF-8 byte order mark is EF BB BF; spreadsheet programs take it to mean UTF-8.
+    assert all(p.read_bytes().startswith(b"\xef\xbb\xbf") for p in exported["csv"].iterdir())
 
 
 @pytest.mark.parametrize("key", KEYS, ids=lambda k: "-".join(k))
 def test_csv_files_hold_the_numbers(exported, kinds, expected, key):
-    with open(exported["csv"] / f"{key[0]}-{key[1]}.csv", newline="", encoding="utf-8") as f:
+    with open(exported["csv"] / f"{key[0]}-{key[1]}.csv", newline="", encoding="utf-8-sig") as f:
         reader = csv.reader(f)
         header = next(reader)
         rows = [tuple(_typed(text, kind) for text, kind in zip(row, kinds[key])) for row in reader]
@@ -270,6 +277,6 @@ def test_json_week_and_times_carry_their_offsets(document):
     assert document["week"] == {"label": "2026-W43", "first_day": "2026-10-19", "last_day": "2026-10-25",
                                 "timezone": "Europe/London", "start": "2026-10-18T23:00:00+00:00",
                                 "end": "2026-10-26T00:00:00+00:00", "hours": 169}
-    assert document["deidentified"] is False
+    assert document["deidentified"] is False and document["complete"] is True  # JSON booleans (RFC 8259)
     ats = [r["at"] for r in document["quality"]["changes"]["rows"]]
     assert ats == ["2026-10-19T09:00+01:00", "2026-10-22T10:00+01:00", "2026-10-24T11:00+01:00"]
