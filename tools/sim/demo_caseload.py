@@ -112,7 +112,7 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0002", "Fatima Haddad", 35, ACTIVE, T, False, True, (), "regular 29-day cycles, LH tests and mucus, no temperatures; day 2", quiet(2, 29)),
     Spec("P0003", "Meilin Zhou", 31, ACTIVE, N, True, False, (), "regular cycles; a temperature amended after a keying slip", amended_temperature),
     Spec("P0004", "Olamide Adeyemi", 29, ACTIVE, T, False, True, (), "regular cycles, mucus and LH only; a bleed logged in error was voided", voided_bleed),
-    Spec("P0005", "Sofia Rossi", 32, ACTIVE, N, True, False, ("irregular-cycles",), "irregular cycles of 24 to 45 days: refer (FIGO)", irregular),
+    Spec("P0005", "Sofia Rossi", 32, ACTIVE, N, True, False, ("irregular-cycles",), "regular until two cycles of 25 and 40 days: irregular, refer (FIGO)", irregular),
     Spec("P0006", "Priya Raman", 34, ACTIVE, N, True, False, ("monophasic-cycle",), "last completed cycle anovulatory: 33 days, no rise", monophasic_last_cycle),
     Spec("P0007", "Katarzyna Nowak", 36, ACTIVE, T, True, True, ("short-luteal-phase",), "last cycle ovulated late (day 17) with an 8-day luteal phase", short_luteal_last_cycle),
     Spec("P0008", "Leila Farahani", 30, ACTIVE, T, True, True, ("window-open",), "LH surge: first positive test today (day 13)", lh_positive_today),
@@ -145,9 +145,9 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0035", "Adaeze Nwosu", 30, ACTIVE, N, True, False, (), "regular cycles, luteal phase (day 22)", quiet(22)),
     Spec("P0036", "Isabel Moreno", 32, ACTIVE, N, False, False, (), "regular 30-day cycles, mucus only; day 1", quiet(1, 30)),
     Spec("P0037", "Lena Vogel", 35, ACTIVE, T, True, True, (), "regular cycles, timed intercourse, luteal phase (day 21)", quiet(21)),
-    Spec("P0038", "Keira Walsh", 27, ACTIVE, N, False, False, (), "regular cycles, mucus only; joined six weeks ago; day 1", quiet(1, days_back=40)),
-    Spec("P0039", "Farida Osman", 40, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; joined seven weeks ago; day 2", quiet(2, 29, days_back=50)),
-    Spec("P0040", "Beatriz Costa", 31, ACTIVE, N, True, False, (), "regular 27-day cycles, joined a month ago; luteal phase (day 20)", quiet(20, 27, days_back=30), mucus=False),
+    Spec("P0038", "Keira Walsh", 27, ACTIVE, N, False, False, (), "regular cycles, mucus only; joined six weeks ago; day 1", quiet(1, days_back=10)),
+    Spec("P0039", "Farida Osman", 40, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; joined seven weeks ago; day 2", quiet(2, 29, days_back=20)),
+    Spec("P0040", "Beatriz Costa", 31, ACTIVE, N, True, False, (), "regular 27-day cycles, joined a month ago; luteal phase (day 20)", quiet(20, 27, days_back=1), mucus=False),
 )  # fmt: skip
 
 

@@ -73,8 +73,10 @@ def voided_bleed(rng: random.Random, profile: Profile) -> list[Logged]:
 
 
 def irregular(rng: random.Random, profile: Profile) -> list[Logged]:
-    """Cycles of 24 to 45 days, all ovulatory with a normal luteal phase; today after a late rise."""
-    recent = [(24, 11), (41, 27), (29, 15), (45, 31), (26, 13), (36, 22)]
+    """Regular cycles until two months ago, then one of 25 days and one of 40 (ended four weeks ago),
+    all ovulatory with a normal luteal phase: the 40-day one makes her irregular (FIGO) within the
+    demo's recent weeks, so her referral falls in them. Today after a late rise."""
+    recent = [(25, 12), (40, 26)]
     cycles = scripted(rng, profile, Current(26, 20, 34), recent)
     return logged(render(rng, profile, cycles))
 
