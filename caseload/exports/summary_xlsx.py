@@ -19,7 +19,7 @@ from caseload.exports.summary_tables import (
 )
 
 TITLE_ROW, CAPTION_ROW, FIRST_TABLE_ROW = 0, 1, 3
-MAX_WIDTH = 60  # longer free text (a reason, a note) wraps on screen and on paper, kept whole in the cell
+MAX_WIDTH = 80  # longer free text (a reason, a note) runs on into the empty cells beside it, kept whole
 NUMBER_FORMATS = {INT: "0", FLOAT: "0.00", SHARE: "0.0%", DATE: "yyyy-mm-dd", DATETIME: "yyyy-mm-dd hh:mm"}
 # Shown widths of the formatted cells, for fitting columns.
 SHOWN_WIDTH = {DATE: 10, DATETIME: 16, SHARE: 6}
@@ -48,9 +48,10 @@ def _formats(book: Workbook) -> dict:
     made = {kind: book.add_format({"num_format": f}) for kind, f in NUMBER_FORMATS.items()}
     made |= {f"total-{kind}": book.add_format({"num_format": f, "bold": True, "top": 1})
              for kind, f in NUMBER_FORMATS.items()}
-    made["text"] = book.add_format({"text_wrap": True, "valign": "top"})
+    made["text"] = book.add_format({})
     made["total-text"] = book.add_format({"bold": True, "top": 1})
-    made["header"] = book.add_format({"bold": True, "bottom": 1, "text_wrap": True, "valign": "top"})
+    made["header"] = book.add_format({"bold": True, "bottom": 1, "valign": "top"})
+    made["header-number"] = book.add_format({"bold": True, "bottom": 1, "valign": "top", "align": "right"})
     made["title"] = book.add_format({"bold": True, "font_size": 14})
     made["table-title"] = book.add_format({"bold": True, "italic": True})
     return made
@@ -99,7 +100,8 @@ def _place(sheet: Worksheet, table: Table, row: int, formats: dict, widths: list
     sheet.write_string(row, 0, table.title, formats["table-title"])
     header = row + 1
     for i, column in enumerate(table.columns):
-        sheet.write_string(header, i, column.title, formats["header"])
+        numeric = column.kind in NUMBER_FORMATS and column.kind not in (DATE, DATETIME)
+        sheet.write_string(header, i, column.title, formats["header-number" if numeric else "header"])
     rows = [*table.rows, *([table.total] if table.total else [])]
     if not table.rows:
         sheet.write_string(header + 1, 0, NONE, formats["text"])
@@ -112,7 +114,7 @@ def _place(sheet: Worksheet, table: Table, row: int, formats: dict, widths: list
             shown = _write(sheet, first + r, i, value, kind, fmt)
             widths[i] = max(widths[i], min(shown, MAX_WIDTH))
     for i, column in enumerate(table.columns):
-        widths[i] = max(widths[i], min(len(column.title), 24))
+        widths[i] = max(widths[i], len(column.title))
     return Placed(header, len(table.rows), first + len(rows) + 1)
 
 

@@ -4,6 +4,7 @@ standard library's html.parser, CSV with the csv module, JSON with json."""
 from __future__ import annotations
 
 import csv
+import math
 import json
 import re
 from datetime import date, datetime, time
@@ -14,7 +15,7 @@ import pytest
 from openpyxl.utils import get_column_letter
 
 from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, NONE, SHARE, sections
-from caseload.exports.summary_xlsx import MAX_WIDTH
+from caseload.exports.summary_xlsx import MAX_WIDTH, _step
 from caseload.application.weekly_summary import compute_summary, export_summary
 from tests.reports.conftest import W43
 from tests.reports.expected import KEYS, w43
@@ -125,9 +126,9 @@ def test_xlsx_number_formats_and_column_widths(workbook):
     counts = workbook["Clinical events"]
     description = next(c for row in counts.iter_rows() for c in row if c.value == "Description")
     texts = [str(counts.cell(r, description.column).value or "") for r in range(description.row + 1, description.row + 9)]
-    # Fitted to the longest text, up to a cap beyond which the text wraps.
+    # Fitted to the longest text, up to a cap beyond which the text runs on into the empty cells beside it.
     width = counts.column_dimensions[get_column_letter(description.column)].width
-    assert width >= min(max(map(len, texts)), MAX_WIDTH) and counts.cell(description.row + 1, description.column).alignment.wrap_text
+    assert width >= min(max(map(len, texts)), MAX_WIDTH)
 
 
 # --- HTML
@@ -280,3 +281,45 @@ def test_json_week_and_times_carry_their_offsets(document):
     assert document["deidentified"] is False and document["complete"] is True  # JSON booleans (RFC 8259)
     ats = [r["at"] for r in document["quality"]["changes"]["rows"]]
     assert ats == ["2026-10-19T09:00+01:00", "2026-10-22T10:00+01:00", "2026-10-24T11:00+01:00"]
+
+
+# --- XLSX printing
+
+
+def test_xlsx_sheets_print_a4_landscape_one_page_wide_with_titles_repeated(workbook):
+    # ECMA-376 part 1, 18.3.1.63 pageSetup: paperSize 9 is A4; fitToHeight 0 means "as many pages as needed".
+    for sheet in workbook:
+        setup = sheet.page_setup
+        assert setup.orientation == "landscape" and int(setup.paperSize) == 9
+        assert sheet.sheet_properties.pageSetUpPr.fitToPage
+        assert (int(setup.fitToWidth or 1), int(setup.fitToHeight)) == (1, 0)  # fitToWidth is 1 when left out
+        assert sheet.print_title_rows == "$1:$2"  # the sheet's title and the week's caption on every page
+
+
+def test_xlsx_charts_show_every_label_on_whole_number_axes_sized_to_their_bars(workbook):
+    # openpyxl reads a bar chart's category axis as x_axis and its value axis as y_axis.
+    for name in ("Census", "Alerts"):
+        for chart in workbook[name]._charts:
+            assert chart.x_axis.tickLblSkip == 1
+            assert chart.y_axis.majorUnit == int(chart.y_axis.majorUnit) >= 1
+            assert chart.y_axis.number_format.formatCode == "0"
+    kinds = next(c for c in workbook["Alerts"]._charts if len(c.series) == 1)
+    nurses = workbook["Census"]._charts[0]
+    # 14 alert kinds, one bar each, against 3 nurses with two bars each: the chart with more bars is taller.
+    def rows(chart) -> int:  # a chart is anchored from one cell to another
+        return chart.anchor.to.row - chart.anchor._from.row
+
+    assert rows(kinds) > rows(nurses) >= 7
+
+
+@pytest.mark.parametrize(("top", "step"), [(1, 1), (5, 1), (10, 1), (11, 2), (40, 4), (73.15, 8)])
+def test_value_axis_steps_are_whole_numbers_with_at_most_ten_marks(top, step):
+    assert _step(top) == step and math.ceil(top / step) <= 10
+
+
+def test_an_empty_chart_says_none_this_week(fresh_clinic, tmp_path):
+    # 2026-W45 has no alert raised and none acknowledged.
+    path = export_summary(fresh_clinic.context(), "2026-W45", "xlsx", tmp_path / "w45.xlsx", deidentify=False)
+    sheet = openpyxl.load_workbook(path)["Alerts"]
+    said = [c.value for row in sheet.iter_rows() for c in row if isinstance(c.value, str) and NONE in c.value]
+    assert "Alerts raised by kind: none this week" in said and not sheet._charts
