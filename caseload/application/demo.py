@@ -78,6 +78,7 @@ RESOLVE_NOTES = {
 }
 SNOOZE_NOTE = "she is away for a few days; to be called when back"
 SNOOZE_ONE_IN = 3  # about one in three "soon" alerts is first snoozed
+SNOOZE_DAYS = 3
 RESOLVE_AFTER_DAYS = (1, 4)  # an acknowledged alert is resolved this many days later (least, spread)
 
 
@@ -276,11 +277,10 @@ class _Replay:
         alert = self.store.alerts.get(alert_id)
         if effective(alert, day).state not in ALLOWED_FROM[target]:
             return  # resolved or escalated since: the next refresh plans again
-        note = RESOLVE_NOTES[alert.kind] if target is AlertState.RESOLVED else ACK_NOTES[alert.kind]
-        until = day + timedelta(days=3) if target is AlertState.SNOOZED else None
-        if target is AlertState.SNOOZED:
-            note = SNOOZE_NOTE
-        self.store.alerts.handle(self._handler(alert), alert, target, note, until)
+        notes = {AlertState.ACKNOWLEDGED: ACK_NOTES[alert.kind], AlertState.SNOOZED: SNOOZE_NOTE,
+                 AlertState.RESOLVED: RESOLVE_NOTES[alert.kind]}
+        until = day + timedelta(days=SNOOZE_DAYS) if target is AlertState.SNOOZED else None
+        self.store.alerts.handle(self._handler(alert), alert, target, notes[target], until)
 
 
 def build_demo(path: Path, today: date, account: str) -> Demo:

@@ -76,25 +76,6 @@ def _write(sheet: Worksheet, row: int, col: int, value, kind: str, fmt) -> int:
     return len(text)
 
 
-def _write(sheet: Worksheet, row: int, col: int, value, kind: str, fmt) -> int:
-    """Write one typed cell; returns its shown width."""
-    if value is None:
-        sheet.write_blank(row, col, None, fmt)
-        return 0
-    if isinstance(value, datetime):
-        sheet.write_datetime(row, col, value.replace(tzinfo=None), fmt)
-        return SHOWN_WIDTH[DATETIME]
-    if isinstance(value, date):
-        sheet.write_datetime(row, col, datetime.combine(value, time()), fmt)
-        return SHOWN_WIDTH[DATE]
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
-        sheet.write_number(row, col, value, fmt)
-        return SHOWN_WIDTH.get(kind, len(f"{value:.2f}" if kind == FLOAT else str(value)))
-    text = str(value)
-    sheet.write_string(row, col, text, fmt)
-    return len(text)
-
-
 def _place(sheet: Worksheet, table: Table, row: int, formats: dict, widths: list[int]) -> Placed:
     """The table from `row` down: title, header, rows (or NONE), total; widens `widths` to fit it."""
     sheet.write_string(row, 0, table.title, formats["table-title"])
