@@ -224,6 +224,17 @@ def test_html_page_is_self_contained_with_inline_svg_charts(page):
     assert "<style>" in page
 
 
+def test_html_chart_values_read_as_their_tables_show_them(page):
+    kinds = page[page.index('id="chart-alerts-by-kind"'):]
+    kinds = kinds[:kinds.index("</figure>")]
+    labels = re.findall(r'class="value">([^<]*)<', kinds)
+    titles = re.findall(r"<title>([^<]*)</title>", kinds)
+    # Counts of alerts are whole numbers: "1", never "1.0" or "Total: 1.00". 14 kinds, one bar each.
+    assert len(labels) == len(titles) == 14 and all(re.fullmatch(r"\d+", t) for t in labels + titles)
+    hours = page[page.index('id="chart-hours-to-acknowledge"'):]
+    assert "<title>41.75</title>" in hours[:hours.index("</figure>")]  # median hours keep two decimals
+
+
 # --- CSV
 
 
