@@ -142,10 +142,10 @@ def _logged_entries(rows: list[dict], by_id: dict[str, Actor], today: date, zone
         key = (r["patient"], r["day_offset"], r["kind"])
         if r["amend_reason"]:
             start, spread = NURSE_DAY
-            at = _moment(day + timedelta(days=1), start, _spread(f"amend {i}", spread), zone)
+            at = _moment(day + timedelta(days=1), start, _spread(f"amend {key}", spread), zone)
         elif actor.role is Role.NURSE or parsed.kind in NURSE_KINDS:
             start, spread = NURSE_DAY
-            at = _moment(day, start, _spread(f"{key} {i}", spread), zone)
+            at = _moment(day, start, _spread(f"{key} {r['value']}", spread), zone)
         else:
             start, spread = PHONE_CALLS
             at = _moment(day, start, _spread(f"{r['patient']} {r['day_offset']}", spread), zone)

@@ -65,6 +65,35 @@ def amended_temperature(rng: random.Random, profile: Profile) -> list[Logged]:
     return rows
 
 
+def corrected(build: Build, days_ago: int, reason: str) -> Build:
+    """`build`, with the temperature of `days_ago` first logged 0.3 C too high, then corrected."""
+
+    def with_slip(rng: random.Random, profile: Profile) -> list[Logged]:
+        rows: list[Logged] = []
+        for row in build(rng, profile):
+            e = row.entry
+            if e.kind is Kind.TEMP and e.day == TODAY - timedelta(days=days_ago) and not row.amend_reason:
+                rows.append(Logged(SimEntry(e.day, e.kind, f"{float(e.raw) + 0.3:.2f}", e.time, e.flags)))
+                rows.append(Logged(e, amend_reason=reason))
+            else:
+                rows.append(row)
+        return rows
+
+    return with_slip
+
+
+def duplicate_voided(build: Build, days_ago: int, reason: str) -> Build:
+    """`build`, with the first entry of `days_ago` logged twice and the second copy voided."""
+
+    def with_duplicate(rng: random.Random, profile: Profile) -> list[Logged]:
+        rows = build(rng, profile)
+        day = TODAY - timedelta(days=days_ago)
+        first = next(i for i, r in enumerate(rows) if r.entry.day == day)
+        return [*rows[:first + 1], Logged(rows[first].entry, void_reason=reason), *rows[first + 1:]]
+
+    return with_duplicate
+
+
 def voided_bleed(rng: random.Random, profile: Profile) -> list[Logged]:
     """A heavy bleed logged against her by mistake, voided the same day."""
     rows = quiet(1)(rng, profile)
@@ -156,8 +185,8 @@ def overresponse_last_cycle(rng: random.Random, profile: Profile) -> list[Logged
     the trigger was withheld and that cycle cancelled."""
     cycles = scripted(rng, profile, Current(21, 14, 28))
     last = cycles[-2]
-    entries = drop(render(rng, profile, cycles), last.start, _current_start(cycles) - timedelta(days=1),
-                   [Kind.TRIGGER, Kind.INSEMINATION])
+    entries = drop(render(rng, profile, cycles), day_of(last.start, 11), _current_start(cycles) - timedelta(days=1),
+                   [Kind.SCAN, Kind.TRIGGER, Kind.INSEMINATION])  # no more scans once the cycle is cancelled
     scan = SimEntry(day_of(last.start, 11), Kind.SCAN, "18,16.5,15,14.5,11 endo 8.9")
     note = SimEntry(day_of(last.start, 11), Kind.NOTE, "trigger withheld: four follicles 14 mm or more; cycle cancelled")
     return logged(add(entries, scan, note))
