@@ -73,7 +73,7 @@ class Bars:
     chart: Chart
     series: tuple[str, ...]  # the value columns' titles
     kinds: tuple[str, ...]  # the value columns' kinds, for showing a value as its table does
-    items: tuple[tuple[str, tuple[int | float, ...]], ...]  # (label, a value per series; blanks as 0)
+    items: tuple[tuple[str, tuple[int | float | None, ...]], ...]  # (label, a value per series; None if blank)
     top: int | float  # the largest value, at least 1
 
     @property
@@ -89,8 +89,8 @@ def bars(chart: Chart, section: Section) -> Bars:
     table = section.table(chart.table)
     ids = [c.id for c in table.columns]
     label, picks = ids.index(chart.category), [ids.index(v) for v in chart.values]
-    items = tuple((str(row[label]), tuple(row[i] or 0 for i in picks)) for row in table.rows)
-    top = max([1, *(v for _, values in items for v in values)])
+    items = tuple((str(row[label]), tuple(row[i] for i in picks)) for row in table.rows)
+    top = max([1, *(v or 0 for _, values in items for v in values)])
     return Bars(chart, tuple(table.columns[i].title for i in picks), tuple(table.columns[i].kind for i in picks),
                 items, top)
 
