@@ -25,7 +25,7 @@ from tests.sim.chart_rules import (
     three_over_six,
 )
 
-FILES = ("clinic.json", "staff.csv", "patients.csv", "entries.csv")
+FILES = ("clinic.json", "staff.csv", "patients.csv", "status_changes.csv", "entries.csv")
 VALUE_FORMATS = {
     "temp": r"\d{2}\.\d{2}|\d{2,3}\.\dF",
     "bleed": "|".join(f.value for f in Flow),
