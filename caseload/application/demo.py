@@ -27,6 +27,7 @@ from caseload.core.alerts.lifecycle import ALLOWED_FROM, effective
 from caseload.core.model import Actor, Alert, AlertState, Kind, Observation, Patient, PatientStatus, Plan, Role, Staff
 from caseload.core.parse import ParsedEntry, parse_entry
 from caseload.application.context import Context
+from caseload.application.patients import with_status
 from caseload.application.recompute import refresh_all, refresh_from
 from caseload.application.protocol import load_protocol
 from caseload.store import Store
@@ -59,6 +60,8 @@ ACK_NOTES = {
     "multiple-follicles": "doctor informed; trigger withheld, advised to avoid intercourse this cycle",
     "fever": "phoned her: illness noted, readings this week set aside; to see her GP if it persists",
     "logging-gap": "left her a voicemail to resume logging",
+    "intermenstrual-bleeding": "phoned her: mid-cycle bleeding reviewed; smear history checked, seen by the doctor",
+    "bleeding-in-pregnancy": "phoned her: bleeding reviewed per protocol; early pregnancy unit scan booked",
 }
 RESOLVE_NOTES = {
     "window-approaching": "window passed; plan followed",
@@ -75,6 +78,8 @@ RESOLVE_NOTES = {
     "multiple-follicles": "cycle cancelled as planned; reviewed by the doctor",
     "fever": "recovered; charting as usual",
     "logging-gap": "logging again",
+    "intermenstrual-bleeding": "examined at clinic; plan in her notes",
+    "bleeding-in-pregnancy": "scan reviewed by the doctor; plan in her notes",
 }
 SNOOZE_NOTE = "she is away for a few days; to be called when back"
 SNOOZE_ONE_IN = 3  # about one in three "soon" alerts is first snoozed
@@ -182,6 +187,7 @@ class _Replay:
         while self.queue and self.queue[0][0] < until:
             moment, _, action = heapq.heappop(self.queue)
             self.store.db.clock = lambda moment=moment: moment
+            self.store.db.day_of_record = moment.astimezone(self.zone).date()  # each row as of its invented day
             action()
         self.flush()
 
@@ -223,7 +229,7 @@ class _Replay:
     def move(self, nurse: Actor, patient_id: str, status: PatientStatus) -> None:
         self.flush()
         before = self.patients[patient_id]
-        self.patients[patient_id] = replace(before, status=status)
+        self.patients[patient_id] = with_status(before, status, self.store.db.day_of_record)
         self.store.patients.update(nurse, before, self.patients[patient_id])
 
     # --- alerts
@@ -315,7 +321,7 @@ def build_demo(path: Path, today: date, account: str) -> Demo:
     opened = min(p.created for p in patients.values()) - timedelta(days=14)
 
     store.db.clock = lambda: _moment(opened, NURSE_DAY[0], 0, zone)
-    store.transact(lambda: _set_meta(store, clinic))
+    store.transact(lambda: _set_meta(store, clinic), opened)
     store.bulk.staff(admin, staff)
     ctx = Context(store, admin, today, load_protocol(store))
     replay = _Replay(store, ctx, zone, expected, by_id)

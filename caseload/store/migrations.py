@@ -138,10 +138,34 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
+def _audit_day_of_record(conn: sqlite3.Connection) -> None:
+    """Each audit row names the clinic day its change was made as of (the date of record); rows
+    written before this column existed keep NULL: their day was never recorded."""
+    conn.execute("ALTER TABLE audit ADD COLUMN day_of_record TEXT")
+
+
+def _status_since(conn: sqlite3.Connection) -> None:
+    """The date of record of a patient's last status change: the day a pregnancy began or ended.
+    Filled from the audit for patients whose status was changed before this version."""
+    run_script(
+        conn,
+        """
+        ALTER TABLE patient ADD COLUMN status_since TEXT;
+        UPDATE patient SET status_since = (
+            SELECT substr(a.at, 1, 10) FROM audit a
+            WHERE a.tbl = 'patient' AND a.row_id = patient.id AND a.before IS NOT NULL
+              AND json_extract(a.before, '$.status') IS NOT json_extract(a.after, '$.status')
+            ORDER BY a.id DESC LIMIT 1
+        );
+        """,
+    )
+
+
 def _patient_history(conn: sqlite3.Connection) -> None:
     """Each patient's status, plan, nurse and charting from the moment they took effect, so a past
     week's census reads registrations and status changes, not the audit trail's free-form rows.
-    Filled from the audit trail of existing stores."""
+    Filled from the audit trail of existing stores; a field an audit row does not name is taken from
+    the patient as she stands."""
     run_script(
         conn,
         """
@@ -157,16 +181,21 @@ def _patient_history(conn: sqlite3.Connection) -> None:
         );
         CREATE INDEX patient_history_patient_at ON patient_history(patient_id, at);
         INSERT INTO patient_history (patient_id, at, status, plan, nurse_id, charting_temps, by_staff)
-        SELECT a.row_id, a.at, json_extract(a.after, '$.status'), json_extract(a.after, '$.plan'),
-               json_extract(a.after, '$.nurse_id'), json_extract(a.after, '$.charting_temps'), a.by_staff
+        SELECT a.row_id, a.at, {status}, {plan}, {nurse_id}, {charting_temps}, a.by_staff
         FROM audit a JOIN patient p ON p.id = a.row_id
         WHERE a.action IN ('patient.add', 'patient.update') ORDER BY a.id;
-        """,
+        """.format(**{f: _named_or_current(f) for f in ("status", "plan", "nurse_id", "charting_temps")}),
     )
     run_script(conn, APPEND_ONLY.format(table="patient_history"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _patient_history]
+def _named_or_current(field: str) -> str:
+    """The field as the audit row's `after` names it (a JSON null included), else the patient's own."""
+    return (f"CASE WHEN json_type(a.after, '$.{field}') IS NULL THEN p.{field} "
+            f"ELSE json_extract(a.after, '$.{field}') END")
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _audit_day_of_record, _status_since, _patient_history]
 LATEST = len(MIGRATIONS)
 
 

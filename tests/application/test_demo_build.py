@@ -79,3 +79,14 @@ def test_status_changes_happen_on_their_days(demo):
     assert got == [(m["patient"], BUILD_DAY + timedelta(days=int(m["day_offset"]))) for m in
                    sorted(moves, key=lambda m: (int(m["day_offset"]), m["time"]))]
     assert {m["status"] for m in moves} >= {"pregnant", "discharged", "paused"}
+    last = {m["patient"]: BUILD_DAY + timedelta(days=int(m["day_offset"])) for m in
+            sorted(moves, key=lambda m: (int(m["day_offset"]), m["time"]))}
+    assert {p.id: p.status_since for p in demo.store.patients.all() if p.id in last} == last
+
+
+def test_each_audit_row_is_recorded_as_of_its_invented_day(demo):
+    zone = ZoneInfo(clinic_timezone())
+    audit = demo.store.audit.rows()
+    days = Counter(a.day_of_record == datetime.fromisoformat(a.at).astimezone(zone).date().isoformat() for a in audit)
+    assert days == {True: len(audit)}
+    assert len({a.day_of_record for a in audit}) > 60, "the history spans months of clinic days"

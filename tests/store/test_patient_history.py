@@ -54,25 +54,45 @@ def test_each_change_of_status_plan_nurse_or_charting_is_a_version(store):
     assert store.db.conn.execute("SELECT count(*) FROM patient_history").fetchone()[0] == 2
 
 
-def test_an_upgraded_store_gets_its_history_from_the_audit_trail(tmp_path, monkeypatch):
-    path = tmp_path / "old.db"
+PATIENT_AUDIT = ("INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after)"
+                 " VALUES (?, 'ada', 'a', ?, 'patient', 'P1', ?, ?)")
+
+
+def store_before_history(path, monkeypatch, patient: tuple, audits: list[tuple]) -> Store:
+    """A store at the schema before patient_history holding patient P1 and her audit rows
+    (at, action, before, after), opened so that it upgrades to that version."""
     conn = sqlite3.connect(path)
     for step in migrations.MIGRATIONS[:HISTORY - 1]:
         step(conn)
-    row = {"id": "P1", "name": "Pia Test", "born": "1991-04-02", "nurse_id": None, "status": "active",
-           "plan": "natural", "created": "2026-03-02", "charting_temps": 1}
     conn.execute("INSERT INTO staff VALUES ('ada', 'Ada Admin', 'admin', 1, NULL, '2026-03-01T09:00:00+00:00')")
-    conn.execute("INSERT INTO patient VALUES ('P1', 'Pia Test', '1991-04-02', NULL, 'paused', 'natural', '2026-03-02', 1)")
-    audit = "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after) VALUES (?, 'ada', 'a', ?, 'patient', 'P1', ?, ?)"
-    conn.execute(audit, ("2026-03-02T09:00:00+00:00", "patient.add", None, json.dumps(row)))
-    conn.execute(audit, ("2026-03-09T09:00:00+00:00", "patient.update", json.dumps(row),
-                         json.dumps({**row, "status": "paused"})))
+    conn.execute("INSERT INTO patient (id, name, born, nurse_id, status, plan, created, charting_temps)"
+                 " VALUES ('P1', 'Pia Test', '1991-04-02', ?, ?, ?, '2026-03-02', ?)", patient)
+    conn.executemany(PATIENT_AUDIT, audits)
     conn.execute(f"PRAGMA user_version = {HISTORY - 1}")
     conn.commit()
     conn.close()
     monkeypatch.setattr(migrations, "MIGRATIONS", migrations.MIGRATIONS[:HISTORY])
     monkeypatch.setattr(migrations, "LATEST", HISTORY)
-    with Store(path) as s:
+    return Store(path)
+
+
+def test_an_upgraded_store_gets_its_history_from_the_audit_trail(tmp_path, monkeypatch):
+    row = {"id": "P1", "name": "Pia Test", "born": "1991-04-02", "nurse_id": None, "status": "active",
+           "plan": "natural", "created": "2026-03-02", "charting_temps": 1}
+    audits = [("2026-03-02T09:00:00+00:00", "patient.add", None, json.dumps(row)),
+              ("2026-03-09T09:00:00+00:00", "patient.update", json.dumps(row), json.dumps({**row, "status": "paused"}))]
+    with store_before_history(tmp_path / "old.db", monkeypatch, (None, "paused", "natural", 1), audits) as s:
         q = ReportQueries(s.db)
         assert q.patient_versions(at("2026-03-05T00:00:00"))["P1"].status == "active"
         assert q.patient_versions(at("2026-03-10T00:00:00"))["P1"].status == "paused"
+
+
+def test_an_audit_row_naming_only_some_fields_takes_the_rest_from_the_patient(tmp_path, monkeypatch):
+    # Audit rows written by hand or by older code may name only what changed; a version still needs
+    # every field, and the patient as she stands is the one source left for those it does not name.
+    audits = [("2026-03-09T09:00:00+00:00", "patient.update", json.dumps({"status": "active"}),
+               json.dumps({"status": "pregnant", "nurse_id": None}))]
+    with store_before_history(tmp_path / "old.db", monkeypatch, ("ada", "pregnant", "timed", 0), audits) as s:
+        version = ReportQueries(s.db).patient_versions(at("2026-03-10T00:00:00"))["P1"]
+    # The plan and charting from the patient; the nurse as the row names it, a JSON null kept as none.
+    assert (version.status, version.plan, version.charting_temps, version.nurse_id) == ("pregnant", "timed", False, None)
