@@ -331,6 +331,10 @@ class Clinic:
 
     # --- weekly summary
 
+    def last_complete_week(self) -> str:
+        """The default week of the summary: the last one complete by the day under view."""
+        return weekly_summary.last_complete_week(self.as_of)
+
     def weekly_summary(self, week: str) -> WeeklySummary:
         return self._read(weekly_summary.compute_summary, week)
 

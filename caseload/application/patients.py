@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import replace
+from datetime import date
 
 from caseload.core.model import Patient, PatientStatus, Plan, Role
 from caseload.core.parse import parse_birth_date, parse_choice, parse_id, parse_name
@@ -54,6 +55,14 @@ def add_patient(
         return ctx.store.patients.add(ctx.actor, patient)
 
 
+def with_status(patient: Patient, status: PatientStatus, day: date) -> Patient:
+    """The patient in `status`; a change of status is dated `day`, the day a pregnancy begins or
+    ends by the nurse's decision."""
+    if status is patient.status:
+        return patient
+    return replace(patient, status=status, status_since=day)
+
+
 def update_patient(
     ctx: Context,
     patient_id: str,
@@ -68,10 +77,7 @@ def update_patient(
     if plan is not None:
         after = replace(after, plan=parse_choice(plan, Plan, "plan"))
     if status is not None:
-        after = replace(after, status=parse_choice(status, PatientStatus, "status"))
-        if after.status is not before.status:
-            # The day a pregnancy begins or ends by the nurse's decision.
-            after = replace(after, status_since=ctx.today)
+        after = with_status(after, parse_choice(status, PatientStatus, "status"), ctx.today)
     if nurse is not None:
         after = replace(after, nurse_id=_nurse(ctx, nurse))
     if charting_temps is not None:

@@ -90,7 +90,12 @@ def _recompute(ctx: Context, patient: Patient, seen: list[Observation]) -> tuple
 
 def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     """Inside the caller's write transaction: the patient's snapshot and alerts, brought up to date."""
-    snap, raised, _ = _recompute(ctx, patient, ctx.store.entries.observations_for(patient.id))
+    return refresh_from(ctx, patient, ctx.store.entries.observations_for(patient.id))
+
+
+def refresh_from(ctx: Context, patient: Patient, seen: list[Observation]) -> Refreshed:
+    """As `refresh_patient`, from her current observations as the caller already holds them."""
+    snap, raised, _ = _recompute(ctx, patient, seen)
     return Refreshed(snap, tuple(raised))
 
 

@@ -13,7 +13,7 @@ import os
 import secrets
 import shutil
 from collections.abc import Callable
-from datetime import date
+from datetime import date, timedelta
 from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
@@ -22,7 +22,7 @@ from caseload.application.week.clinical_events import cycles_into_week
 from caseload.application.week.pseudonyms import deidentified, text_scrubber
 from caseload.application.week.figures import WeeklySummary
 from caseload.application.week.compile import WeekData, charting_from, compute
-from caseload.application.week.iso_weeks import Week, iso_week
+from caseload.application.week.iso_weeks import DAYS, Week, iso_week
 from caseload.application.context import Context
 from caseload.application.errors import Refused
 from caseload.application.staff import DEFAULT_TIMEZONE
@@ -40,6 +40,13 @@ PSEUDONYM_HEX_DIGITS = 10
 def pseudonym(secret: str, patient_id: str) -> str:
     digest = hmac.new(secret.encode("utf-8"), patient_id.encode("utf-8"), hashlib.sha256).hexdigest()
     return PSEUDONYM_PREFIX + digest[:PSEUDONYM_HEX_DIGITS]
+
+
+def last_complete_week(today: date) -> str:
+    """The ISO week before the one `today` is in: the default summary, so no week in progress is
+    taken for a whole one."""
+    year, number, _ = (today - timedelta(days=DAYS)).isocalendar()
+    return f"{year}-W{number:02d}"
 
 
 def _week(ctx: Context, text: str) -> Week:

@@ -28,7 +28,8 @@ def file_name(section_id: str, table: Table) -> str:
 
 
 def _write(path: Path, header: list[str], rows) -> None:
-    with open(path, "w", newline="", encoding="utf-8") as f:
+    # With a byte order mark, spreadsheet programs read the file as UTF-8 ("Lucía", not "LucÃ­a").
+    with open(path, "w", newline="", encoding="utf-8-sig") as f:
         out = csv.writer(f)
         out.writerow(header)
         out.writerows([text(v) for v in row] for row in rows)
@@ -37,8 +38,10 @@ def _write(path: Path, header: list[str], rows) -> None:
 def write_csv(summary: WeeklySummary, folder: Path) -> None:
     """Write every file into `folder` (which must exist)."""
     w = summary.week
-    _write(folder / WEEK_FILE, ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "deidentified"],
-           [[w.label, w.first_day, w.last_day, w.timezone, w.hours, summary.prepared_on, summary.deidentified]])
+    _write(folder / WEEK_FILE,
+           ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "complete", "deidentified"],
+           [[w.label, w.first_day, w.last_day, w.timezone, w.hours, summary.prepared_on, summary.complete,
+             summary.deidentified]])
     for section in sections(summary):
         for table in section.tables:
             rows = [*table.rows, *([table.total] if table.total else [])]

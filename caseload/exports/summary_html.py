@@ -10,7 +10,7 @@ from pathlib import Path
 from jinja2 import Environment, PackageLoader, StrictUndefined
 
 from caseload.application.week.figures import WeeklySummary
-from caseload.exports.summary_tables import CHARTS, FLOAT, SHARE, bars, caption, sections
+from caseload.exports.summary_tables import CHARTS, FLOAT, NONE, SHARE, bars, caption, sections
 
 TEMPLATE = "summary.html.j2"
 BLANK = "–"
@@ -51,10 +51,10 @@ def render_html(summary: WeeklySummary) -> str:
     parts = sections(summary)
     charts: dict[tuple[str, str], list] = {}
     for section in parts:
-        for chart in (c for c in CHARTS if c.section == section.id and section.table(c.table).rows):
+        for chart in (c for c in CHARTS if c.section == section.id):
             charts.setdefault((section.id, chart.table), []).append(bars(chart, section))
     return environment().get_template(TEMPLATE).render(
-        summary=summary, week=summary.week, caption=caption(summary), sections=parts, charts=charts
+        summary=summary, week=summary.week, caption=caption(summary), sections=parts, charts=charts, none=NONE
     )
 
 

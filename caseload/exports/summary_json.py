@@ -32,6 +32,7 @@ def document(summary: WeeklySummary) -> dict:
             "hours": w.hours,
         },
         "prepared_on": summary.prepared_on.isoformat(),
+        "complete": summary.complete,
         "deidentified": summary.deidentified,
     }
     for section in sections(summary):

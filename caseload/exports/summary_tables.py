@@ -72,23 +72,35 @@ class Bars:
 
     chart: Chart
     series: tuple[str, ...]  # the value columns' titles
-    items: tuple[tuple[str, tuple[float, ...]], ...]  # (label, a value per series; blanks as 0)
-    top: float  # the largest value, at least 1
+    kinds: tuple[str, ...]  # the value columns' kinds, for showing a value as its table does
+    items: tuple[tuple[str, tuple[int | float | None, ...]], ...]  # (label, a value per series; None if blank)
+    top: int | float  # the largest value, at least 1
+
+    @property
+    def empty(self) -> bool:
+        """Nothing to draw: no rows, or every value 0. The chart then says NONE instead."""
+        return not any(v for _, values in self.items for v in values)
+
+
+NONE = "none this week"
 
 
 def bars(chart: Chart, section: Section) -> Bars:
     table = section.table(chart.table)
     ids = [c.id for c in table.columns]
     label, picks = ids.index(chart.category), [ids.index(v) for v in chart.values]
-    items = tuple((str(row[label]), tuple(float(row[i] or 0) for i in picks)) for row in table.rows)
-    top = max([1.0, *(v for _, values in items for v in values)])
-    return Bars(chart, tuple(table.columns[i].title for i in picks), items, top)
+    items = tuple((str(row[label]), tuple(row[i] for i in picks)) for row in table.rows)
+    top = max([1, *(v or 0 for _, values in items for v in values)])
+    return Bars(chart, tuple(table.columns[i].title for i in picks), tuple(table.columns[i].kind for i in picks),
+                items, top)
 
 
 def caption(summary: WeeklySummary) -> str:
     w = summary.week
     text = (f"{w.label}: Monday {w.first_day.isoformat()} to Sunday {w.last_day.isoformat()}, "
             f"{w.timezone} ({w.hours} hours). Prepared on {summary.prepared_on.isoformat()}.")
+    if not summary.complete:
+        text += f" WEEK IN PROGRESS: figures up to {summary.prepared_on.isoformat()} only; the week is not over."
     if summary.deidentified:
         text += " De-identified: patients appear as keyed pseudonyms, without names or birth dates."
     return text
@@ -127,7 +139,8 @@ def _census(s: WeeklySummary) -> Section:
 
 
 def _alerts(s: WeeklySummary) -> Section:
-    a = s.alerts
+    a, deid = s.alerts, s.deidentified
+    people = _patient_columns(deid)
     by_severity = tuple(Column(sev, sev.capitalize()) for sev in SEVERITIES)
     hours = (Column("acknowledged", "Acknowledged"), Column("median_hours", "Median hours", FLOAT),
              Column("p90_hours", "90th percentile hours", FLOAT))
@@ -148,6 +161,16 @@ def _alerts(s: WeeklySummary) -> Section:
               tuple((r.severity, r.open, r.past_due, r.acknowledged, r.snoozed) for r in a.week_end),
               (TOTAL, a.week_end_total.open, a.week_end_total.past_due, a.week_end_total.acknowledged,
                a.week_end_total.snoozed)),
+        Table("open_at_end", "Urgent and today alerts not resolved at week end, by nurse",
+              (Column("nurse", "Nurse", TEXT), *people, Column("kind", "Kind", TEXT),
+               Column("severity", "Severity", TEXT), Column("state", "State", TEXT),
+               Column("raised_on", "Raised on", DATE), Column("age_days", "Age (days)")),
+              tuple((o.nurse, *_patient(o.patient, deid), o.kind, o.severity, o.state, o.raised_on, o.age_days)
+                    for o in a.open_at_end)),
+        Table("urgent_notes", "Notes on urgent alerts acknowledged or resolved",
+              (*people, Column("kind", "Kind", TEXT), Column("action", "Action", TEXT), Column("by", "By", TEXT),
+               Column("at", "When", DATETIME), Column("note", "Note", TEXT)),
+              tuple((*_patient(n.patient, deid), n.kind, n.action, n.by_staff, n.at, n.note) for n in a.urgent_notes)),
     ))
 
 
@@ -165,6 +188,11 @@ def _clinical(s: WeeklySummary) -> Section:
               (*people, Column("tested_on", "Positive on", DATE), Column("edd", "Due date", DATE),
                Column("edd_method", "Dated by", TEXT)),
               tuple((*_patient(p.patient, deid), p.tested_on, p.edd, p.edd_method) for p in c.pregnancies)),
+        Table("by_nurse", "Referrals made and pregnancies confirmed, by nurse",
+              (Column("nurse", "Nurse", TEXT), Column("referrals", "Referrals (irregular cycles acted on)"),
+               Column("pregnancies", "Pregnancies confirmed")),
+              tuple((r.nurse, r.referrals, r.pregnancies) for r in c.outcomes),
+              (TOTAL, c.outcomes_total.referrals, c.outcomes_total.pregnancies)),
     ))
 
 

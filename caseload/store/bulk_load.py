@@ -17,7 +17,7 @@ from caseload.core.model import Actor, Patient, Staff
 from caseload.core.parse import ParsedEntry
 from caseload.store.db import Database, StoreError, append_audit, audit_values
 from caseload.store.entry_table import CURRENT_ROWS, IN_ORDER, entry_row
-from caseload.store.row_objects import patient_to_row
+from caseload.store.row_objects import patient_history_row, patient_to_row
 from caseload.store.staff_table import staff_row
 
 ENTRY_BATCH = 20_000  # rows per transaction: large enough to be fast, small enough to keep the WAL short
@@ -66,9 +66,11 @@ class BulkTable:
     def patients(self, actor: Actor, patients: Iterable[Patient]) -> int:
         """Patient records, audited as `patient.add`; one transaction."""
         at = self.db.now_text()
+        patients = list(patients)
         rows = [(p.id, patient_to_row(p)) for p in patients]
         with self.db.write():
             self.db.db["patient"].insert_all([row for _, row in rows])
+            self.db.db["patient_history"].insert_all([patient_history_row(p, at, actor.id) for p in patients])
             self._audit((at, actor, "patient.add", "patient", pid, None, row) for pid, row in rows)
         return len(rows)
 
@@ -85,10 +87,16 @@ class BulkTable:
         first = prepared.rows[0][0]
         if first < self.next_entry_id():
             raise StoreError(f"entry id {first} is taken: new ids start at {self.next_entry_id()} (next_entry_id)")
-        marks = ", ".join("?" * len(prepared.columns))
         with self.db.write():
-            self.db.conn.executemany(f"INSERT INTO entry ({', '.join(prepared.columns)}) VALUES ({marks})", prepared.rows)
-            append_audit(self.db.conn, prepared.audits)
+            return self.write_prepared(prepared)
+
+    def write_prepared(self, prepared: PreparedEntries) -> int:
+        """Rows made by `prepare_entries`, inside the caller's write transaction."""
+        if not prepared.rows:
+            return 0
+        marks = ", ".join("?" * len(prepared.columns))
+        self.db.conn.executemany(f"INSERT INTO entry ({', '.join(prepared.columns)}) VALUES ({marks})", prepared.rows)
+        append_audit(self.db.conn, prepared.audits)
         return len(prepared.rows)
 
     def scan_current_entries(self) -> int:

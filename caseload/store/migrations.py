@@ -267,8 +267,42 @@ def _earlier_protocol_file(conn: sqlite3.Connection) -> tuple[str, dict]:
     return f"imported from {row[0]}", overrides_of(protocol)
 
 
+def _patient_history(conn: sqlite3.Connection) -> None:
+    """Each patient's status, plan, nurse and charting from the moment they took effect, so a past
+    week's census reads registrations and status changes, not the audit trail's free-form rows.
+    Filled from the audit trail of existing stores; a field an audit row does not name is taken from
+    the patient as she stands."""
+    run_script(
+        conn,
+        """
+        CREATE TABLE patient_history (
+            id INTEGER PRIMARY KEY,
+            patient_id TEXT NOT NULL REFERENCES patient(id),
+            at TEXT NOT NULL,
+            status TEXT NOT NULL,
+            plan TEXT NOT NULL,
+            nurse_id TEXT,
+            charting_temps INTEGER NOT NULL,
+            by_staff TEXT NOT NULL
+        );
+        CREATE INDEX patient_history_patient_at ON patient_history(patient_id, at);
+        INSERT INTO patient_history (patient_id, at, status, plan, nurse_id, charting_temps, by_staff)
+        SELECT a.row_id, a.at, {status}, {plan}, {nurse_id}, {charting_temps}, a.by_staff
+        FROM audit a JOIN patient p ON p.id = a.row_id
+        WHERE a.action IN ('patient.add', 'patient.update') ORDER BY a.id;
+        """.format(**{f: _named_or_current(f) for f in ("status", "plan", "nurse_id", "charting_temps")}),
+    )
+    run_script(conn, APPEND_ONLY.format(table="patient_history"))
+
+
+def _named_or_current(field: str) -> str:
+    """The field as the audit row's `after` names it (a JSON null included), else the patient's own."""
+    return (f"CASE WHEN json_type(a.after, '$.{field}') IS NULL THEN p.{field} "
+            f"ELSE json_extract(a.after, '$.{field}') END")
+
+
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
-    _v1, _audit_day_of_record, _status_since, _audit_chain, _alert_episodes, _protocol_versions,
+    _v1, _audit_day_of_record, _status_since, _patient_history, _audit_chain, _alert_episodes, _protocol_versions,
 ]
 LATEST = len(MIGRATIONS)
 

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from caseload.core.model import Actor, Patient
 from caseload.store.db import Database
-from caseload.store.row_objects import patient_from_row, patient_to_row
+from caseload.store.row_objects import patient_from_row, patient_history_row, patient_to_row
+
+HISTORY_FIELDS = ("status", "plan", "nurse_id", "charting_temps")
 
 
 class PatientTable:
@@ -15,6 +17,7 @@ class PatientTable:
         row = patient_to_row(patient)
         self.db.db["patient"].insert(row)
         self.db.audit(actor, "patient.add", "patient", patient.id, after=row)
+        self.db.db["patient_history"].insert(patient_history_row(patient, self.db.now_text(), actor.id))
         return patient
 
     def get(self, patient_id: str) -> Patient | None:
@@ -30,6 +33,8 @@ class PatientTable:
         if changes:
             self.db.db["patient"].update(before.id, changes)
             self.db.audit(actor, "patient.update", "patient", before.id, before=old, after=new)
+            if any(field in changes for field in HISTORY_FIELDS):
+                self.db.db["patient_history"].insert(patient_history_row(after, self.db.now_text(), actor.id))
 
     def change_marks(self, patient_id: str | None = None) -> dict[str, str]:
         """A mark per patient (or for one) that changes whenever her record, her entries (logged,

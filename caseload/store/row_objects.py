@@ -43,6 +43,12 @@ def patient_to_row(p: Patient) -> dict:
     }
 
 
+def patient_history_row(p: Patient, at: str, by_staff: str) -> dict:
+    """The version of a patient's care that takes effect at `at` (see the patient_history table)."""
+    return {"patient_id": p.id, "at": at, "status": p.status.value, "plan": p.plan.value, "nurse_id": p.nurse_id,
+            "charting_temps": int(p.charting_temps), "by_staff": by_staff}
+
+
 def value_columns(v: Value) -> dict:
     scan = None
     if v.scan is not None:

@@ -28,7 +28,6 @@ ALERT_ACTIONS = (
     "alert.reopen",
 )
 RESOLVING = ("alert.resolve", "alert.auto-resolve")
-PATIENT_ACTIONS = ("patient.add", "patient.update")
 MARGIN = timedelta(days=1)
 # An entry that a later correction replaced, or a void, no longer counts.
 CURRENT = "e.voided_reason IS NULL AND NOT EXISTS (SELECT 1 FROM entry s WHERE s.supersedes = e.id)"
@@ -68,6 +67,8 @@ class AlertEvent:
     state: str | None  # the alert's state after the transition, when the trail records it
     due: date | None
     snooze_until: date | None
+    raised_on: date | None
+    note: str | None  # what the staff member wrote, on a handling transition
 
 
 @dataclass(frozen=True)
@@ -141,7 +142,9 @@ _ALERT_COLUMNS = """
     COALESCE(json_extract(a.after, '$.severity'), al.severity) AS severity,
     json_extract(a.after, '$.state') AS state,
     COALESCE(json_extract(a.after, '$.due'), al.due) AS due,
-    json_extract(a.after, '$.snooze_until') AS snooze_until
+    json_extract(a.after, '$.snooze_until') AS snooze_until,
+    COALESCE(json_extract(a.after, '$.raised_on'), al.raised_on) AS raised_on,
+    json_extract(a.after, '$.note') AS note
 """
 
 
@@ -158,6 +161,8 @@ def _alert_event(row: dict) -> AlertEvent:
         state=row["state"],
         due=_day(row["due"]),
         snooze_until=_day(row["snooze_until"]),
+        raised_on=_day(row["raised_on"]),
+        note=row["note"],
     )
 
 
@@ -177,17 +182,17 @@ class ReportQueries:
             self.db.conn.execute("COMMIT")
 
     def patient_versions(self, moment: datetime) -> dict[str, PatientVersion]:
-        """Every patient registered before `moment`, as their record stood then."""
+        """Every patient registered before `moment`, as their record stood then (patient_history)."""
         when, params = _before("at", moment)
         rows = self.db.query(
-            "SELECT row_id, json_extract(after, '$.status') AS status, json_extract(after, '$.plan') AS plan,"
-            " json_extract(after, '$.nurse_id') AS nurse_id, json_extract(after, '$.charting_temps') AS charting"
-            " FROM audit WHERE id IN ("
-            f"  SELECT max(id) FROM audit WHERE action IN ({_marks(PATIENT_ACTIONS)}) AND {when} GROUP BY row_id)",
-            [*PATIENT_ACTIONS, *params],
+            "SELECT patient_id, status, plan, nurse_id, charting_temps FROM ("
+            "  SELECT *, row_number() OVER (PARTITION BY patient_id ORDER BY julianday(at) DESC, id DESC) AS latest"
+            f"  FROM patient_history WHERE {when}) WHERE latest = 1",
+            params,
         )
         return {
-            r["row_id"]: PatientVersion(r["row_id"], r["status"], r["plan"], r["nurse_id"], bool(r["charting"]))
+            r["patient_id"]: PatientVersion(r["patient_id"], r["status"], r["plan"], r["nurse_id"],
+                                            bool(r["charting_temps"]))
             for r in rows
         }
 

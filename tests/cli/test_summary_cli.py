@@ -54,3 +54,27 @@ def test_an_unknown_format_is_a_usage_error(run, tmp_path):
     done = run("summary", "--week", "2026-W43", "--format", "pdf", "--out", str(tmp_path / "w.pdf"))
     assert done.exit_code == 2
     assert not (tmp_path / "w.pdf").exists()
+
+
+def test_without_a_week_the_last_complete_one_is_summarised(run, tmp_path):
+    # Tuesday 10 Nov 2026 is in ISO week 46 (dateutil/ISO 8601: week 1 holds 4 January); W45 is the last complete.
+    out = tmp_path / "last.json"
+    done = run("summary", "--format", "json", "--out", str(out))
+    assert done.exit_code == 0, done.output
+    doc = json.loads(out.read_text())
+    assert doc["week"]["label"] == "2026-W45" and doc["complete"] is True
+
+
+def test_a_week_in_progress_says_so(run, tmp_path):
+    out = tmp_path / "now.html"
+    done = run("summary", "--week", "2026-W46", "--format", "html", "--out", str(out))
+    assert done.exit_code == 0, done.output
+    assert "WEEK IN PROGRESS: figures up to 2026-11-10 only" in out.read_text(encoding="utf-8")
+
+
+def test_de_identified_alert_lists_carry_no_names(run, fresh_clinic, tmp_path):
+    out = tmp_path / "w43.json"
+    assert run("summary", "--week", "2026-W43", "--format", "json", "--out", str(out), "--deidentify").exit_code == 0
+    doc = json.loads(out.read_text())
+    listed = doc["alerts"]["open_at_end"]["rows"] + doc["alerts"]["urgent_notes"]["rows"]
+    assert listed and all(r["patient"].startswith("px-") and "name" not in r for r in listed)

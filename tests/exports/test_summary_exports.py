@@ -4,6 +4,7 @@ standard library's html.parser, CSV with the csv module, JSON with json."""
 from __future__ import annotations
 
 import csv
+import math
 import json
 import re
 from datetime import date, datetime, time
@@ -13,8 +14,10 @@ import openpyxl
 import pytest
 from openpyxl.utils import get_column_letter
 
+from caseload.core.alerts import ALERT_KINDS
 from caseload.exports.summary_files import write
-from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
+from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, NONE, SHARE, sections
+from caseload.exports.summary_xlsx import MAX_WIDTH, _step
 from caseload.application.weekly_summary import compute_summary, export_summary
 from tests.application.week.conftest import W43
 from tests.application.week.expected import KEYS, w43
@@ -70,12 +73,13 @@ def workbook(exported):
 
 
 def _xlsx_table(sheet, title: str, height: int) -> list[tuple]:
-    """A table by its title (row 3), its header on row 4, `height` rows below."""
-    first = next(cell.column for cell in sheet[3] if cell.value == title)
+    """A table by its title (in column A), its header on the next row, `height` rows below."""
+    top = next(cell.row for cell in sheet["A"] if cell.value == title)
     width = 0
-    while sheet.cell(4, first + width).value is not None:
+    while sheet.cell(top + 1, 1 + width).value is not None:
         width += 1
-    return [tuple(sheet.cell(r, first + i).value for i in range(width)) for r in range(5, 5 + height)]
+    first = top + 2 + (sheet.cell(top + 2, 1).value == NONE)
+    return [tuple(sheet.cell(r, 1 + i).value for i in range(width)) for r in range(first, first + height)]
 
 
 def _xlsx_expected(value):
@@ -108,23 +112,25 @@ def test_xlsx_cells_hold_the_numbers_and_dates(workbook, clinic, expected, key):
 def test_xlsx_has_a_sheet_per_section_with_frozen_headers_and_native_charts(workbook):
     assert workbook.sheetnames == list(SHEETS.values())
     for sheet in workbook:
-        assert sheet.freeze_panes == "A5"  # title, caption, table titles and the header row stay put
+        assert sheet.freeze_panes == "A4"  # the title and caption stay put
     charts = {name: len(workbook[name]._charts) for name in SHEETS.values()}
     assert charts == {"Census": 1, "Alerts": 2, "Clinical events": 0, "Data quality": 0, "Workload": 0}
 
 
 def test_xlsx_number_formats_and_column_widths(workbook):
     sheet = workbook["Data quality"]
-    share = next(c for c in sheet[5] if c.value == 0.7857)
+    share = next(c for row in sheet.iter_rows() for c in row if c.value == 0.7857)
     assert share.number_format == "0.0%"
     changes = workbook["Data quality"]
     when = next(c for row in changes.iter_rows(min_row=5) for c in row if isinstance(c.value, datetime)
                 and c.value.hour == 9)
     assert when.number_format == "yyyy-mm-dd hh:mm"
     counts = workbook["Clinical events"]
-    description = next(c for c in counts[4] if c.value == "Description")
-    longest = max(len(str(counts.cell(r, description.column).value or "")) for r in range(5, 13))
-    assert counts.column_dimensions[get_column_letter(description.column)].width >= longest
+    description = next(c for row in counts.iter_rows() for c in row if c.value == "Description")
+    texts = [str(counts.cell(r, description.column).value or "") for r in range(description.row + 1, description.row + 9)]
+    # Fitted to the longest text, up to a cap beyond which the text runs on into the empty cells beside it.
+    width = counts.column_dimensions[get_column_letter(description.column)].width
+    assert width >= min(max(map(len, texts)), MAX_WIDTH)
 
 
 # --- HTML
@@ -220,21 +226,35 @@ def test_html_page_is_self_contained_with_inline_svg_charts(page):
     assert "<style>" in page
 
 
+def test_html_chart_values_read_as_their_tables_show_them(page):
+    kinds = page[page.index('id="chart-alerts-by-kind"'):]
+    kinds = kinds[:kinds.index("</figure>")]
+    labels = re.findall(r'class="value">([^<]*)<', kinds)
+    titles = re.findall(r"<title>([^<]*)</title>", kinds)
+    # Counts of alerts are whole numbers: "1", never "1.0" or "Total: 1.00". One bar for each kind (16).
+    assert len(labels) == len(titles) == len(ALERT_KINDS) == 16 and all(re.fullmatch(r"\d+", t) for t in labels + titles)
+    hours = page[page.index('id="chart-hours-to-acknowledge"'):]
+    assert "<title>41.75</title>" in hours[:hours.index("</figure>")]  # median hours keep two decimals
+
+
 # --- CSV
 
 
 def test_csv_folder_holds_one_file_per_table_and_the_week(exported):
     names = sorted(p.name for p in exported["csv"].iterdir())
     assert names == sorted(["week.csv", *(f"{s}-{t}.csv" for s, t in KEYS)])
-    with open(exported["csv"] / "week.csv", newline="", encoding="utf-8") as f:
+    with open(exported["csv"] / "week.csv", newline="", encoding="utf-8-sig") as f:
         (week,) = list(csv.DictReader(f))
     assert week == {"week": "2026-W43", "first_day": "2026-10-19", "last_day": "2026-10-25",
-                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "deidentified": "False"}
+                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "complete": "True",
+                    "deidentified": "False"}
+    # RFC 3629 section 6: a UTF-8 byte order mark is EF BB BF; spreadsheet programs take it to mean UTF-8.
+    assert all(p.read_bytes().startswith(b"\xef\xbb\xbf") for p in exported["csv"].iterdir())
 
 
 @pytest.mark.parametrize("key", KEYS, ids=lambda k: "-".join(k))
 def test_csv_files_hold_the_numbers(exported, kinds, expected, key):
-    with open(exported["csv"] / f"{key[0]}-{key[1]}.csv", newline="", encoding="utf-8") as f:
+    with open(exported["csv"] / f"{key[0]}-{key[1]}.csv", newline="", encoding="utf-8-sig") as f:
         reader = csv.reader(f)
         header = next(reader)
         rows = [tuple(_typed(text, kind) for text, kind in zip(row, kinds[key])) for row in reader]
@@ -271,6 +291,48 @@ def test_json_week_and_times_carry_their_offsets(document):
     assert document["week"] == {"label": "2026-W43", "first_day": "2026-10-19", "last_day": "2026-10-25",
                                 "timezone": "Europe/London", "start": "2026-10-18T23:00:00+00:00",
                                 "end": "2026-10-26T00:00:00+00:00", "hours": 169}
-    assert document["deidentified"] is False
+    assert document["deidentified"] is False and document["complete"] is True  # JSON booleans (RFC 8259)
     ats = [r["at"] for r in document["quality"]["changes"]["rows"]]
     assert ats == ["2026-10-19T09:00+01:00", "2026-10-22T10:00+01:00", "2026-10-24T11:00+01:00"]
+
+
+# --- XLSX printing
+
+
+def test_xlsx_sheets_print_a4_landscape_one_page_wide_with_titles_repeated(workbook):
+    # ECMA-376 part 1, 18.3.1.63 pageSetup: paperSize 9 is A4; fitToHeight 0 means "as many pages as needed".
+    for sheet in workbook:
+        setup = sheet.page_setup
+        assert setup.orientation == "landscape" and int(setup.paperSize) == 9
+        assert sheet.sheet_properties.pageSetUpPr.fitToPage
+        assert (int(setup.fitToWidth or 1), int(setup.fitToHeight)) == (1, 0)  # fitToWidth is 1 when left out
+        assert sheet.print_title_rows == "$1:$2"  # the sheet's title and the week's caption on every page
+
+
+def test_xlsx_charts_show_every_label_on_whole_number_axes_sized_to_their_bars(workbook):
+    # openpyxl reads a bar chart's category axis as x_axis and its value axis as y_axis.
+    for name in ("Census", "Alerts"):
+        for chart in workbook[name]._charts:
+            assert chart.x_axis.tickLblSkip == 1
+            assert chart.y_axis.majorUnit == int(chart.y_axis.majorUnit) >= 1
+            assert chart.y_axis.number_format.formatCode == "0"
+    kinds = next(c for c in workbook["Alerts"]._charts if len(c.series) == 1)
+    nurses = workbook["Census"]._charts[0]
+    # 14 alert kinds, one bar each, against 3 nurses with two bars each: the chart with more bars is taller.
+    def rows(chart) -> int:  # a chart is anchored from one cell to another
+        return chart.anchor.to.row - chart.anchor._from.row
+
+    assert rows(kinds) > rows(nurses) >= 7
+
+
+@pytest.mark.parametrize(("top", "step"), [(1, 1), (5, 1), (10, 1), (11, 2), (40, 4), (73.15, 8)])
+def test_value_axis_steps_are_whole_numbers_with_at_most_ten_marks(top, step):
+    assert _step(top) == step and math.ceil(top / step) <= 10
+
+
+def test_an_empty_chart_says_none_this_week(fresh_clinic, tmp_path):
+    # 2026-W45 has no alert raised and none acknowledged.
+    path = export_summary(fresh_clinic.context(), "2026-W45", "xlsx", tmp_path / "w45.xlsx", deidentify=False, render=write)
+    sheet = openpyxl.load_workbook(path)["Alerts"]
+    said = [c.value for row in sheet.iter_rows() for c in row if isinstance(c.value, str) and NONE in c.value]
+    assert "Alerts raised by kind: none this week" in said and not sheet._charts

@@ -2,6 +2,7 @@
 
 `expected` lists the alert kinds a patient is built to raise on the build day. The rules are
 assumed to run for active and pregnant patients only; paused and discharged patients raise none.
+Every patient is registered active; `moves` are her later status changes, made by her nurse.
 """
 
 from __future__ import annotations
@@ -13,10 +14,14 @@ from caseload.core.model import Kind, PatientStatus, Plan
 from tools.sim.demo_build import Logged, offset, quiet_profile
 from tools.sim.demo_people import NURSES, PHONE_LINE
 from tools.sim.demo_scenarios import (
+    DISCHARGE,
+    PREGNANCY_CONFIRMED,
     Build,
     amended_temperature,
     amenorrhoea,
     bleeding_in_pregnancy,
+    corrected,
+    duplicate_voided,
     discharged_after_pregnancy,
     early_pregnancy,
     fever,
@@ -28,6 +33,7 @@ from tools.sim.demo_scenarios import (
     multiple_follicles,
     no_shift,
     overdue,
+    overresponse_last_cycle,
     prolonged_bleed,
     quiet,
     short_luteal_last_cycle,
@@ -53,6 +59,15 @@ ACTIVE, PAUSED, DISCHARGED, PREGNANT = (
 
 
 @dataclass(frozen=True)
+class Move:
+    """A status change on a day (offset from the build day) at a clock time."""
+
+    status: PatientStatus
+    day_offset: int
+    time: str
+
+
+@dataclass(frozen=True)
 class Spec:
     """One demo patient as designed: who she is, how she charts, what her chart shows."""
 
@@ -68,6 +83,7 @@ class Spec:
     build: Build
     mucus: bool = True
     fahrenheit: bool = False  # gives some readings in F
+    moves: tuple[Move, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -100,7 +116,7 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0002", "Fatima Haddad", 35, ACTIVE, T, False, True, (), "regular 29-day cycles, LH tests and mucus, no temperatures; day 2", quiet(2, 29)),
     Spec("P0003", "Meilin Zhou", 31, ACTIVE, N, True, False, (), "regular cycles; a temperature amended after a keying slip", amended_temperature),
     Spec("P0004", "Olamide Adeyemi", 29, ACTIVE, T, False, True, (), "regular cycles, mucus and LH only; a bleed logged in error was voided", voided_bleed),
-    Spec("P0005", "Sofia Rossi", 32, ACTIVE, N, True, False, ("irregular-cycles",), "irregular cycles of 24 to 45 days: refer (FIGO)", irregular),
+    Spec("P0005", "Sofia Rossi", 32, ACTIVE, N, True, False, ("irregular-cycles",), "regular until two cycles of 25 and 40 days: irregular, refer (FIGO)", irregular),
     Spec("P0006", "Priya Raman", 34, ACTIVE, N, True, False, ("monophasic-cycle",), "last completed cycle anovulatory: 33 days, no rise", monophasic_last_cycle),
     Spec("P0007", "Katarzyna Nowak", 36, ACTIVE, T, True, True, ("short-luteal-phase",), "last cycle ovulated late (day 17) with an 8-day luteal phase", short_luteal_last_cycle),
     Spec("P0008", "Leila Farahani", 30, ACTIVE, T, True, True, ("window-open",), "LH surge: first positive test today (day 13)", lh_positive_today),
@@ -109,8 +125,8 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0011", "Carmen Delgado", 37, ACTIVE, N, True, True, ("no-thermal-shift",), "day 24 with no temperature rise, readings on most days, LH negative", no_shift),
     Spec("P0012", "Amina Yusuf", 34, ACTIVE, N, True, False, ("period-overdue",), "rise confirmed 19+ days ago, readings fell back, no bleed, no test yet", overdue),
     Spec("P0013", "Rhiannon Pryce", 31, ACTIVE, N, True, False, ("sustained-high-temps", "period-overdue"), "temperatures high for 21 days, no bleed, no test yet", sustained_high),
-    Spec("P0014", "Thandiwe Dlamini", 32, PREGNANT, T, True, True, (), "early pregnancy: serum hCG 120 then 270 over 48 h (normal rise)", early_pregnancy(120, 270)),
-    Spec("P0015", "Nadia Petrova", 35, PREGNANT, T, True, True, ("hcg-rise-low",), "early pregnancy: serum hCG 400 then 480 over 48 h (low rise)", early_pregnancy(400, 480)),
+    Spec("P0014", "Thandiwe Dlamini", 32, PREGNANT, T, True, True, (), "early pregnancy: serum hCG 120 then 270 over 48 h (normal rise)", early_pregnancy(120, 270), moves=(Move(PREGNANT, -2, "15:40"),)),
+    Spec("P0015", "Nadia Petrova", 35, PREGNANT, T, True, True, ("hcg-rise-low",), "early pregnancy: serum hCG 400 then 480 over 48 h (low rise)", early_pregnancy(400, 480), moves=(Move(PREGNANT, -2, "16:05"),)),
     Spec("P0016", "Grace Mwangi", 30, ACTIVE, OI, True, False, (), "ovulation induction: letrozole, scans, trigger; luteal phase", stimulated_luteal),
     Spec("P0017", "Lucía Herrera", 29, ACTIVE, OI, True, False, ("multiple-follicles", "window-open"), "ovulation induction, day 12: four follicles of 14 mm or more today", multiple_follicles),
     Spec("P0018", "Siobhan Keane", 38, ACTIVE, N, True, False, ("prolonged-bleeding", "window-open"), "bleeding for 11 days so far (day 11 of a regular history)", prolonged_bleed),
@@ -118,25 +134,25 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0020", "Elif Demir", 33, ACTIVE, N, True, False, ("logging-gap",), "nothing logged for the last 4 days (luteal phase)", logging_gap),
     Spec("P0021", "Maja Lindgren", 36, ACTIVE, N, True, False, ("fever",), "38.4 C yesterday with flu (luteal phase)", fever),
     Spec("P0022", "Chiara Conti", 34, ACTIVE, IUI, True, False, (), "insemination: letrozole, trigger, IUI next day; luteal phase", stimulated_luteal),
-    Spec("P0023", "Ngozi Eze", 39, PAUSED, N, False, False, (), "paused (break from treatment), still logging mucus; day 2", quiet(2)),
-    Spec("P0024", "Anjali Desai", 35, DISCHARGED, T, True, True, (), "conceived about five months ago; discharged to antenatal care", discharged_after_pregnancy),
-    Spec("P0025", "Rosa Martins", 32, ACTIVE, N, True, False, (), "regular 29-day cycles, luteal phase (day 23)", quiet(23, 29)),
+    Spec("P0023", "Ngozi Eze", 39, PAUSED, N, False, False, (), "paused (break from treatment) three weeks ago, still logging mucus; day 2", quiet(2), moves=(Move(PAUSED, -23, "11:20"),)),
+    Spec("P0024", "Anjali Desai", 35, DISCHARGED, T, True, True, (), "conceived about ten weeks ago, confirmed by serum hCG; discharged to antenatal care after the 7-week scan", discharged_after_pregnancy, moves=(Move(PREGNANT, PREGNANCY_CONFIRMED, "14:30"), Move(DISCHARGED, DISCHARGE, "12:15"))),
+    Spec("P0025", "Rosa Martins", 32, ACTIVE, N, True, False, (), "regular 29-day cycles, luteal phase (day 23); a temperature corrected", corrected(quiet(23, 29), 20, "misheard on the call; patient read back the thermometer")),
     Spec("P0026", "Freya Campbell", 30, ACTIVE, T, False, True, (), "regular cycles, LH and mucus only; day 1", quiet(1)),
     Spec("P0027", "Zainab Bello", 28, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; day 2", quiet(2, 29)),
-    Spec("P0028", "Ewa Kowalczyk", 37, ACTIVE, N, True, False, (), "regular 27-day cycles, luteal phase (day 19)", quiet(19, 27)),
-    Spec("P0029", "Mariam Saleh", 31, ACTIVE, OI, True, False, (), "ovulation induction, luteal phase after trigger", stimulated_luteal),
+    Spec("P0028", "Ewa Kowalczyk", 37, ACTIVE, N, True, False, (), "regular 27-day cycles, luteal phase (day 19); a temperature corrected", corrected(quiet(19, 27), 11, "keyed the wrong digit; patient read back the reading")),
+    Spec("P0029", "Mariam Saleh", 31, ACTIVE, OI, True, False, (), "ovulation induction, luteal phase after trigger; last cycle cancelled (four follicles of 14 mm or more)", overresponse_last_cycle),
     Spec("P0030", "Hye-jin Park", 34, ACTIVE, T, False, True, (), "regular 30-day cycles, LH and mucus only; day 1", quiet(1, 30)),
     Spec("P0031", "Tamar Levi", 33, ACTIVE, N, True, False, (), "regular 30-day cycles, some readings in F; luteal phase (day 24)", quiet(24, 30), mucus=False, fahrenheit=True),
     Spec("P0032", "Noor Siddiqui", 29, ACTIVE, IUI, True, False, (), "insemination cycle, luteal phase", stimulated_luteal),
     Spec("P0033", "Camille Laurent", 36, ACTIVE, N, False, False, (), "regular cycles, mucus only; day 2", quiet(2)),
     Spec("P0034", "Oksana Shevchenko", 38, ACTIVE, T, True, True, (), "regular 29-day cycles with LH tests; day 2", quiet(2, 29), mucus=False),
-    Spec("P0035", "Adaeze Nwosu", 30, ACTIVE, N, True, False, (), "regular cycles, luteal phase (day 22)", quiet(22)),
+    Spec("P0035", "Adaeze Nwosu", 30, ACTIVE, N, True, False, (), "regular cycles, luteal phase (day 22); an entry logged twice, one voided", duplicate_voided(quiet(22), 33, "logged twice during one call")),
     Spec("P0036", "Isabel Moreno", 32, ACTIVE, N, False, False, (), "regular 30-day cycles, mucus only; day 1", quiet(1, 30)),
     Spec("P0037", "Lena Vogel", 35, ACTIVE, T, True, True, (), "regular cycles, timed intercourse, luteal phase (day 21)", quiet(21)),
-    Spec("P0038", "Keira Walsh", 27, ACTIVE, N, False, False, (), "regular cycles, mucus only; day 1", quiet(1)),
-    Spec("P0039", "Farida Osman", 40, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; day 2", quiet(2, 29)),
-    Spec("P0040", "Beatriz Costa", 31, ACTIVE, N, True, False, (), "regular 27-day cycles, luteal phase (day 20)", quiet(20, 27), mucus=False),
-    Spec("P0041", "Hana Kovacova", 33, PREGNANT, T, True, True, ("hcg-rise-low", "bleeding-in-pregnancy"), "early pregnancy: serum hCG 150 then 180 (slow), light bleeding since yesterday", bleeding_in_pregnancy),
+    Spec("P0038", "Keira Walsh", 27, ACTIVE, N, False, False, (), "regular cycles, mucus only; joined six weeks ago; day 1", quiet(1, days_back=10)),
+    Spec("P0039", "Farida Osman", 40, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; joined seven weeks ago; day 2", quiet(2, 29, days_back=20)),
+    Spec("P0040", "Beatriz Costa", 31, ACTIVE, N, True, False, (), "regular 27-day cycles, joined a month ago; luteal phase (day 20)", quiet(20, 27, days_back=1), mucus=False),
+    Spec("P0041", "Hana Kovacova", 33, PREGNANT, T, True, True, ("hcg-rise-low", "bleeding-in-pregnancy"), "early pregnancy: serum hCG 150 then 180 (slow), light bleeding since yesterday", bleeding_in_pregnancy, moves=(Move(PREGNANT, -2, "16:20"),)),
     Spec("P0042", "Marisol Vega", 30, ACTIVE, N, True, False, ("intermenstrual-bleeding",), "light bleeding marked mid-cycle on days 15-17 (day 18)", intermenstrual),
 )  # fmt: skip
 
@@ -150,6 +166,9 @@ def _build(spec: Spec, index: int, rng: random.Random) -> DemoPatient:
     unknown = set(spec.expected) - set(ALERT_KINDS)
     if unknown:
         raise ValueError(f"{spec.id}: unknown alert kinds {sorted(unknown)}; use one of {', '.join(ALERT_KINDS)}")
+    reached = spec.moves[-1].status if spec.moves else ACTIVE
+    if reached is not spec.status:
+        raise ValueError(f"{spec.id}: registered active, her moves end {reached.value}, not {spec.status.value}")
     nurse = NURSES[index % len(NURSES)]
     profile = quiet_profile(rng, spec.plan, spec.temps, spec.mucus, spec.lh, spec.fahrenheit)
     logged = spec.build(rng, profile)

@@ -33,15 +33,16 @@ def _current_start(cycles: list[TrueCycle]) -> date:
     return cycles[-1].start
 
 
-def quiet(today_cd: int, mean: int = 28) -> Build:
-    """Regular cycles of `mean` +/- 1 days with ovulation 13-15 days before each period.
+def quiet(today_cd: int, mean: int = 28, days_back: int = 230) -> Build:
+    """Regular cycles of `mean` +/- 1 days with ovulation 13-15 days before each period, charted
+    from about `days_back` days before the build day.
 
     Place today on day 1-2 of a new cycle or 6-10 days after ovulation, well before the next period.
     """
 
     def build(rng: random.Random, profile: Profile) -> list[Logged]:
         current = Current(today_cd, mean - 14, mean)
-        return logged(render(rng, profile, scripted(rng, profile, current, mean=mean)))
+        return logged(render(rng, profile, scripted(rng, profile, current, mean=mean, days_back=days_back)))
 
     return build
 
@@ -64,6 +65,35 @@ def amended_temperature(rng: random.Random, profile: Profile) -> list[Logged]:
     return rows
 
 
+def corrected(build: Build, days_ago: int, reason: str) -> Build:
+    """`build`, with the temperature of `days_ago` first logged 0.3 C too high, then corrected."""
+
+    def with_slip(rng: random.Random, profile: Profile) -> list[Logged]:
+        rows: list[Logged] = []
+        for row in build(rng, profile):
+            e = row.entry
+            if e.kind is Kind.TEMP and e.day == TODAY - timedelta(days=days_ago) and not row.amend_reason:
+                rows.append(Logged(SimEntry(e.day, e.kind, f"{float(e.raw) + 0.3:.2f}", e.time, e.flags)))
+                rows.append(Logged(e, amend_reason=reason))
+            else:
+                rows.append(row)
+        return rows
+
+    return with_slip
+
+
+def duplicate_voided(build: Build, days_ago: int, reason: str) -> Build:
+    """`build`, with the first entry of `days_ago` logged twice and the second copy voided."""
+
+    def with_duplicate(rng: random.Random, profile: Profile) -> list[Logged]:
+        rows = build(rng, profile)
+        day = TODAY - timedelta(days=days_ago)
+        first = next(i for i, r in enumerate(rows) if r.entry.day == day)
+        return [*rows[:first + 1], Logged(rows[first].entry, void_reason=reason), *rows[first + 1:]]
+
+    return with_duplicate
+
+
 def voided_bleed(rng: random.Random, profile: Profile) -> list[Logged]:
     """A heavy bleed logged against her by mistake, voided the same day."""
     rows = quiet(1)(rng, profile)
@@ -72,8 +102,10 @@ def voided_bleed(rng: random.Random, profile: Profile) -> list[Logged]:
 
 
 def irregular(rng: random.Random, profile: Profile) -> list[Logged]:
-    """Cycles of 24 to 45 days, all ovulatory with a normal luteal phase; today after a late rise."""
-    recent = [(24, 11), (41, 27), (29, 15), (45, 31), (26, 13), (36, 22)]
+    """Regular cycles until two months ago, then one of 25 days and one of 40 (ended four weeks ago),
+    all ovulatory with a normal luteal phase: the 40-day one makes her irregular (FIGO) within the
+    demo's recent weeks, so her referral falls in them. Today after a late rise."""
+    recent = [(25, 12), (40, 26)]
     cycles = scripted(rng, profile, Current(26, 20, 34), recent)
     return logged(render(rng, profile, cycles))
 
@@ -172,6 +204,18 @@ def stimulated_luteal(rng: random.Random, profile: Profile) -> list[Logged]:
     return logged(render(rng, profile, scripted(rng, profile, Current(21, 14, 28))))
 
 
+def overresponse_last_cycle(rng: random.Random, profile: Profile) -> list[Logged]:
+    """As `stimulated_luteal`, but last cycle's day-11 scan showed four follicles of 14 mm or more:
+    the trigger was withheld and that cycle cancelled."""
+    cycles = scripted(rng, profile, Current(21, 14, 28))
+    last = cycles[-2]
+    entries = drop(render(rng, profile, cycles), day_of(last.start, 11), _current_start(cycles) - timedelta(days=1),
+                   [Kind.SCAN, Kind.TRIGGER, Kind.INSEMINATION])  # no more scans once the cycle is cancelled
+    scan = SimEntry(day_of(last.start, 11), Kind.SCAN, "18,16.5,15,14.5,11 endo 8.9")
+    note = SimEntry(day_of(last.start, 11), Kind.NOTE, "trigger withheld: four follicles 14 mm or more; cycle cancelled")
+    return logged(add(entries, scan, note))
+
+
 def multiple_follicles(rng: random.Random, profile: Profile) -> list[Logged]:
     """Stimulated history; this cycle today's scan shows four follicles of 14 mm or more."""
     cycles = scripted(rng, profile, Current(12, 14, 28, treatment=False))
@@ -218,12 +262,17 @@ def fever(rng: random.Random, profile: Profile) -> list[Logged]:
     return logged(add(entries, *sick))
 
 
+# Offsets from the build day of the pregnancy confirmed (after her second serum hCG) and the discharge.
+PREGNANCY_CONFIRMED, DISCHARGE = -44, -19
+
+
 def discharged_after_pregnancy(rng: random.Random, profile: Profile) -> list[Logged]:
-    """Conceived about five months ago; she stopped taking temperatures once the test was positive,
-    and logging stopped once care was handed on."""
-    start = TODAY - timedelta(days=150)
+    """Conceived about ten weeks ago; she stopped taking temperatures once the test was positive,
+    and logging stopped once care was handed on (the DISCHARGE day)."""
+    start = TODAY - timedelta(days=75)
     cycles = history_before(rng, profile, start, 29, 260)
     cycles.append(TrueCycle(start, None, 5, day_of(start, 15), conceived=True))
     entries = render(rng, profile, cycles)
     positive = min(e.day for e in entries if e.kind is Kind.HCG and e.raw == "positive" and e.day >= start)
-    return logged(drop(entries, positive + timedelta(days=1), TODAY, [Kind.TEMP]))
+    entries = drop(entries, positive + timedelta(days=1), TODAY, [Kind.TEMP])
+    return logged(drop(entries, TODAY + timedelta(days=DISCHARGE + 1), TODAY))

@@ -20,21 +20,25 @@ PATIENT_COLUMNS = (
     "id", "name", "born_offset", "nurse", "status", "plan", "created_offset", "charting_temps",
     "expected_alerts", "scenario",
 )  # fmt: skip
+MOVE_COLUMNS = ("patient", "day_offset", "time", "status", "by")
 ENTRY_COLUMNS = (
     "patient", "day_offset", "kind", "value", "time", "flags", "note", "by", "amend_reason", "void_reason",
 )  # fmt: skip
 
 
 def write_seed(out_dir: Path, seed: int = DEMO_SEED) -> list[Path]:
-    """Write clinic.json, staff.csv, patients.csv and entries.csv into `out_dir`."""
+    """Write clinic.json, staff.csv, patients.csv, status_changes.csv and entries.csv into `out_dir`."""
     out_dir.mkdir(parents=True, exist_ok=True)
     patients = build_demo(seed)
     clinic = {"name": CLINIC_NAME, "timezone": CLINIC_TIMEZONE, "demo_admin": DEMO_ADMIN}
-    paths = [out_dir / name for name in ("clinic.json", "staff.csv", "patients.csv", "entries.csv")]
+    names = ("clinic.json", "staff.csv", "patients.csv", "status_changes.csv", "entries.csv")
+    paths = [out_dir / name for name in names]
     paths[0].write_text(json.dumps(clinic, indent=2, ensure_ascii=False) + "\n", encoding="utf-8")
     _write_csv(paths[1], STAFF_COLUMNS, ([s.id, s.name, s.role.value] for s in STAFF))
     _write_csv(paths[2], PATIENT_COLUMNS, (_patient_row(p) for p in patients))
-    _write_csv(paths[3], ENTRY_COLUMNS, (_entry_values(r) for p in patients for r in p.rows))
+    moves = ([p.spec.id, m.day_offset, m.time, m.status.value, p.nurse] for p in patients for m in p.spec.moves)
+    _write_csv(paths[3], MOVE_COLUMNS, moves)
+    _write_csv(paths[4], ENTRY_COLUMNS, (_entry_values(r) for p in patients for r in p.rows))
     return paths
 
 

@@ -8,16 +8,19 @@ from __future__ import annotations
 
 import math
 from collections import Counter, defaultdict
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Sequence
 
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import Severity
-from caseload.application.week.figures import TOTAL, AckTime, ActionCount, AlertSummary, KindCount, WeekEndAlerts
+from caseload.application.week.figures import (
+    TOTAL, AckTime, ActionCount, AlertNote, AlertSummary, KindCount, OpenAlert, PatientRef, WeekEndAlerts,
+)
 from caseload.application.week.iso_weeks import Week
 from caseload.store.summary_queries import AlertEvent
 
 SEVERITIES = tuple(s.value for s in Severity)
-RAISE, ACK = "alert.raise", "alert.ack"
+PRESSING = (Severity.URGENT.value, Severity.TODAY.value)  # listed one by one when still open at the week's end
+RAISE, ACK, RESOLVE = "alert.raise", "alert.ack", "alert.resolve"
 ACTION_EVENTS = {
     RAISE: "raised",
     ACK: "acknowledged",
@@ -116,8 +119,26 @@ def _hours_to_first_ack(week: Week, history: Sequence[AlertEvent]) -> dict[str, 
     return hours
 
 
-def alert_summary(week: Week, history: Sequence[AlertEvent],
-                  unresolved_at_start: Sequence[AlertEvent]) -> AlertSummary:
+def _open_at_end(week: Week, states: Sequence[tuple[str, AlertEvent]], nurse_of: Callable[[str], str],
+                 ref: Callable[[str], PatientRef]) -> tuple[OpenAlert, ...]:
+    rows = [
+        OpenAlert(nurse_of(e.patient_id), ref(e.patient_id), e.kind, e.severity, state, e.raised_on,
+                  None if e.raised_on is None else (week.last_day - e.raised_on).days)
+        for state, e in states if e.severity in PRESSING
+    ]
+    return tuple(sorted(rows, key=lambda r: (r.nurse, PRESSING.index(r.severity), -(r.age_days or 0), r.patient.id)))
+
+
+def _urgent_notes(week: Week, in_week: Sequence[AlertEvent], ref: Callable[[str], PatientRef]) -> tuple[AlertNote, ...]:
+    return tuple(
+        AlertNote(ref(e.patient_id), e.kind, HANDLING[e.action], e.by_staff, week.local(e.at), e.note or "")
+        for e in in_week if e.action in (ACK, RESOLVE) and e.severity == Severity.URGENT.value
+    )
+
+
+def alert_summary(week: Week, history: Sequence[AlertEvent], unresolved_at_start: Sequence[AlertEvent],
+                  nurse_of: Callable[[str], str], ref: Callable[[str], PatientRef]) -> AlertSummary:
+    """`nurse_of` names a patient's nurse at the week's end; `ref` how a patient is shown."""
     in_week = [e for e in history if week.contains(e.at)]
     rows, raised_total = _raised(in_week)
     hours = _hours_to_first_ack(week, history)
@@ -138,4 +159,6 @@ def alert_summary(week: Week, history: Sequence[AlertEvent],
             acknowledged=sum(r.acknowledged for r in week_end),
             snoozed=sum(r.snoozed for r in week_end),
         ),
+        open_at_end=_open_at_end(week, states, nurse_of, ref),
+        urgent_notes=_urgent_notes(week, in_week, ref),
     )

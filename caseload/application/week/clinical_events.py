@@ -18,7 +18,9 @@ from caseload.core.model import Entry, Observation, Patient, observations
 from caseload.core.settings import Protocol
 from caseload.core.thermal import three_over_six, valid_readings
 from caseload.application.week.alert_counts import RAISE
-from caseload.application.week.figures import Clinical, ClinicalEvent, EventCount, PatientRef, PositiveHcg
+from caseload.application.week.figures import (
+    Clinical, ClinicalEvent, EventCount, NurseOutcomes, PatientRef, PositiveHcg,
+)
 from caseload.application.week.iso_weeks import Week
 from caseload.store.summary_queries import AlertEvent, HcgPositive
 
@@ -107,6 +109,7 @@ def clinical(
     records: Mapping[str, tuple[Patient, Sequence[Entry]]],
     protocol: Protocol,
     ref: Callable[[str], PatientRef],
+    outcomes: tuple[tuple[NurseOutcomes, ...], NurseOutcomes],
 ) -> Clinical:
     events = _raised_events(week, in_week, ref)
     for pid, readings in temperatures.items():
@@ -119,4 +122,6 @@ def clinical(
         counts=count_events(events),
         events=tuple(sorted(events, key=event_order)),
         pregnancies=tuple(sorted(pregnancies, key=pregnancy_order)),
+        outcomes=outcomes[0],
+        outcomes_total=outcomes[1],
     )

@@ -17,8 +17,8 @@ from caseload.core.settings import Protocol
 from caseload.application.week.alert_counts import HANDLING, alert_summary
 from caseload.application.week.clinical_events import clinical
 from caseload.application.week.figures import (
-    TOTAL, UNASSIGNED, ActiveCount, Census, Change, Coverage, DayLoad, LoggingGap, Movement, PatientRef, Quality,
-    ReasonCount, RoleLoad, StaffLoad, StatusCount, StatusMove, WeeklySummary, Workload,
+    TOTAL, UNASSIGNED, ActiveCount, Census, Change, Coverage, DayLoad, LoggingGap, Movement, NurseOutcomes,
+    PatientRef, Quality, ReasonCount, RoleLoad, StaffLoad, StatusCount, StatusMove, WeeklySummary, Workload,
 )
 from caseload.application.week.iso_weeks import Week
 from caseload.store.summary_queries import AlertEvent, EntryChange, EntryCount, HcgPositive, PatientVersion
@@ -65,17 +65,21 @@ def compute(week: Week, data: WeekData, protocol: Protocol, prepared_on: date) -
     def ref(patient_id: str) -> PatientRef:
         return refs.get(patient_id) or PatientRef(patient_id, None)
 
+    def nurse_of(patient_id: str) -> str:
+        return _nurse(data.at_end[patient_id]) if patient_id in data.at_end else UNASSIGNED
+
     in_week = [e for e in data.alert_history if week.contains(e.at)]
     nurses = [s.id for s in data.staff if s.role is Role.NURSE]
     return WeeklySummary(
         week=week,
         prepared_on=prepared_on,
+        complete=week.last_day < prepared_on,
         deidentified=False,
         census=census(data.at_start, data.at_end, nurses),
-        alerts=alert_summary(week, data.alert_history, data.unresolved_at_start),
+        alerts=alert_summary(week, data.alert_history, data.unresolved_at_start, nurse_of, ref),
         clinical=clinical(week, in_week, data.cycles, data.temperatures, data.hcg_positives,
                           {pid: (data.patients[pid], entries) for pid, entries in data.hcg_entries.items()},
-                          protocol, ref),
+                          protocol, ref, outcomes(in_week, data.at_start, data.at_end, nurses, nurse_of)),
         quality=quality(week, data, protocol.logging_gap_days, ref),
         workload=workload(week, data.staff, data.entries_logged, data.changes, in_week),
     )
@@ -98,6 +102,11 @@ def _nurse(v: PatientVersion) -> str:
     return v.nurse_id or UNASSIGNED
 
 
+def _groups(nurses: Sequence[str], seen: set[str]) -> list[str]:
+    """Every nurse on the staff list, then any other nurse seen, then unassigned patients if any."""
+    return [*nurses, *sorted(seen - set(nurses) - {UNASSIGNED})] + ([UNASSIGNED] if UNASSIGNED in seen else [])
+
+
 def census(start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion], nurses: Sequence[str]) -> Census:
     statuses = tuple(
         StatusCount(s, sum(v.status == s for v in start.values()), sum(v.status == s for v in end.values()))
@@ -117,8 +126,7 @@ def census(start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion
         Movement("became pregnant", into(PatientStatus.PREGNANT.value)),
         Movement("returned to active", sum(n for (f, t), n in pairs.items() if t == ACTIVE and f not in (NEW, ACTIVE))),
     )
-    seen = {_nurse(v) for v in (*start.values(), *end.values())}
-    groups = [*nurses, *sorted(seen - set(nurses) - {UNASSIGNED})] + ([UNASSIGNED] if UNASSIGNED in seen else [])
+    groups = _groups(nurses, {_nurse(v) for v in (*start.values(), *end.values())})
     return Census(
         statuses=statuses,
         statuses_total=StatusCount(TOTAL, len(start), len(end)),
@@ -128,6 +136,25 @@ def census(start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion
         by_nurse=tuple(_active(start, end, lambda v, n=nurse: _nurse(v) == n, nurse) for nurse in groups),
         active_total=_active(start, end, lambda v: True, TOTAL),
     )
+
+
+# --- outcomes by nurse
+
+
+REFERRAL_KIND = "irregular-cycles"  # acted on, it is a referral (FIGO: investigate irregular cycles)
+ACTED_ON = ("alert.ack", "alert.resolve")
+
+
+def outcomes(in_week: Sequence[AlertEvent], start: Mapping[str, PatientVersion], end: Mapping[str, PatientVersion],
+             nurses: Sequence[str], nurse_of: Callable[[str], str]) -> tuple[tuple[NurseOutcomes, ...], NurseOutcomes]:
+    """Referrals made and pregnancies confirmed in the week, by the patient's nurse at its end."""
+    referred = {e.alert_id: e.patient_id for e in in_week if e.kind == REFERRAL_KIND and e.action in ACTED_ON}
+    referrals = Counter(nurse_of(pid) for pid in referred.values())
+    pregnant = PatientStatus.PREGNANT.value
+    pregnancies = Counter(nurse_of(pid) for pid, v in end.items()
+                          if v.status == pregnant and (pid not in start or start[pid].status != pregnant))
+    rows = tuple(NurseOutcomes(n, referrals[n], pregnancies[n]) for n in _groups(nurses, {*referrals, *pregnancies}))
+    return rows, NurseOutcomes(TOTAL, sum(r.referrals for r in rows), sum(r.pregnancies for r in rows))
 
 
 # --- data quality

@@ -106,6 +106,31 @@ class WeekEndAlerts:
 
 
 @dataclass(frozen=True)
+class OpenAlert:
+    """An urgent or today alert not resolved at the week's end, under its patient's nurse then."""
+
+    nurse: str
+    patient: PatientRef
+    kind: str
+    severity: str
+    state: str  # open, acknowledged or snoozed
+    raised_on: date | None
+    age_days: int | None  # from its raising to the week's last day
+
+
+@dataclass(frozen=True)
+class AlertNote:
+    """What a staff member wrote on acknowledging or resolving an urgent alert in the week."""
+
+    patient: PatientRef
+    kind: str
+    action: str  # acknowledged or resolved
+    by_staff: str
+    at: datetime  # clinic local time
+    note: str
+
+
+@dataclass(frozen=True)
 class AlertSummary:
     raised: tuple[KindCount, ...]
     raised_total: KindCount
@@ -114,6 +139,8 @@ class AlertSummary:
     ack_all: AckTime
     week_end: tuple[WeekEndAlerts, ...]
     week_end_total: WeekEndAlerts
+    open_at_end: tuple[OpenAlert, ...]  # urgent and today, by nurse, oldest first
+    urgent_notes: tuple[AlertNote, ...]
 
 
 # --- clinical events
@@ -142,10 +169,21 @@ class PositiveHcg:
 
 
 @dataclass(frozen=True)
+class NurseOutcomes:
+    """What came of a nurse's caseload in the week (the patient's nurse at the week's end)."""
+
+    nurse: str
+    referrals: int  # irregular-cycles alerts acted on (acknowledged or resolved) in the week
+    pregnancies: int  # patients whose status became pregnant in the week
+
+
+@dataclass(frozen=True)
 class Clinical:
     counts: tuple[EventCount, ...]
     events: tuple[ClinicalEvent, ...]
     pregnancies: tuple[PositiveHcg, ...]
+    outcomes: tuple[NurseOutcomes, ...]
+    outcomes_total: NurseOutcomes
 
 
 # --- data quality
@@ -246,6 +284,7 @@ class Workload:
 class WeeklySummary:
     week: Week
     prepared_on: date
+    complete: bool  # False while the week is still in progress on the day it was prepared
     deidentified: bool
     census: Census
     alerts: AlertSummary

@@ -49,7 +49,7 @@ def deidentified(summary: WeeklySummary, pseudonym: Callable[[str], str],
     def ref(p: PatientRef) -> PatientRef:
         return PatientRef(pseudonym(p.id), None)
 
-    c, q = summary.clinical, summary.quality
+    c, q, a = summary.clinical, summary.quality, summary.alerts
     events = tuple(sorted((replace(e, patient=ref(e.patient)) for e in c.events), key=event_order))
     clinical = replace(
         c,
@@ -66,4 +66,9 @@ def deidentified(summary: WeeklySummary, pseudonym: Callable[[str], str],
         reasons=reasons,
         reasons_total=reasons_total,
     )
-    return replace(summary, deidentified=True, clinical=clinical, quality=quality)
+    alerts = replace(
+        a,
+        open_at_end=tuple(replace(o, patient=ref(o.patient)) for o in a.open_at_end),
+        urgent_notes=tuple(replace(n, patient=ref(n.patient), note=scrub(n.note)) for n in a.urgent_notes),
+    )
+    return replace(summary, deidentified=True, alerts=alerts, clinical=clinical, quality=quality)

@@ -71,6 +71,16 @@ def w43(ids: Mapping[str, int]) -> dict[tuple[str, str], tuple[list[tuple], tupl
         # snoozed A2 (until 28 Oct).
         ("alerts", "week_end"): ([("urgent", 0, 0, 1, 0), ("today", 1, 1, 2, 0), ("soon", 3, 2, 2, 1),
                                   ("info", 0, 0, 1, 0)], ("total", 4, 3, 6, 1)),
+        # Of those, urgent and today ones by the patient's nurse at the end (P7 moved to nurse2 on Saturday),
+        # urgent first, then the oldest; age is days from raising to Sunday 25 Oct.
+        ("alerts", "open_at_end"): ([
+            ("nurse1", "P2", name("P2"), "prolonged-bleeding", "today", "acknowledged", d("2026-10-01"), 24),
+            ("nurse2", "P3", name("P3"), "hcg-rise-low", "urgent", "acknowledged", d("2026-10-24"), 1),
+            ("nurse2", "P7", name("P7"), "no-thermal-shift", "today", "acknowledged", d("2026-10-21"), 4),
+            ("nurse2", "P7", name("P7"), "sustained-high-temps", "today", "open", d("2026-10-23"), 2)], None),
+        # The one urgent alert handled in the week: A3, acknowledged Saturday 12:00 BST.
+        ("alerts", "urgent_notes"): ([
+            ("P3", name("P3"), "hcg-rise-low", "acknowledged", "nurse2", london("2026-10-24 12:00"), "seen")], None),
         ("clinical", "counts"): ([
             ("entered-window", "Entered a predicted fertile window (window-approaching or window-open raised)", 4),
             ("shift-confirmed", "Thermal shift confirmed (three-over-six rule)", 1),
@@ -93,6 +103,8 @@ def w43(ids: Mapping[str, int]) -> dict[tuple[str, str], tuple[list[tuple], tupl
             ("P3", name("P3"), "hcg-rise-low", d("2026-10-24"))], None),
         # Naegele's rule: LMP 21 Sep 2026 + 1 year - 3 months + 7 days = 28 Jun 2027 (also 280 days).
         ("clinical", "pregnancies"): ([("P3", name("P3"), d("2026-10-22"), d("2027-06-28"), "naegele")], None),
+        # A2 (irregular cycles) was only snoozed: no referral. P3 became pregnant on Friday (nurse2).
+        ("clinical", "by_nurse"): ([("nurse1", 0, 0), ("nurse2", 0, 1)], ("total", 0, 1)),
         # Charting all week (active at both ends): P1 7 days, P2 4 (Mon, Tue, Sat, Sun), P7 6 (Thursday's
         # voided), P8 0. P3 does not chart, P4 was discharged, P5 is new, P6 was paused at the start.
         ("quality", "coverage"): ([("nurse1", 2, 14, 11, 0.7857), ("nurse2", 1, 7, 6, 0.8571),

@@ -25,7 +25,7 @@ from tests.tools.sim.chart_rules import (
     three_over_six,
 )
 
-FILES = ("clinic.json", "staff.csv", "patients.csv", "entries.csv")
+FILES = ("clinic.json", "staff.csv", "patients.csv", "status_changes.csv", "entries.csv")
 VALUE_FORMATS = {
     "temp": r"\d{2}\.\d{2}|\d{2,3}\.\dF",
     "bleed": "|".join(f.value for f in Flow),
@@ -269,15 +269,18 @@ def test_hcg_rise_low_only_where_expected():
 
 
 def test_multiple_follicles_only_where_expected():
-    # Evans 2020: a mature follicle is 14 mm or more; more than 2 calls for caution.
-    many = set()
+    # Evans 2020: a mature follicle is 14 mm or more; more than 2 calls for caution. The rule reads
+    # the current cycle's scans; an earlier cycle's (a cancelled one in the history) has ended.
+    many, earlier = set(), set()
     for pid, rows in ROWS.items():
+        current = bleed_starts(rows)[-1] if bleed_starts(rows) else min(r.day for r in rows)
         for r in rows:
             if r.kind == "scan":
                 follicles = [float(x) for x in r.value.split(" endo ")[0].split(",")]
                 if sum(f >= 14 for f in follicles) > 2:
-                    many.add(pid)
+                    (many if r.day >= current else earlier).add(pid)
     _only("multiple-follicles", many)
+    assert earlier - many, "the history shows a cancelled cycle too"
 
 
 @pytest.mark.parametrize("status", ["paused", "discharged", "pregnant"])
