@@ -9,17 +9,16 @@ from __future__ import annotations
 
 import hashlib
 import hmac
-import os
-import secrets
-import shutil
+from contextlib import ExitStack
 from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
 from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
 from caseload.application.week.clinical_events import cycles_into_week
-from caseload.application.week.pseudonyms import deidentified, text_scrubber
+from caseload.application.week.pseudonyms import deidentified
 from caseload.application.week.figures import WeeklySummary
-from caseload.exports.summary_files import FOLDER_FORMATS, FORMATS, write
+from caseload.exports.safe_file import check_targets, os_failure, staged
+from caseload.exports.summary_files import FOLDER_FORMATS, FORMATS, output_files
 from caseload.application.week.compile import WeekData, charting_from, compute
 from caseload.application.week.iso_weeks import Week, iso_week
 from caseload.application.context import Context
@@ -95,6 +94,14 @@ def _target(out: Path, fmt: str) -> Path:
     return out
 
 
+def _folder(out: Path) -> None:
+    """The folder of a folder format, created owner-only when it is new."""
+    try:
+        out.mkdir(mode=0o700, exist_ok=True)
+    except OSError as err:
+        raise os_failure(err, f"creating the folder {out}") from None
+
+
 def _secret(ctx: Context) -> str:
     secret = ctx.store.db.meta("pseudonym_secret")
     if not secret:
@@ -103,48 +110,12 @@ def _secret(ctx: Context) -> str:
     return secret
 
 
-def _staging(target: Path, fmt: str) -> Path:
-    """A hidden path beside the target, so that publishing is a rename on the same file system."""
-    staged = target.parent / f".{target.name}.{secrets.token_hex(4)}.partial"
-    if fmt in FOLDER_FORMATS:
-        staged.mkdir()
-    return staged
-
-
-def _owner_only(staged: Path) -> None:
-    """Exports hold patient data: readable by their owner only, like the store itself."""
-    if staged.is_dir():
-        staged.chmod(0o700)
-        for item in staged.iterdir():
-            item.chmod(0o600)
-    else:
-        staged.chmod(0o600)
-
-
-def _publish(staged: Path, target: Path, fmt: str) -> list[Path]:
-    if fmt not in FOLDER_FORMATS:
-        os.replace(staged, target)
-        return [target]
-    target.mkdir(mode=0o700, exist_ok=True)
-    moved = []
-    for item in sorted(staged.iterdir()):
-        os.replace(item, target / item.name)
-        moved.append(target / item.name)
-    return moved
-
-
-def _discard(path: Path) -> None:
-    if path.is_dir():
-        shutil.rmtree(path)
-    else:
-        path.unlink(missing_ok=True)
-
-
-def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: bool) -> Path:
+def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, force: bool = False) -> Path:
     """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it.
 
-    The file is rendered aside and published in the transaction of its audit row: a refused
-    or failed export leaves neither a file nor an audit row.
+    Every file goes through `exports.safe_file`: never over the store or a backup, over an
+    existing file only with `force`, rendered into a private temporary file and published in the
+    transaction of its audit row, so a refused or failed export leaves neither a file nor an audit row.
     """
     ctx.require("summary.export")
     fmt = _format(fmt)
@@ -152,23 +123,26 @@ def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: boo
     secret = _secret(ctx) if deidentify else None
     summary = compute_summary(ctx, week)
     if secret is not None:
-        summary = deidentified(summary, lambda pid: pseudonym(secret, pid), text_scrubber(ctx.store.patients.all()))
-    staged = _staging(target, fmt)
+        summary = deidentified(summary, lambda pid: pseudonym(secret, pid))
+    files = output_files(summary, fmt, target)
+    check_targets((path for path, _ in files), ctx.store.path, force)
+    if fmt in FOLDER_FORMATS:
+        _folder(target)
     published: list[Path] = []
+    with ExitStack() as stack:
+        pending = [stack.enter_context(staged(path, write, force)) for path, write in files]
 
-    def record() -> None:
-        after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target)}
-        ctx.store.db.audit(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
-        published.extend(_publish(staged, target, fmt))
+        def record() -> None:
+            after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target)}
+            ctx.store.db.audit(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
+            for file in pending:
+                file.publish()
+                published.append(file.target)
 
-    try:
-        write(summary, fmt, staged)
-        _owner_only(staged)
-        ctx.store.transact(record)
-    except BaseException:
-        for path in published:
-            path.unlink(missing_ok=True)
-        raise
-    finally:
-        _discard(staged)
+        try:
+            ctx.store.transact(record)
+        except BaseException:
+            for path in published:
+                path.unlink(missing_ok=True)
+            raise
     return target

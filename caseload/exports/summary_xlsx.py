@@ -3,6 +3,7 @@ header row, typed cells (numbers, dates, times), fitted column widths and native
 
 from __future__ import annotations
 
+import io
 from dataclasses import dataclass
 from datetime import date, datetime, time
 from pathlib import Path
@@ -120,8 +121,12 @@ def _sheet(book: Workbook, section: Section, summary: WeeklySummary, formats: di
 
 
 def write_xlsx(summary: WeeklySummary, path: Path) -> None:
-    book = xlsxwriter.Workbook(str(path))
+    # Built in memory, then written in one call: a full disk fails that call cleanly, where
+    # xlsxwriter's own file writing would leave its zip file open.
+    buffer = io.BytesIO()
+    book = xlsxwriter.Workbook(buffer, {"in_memory": True})
     formats = _formats(book)
     for section in sections(summary):
         _sheet(book, section, summary, formats)
     book.close()
+    path.write_bytes(buffer.getvalue())

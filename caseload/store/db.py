@@ -159,6 +159,8 @@ class Database:
                 with self.write():
                     return work()
             except sqlite3.OperationalError as err:
+                if "readonly" in str(err).lower():
+                    raise StoreError(f"{self.path} is read-only for this account: nothing was written") from None
                 if not _is_lock_error(err):
                     raise
                 if attempt == attempts:
