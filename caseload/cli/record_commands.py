@@ -130,9 +130,12 @@ def log(session: Session, patient_id, kind, value, on, at, flags, note) -> None:
 @click.argument("file", type=click.Path(exists=True, dir_okay=False))
 @pass_session
 def import_(session: Session, file: str) -> None:
-    """Import entries from CSV (patient,day,kind,value[,time,flags,note]): all rows or none."""
+    """Import entries from CSV (patient,day,kind,value[,time,flags,note,correction]): all rows or none.
+
+    Rows identical to entries already logged are skipped unless their correction column says yes."""
     done = importer.import_csv(session.context(), Path(file).read_bytes())
-    click.echo(f"Imported {done.rows} entries for {done.patients} patients.")
+    skipped = f" {done.skipped} rows skipped as already logged." if done.skipped else ""
+    click.echo(f"Imported {done.rows} entries for {done.patients} patients.{skipped}")
 
 
 @click.command()
