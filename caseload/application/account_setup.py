@@ -1,8 +1,9 @@
-"""What the interface needs before anyone is signed in: who may sign in from an unmapped account."""
+"""What the interface needs before anyone is signed in: whether this OS account is mapped yet."""
 
 from __future__ import annotations
 
-from caseload.core.model import Staff
+from caseload.core.model import Actor
+from caseload.application.identity import resolve_actor
 from caseload.store import Store
 
 
@@ -11,6 +12,6 @@ def needs_sign_in(store: Store, account: str) -> bool:
     return store.staff.by_os_account(account) is None
 
 
-def sign_in_roster(store: Store) -> list[Staff]:
-    """The active staff, for the first sign-in screen (those already mapped are shown, not offered)."""
-    return [s for s in store.staff.all() if s.active]
+def mapped_actor(store: Store, account: str) -> Actor | None:
+    """The account's staff member once an admin has mapped it, else None (nothing is taken or claimed)."""
+    return None if needs_sign_in(store, account) else resolve_actor(store, account)

@@ -13,6 +13,7 @@ from caseload.cli.session import Session, fail_cleanly
 from caseload.cli import store_commands as admin
 from caseload.cli import alert_commands as alerts
 from caseload.cli import demo_command as demo
+from caseload.cli import host_command as hosting
 from caseload.cli import record_commands as records
 from caseload.cli import summary_command as reports
 from caseload.cli import interface_command as tui
@@ -41,7 +42,7 @@ def main(ctx: click.Context, db_path: str | None, as_staff: str | None, today: s
         tui.open_interface(ctx.obj)
 
 
-for module in (records, alerts, admin, reports, demo):
+for module in (records, alerts, admin, reports, demo, hosting):
     for command in module.COMMANDS:
         main.add_command(command)
 

@@ -15,7 +15,7 @@ import platformdirs
 from caseload.core.parse import InputError, one_line
 from caseload.application.context import Context
 from caseload.application.errors import Refused
-from caseload.application.identity import os_account, resolve_actor
+from caseload.application.identity import os_account, resolve_actor, service_store
 from caseload.application.protocol import load_protocol
 from caseload.application.staff import DEFAULT_TIMEZONE
 from caseload.store import Store, StoreError
@@ -32,6 +32,10 @@ def fail_cleanly():
         yield
     except (InputError, Refused, StoreError) as err:
         click.echo(f"caseload: {printable(str(err))}", err=True)
+        raise click.exceptions.Exit(1) from None
+    except PermissionError as err:  # a store or file this account may not open
+        click.echo(f"caseload: no permission to use {printable(str(err.filename or 'a file'))}: on a shared host "
+                   "caseload runs through the clinic's rule as its service account; ask an admin", err=True)
         raise click.exceptions.Exit(1) from None
     except OverflowError as err:  # an id past SQLite's integers, a date past year 1 or 9999
         click.echo(f"caseload: a number or date is out of range ({printable(str(err))}): check the values given", err=True)
@@ -57,7 +61,8 @@ class Session:
 
     @property
     def path(self) -> Path:
-        return Path(self.db_path) if self.db_path else default_store_path()
+        requested = Path(self.db_path) if self.db_path else None
+        return service_store(requested) or requested or default_store_path()
 
     def open_store(self, create: bool = False) -> Store:
         if not create and not self.path.exists():

@@ -42,6 +42,8 @@ def reason_for(error: BaseException) -> str:
     """One line for a person: what went wrong, without a traceback."""
     if isinstance(error, (InputError, Refused, StoreError)):
         return str(error)
+    if isinstance(error, PermissionError):
+        return "no permission to use the store from this account: ask an admin"
     if isinstance(error, sqlite3.OperationalError) and "locked" in str(error).lower():
         return "the store is busy with another terminal's change: try again in a moment"
     if isinstance(error, sqlite3.Error):

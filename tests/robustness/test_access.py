@@ -28,7 +28,8 @@ from caseload.application.patients import add_patient, update_patient
 from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
-from caseload.application.staff import add_staff, claim_staff, map_account, set_active
+from caseload.application.account_setup import mapped_actor
+from caseload.application.staff import add_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
 
@@ -143,21 +144,23 @@ def test_a_deactivated_account_is_refused_before_any_action(store, staffed):
         resolve_actor(store, os_account(), as_staff="nurse1")
 
 
-def test_first_sign_in_may_take_an_unclaimed_record_but_never_an_admin_one(store, staffed):
+def test_an_unmapped_account_gets_nothing_until_an_admin_maps_it(store, staffed):
     admin = Context(store, staffed[Role.ADMIN], TODAY)
-    add_staff(admin, "admin2", "Second Admin", "admin")
     before = snapshot(store.path)
-    with pytest.raises(Refused, match="admin record"):
-        claim_staff(store, "admin2", "newcomer")
-    assert snapshot(store.path) == before
-    actor = claim_staff(store, "phone1", "newcomer")
-    assert (actor.id, actor.role, resolve_actor(store, "newcomer").id) == ("phone1", Role.PHONE, "phone1")
+    with pytest.raises(Refused, match="not mapped to a staff member: ask an admin to run 'caseload staff map STAFF newcomer'"):
+        resolve_actor(store, "newcomer")
+    assert mapped_actor(store, "newcomer") is None and snapshot(store.path) == before
+    map_account(admin, "phone1", "newcomer")
+    actor = mapped_actor(store, "newcomer")
+    assert (actor.id, actor.role) == ("phone1", Role.PHONE)
 
 
 def test_os_account_comes_from_the_os_not_the_environment(monkeypatch):
     monkeypatch.setenv("USER", "mallory")
     monkeypatch.setenv("LOGNAME", "mallory")
     monkeypatch.setenv("USERNAME", "mallory")
+    monkeypatch.setenv("SUDO_USER", "mallory")  # an ordinary account's process ignores sudo's variables too
+    monkeypatch.setenv("SUDO_UID", str(os.geteuid()))
     assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
 
 
