@@ -286,3 +286,45 @@ def test_check_names_a_gap_in_the_audit_ids(clinic, tmp_path, where):
 
 def test_every_action_has_words_for_its_refusal():
     assert set(DOING) == set(MATRIX)
+
+
+@pytest.fixture
+def as_a_service(tmp_path, monkeypatch):
+    """This process's account declared a service in a root-owned file, as `host setup` writes it."""
+    if os.geteuid() != 0:
+        pytest.skip("a service file counts only when root owns it")
+    from caseload.application import identity
+
+    monkeypatch.setattr(identity, "SERVICES_DIR", tmp_path)
+    path = tmp_path / f"{pwd.getpwuid(os.geteuid()).pw_name}.toml"
+    path.write_text(f'store = "{tmp_path / "store" / "caseload.db"}"\ngroup = "clinic"\n')
+    path.chmod(0o644)
+    return path
+
+
+def test_a_service_started_by_sudo_acts_for_the_invoking_account(as_a_service, monkeypatch):
+    other = pwd.getpwnam("nobody")
+    monkeypatch.setenv("SUDO_USER", other.pw_name)
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid))
+    assert os_account() == "nobody"
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid + 1))  # sudo's two variables disagree: not sudo's doing
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+    monkeypatch.delenv("SUDO_USER")
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+
+
+def test_a_service_file_others_could_write_is_ignored(as_a_service, monkeypatch):
+    other = pwd.getpwnam("nobody")
+    monkeypatch.setenv("SUDO_USER", other.pw_name)
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid))
+    as_a_service.chmod(0o666)
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+
+
+def test_through_a_service_only_its_own_store_opens(as_a_service):
+    from caseload.application.identity import service_store
+
+    own = as_a_service.parent / "store" / "caseload.db"
+    assert service_store(None) == own and service_store(own) == own
+    with pytest.raises(Refused, match="uses its one store: run it without --db"):
+        service_store(as_a_service.parent / "elsewhere.db")
