@@ -74,12 +74,11 @@ def audit_mismatches(path: Path) -> int:
 
 def batch_csv(token: str, patients: tuple[str, ...], rng: random.Random) -> bytes:
     """A multi-row import whose every row carries the batch token: a half import would show.
-    Each row has its own time, so that no row repeats an entry already logged (those are skipped)."""
-    lines = ["patient,day,kind,value,time,note"]
+    Rows are marked as corrections, so a row that happens to repeat an earlier one is still logged."""
+    lines = ["patient,day,kind,value,note,correction"]
     for row in range(BATCH_ROWS):
         kind, value = rng.choice(BATCH_KINDS)
-        at = f"{rng.randrange(24):02d}:{rng.randrange(60):02d}"
-        lines.append(f"{rng.choice(patients)},-{rng.randrange(40)},{kind},{value},{at},{token}-{row:02d}")
+        lines.append(f"{rng.choice(patients)},-{rng.randrange(40)},{kind},{value},{token}-{row:02d},yes")
     return ("\n".join(lines) + "\n").encode()
 
 
