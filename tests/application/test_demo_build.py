@@ -3,9 +3,16 @@
 from __future__ import annotations
 
 import csv
+from hashlib import sha256
 from datetime import date, timedelta
 
+import pytest
+
 from caseload.application.demo import SEED_DIR, build_demo
+from caseload.application.errors import Refused
+from caseload.application.identity import os_account
+from caseload.application.staff import init_store
+from caseload.store import Store
 
 BUILD_DAY = date(2026, 12, 1)
 
@@ -34,3 +41,17 @@ def test_demo_holds_every_seed_row_with_its_correction_and_void(tmp_path):
         assert demo.admin.os_account == "tester" and store.staff.by_os_account("tester").id == demo.admin.id
     finally:
         store.close()
+
+
+def test_the_demo_never_replaces_a_store_that_is_not_a_demo(tmp_path):
+    real = tmp_path / "clinic.db"
+    with Store(real) as store:
+        init_store(store, "ada", "Ada Admin", os_account())
+    before = sha256(real.read_bytes()).hexdigest()
+    with pytest.raises(Refused, match="exists and is not a demo store: the demo never replaces it"):
+        build_demo(real, date(2026, 12, 1), os_account())
+    assert sha256(real.read_bytes()).hexdigest() == before
+    (tmp_path / "notes.txt").write_text("not a database")
+    with pytest.raises(Refused, match="is not a demo store"):
+        build_demo(tmp_path / "notes.txt", date(2026, 12, 1), os_account())
+    assert (tmp_path / "notes.txt").read_text() == "not a database"

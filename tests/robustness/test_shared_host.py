@@ -195,6 +195,11 @@ def test_the_rule_opens_no_other_file(host):
     assert done.returncode == 1
     assert done.stderr == "caseload: this host's caseload uses its one store: run it without --db or CASELOAD_DB\n"
     assert not (h.base / "mine.db").exists()
+    before = h.store.read_bytes()
+    for args in (("demo", "--no-ui"), ("--db", str(h.store), "demo", "--no-ui")):  # the demo rebuilds its file
+        done = h.caseload(h.nurse, *args)
+        assert done.returncode == 1 and len(done.stderr.splitlines()) == 1, done.stderr
+    assert h.store.read_bytes() == before
 
 
 def test_the_nurse_works_as_herself(host):
