@@ -4,7 +4,6 @@ failures, inert cells, and de-identified files without free text, patient ids or
 from __future__ import annotations
 
 import csv
-import errno
 import hashlib
 import os
 import re

@@ -13,10 +13,9 @@ from __future__ import annotations
 from collections.abc import Callable
 from dataclasses import replace
 
-from caseload.application.week.figures import PatientRef, ReasonCount, WeeklySummary
+from caseload.application.week.figures import TOTAL, PatientRef, ReasonCount, WeeklySummary
 from caseload.application.week.clinical_events import count_events, event_order, pregnancy_order
 from caseload.application.week.compile import gap_order
-from caseload.application.week.figures import TOTAL
 
 
 def deidentified(summary: WeeklySummary, pseudonym: Callable[[str], str]) -> WeeklySummary:
