@@ -69,12 +69,24 @@ class Staged:
             if self.force:
                 os.replace(self.temp, self.target)
             else:
-                os.link(self.temp, self.target)
-                self.temp.unlink()
+                self._publish_new()
         except FileExistsError:
             raise Refused(f"{self.target} appeared while the export was written: nothing replaced, try again") from None
         except OSError as err:
             raise os_failure(err, f"putting {self.target} in place") from None
+
+
+    def _publish_new(self) -> None:
+        try:
+            os.link(self.temp, self.target)
+        except FileExistsError:
+            raise
+        except OSError:  # a file system without hard links (FAT on a USB stick): rename after one more look
+            if os.path.lexists(self.target):
+                raise FileExistsError(self.target) from None
+            os.replace(self.temp, self.target)
+        else:
+            self.temp.unlink()
 
 
 @contextmanager

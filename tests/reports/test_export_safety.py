@@ -4,6 +4,7 @@ failures, inert cells, and de-identified files without free text, patient ids or
 from __future__ import annotations
 
 import csv
+import errno
 import hashlib
 import os
 import re
@@ -139,6 +140,17 @@ def test_a_temporary_name_taken_by_someone_else_is_never_opened(fresh_clinic, tm
     with pytest.raises(Refused, match="failed \\(File exists\\)"):
         export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=False)
     assert victim.read_text() == "keep" and not (tmp_path / "s.json").exists()
+
+
+def test_a_file_system_without_hard_links_still_gets_its_file(fresh_clinic, tmp_path, monkeypatch):
+    def no_links(source, target):
+        raise OSError(errno.EPERM, "Operation not permitted")  # what FAT answers
+
+    monkeypatch.setattr("caseload.exports.safe_file.os.link", no_links)
+    out = export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=False)
+    assert out.read_text().startswith("{") and stat.S_IMODE(out.stat().st_mode) == 0o600
+    with pytest.raises(Refused, match="exists already"):
+        export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=False)
 
 
 def _mount_tmpfs(folder: Path, options: str) -> bool:
