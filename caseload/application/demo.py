@@ -19,7 +19,6 @@ from caseload.application.errors import Refused
 from caseload.application.identity import running_service
 from caseload.store import Store, StoreError
 from caseload.store.bulk_load import NewEntry
-from caseload.store.db import utc_now
 
 SEED_DIR = resources.files("caseload") / "seed_data"
 
@@ -58,7 +57,7 @@ def _refuse_real_store(path: Path) -> None:
         return
     try:
         with Store(path) as existing:
-            is_demo = existing.db.meta("clinic") is not None
+            is_demo = existing.meta("clinic") is not None
     except StoreError:
         is_demo = False
     if not is_demo:
@@ -96,22 +95,17 @@ def build_demo(path: Path, today: date, account: str) -> Demo:
     ]
     entry_rows = _rows("entries.csv")
 
-    def set_meta() -> None:
-        store.db.set_meta("timezone", clinic["timezone"])
-        store.db.set_meta("clinic", clinic["name"])
-        store.db.set_meta("pseudonym_secret", "demo-" + clinic["name"])
-
-    store.transact(set_meta)
+    with store.atomic(today):
+        store.set_meta("timezone", clinic["timezone"])
+        store.set_meta("clinic", clinic["name"])
+        store.set_meta("pseudonym_secret", "demo-" + clinic["name"])
     store.bulk.staff(admin, staff)
     store.bulk.patients(admin, patients)
     items, voids = _entries(entry_rows, by_id, today, zone, store.bulk.next_entry_id())
     store.bulk.entries(items)
     for actor, entry_id, reason, at in voids:
-        store.db.clock = lambda at=at: at
-        try:
-            store.transact(lambda: store.entries.void(actor, store.entries.get(entry_id), reason))
-        finally:
-            store.db.clock = utc_now
+        with store.clock_at(at), store.atomic(at.astimezone(zone).date()):
+            store.entries.void(actor, store.entries.get(entry_id), reason)
     ctx = Context(store, admin, today, load_protocol(store))
     refresh_all(ctx)
     return Demo(store, clinic["name"], staff, len(patients), len(items), admin)

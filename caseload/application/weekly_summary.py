@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import hashlib
 import hmac
-from contextlib import ExitStack
+from collections.abc import Callable
+from contextlib import AbstractContextManager
+from datetime import date
 from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
@@ -17,14 +19,19 @@ from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
 from caseload.application.week.clinical_events import cycles_into_week
 from caseload.application.week.pseudonyms import deidentified
 from caseload.application.week.figures import WeeklySummary
-from caseload.exports.safe_file import check_targets, os_failure, staged
-from caseload.exports.summary_files import FOLDER_FORMATS, FORMATS, output_files
 from caseload.application.week.compile import WeekData, charting_from, compute
 from caseload.application.week.iso_weeks import Week, iso_week
 from caseload.application.context import Context
 from caseload.application.errors import Refused
 from caseload.application.staff import DEFAULT_TIMEZONE
 from caseload.store.summary_queries import ReportQueries, Span
+
+FORMATS = ("xlsx", "html", "csv", "json")
+FOLDER_FORMATS = frozenset({"csv"})  # written as a folder of files
+Renderer = Callable[[WeeklySummary, str, Path, Path, bool], AbstractContextManager[Callable[[], None]]]
+"""Renders a summary in a format for a target path (given the store's path and `force`), privately
+and aside; the context it opens gives the function that publishes the files, called in the
+transaction of the audit row. Given by the front end from caseload.exports."""
 
 PSEUDONYM_PREFIX = "px-"
 PSEUDONYM_HEX_DIGITS = 10
@@ -36,7 +43,7 @@ def pseudonym(secret: str, patient_id: str) -> str:
 
 
 def _week(ctx: Context, text: str) -> Week:
-    week = iso_week(text, ctx.store.db.meta("timezone") or DEFAULT_TIMEZONE)
+    week = iso_week(text, ctx.store.meta("timezone") or DEFAULT_TIMEZONE)
     if week.first_day > ctx.today:
         raise InputError(
             f"week {week.label} starts on {week.first_day.isoformat()}, after today ({ctx.today.isoformat()}): "
@@ -72,7 +79,7 @@ def compute_summary(ctx: Context, week: str) -> WeeklySummary:
     """The summary of one ISO week ('2026-W48'), with patient ids and names (supervisors and admins)."""
     ctx.require("summary.export")
     period = _week(ctx, week)
-    with ReportQueries(ctx.store.db).snapshot() as q:
+    with ctx.store.summary_queries().snapshot() as q:
         data = _week_data(ctx, q, period)
     return compute(period, data, ctx.protocol, ctx.today)
 
@@ -94,28 +101,25 @@ def _target(out: Path, fmt: str) -> Path:
     return out
 
 
-def _folder(out: Path) -> None:
-    """The folder of a folder format, created owner-only when it is new."""
-    try:
-        out.mkdir(mode=0o700, exist_ok=True)
-    except OSError as err:
-        raise os_failure(err, f"creating the folder {out}") from None
-
-
 def _secret(ctx: Context) -> str:
-    secret = ctx.store.db.meta("pseudonym_secret")
+    secret = ctx.store.meta("pseudonym_secret")
     if not secret:
         raise Refused("this store has no pseudonym secret, so it cannot de-identify: "
                       "it was not set up by 'caseload init'")
     return secret
 
 
-def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, force: bool = False) -> Path:
-    """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it.
+def export_summary(
+    ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, render: Renderer, force: bool = False,
+    recorded_on: date | None = None,
+) -> Path:
+    """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it. The
+    summary is computed as of ctx.today; its audit row records `recorded_on` (default ctx.today), the
+    date of record, when the export is a view of another day.
 
-    Every file goes through `exports.safe_file`: never over the store or a backup, over an
-    existing file only with `force`, rendered into a private temporary file and published in the
-    transaction of its audit row, so a refused or failed export leaves neither a file nor an audit row.
+    `render` refuses the store, a backup and (without `force`) an existing file, renders into private
+    temporary files, and publishes them in the transaction of the audit row: a refused or failed
+    export leaves neither a file nor an audit row.
     """
     ctx.require("summary.export")
     fmt = _format(fmt)
@@ -124,25 +128,10 @@ def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: boo
     summary = compute_summary(ctx, week)
     if secret is not None:
         summary = deidentified(summary, lambda pid: pseudonym(secret, pid))
-    files = output_files(summary, fmt, target)
-    check_targets((path for path, _ in files), ctx.store.path, force)
-    if fmt in FOLDER_FORMATS:
-        _folder(target)
-    published: list[Path] = []
-    with ExitStack() as stack:
-        pending = [stack.enter_context(staged(path, write, force)) for path, write in files]
-
-        def record() -> None:
-            after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target)}
-            ctx.store.db.audit(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
-            for file in pending:
-                file.publish()
-                published.append(file.target)
-
-        try:
-            ctx.store.transact(record)
-        except BaseException:
-            for path in published:
-                path.unlink(missing_ok=True)
-            raise
+    after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target),
+             "as_of": ctx.today.isoformat()}
+    with render(summary, fmt, target, ctx.store.path, force) as publish:
+        with ctx.store.atomic(recorded_on or ctx.today):
+            ctx.store.audit.record(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
+            publish()
     return target

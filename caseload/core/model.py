@@ -86,6 +86,7 @@ class Patient:
     plan: Plan = Plan.NATURAL
     created: date | None = None
     charting_temps: bool = True
+    status_since: date | None = None  # date of record of the last status change; None if never changed
 
 
 @dataclass(frozen=True)

@@ -12,7 +12,7 @@ from datetime import date, datetime
 from caseload.application.week.figures import Change, PatientRef, WeeklySummary
 from caseload.application.week.alert_counts import SEVERITIES
 from caseload.application.week.figures import TOTAL
-from caseload.exports.safe_text import inert
+from caseload.presentation.safe_text import printable
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
 WEEK_DAY = "day of the week, Monday = 1"
@@ -247,7 +247,7 @@ def _shown(table: Table, first_day: date | None) -> Table:
     dated = [first_day is not None and c.kind in (DATE, DATETIME) for c in table.columns]
 
     def row(values: tuple) -> tuple:
-        return tuple(inert(v) if isinstance(v, str) else _week_day(v, first_day) if d else v
+        return tuple(printable(v) if isinstance(v, str) else _week_day(v, first_day) if d else v
                      for v, d in zip(values, dated))
 
     columns = tuple(Column(c.id, f"{c.title} ({WEEK_DAY})", INT) if d else c for c, d in zip(table.columns, dated))

@@ -8,6 +8,7 @@ and checks again on `r`.
 from __future__ import annotations
 
 from rich.text import Text
+from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -16,10 +17,11 @@ from textual.screen import Screen
 from textual.widgets import Footer, Label, Static
 
 from caseload.core.model import Actor
-from caseload.application.account_setup import mapped_actor
+from caseload.presentation.safe_text import printable
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 
 
-class SignInScreen(Screen):
+class SignInScreen(ClinicWork, Screen):
     CSS_PATH = "sign_in.tcss"
     BINDINGS = [
         Binding("r", "check_again", "Check again", id="sign_in.check_again"),
@@ -32,7 +34,7 @@ class SignInScreen(Screen):
             self.actor = actor
 
     def compose(self) -> ComposeResult:
-        account = self.app.gate.account
+        account = printable(self.app.clinic.identity.account)
         with Vertical(id="sign-in"):
             yield Label("Not linked to a staff record yet", classes="dialog-title")
             yield Static(Text(f"The OS account '{account}' is not linked to a staff record. An admin links it "
@@ -41,10 +43,14 @@ class SignInScreen(Screen):
         yield Footer(compact=True)
 
     def action_check_again(self) -> None:
-        self.app.store_job(self, mapped_actor, self.app.gate.account, reply=self.Checked, before_sign_in=True)
+        self._check()
+
+    @work(**STORE_WORK, name="check")
+    def _check(self) -> None:
+        self.post_message(self.Checked(self.app.clinic.check_mapped()))
 
     def on_sign_in_screen_checked(self, message: Checked) -> None:
         if message.actor is None:
             self.query_one("#outcome", Static).update(Text("Still not linked: ask an admin.", style="bold"))
         else:
-            self.app.signed_in(message.actor)
+            self.app.signed_in()
