@@ -64,6 +64,8 @@ def plain_reason(error: BaseException) -> str:
     """One line for a person about a failed use case, without a traceback."""
     if isinstance(error, (InputError, Refused, StoreError)):
         return str(error)
+    if isinstance(error, PermissionError):
+        return "no permission to use the store from this account: ask an admin"
     if isinstance(error, sqlite3.OperationalError) and "locked" in str(error).lower():
         return "the store is busy with another terminal's change: try again in a moment"
     if isinstance(error, sqlite3.Error):
@@ -211,15 +213,12 @@ class Clinic:
 
     # --- sign-in (before anyone acts)
 
-    def sign_in_roster(self) -> list[Staff]:
-        """The active staff an unmapped OS account may claim as its own record (the first sign-in)."""
+    def check_mapped(self) -> Actor | None:
+        """Look again whether an admin has mapped this OS account: its staff member once mapped, else
+        None. Nobody takes a record from an unmapped account: records carry roles."""
         with self.lock:
-            return [s for s in self.store.staff.all() if s.active]
-
-    def claim(self, staff_id: str) -> Actor:
-        """First sign-in from an unmapped OS account: take an active staff record with no account yet."""
-        with self.lock:
-            self._actor = staff.claim_staff(self.store, staff_id, self.identity.account, self.real_date)
+            if self.store.staff.by_os_account(self.identity.account) is not None:
+                self._actor = resolve_actor(self.store, self.identity.account, self.identity.as_staff)
             return self._actor
 
     # --- entries
@@ -339,10 +338,11 @@ class Clinic:
         return self._read(weekly_summary.compute_summary, week)
 
     def export_summary(self, week: str, fmt: str, out: Path, deidentify: bool,
-                       render: weekly_summary.Renderer) -> Path:
+                       render: weekly_summary.Renderer, force: bool = False) -> Path:
         """Write one week's summary with `render` (the exports' writer for the format), audited. A view:
         allowed as of any day, its audit row recording the date of record."""
-        return self._read(weekly_summary.export_summary, week, fmt, out, deidentify, render, self.date_of_record)
+        return self._read(weekly_summary.export_summary, week, fmt, out, deidentify, render, force,
+                          self.date_of_record)
 
     # --- the store itself
 

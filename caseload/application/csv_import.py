@@ -1,4 +1,9 @@
-"""CSV import of entries: every row is validated before any is written; all rows or none."""
+"""CSV import of entries: every row is validated before any is written; all rows or none.
+
+A row identical to a current entry of the store or to an earlier row of the file (same patient,
+day, kind, value and time) is skipped and counted, so importing a file twice logs nothing twice.
+A row that repeats one on purpose says so in the optional `correction` column (yes).
+"""
 
 from __future__ import annotations
 
@@ -15,7 +20,8 @@ from caseload.application.errors import Refused
 from caseload.application.patients import get_patient
 
 REQUIRED = ("patient", "day", "kind", "value")
-OPTIONAL = ("time", "flags", "note")
+OPTIONAL = ("time", "flags", "note", "correction")
+CORRECTION_WORDS = {"": False, "no": False, "n": False, "0": False, "yes": True, "y": True, "1": True}
 MAX_BYTES = 20 * 1024 * 1024
 MAX_FIELD = 2000
 
@@ -24,6 +30,47 @@ MAX_FIELD = 2000
 class Imported:
     rows: int
     patients: int
+    skipped: int = 0  # rows identical to an entry already logged
+
+
+@dataclass(frozen=True)
+class ParsedFile:
+    rows: list[tuple[str, ParsedEntry]]
+    skipped: int
+
+
+def _key(patient_id: str, day, kind: Kind, value, time: str | None) -> tuple:
+    """What makes two entries the same observation logged twice."""
+    return (patient_id, day, kind, value, time)
+
+
+class _Logged:
+    """The keys of entries already logged: the store's current entries, read once a patient,
+    and the rows of the file taken so far."""
+
+    def __init__(self, ctx: Context):
+        self.ctx = ctx
+        self.keys: set[tuple] = set()
+        self.read: set[str] = set()
+
+    def take(self, patient_id: str, parsed: ParsedEntry) -> bool:
+        """Record the row; False when it repeats an entry already logged."""
+        if patient_id not in self.read:
+            self.read.add(patient_id)
+            self.keys.update(_key(patient_id, e.day, e.kind, e.value, e.time)
+                             for e in self.ctx.store.entries.for_patient(patient_id) if e.current)
+        key = _key(patient_id, parsed.day, parsed.kind, parsed.value, parsed.time)
+        if key in self.keys:
+            return False
+        self.keys.add(key)
+        return True
+
+
+def _correction(cell: str) -> bool:
+    word = cell.strip().lower()
+    if word not in CORRECTION_WORDS:
+        raise InputError(f"correction '{one_line(cell)}' not understood: use yes or no (blank means no)")
+    return CORRECTION_WORDS[word]
 
 
 def _decode(data: bytes) -> str:
@@ -56,12 +103,15 @@ def _header(reader) -> list[str]:
     return header
 
 
-def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
-    """(patient id, parsed entry) for every row, or InputError naming the first bad line."""
+def parse_rows(ctx: Context, data: bytes) -> ParsedFile:
+    """(patient id, parsed entry) for every row to log, and how many repeated entries were skipped;
+    or InputError naming the first bad line."""
     reader = csv.reader(io.StringIO(_decode(data), newline=""))
     header = _header(reader)
     rows: list[tuple[str, ParsedEntry]] = []
     temps_seen: set[tuple[str, str]] = set()
+    logged = _Logged(ctx)
+    skipped = 0
     line = 1
     try:
         for record in reader:
@@ -83,6 +133,10 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
                 flags=cells.get("flags", ""),
                 note=cells.get("note", ""),
             )
+            correction = _correction(cells.get("correction", ""))
+            if not logged.take(patient.id, parsed) and not correction:
+                skipped += 1
+                continue
             if parsed.kind is Kind.TEMP:
                 key = (patient.id, parsed.day.isoformat())
                 if key in temps_seen:
@@ -94,9 +148,9 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
         raise InputError(f"line {line}: {err}") from None
     except csv.Error as err:
         raise InputError(f"line {reader.line_num}: not valid CSV ({err})") from None
-    if not rows:
+    if not rows and not skipped:
         raise InputError("the file has a header but no rows: nothing to import")
-    return rows
+    return ParsedFile(rows, skipped)
 
 
 def _recheck(ctx: Context, patient_id: str, parsed: ParsedEntry) -> None:
@@ -109,7 +163,8 @@ def _recheck(ctx: Context, patient_id: str, parsed: ParsedEntry) -> None:
 
 def import_csv(ctx: Context, data: bytes) -> Imported:
     ctx.require("entry.import")
-    rows = parse_rows(ctx, data)
+    parsed_file = parse_rows(ctx, data)
+    rows = parsed_file.rows
     with ctx.store.atomic(ctx.today):
         touched: dict[str, None] = {}
         for patient_id, parsed in rows:
@@ -118,4 +173,4 @@ def import_csv(ctx: Context, data: bytes) -> Imported:
             touched[patient_id] = None
         for patient_id in touched:
             refresh_patient(ctx, ctx.store.patients.get(patient_id))
-        return Imported(len(rows), len(touched))
+        return Imported(len(rows), len(touched), parsed_file.skipped)

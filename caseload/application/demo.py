@@ -30,7 +30,9 @@ from caseload.application.context import Context
 from caseload.application.patients import with_status
 from caseload.application.recompute import refresh_all, refresh_from
 from caseload.application.protocol import load_protocol
-from caseload.store import Store
+from caseload.application.errors import Refused
+from caseload.application.identity import running_service
+from caseload.store import Store, StoreError
 from caseload.store.bulk_load import NewEntry, prepare_entries
 from caseload.store.db import utc_now
 
@@ -289,10 +291,26 @@ class _Replay:
         self.store.alerts.handle(self._handler(alert), alert, target, notes[target], until)
 
 
+def _refuse_real_store(path: Path) -> None:
+    """Only a demo store is rebuilt: any other file at `path` is kept (it may be a clinic's store)."""
+    if not path.exists():
+        return
+    try:
+        with Store(path) as existing:
+            is_demo = existing.meta("clinic") is not None
+    except StoreError:
+        is_demo = False
+    if not is_demo:
+        raise Refused(f"{path} exists and is not a demo store: the demo never replaces it, give another --db")
+
+
 def build_demo(path: Path, today: date, account: str) -> Demo:
     """A fresh demo store at `path`; the OS account that builds it maps to the demo's admin."""
     clinic = _clinic()
     zone = ZoneInfo(clinic["timezone"])
+    if running_service() is not None:
+        raise Refused("the demo is built in your own account: run 'caseload demo' without the clinic's wrapper")
+    _refuse_real_store(path)
     for suffix in ("", "-wal", "-shm"):
         Path(f"{path}{suffix}").unlink(missing_ok=True)
     store = Store(path)

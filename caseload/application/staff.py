@@ -95,21 +95,3 @@ def set_active(ctx: Context, staff_id: str, active: bool) -> Staff:
     with ctx.store.atomic(ctx.today):
         ctx.store.staff.update(ctx.actor, staff, updated)
     return updated
-
-
-def claim_staff(store: Store, staff_id: str, account: str, day: date | None = None) -> Actor:
-    """First sign-in from an unmapped OS account: take an active staff record that has no account yet."""
-    if store.staff.by_os_account(account):
-        raise Refused(f"OS account '{account}' is already mapped to a staff member")
-    staff = get_staff(store, staff_id)
-    if not staff.active:
-        raise Refused(f"staff member {staff.id} is inactive and can do nothing")
-    if staff.os_account:
-        raise Refused(f"{staff.id} is already signed to another OS account: ask an admin")
-    if staff.role is Role.ADMIN:  # else any unmapped account could make itself an admin
-        raise Refused(f"{staff.id} is an admin record: another admin maps it with 'caseload staff map {staff.id} ACCOUNT'")
-    claimed = Staff(staff.id, staff.name, staff.role, True, account)
-    actor = Actor(claimed, account)
-    with store.atomic(day or clinic_today(store)):
-        store.staff.update(actor, staff, claimed)
-    return actor

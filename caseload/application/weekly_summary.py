@@ -9,17 +9,15 @@ from __future__ import annotations
 
 import hashlib
 import hmac
-import os
-import secrets
-import shutil
 from collections.abc import Callable
+from contextlib import AbstractContextManager
 from datetime import date, timedelta
 from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
 from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
 from caseload.application.week.clinical_events import cycles_into_week
-from caseload.application.week.pseudonyms import deidentified, text_scrubber
+from caseload.application.week.pseudonyms import deidentified
 from caseload.application.week.figures import WeeklySummary
 from caseload.application.week.compile import WeekData, charting_from, compute
 from caseload.application.week.iso_weeks import DAYS, Week, iso_week
@@ -30,8 +28,10 @@ from caseload.store.summary_queries import ReportQueries, Span
 
 FORMATS = ("xlsx", "html", "csv", "json")
 FOLDER_FORMATS = frozenset({"csv"})  # written as a folder of files
-Renderer = Callable[[WeeklySummary, str, Path], None]
-"""Writes a summary in a format to a path: given by the front end from caseload.exports."""
+Renderer = Callable[[WeeklySummary, str, Path, Path, bool], AbstractContextManager[Callable[[], None]]]
+"""Renders a summary in a format for a target path (given the store's path and `force`), privately
+and aside; the context it opens gives the function that publishes the files, called in the
+transaction of the audit row. Given by the front end from caseload.exports."""
 
 PSEUDONYM_PREFIX = "px-"
 PSEUDONYM_HEX_DIGITS = 10
@@ -116,52 +116,17 @@ def _secret(ctx: Context) -> str:
     return secret
 
 
-def _staging(target: Path, fmt: str) -> Path:
-    """A hidden path beside the target, so that publishing is a rename on the same file system."""
-    staged = target.parent / f".{target.name}.{secrets.token_hex(4)}.partial"
-    if fmt in FOLDER_FORMATS:
-        staged.mkdir()
-    return staged
-
-
-def _owner_only(staged: Path) -> None:
-    """Exports hold patient data: readable by their owner only, like the store itself."""
-    if staged.is_dir():
-        staged.chmod(0o700)
-        for item in staged.iterdir():
-            item.chmod(0o600)
-    else:
-        staged.chmod(0o600)
-
-
-def _publish(staged: Path, target: Path, fmt: str) -> list[Path]:
-    if fmt not in FOLDER_FORMATS:
-        os.replace(staged, target)
-        return [target]
-    target.mkdir(mode=0o700, exist_ok=True)
-    moved = []
-    for item in sorted(staged.iterdir()):
-        os.replace(item, target / item.name)
-        moved.append(target / item.name)
-    return moved
-
-
-def _discard(path: Path) -> None:
-    if path.is_dir():
-        shutil.rmtree(path)
-    else:
-        path.unlink(missing_ok=True)
-
-
 def export_summary(
-    ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, render: Renderer, recorded_on: date | None = None
+    ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, render: Renderer, force: bool = False,
+    recorded_on: date | None = None,
 ) -> Path:
     """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it. The
     summary is computed as of ctx.today; its audit row records `recorded_on` (default ctx.today), the
     date of record, when the export is a view of another day.
 
-    The file is rendered aside and published in the transaction of its audit row: a refused
-    or failed export leaves neither a file nor an audit row.
+    `render` refuses the store, a backup and (without `force`) an existing file, renders into private
+    temporary files, and publishes them in the transaction of the audit row: a refused or failed
+    export leaves neither a file nor an audit row.
     """
     ctx.require("summary.export")
     fmt = _format(fmt)
@@ -169,22 +134,11 @@ def export_summary(
     secret = _secret(ctx) if deidentify else None
     summary = compute_summary(ctx, week)
     if secret is not None:
-        summary = deidentified(summary, lambda pid: pseudonym(secret, pid), text_scrubber(ctx.store.patients.all()))
-    staged = _staging(target, fmt)
-    published: list[Path] = []
-
+        summary = deidentified(summary, lambda pid: pseudonym(secret, pid))
     after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target),
              "as_of": ctx.today.isoformat()}
-    try:
-        render(summary, fmt, staged)
-        _owner_only(staged)
+    with render(summary, fmt, target, ctx.store.path, force) as publish:
         with ctx.store.atomic(recorded_on or ctx.today):
             ctx.store.audit.record(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
-            published.extend(_publish(staged, target, fmt))
-    except BaseException:
-        for path in published:
-            path.unlink(missing_ok=True)
-        raise
-    finally:
-        _discard(staged)
+            publish()
     return target

@@ -38,9 +38,12 @@ def log(clinic: Clinic, patient_id, kind, value, on, at, flags, note) -> None:
 @click.argument("file", type=click.Path(exists=True, dir_okay=False))
 @pass_clinic
 def import_(clinic: Clinic, file: str) -> None:
-    """Import entries from CSV (patient,day,kind,value[,time,flags,note]): all rows or none."""
+    """Import entries from CSV (patient,day,kind,value[,time,flags,note,correction]): all rows or none.
+
+    Rows identical to entries already logged are skipped unless their correction column says yes."""
     done = clinic.import_csv(Path(file).read_bytes())
-    click.echo(f"Imported {done.rows} entries for {done.patients} patients.")
+    skipped = f" {done.skipped} rows skipped as already logged." if done.skipped else ""
+    click.echo(f"Imported {done.rows} entries for {done.patients} patients.{skipped}")
 
 
 @click.command()

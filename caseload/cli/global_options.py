@@ -14,6 +14,7 @@ import platformdirs
 
 from caseload.application.clinic import Clinic, Identity
 from caseload.application.errors import InputError, Refused, StoreError
+from caseload.application.identity import service_store
 from caseload.presentation.safe_text import printable, quoted
 
 
@@ -28,6 +29,10 @@ def fail_cleanly():
         yield
     except (InputError, Refused, StoreError) as err:
         click.echo(f"caseload: {printable(str(err))}", err=True)
+        raise click.exceptions.Exit(1) from None
+    except PermissionError as err:  # a store or file this account may not open
+        click.echo(f"caseload: no permission to use {printable(str(err.filename or 'a file'))}: on a shared host "
+                   "caseload runs through the clinic's rule as its service account; ask an admin", err=True)
         raise click.exceptions.Exit(1) from None
     except OverflowError as err:  # an id past SQLite's integers, a date past year 1 or 9999
         click.echo(f"caseload: a number or date is out of range ({printable(str(err))}): check the values given", err=True)
@@ -62,7 +67,9 @@ class GlobalOptions:
 
     @property
     def path(self) -> Path:
-        return Path(self.db_path) if self.db_path else default_store_path()
+        """The store: on a shared host the service's own (any other --db is refused), else --db or the default."""
+        requested = Path(self.db_path) if self.db_path else None
+        return service_store(requested) or requested or default_store_path()
 
     @property
     def as_of(self) -> date | None:

@@ -17,12 +17,13 @@ from caseload.exports.summary_files import write
               help="ISO week in the clinic's time zone, e.g. 2026-W48; by default the last complete week.")
 @click.option("--format", "fmt", required=True, type=click.Choice(FORMATS), help="xlsx, html, json (a file) or csv (a folder of files).")
 @click.option("--out", required=True, type=click.Path(), help="File to write; for csv, the folder to write into.")
-@click.option("--deidentify", is_flag=True, help="Patients as keyed pseudonyms, without names or birth dates.")
+@click.option("--deidentify", is_flag=True, help="Patients as keyed pseudonyms; no names, birth dates or free text.")
+@click.option("--force", is_flag=True, help="Replace files that exist already (never the store or a backup).")
 @pass_clinic
-def summary(clinic: Clinic, week: str | None, fmt: str, out: str, deidentify: bool) -> None:
+def summary(clinic: Clinic, week: str | None, fmt: str, out: str, deidentify: bool, force: bool) -> None:
     """Export the weekly caseload summary (supervisors and admins); every export is audited."""
     week = week or clinic.last_complete_week()
-    path = clinic.export_summary(week, fmt, Path(out), deidentify, write)
+    path = clinic.export_summary(week, fmt, Path(out), deidentify, write, force)
     kind = "de-identified " if deidentify else ""
     click.echo(f"Weekly summary {week.strip().upper()} written to {path} ({kind}{fmt}).")
 

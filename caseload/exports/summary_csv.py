@@ -4,10 +4,12 @@
 from __future__ import annotations
 
 import csv
+from collections.abc import Callable
 from datetime import date, datetime
 from pathlib import Path
 
 from caseload.application.week.figures import WeeklySummary
+from caseload.exports.safe_text import spreadsheet_text
 from caseload.exports.summary_tables import Table, sections
 
 WEEK_FILE = "week.csv"
@@ -20,6 +22,8 @@ def text(value) -> str:
         return value.isoformat(timespec="minutes")
     if isinstance(value, date):
         return value.isoformat()
+    if isinstance(value, str):
+        return spreadsheet_text(value)
     return str(value)
 
 
@@ -27,23 +31,26 @@ def file_name(section_id: str, table: Table) -> str:
     return f"{section_id}-{table.id}.csv"
 
 
-def _write(path: Path, header: list[str], rows) -> None:
-    # With a byte order mark, spreadsheet programs read the file as UTF-8 ("Lucía", not "LucÃ­a").
-    with open(path, "w", newline="", encoding="utf-8-sig") as f:
-        out = csv.writer(f)
-        out.writerow(header)
-        out.writerows([text(v) for v in row] for row in rows)
+def _writer(header: list[str], rows) -> Callable[[Path], None]:
+    def write(path: Path) -> None:
+        # With a byte order mark, spreadsheet programs read the file as UTF-8 ("Lucía", not "LucÃ­a").
+        with open(path, "w", newline="", encoding="utf-8-sig") as f:
+            out = csv.writer(f)
+            out.writerow(header)
+            out.writerows([text(v) for v in row] for row in rows)
+
+    return write
 
 
-def write_csv(summary: WeeklySummary, folder: Path) -> None:
-    """Write every file into `folder` (which must exist)."""
+def csv_files(summary: WeeklySummary) -> list[tuple[str, Callable[[Path], None]]]:
+    """Every file of the folder: its name and the function that writes it."""
     w = summary.week
-    _write(folder / WEEK_FILE,
-           ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "complete", "deidentified"],
-           [[w.label, w.first_day, w.last_day, w.timezone, w.hours, summary.prepared_on, summary.complete,
-             summary.deidentified]])
+    files = [(WEEK_FILE, _writer(
+        ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "complete", "deidentified"],
+        [[w.label, w.first_day, w.last_day, w.timezone, w.hours, summary.prepared_on, summary.complete,
+          summary.deidentified]]))]
     for section in sections(summary):
         for table in section.tables:
             rows = [*table.rows, *([table.total] if table.total else [])]
-            _write(folder / file_name(section.id, table), [c.id for c in table.columns], rows)
-
+            files.append((file_name(section.id, table), _writer([c.id for c in table.columns], rows)))
+    return files

@@ -7,12 +7,15 @@ formats them. A table's total row comes from the summary, never from adding up i
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import date, datetime
 
-from caseload.application.week.figures import PatientRef, WeeklySummary
+from caseload.application.week.figures import Change, PatientRef, WeeklySummary
 from caseload.application.week.alert_counts import SEVERITIES
 from caseload.application.week.figures import TOTAL
+from caseload.presentation.safe_text import printable
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
+WEEK_DAY = "day of the week, Monday = 1"
 
 
 @dataclass(frozen=True)
@@ -102,7 +105,8 @@ def caption(summary: WeeklySummary) -> str:
     if not summary.complete:
         text += f" WEEK IN PROGRESS: figures up to {summary.prepared_on.isoformat()} only; the week is not over."
     if summary.deidentified:
-        text += " De-identified: patients appear as keyed pseudonyms, without names or birth dates."
+        text += (" De-identified: patients appear as keyed pseudonyms, without names, birth dates or free text;"
+                 " dates are days of the week, Monday = 1.")
     return text
 
 
@@ -210,17 +214,29 @@ def _quality(s: WeeklySummary) -> Section:
               (*people, Column("nurse", "Nurse", TEXT), Column("days_logged", "Days logged"),
                Column("longest_gap", "Longest gap (days)")),
               tuple((*_patient(g.patient, deid), g.nurse, g.days_logged, g.longest_gap) for g in q.gaps)),
-        Table("changes", "Corrections and voids",
-              (Column("entry", "Entry"), *people, Column("kind", "Kind", TEXT), Column("day", "Day", DATE),
-               Column("change", "Change", TEXT), Column("reason", "Reason", TEXT), Column("by", "By", TEXT),
-               Column("at", "When", DATETIME)),
-              tuple((c.entry_id, *_patient(c.patient, deid), c.kind, c.day, c.change, c.reason, c.by_staff, c.at)
-                    for c in q.changes)),
-        Table("reasons", "Reasons given", (Column("reason", "Reason", TEXT), Column("corrections", "Corrections"),
-                                           Column("voids", "Voids")),
-              tuple((r.reason, r.corrections, r.voids) for r in q.reasons),
-              (TOTAL, q.reasons_total.corrections, q.reasons_total.voids)),
+        _changes(q.changes, deid),
+        *(() if deid else (Table("reasons", "Reasons given", (Column("reason", "Reason", TEXT),
+                                                              Column("corrections", "Corrections"),
+                                                              Column("voids", "Voids")),
+                                 tuple((r.reason, r.corrections, r.voids) for r in q.reasons),
+                                 (TOTAL, q.reasons_total.corrections, q.reasons_total.voids)),)),
     ))
+
+
+def _changes(changes: tuple[Change, ...], deid: bool) -> Table:
+    """Corrections and voids; de-identified, without the entry ids (a way back to the patient) and
+    without the reasons (free text)."""
+    if deid:
+        return Table("changes", "Corrections and voids",
+                     (*_patient_columns(deid), Column("kind", "Kind", TEXT), Column("day", "Day", DATE),
+                      Column("change", "Change", TEXT), Column("by", "By", TEXT), Column("at", "When", DATETIME)),
+                     tuple((*_patient(c.patient, deid), c.kind, c.day, c.change, c.by_staff, c.at) for c in changes))
+    return Table("changes", "Corrections and voids",
+                 (Column("entry", "Entry"), *_patient_columns(deid), Column("kind", "Kind", TEXT),
+                  Column("day", "Day", DATE), Column("change", "Change", TEXT), Column("reason", "Reason", TEXT),
+                  Column("by", "By", TEXT), Column("at", "When", DATETIME)),
+                 tuple((c.entry_id, *_patient(c.patient, deid), c.kind, c.day, c.change, c.reason, c.by_staff, c.at)
+                       for c in changes))
 
 
 def _workload(s: WeeklySummary) -> Section:
@@ -246,5 +262,30 @@ def _workload(s: WeeklySummary) -> Section:
     ))
 
 
+def _week_day(value, first_day: date):
+    """A date or time as its day counted from the week's Monday (Monday = 1); other cells as they are."""
+    if isinstance(value, datetime):
+        value = value.date()
+    return (value - first_day).days + 1 if isinstance(value, date) else value
+
+
+def _shown(table: Table, first_day: date | None) -> Table:
+    """The table as every format shows it: text cells inert and, when `first_day` is given
+    (de-identified), dates as days of the week."""
+    dated = [first_day is not None and c.kind in (DATE, DATETIME) for c in table.columns]
+
+    def row(values: tuple) -> tuple:
+        return tuple(printable(v) if isinstance(v, str) else _week_day(v, first_day) if d else v
+                     for v, d in zip(values, dated))
+
+    columns = tuple(Column(c.id, f"{c.title} ({WEEK_DAY})", INT) if d else c for c, d in zip(table.columns, dated))
+    return Table(table.id, table.title, columns, tuple(row(r) for r in table.rows),
+                 None if table.total is None else row(table.total))
+
+
 def sections(summary: WeeklySummary) -> tuple[Section, ...]:
-    return tuple(build(summary) for build in (_census, _alerts, _clinical, _quality, _workload))
+    first_day = summary.week.first_day if summary.deidentified else None
+    return tuple(
+        Section(s.id, s.title, tuple(_shown(t, first_day) for t in s.tables))
+        for s in (build(summary) for build in (_census, _alerts, _clinical, _quality, _workload))
+    )

@@ -4,6 +4,7 @@ charts. Each sheet prints on A4 landscape, one page wide, with its title and cap
 
 from __future__ import annotations
 
+import io
 import math
 from dataclasses import dataclass
 from datetime import date, datetime, time
@@ -161,8 +162,12 @@ def _sheet(book: Workbook, section: Section, summary: WeeklySummary, formats: di
 
 
 def write_xlsx(summary: WeeklySummary, path: Path) -> None:
-    book = xlsxwriter.Workbook(str(path))
+    # Built in memory, then written in one call: a full disk fails that call cleanly, where
+    # xlsxwriter's own file writing would leave its zip file open.
+    buffer = io.BytesIO()
+    book = xlsxwriter.Workbook(buffer, {"in_memory": True})
     formats = _formats(book)
     for section in sections(summary):
         _sheet(book, section, summary, formats)
     book.close()
+    path.write_bytes(buffer.getvalue())

@@ -71,6 +71,10 @@ class Database:
             raise
         except sqlite3.DatabaseError as err:
             conn.close()
+            if not (os.access(self.path, os.W_OK) and os.access(self.path.parent, os.W_OK)):
+                # WAL mode writes its -wal and -shm files beside the store, even to read it.
+                raise StoreError(f"{self.path} or its folder is read-only for this account: "
+                                 "caseload needs to write there, ask an admin") from None
             raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
 
     def _prepare(self, attempts: int = 6) -> None:
@@ -232,6 +236,8 @@ class Database:
             try:
                 return step()
             except sqlite3.OperationalError as err:
+                if "readonly" in str(err).lower():
+                    raise StoreError(f"{self.path} is read-only for this account: nothing was written") from None
                 if not _is_lock_error(err):
                     raise
                 if attempt == attempts:

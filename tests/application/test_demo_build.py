@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import csv
 import json
+from hashlib import sha256
 from collections import Counter
 from datetime import date, datetime, timedelta
 from zoneinfo import ZoneInfo
@@ -13,6 +14,10 @@ import pytest
 
 from caseload.core.alerts import is_clinical
 from caseload.application.demo import SEED_DIR, build_demo, clinic_timezone
+from caseload.application.errors import Refused
+from caseload.application.identity import os_account
+from caseload.application.staff import init_store
+from caseload.store import Store
 
 BUILD_DAY = date(2026, 12, 1)
 
@@ -90,3 +95,17 @@ def test_each_audit_row_is_recorded_as_of_its_invented_day(demo):
     days = Counter(a.day_of_record == datetime.fromisoformat(a.at).astimezone(zone).date().isoformat() for a in audit)
     assert days == {True: len(audit)}
     assert len({a.day_of_record for a in audit}) > 60, "the history spans months of clinic days"
+
+
+def test_the_demo_never_replaces_a_store_that_is_not_a_demo(tmp_path):
+    real = tmp_path / "clinic.db"
+    with Store(real) as store:
+        init_store(store, "ada", "Ada Admin", os_account())
+    before = sha256(real.read_bytes()).hexdigest()
+    with pytest.raises(Refused, match="exists and is not a demo store: the demo never replaces it"):
+        build_demo(real, date(2026, 12, 1), os_account())
+    assert sha256(real.read_bytes()).hexdigest() == before
+    (tmp_path / "notes.txt").write_text("not a database")
+    with pytest.raises(Refused, match="is not a demo store"):
+        build_demo(tmp_path / "notes.txt", date(2026, 12, 1), os_account())
+    assert (tmp_path / "notes.txt").read_text() == "not a database"

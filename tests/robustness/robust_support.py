@@ -94,11 +94,12 @@ def damage_index_page(path) -> bytes:
 
 
 def batch_csv(token: str, patients: tuple[str, ...], rng: random.Random) -> bytes:
-    """A multi-row import whose every row carries the batch token: a half import would show."""
-    lines = ["patient,day,kind,value,note"]
+    """A multi-row import whose every row carries the batch token: a half import would show.
+    Rows are marked as corrections, so a row that happens to repeat an earlier one is still logged."""
+    lines = ["patient,day,kind,value,note,correction"]
     for row in range(BATCH_ROWS):
         kind, value = rng.choice(BATCH_KINDS)
-        lines.append(f"{rng.choice(patients)},-{rng.randrange(40)},{kind},{value},{token}-{row:02d}")
+        lines.append(f"{rng.choice(patients)},-{rng.randrange(40)},{kind},{value},{token}-{row:02d},yes")
     return ("\n".join(lines) + "\n").encode()
 
 

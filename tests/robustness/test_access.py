@@ -29,7 +29,8 @@ from caseload.application.patients import add_patient, update_patient
 from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
-from caseload.application.staff import add_staff, claim_staff, map_account, set_active
+from caseload.application.clinic import Clinic, Identity
+from caseload.application.staff import add_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
 
@@ -144,21 +145,23 @@ def test_a_deactivated_account_is_refused_before_any_action(store, staffed):
         resolve_actor(store, os_account(), as_staff="nurse1")
 
 
-def test_first_sign_in_may_take_an_unclaimed_record_but_never_an_admin_one(store, staffed):
+def test_an_unmapped_account_gets_nothing_until_an_admin_maps_it(store, staffed):
     admin = Context(store, staffed[Role.ADMIN], TODAY)
-    add_staff(admin, "admin2", "Second Admin", "admin")
     before = snapshot(store.path)
-    with pytest.raises(Refused, match="admin record"):
-        claim_staff(store, "admin2", "newcomer")
-    assert snapshot(store.path) == before
-    actor = claim_staff(store, "phone1", "newcomer")
-    assert (actor.id, actor.role, resolve_actor(store, "newcomer").id) == ("phone1", Role.PHONE, "phone1")
+    with pytest.raises(Refused, match="not mapped to a staff member: ask an admin to run 'caseload staff map STAFF newcomer'"):
+        resolve_actor(store, "newcomer")
+    assert Clinic(store, Identity("newcomer"), date_of_record=TODAY).check_mapped() is None and snapshot(store.path) == before
+    map_account(admin, "phone1", "newcomer")
+    actor = Clinic(store, Identity("newcomer"), date_of_record=TODAY).check_mapped()
+    assert (actor.id, actor.role) == ("phone1", Role.PHONE)
 
 
 def test_os_account_comes_from_the_os_not_the_environment(monkeypatch):
     monkeypatch.setenv("USER", "mallory")
     monkeypatch.setenv("LOGNAME", "mallory")
     monkeypatch.setenv("USERNAME", "mallory")
+    monkeypatch.setenv("SUDO_USER", "mallory")  # an ordinary account's process ignores sudo's variables too
+    monkeypatch.setenv("SUDO_UID", str(os.geteuid()))
     assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
 
 
@@ -285,3 +288,45 @@ def test_check_names_a_gap_in_the_audit_ids(clinic, tmp_path, where):
 
 def test_every_action_has_words_for_its_refusal():
     assert set(DOING) == set(MATRIX)
+
+
+@pytest.fixture
+def as_a_service(tmp_path, monkeypatch):
+    """This process's account declared a service in a root-owned file, as `host setup` writes it."""
+    if os.geteuid() != 0:
+        pytest.skip("a service file counts only when root owns it")
+    from caseload.application import identity
+
+    monkeypatch.setattr(identity, "SERVICES_DIR", tmp_path)
+    path = tmp_path / f"{pwd.getpwuid(os.geteuid()).pw_name}.toml"
+    path.write_text(f'store = "{tmp_path / "store" / "caseload.db"}"\ngroup = "clinic"\n')
+    path.chmod(0o644)
+    return path
+
+
+def test_a_service_started_by_sudo_acts_for_the_invoking_account(as_a_service, monkeypatch):
+    other = pwd.getpwnam("nobody")
+    monkeypatch.setenv("SUDO_USER", other.pw_name)
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid))
+    assert os_account() == "nobody"
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid + 1))  # sudo's two variables disagree: not sudo's doing
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+    monkeypatch.delenv("SUDO_USER")
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+
+
+def test_a_service_file_others_could_write_is_ignored(as_a_service, monkeypatch):
+    other = pwd.getpwnam("nobody")
+    monkeypatch.setenv("SUDO_USER", other.pw_name)
+    monkeypatch.setenv("SUDO_UID", str(other.pw_uid))
+    as_a_service.chmod(0o666)
+    assert os_account() == pwd.getpwuid(os.geteuid()).pw_name
+
+
+def test_through_a_service_only_its_own_store_opens(as_a_service):
+    from caseload.application.identity import service_store
+
+    own = as_a_service.parent / "store" / "caseload.db"
+    assert service_store(None) == own and service_store(own) == own
+    with pytest.raises(Refused, match="uses its one store: run it without --db"):
+        service_store(as_a_service.parent / "elsewhere.db")

@@ -51,7 +51,7 @@ def build(path: Path) -> Store:
     add_staff(ctx, "nora", "Nora Nurse", "nurse", ACCOUNTS["nora"])
     add_staff(ctx, "phil", "Phil Phone", "phone", ACCOUNTS["phil"])
     add_staff(ctx, "sue", "Sue Supervisor", "supervisor", ACCOUNTS["sue"])
-    add_staff(ctx, "pat", "Pat Newcomer", "phone")  # no OS account yet: can be claimed at sign-in
+    add_staff(ctx, "pat", "Pat Newcomer", "phone")  # no OS account yet: waits at sign-in for an admin to map it
     nurse = Context(store, Actor(store.staff.get("nell"), ACCOUNTS["nell"]), TODAY)
     plan = {
         "P0001": ("Pia Test", "nell", "natural", history(TODAY - timedelta(days=17), 4) + cycle_rows(TODAY - timedelta(days=17), TODAY)),

@@ -11,6 +11,7 @@ from caseload.application.clinic import Clinic, Identity
 from caseload.application.entries import log_entry
 from caseload.application.errors import Refused
 from caseload.presentation.glossary import refresh_progress_line
+from caseload.application.staff import map_account
 from caseload.tui.app import make_app
 from caseload.tui.screens import caseload as caseload_screen
 from caseload.tui.screens.caseload import CaseloadScreen
@@ -19,22 +20,41 @@ from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 
 
-async def test_an_unmapped_account_signs_in_by_taking_a_free_record(app_as, service_ctx):
+async def test_an_unmapped_account_can_take_no_record_and_waits_for_an_admin(app_as, service_ctx):
+    before = [(s.id, s.os_account) for s in service_ctx("ada").store.staff.all()]
     app = app_as("pat", account="newcomer-os")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
         assert isinstance(app.screen, SignInScreen)
-        options = app.screen.query_one("#staff")
-        offered = {options.get_option_at_index(i).id: options.get_option_at_index(i).disabled
-                   for i in range(options.option_count)}
-        assert offered["pat"] is False  # no OS account yet
-        assert offered["nell"] is True  # signed to another account: shown, not selectable
-        options.highlighted = list(offered).index("pat")
-        await pilot.press("enter")
+        assert "caseload staff map STAFF newcomer-os" in str(app.screen.query_one("#how").render())
+        await pilot.press("down", "enter", "l")  # nothing to pick, no quick log before sign-in
+        await pilot.press("r")
+        await settle(pilot)
+        assert isinstance(app.screen, SignInScreen) and not app.clinic.signed_in
+        assert "Still not linked" in str(app.screen.query_one("#outcome").render())
+        assert [(s.id, s.os_account) for s in service_ctx("ada").store.staff.all()] == before
+        map_account(service_ctx("ada"), "pat", "newcomer-os")  # an admin, from another terminal
+        await pilot.press("r")
         await settle(pilot)
         assert isinstance(app.screen, CaseloadScreen)
         assert app.clinic.actor.id == "pat"
     assert service_ctx("ada").store.staff.get("pat").os_account == "newcomer-os"
+
+
+async def test_an_account_that_may_not_read_the_store_gets_one_line(app_as, monkeypatch):
+    app = app_as("pat", account="outsider-os")
+
+    def unreadable(account):
+        raise PermissionError(13, "Permission denied", "/srv/caseload/caseload.db")
+
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        monkeypatch.setattr(app.clinic.store.staff, "by_os_account", unreadable)
+        await pilot.press("r")
+        await settle(pilot)
+        messages = [n.message for n in app._notifications]
+        assert messages[-1] == "no permission to use the store from this account: ask an admin"
+        assert all("\n" not in m and "Traceback" not in m for m in messages)
 
 
 def test_a_refused_identity_stops_before_the_interface_opens(opened):

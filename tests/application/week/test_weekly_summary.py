@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import hmac
+import errno
 import json
 import re
 import zipfile
@@ -92,11 +93,11 @@ def test_bad_requests_are_refused_in_one_line_and_nothing_is_written(fresh_clini
 def test_a_failed_render_leaves_no_file_and_no_audit_row(fresh_clinic, tmp_path, monkeypatch):
     def broken(summary, path):
         path.write_text("half")
-        raise OSError("disk full")
+        raise OSError(errno.ENOSPC, "No space left on device")
 
     monkeypatch.setitem(render.WRITERS, "html", broken)
     audit_rows = fresh_clinic.store.audit.count()
-    with pytest.raises(OSError):
+    with pytest.raises(Refused, match="^the disk is full while writing .*s.html: nothing was written"):
         export_summary(fresh_clinic.context(), W43, "html", tmp_path / "s.html", deidentify=False, render=write)
     assert fresh_clinic.store.audit.count() == audit_rows
     assert not (tmp_path / "s.html").exists()
@@ -158,7 +159,7 @@ def test_de_identified_exports_hold_no_name_birth_date_or_patient_id(deidentifie
             for word in [name, *name.split(), *_identifying(born)]:
                 assert word not in text, (week, fmt, pid, word)
             assert not re.search(rf"(?<![\w-]){pid}(?!\w)", values), (week, fmt, pid)
-        assert "[removed]" in values or week == W44  # W43's void reason named a patient
+        assert "by mistake" not in text  # W43's void reason: free text never leaves de-identified
 
 
 def test_identified_exports_do_name_patients(fresh_clinic, tmp_path):
@@ -171,7 +172,7 @@ def test_the_same_patient_has_the_same_pseudonym_in_two_weeks(fresh_clinic, deid
     p1 = pseudonym(secret, "P1")
     w43 = json.loads(deidentified_exports[(W43, "json")])
     w44 = json.loads(deidentified_exports[(W44, "json")])
-    assert {"patient": p1, "event": "shift-confirmed", "day": "2026-10-22"} in w43["clinical"]["events"]["rows"]
+    assert {"patient": p1, "event": "shift-confirmed", "day": 4} in w43["clinical"]["events"]["rows"]
     assert [r["patient"] for r in w44["clinical"]["pregnancies"]["rows"]] == [p1]
     assert "name" not in w43["clinical"]["events"]["rows"][0]
     for fmt in OUT:
@@ -190,24 +191,3 @@ def test_free_text_is_escaped_in_the_page(fresh_clinic, tmp_path):
     page = export_summary(c.context(), W43, "html", tmp_path / "s.html", deidentify=False, render=write).read_text()
     assert "<script>" not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt; &amp; more" in page
-
-
-@pytest.mark.parametrize(
-    "text, scrubbed",
-    [
-        ("called Mary-Jane O'Brien back", "called [removed]-[removed] O'[removed] back"),
-        ("spoke to OBRIEN, mary jane", "spoke to [removed], [removed] [removed]"),
-        ("born 14/03/1990 (1990-03-14); entered 2026-10-19", "born [removed] ([removed]); entered 2026-10-19"),
-        ("Li Na rang; Lina did not", "[removed] [removed] rang; Lina did not"),
-        ("typo: 37.10 for 36.71", "typo: 37.10 for 36.71"),
-    ],
-)
-def test_free_text_loses_patient_names_and_birth_dates(text, scrubbed):
-    from datetime import date
-
-    from caseload.core.model import Patient
-    from caseload.application.week.pseudonyms import text_scrubber
-
-    scrub = text_scrubber([Patient("P1", "Mary-Jane O'Brien", date(1990, 3, 14), None),
-                           Patient("P2", "Li Na", date(1988, 7, 2), None)])
-    assert scrub(text) == scrubbed
