@@ -10,7 +10,7 @@ import sys
 import click
 
 from caseload.cli.common import Session, fail_cleanly
-from caseload.cli import admin, alerts, demo, records, reports, tui
+from caseload.cli import admin, alerts, demo, records, referral, reports, tui
 
 
 class CaseloadGroup(click.Group):
@@ -36,7 +36,7 @@ def main(ctx: click.Context, db_path: str | None, as_staff: str | None, today: s
         tui.open_interface(ctx.obj)
 
 
-for module in (records, alerts, admin, reports, demo):
+for module in (records, alerts, admin, reports, referral, demo):
     for command in module.COMMANDS:
         main.add_command(command)
 
