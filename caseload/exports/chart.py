@@ -22,6 +22,7 @@ LEFT = 19.0  # room for the row labels
 RIGHT = 3.0
 TOP = 8.0
 TEMP_HEIGHT = 46.0
+NO_TEMP_HEIGHT = 8.0  # a cycle charted without temperatures keeps a thin band for its markers
 ROW_HEIGHT = 5.0
 MAX_DAYS = 60  # a longer cycle is drawn to day 60 and says so: narrower days could not be read
 
@@ -130,18 +131,23 @@ def cycle_figure(chart: CycleInput) -> Figure:
 
     temps = [o for o in chart.observations if o.kind == Kind.TEMP and o.value.number is not None and shown(o.day)]
     low, high = _temperature_range([o.value.number for o in temps])
-    bottom = TOP + TEMP_HEIGHT
+    height = TEMP_HEIGHT if temps else NO_TEMP_HEIGHT
+    bottom = TOP + height
 
     def y_of(celsius: float) -> float:
-        return bottom - (celsius - low) / (high - low) * TEMP_HEIGHT
+        return bottom - (celsius - low) / (high - low) * height
 
     length = "open" if rec.is_open else f"{rec.length} days"
     title = f"Cycle {chart.number}: from {start.isoformat()} ({length})"
     if (drawn_to - start).days + 1 > MAX_DAYS:
         title += f"; drawn to day {MAX_DAYS}"
     shapes.append(Label(0, 4.5, title, 3.0, bold=True))
-    shapes += _temperature_grid(low, high, y_of, days, dx)
-    shapes += _temperature_marks(chart, x_of, y_of, shown, temps)
+    if temps:
+        shapes += _temperature_grid(low, high, y_of, days, dx)
+    else:
+        shapes.append(Line(LEFT, bottom, WIDTH - RIGHT, bottom, GRID, 0.12))
+        shapes.append(Label(LEFT + 0.8, TOP + 5.0, "No temperatures charted in this cycle.", 2.2, FAINT))
+    shapes += _temperature_marks(chart, x_of, y_of, shown, temps, bottom)
     rows = _rows(chart)
     axis_top = bottom + 0.5
     for i in range(days):
@@ -181,22 +187,25 @@ def _temperature_grid(low: float, high: float, y_of, days: int, dx: float) -> li
     return shapes
 
 
-def _temperature_marks(chart: CycleInput, x_of, y_of, shown, temps: list[Observation]) -> list[Shape]:
+def _temperature_marks(chart: CycleInput, x_of, y_of, shown, temps: list[Observation], bottom: float) -> list[Shape]:
     rec, shapes = chart.record, []
-    shift, top, bottom = chart.record.shift, TOP, TOP + TEMP_HEIGHT
+    shift, top = chart.record.shift, TOP
     if shift.coverline is not None:
         y = y_of(shift.coverline)
         shapes.append(Line(LEFT, y, WIDTH - RIGHT, y, COVERLINE_COLOUR, 0.35, dash=True))
-        shapes.append(Label(WIDTH - RIGHT - 0.5, y - 0.8, f"coverline {shift.coverline:.2f}", 2.0, COVERLINE_COLOUR, "end"))
+        # At the left, above the line: the low readings before a rise lie under the coverline by its definition.
+        shapes.append(Label(LEFT + 0.8, y - 0.8, f"coverline {shift.coverline:.2f}", 2.0, COVERLINE_COLOUR))
     marks = [(shift.first_high, "rise", RISE_COLOUR)]
     if shift.confirmed_on is not None:
         marks.append((shift.confirmed_on, "confirmed", RISE_COLOUR))
     marks.append((rec.markers.ovulation, "ovulation (est.)", OVULATION_COLOUR))
+    if chart.p_fertile:
+        marks.append((chart.last_day, "today", FAINT))
     for n, (day, word, colour) in enumerate(marks):
         if day is not None and shown(day):
             x = x_of(day)
             shapes.append(Line(x, top, x, bottom, colour, 0.3, dash=word != "rise"))
-            shapes.append(Label(x + 0.6, top + 2.2 + 2.4 * n, word, 2.0, colour))
+            shapes.append(Label(x + 0.6, top + 2.2 + 2.4 * (n % 3), word, 2.0, colour))
     valid = [o for o in temps if not o.disturbed]
     if len(valid) > 1:
         shapes.append(Polyline(tuple((x_of(o.day), y_of(o.value.number)) for o in valid), TEMP_COLOUR))

@@ -29,7 +29,7 @@ CAUTION = (
 )
 OVULATION_METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
                           "mucus": "mucus peak"}
-UNITS = {Kind.TEMP: "°C", Kind.HCG: "IU/L", Kind.LH: "IU/L"}
+UNITS = {Kind.HCG: "IU/L", Kind.LH: "IU/L"}
 
 
 @dataclass(frozen=True)
@@ -105,12 +105,20 @@ def who(i: PackInput) -> tuple[tuple[str, str], ...]:
     )
 
 
+EVIDENCE_KEYS = {"iu_l": "IU/L", "rise_48h": "rise per 48 h", "minimum_48h": "minimum per 48 h"}
+
+
 def _evidence(evidence: Mapping) -> str:
+    """An alert's evidence as words: 'key: value' pairs, nested ones in brackets."""
     parts = []
     for key, value in evidence.items():
         if isinstance(value, Mapping):
-            value = ", ".join(f"{k} {v}" for k, v in value.items())
-        parts.append(f"{key.replace('_', ' ')}: {value}")
+            value = "(" + _evidence(value) + ")"
+        elif isinstance(value, (list, tuple)):
+            value = " to ".join(str(v) for v in value)
+        elif value is None:
+            value = "none"
+        parts.append(f"{EVIDENCE_KEYS.get(key, key.replace('_', ' '))}: {value}")
     return "; ".join(parts)
 
 
@@ -222,6 +230,8 @@ def charts(i: PackInput, shown: Sequence[tuple[int, CycleRecord]]) -> tuple[Char
 
 
 def _value(e: Entry) -> str:
+    if e.kind == Kind.TEMP and e.value.number is not None:
+        return f"{e.value.number:.2f} °C"  # readings are kept to 2 decimals; print them so
     unit = UNITS.get(e.kind) if e.value.number is not None else None
     return e.value.display() + (f" {unit}" if unit else "")
 

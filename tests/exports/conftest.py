@@ -1,0 +1,26 @@
+"""The invented demo caseload, built once for the export tests, and a context acting as its admin."""
+
+from __future__ import annotations
+
+import getpass
+from datetime import date
+
+import pytest
+
+from caseload.services.context import Context
+from caseload.services.demo import build_demo
+from caseload.services.protocol import load_protocol
+
+BUILD_DAY = date(2026, 12, 1)
+
+
+@pytest.fixture(scope="module")
+def demo(tmp_path_factory):
+    built = build_demo(tmp_path_factory.mktemp("demo") / "demo.db", BUILD_DAY, getpass.getuser())
+    yield built
+    built.store.close()
+
+
+@pytest.fixture(scope="module")
+def ctx(demo) -> Context:
+    return Context(demo.store, demo.admin, BUILD_DAY, load_protocol(demo.store))
