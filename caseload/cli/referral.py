@@ -8,7 +8,7 @@ import click
 
 from caseload.cli.common import Session, pass_session
 from caseload.core.parse import parse_day
-from caseload.exports.pack_pdf import PAPERS
+from caseload.exports.pack import PAPERS
 from caseload.services import referral
 
 

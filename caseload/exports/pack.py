@@ -29,6 +29,7 @@ CAUTION = (
 )
 OVULATION_METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
                           "mucus": "mucus peak"}
+PAPERS = ("a4", "letter")  # for the PDF
 UNITS = {Kind.HCG: "IU/L", Kind.LH: "IU/L"}
 
 

@@ -12,7 +12,6 @@ from fpdf.enums import TextEmphasis
 from caseload.exports import chart
 from caseload.exports.pack import Pack, Section, Table
 
-PAPERS = ("a4", "letter")
 MARGIN = 15.0  # mm
 FONT = "Helvetica"
 PT_PER_MM = 72 / 25.4

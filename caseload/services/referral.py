@@ -16,7 +16,7 @@ from pathlib import Path
 from zoneinfo import ZoneInfo
 
 from caseload.core.parse import InputError, one_line
-from caseload.exports import fhir, pack, pack_pdf
+from caseload.exports import fhir, pack
 from caseload.services.caseload import show_patient
 from caseload.services.context import Context
 from caseload.services.derived import analyse_patient
@@ -75,8 +75,8 @@ def make_pack(ctx: Context, patient_id: str, out: Path, cycles: int = 3, paper: 
         raise InputError(f"--out '{one_line(out.name)}' must end in .pdf or .html")
     if cycles < 1:
         raise InputError(f"--cycles {cycles} not accepted: give 1 or more")
-    if paper not in pack_pdf.PAPERS:
-        raise InputError(f"--paper '{one_line(paper)}' not known: use {' or '.join(pack_pdf.PAPERS)}")
+    if paper not in pack.PAPERS:
+        raise InputError(f"--paper '{one_line(paper)}' not known: use {' or '.join(pack.PAPERS)}")
     target = _target(out, force)
     record = show_patient(ctx, patient_id)
     staff = {s.id: s for s in ctx.store.staff.all()}
@@ -85,7 +85,13 @@ def make_pack(ctx: Context, patient_id: str, out: Path, cycles: int = 3, paper: 
         entries=record.entries, alerts=record.alerts, staff_names={s.id: s.name for s in staff.values()},
         cycles=cycles, prepared_by=ctx.actor.staff.name,
     ))
-    data = pack_pdf.render(content, paper) if fmt == "pdf" else pack.html(content).encode("utf-8")
+    if fmt == "pdf":
+        # Imported here: the PDF library takes about a second to load, which no other command should pay.
+        from caseload.exports import pack_pdf
+
+        data = pack_pdf.render(content, paper)
+    else:
+        data = pack.html(content).encode("utf-8")
 
     def audit() -> None:
         after = {"format": fmt, "cycles": cycles, "paper": paper if fmt == "pdf" else None, "path": str(target)}
