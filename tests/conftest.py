@@ -7,10 +7,10 @@ from datetime import date
 import pytest
 
 from caseload.core.model import Actor, Role
-from caseload.services.context import Context
-from caseload.services.identity import os_account
-from caseload.services.patients import add_patient
-from caseload.services.staff import add_staff, init_store
+from caseload.application.context import Context
+from caseload.application.identity import os_account
+from caseload.application.patients import add_patient
+from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
 
 TODAY = date(2026, 12, 1)

@@ -9,8 +9,14 @@ import sys
 
 import click
 
-from caseload.cli.common import Session, fail_cleanly
-from caseload.cli import admin, alerts, demo, records, referral, reports, tui
+from caseload.cli.session import Session, fail_cleanly
+from caseload.cli import store_commands as admin
+from caseload.cli import alert_commands as alerts
+from caseload.cli import demo_command as demo
+from caseload.cli import record_commands as records
+from caseload.cli import referral_commands as referral
+from caseload.cli import summary_command as reports
+from caseload.cli import interface_command as tui
 
 
 class CaseloadGroup(click.Group):

@@ -1,6 +1,7 @@
-"""What leaves the tool: the referral pack (HTML and PDF) and the HL7 FHIR R4 export.
+"""Files made for people outside the interface: the weekly summary in four formats, one patient's
+referral pack (HTML and PDF) and the HL7 FHIR R4 export.
 
-Everything here is pure: it takes the records, the analysis and the day as arguments and
-returns text, bytes or plain dicts. Reading the store, permissions, audit and writing files
-belong to the services that call it.
+The referral pack and FHIR renderers are pure: they take the records, the analysis and the day as
+arguments and return text, bytes or plain dicts; reading the store, permissions, audit and writing
+files belong to the application that calls them.
 """

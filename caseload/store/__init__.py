@@ -6,15 +6,15 @@ from collections.abc import Callable
 from datetime import datetime
 from pathlib import Path
 
-from caseload.store import maintenance
-from caseload.store.alerts import AlertTable
-from caseload.store.audit import AuditTable
-from caseload.store.bulk import BulkTable
+from caseload.store import backup_restore as maintenance
+from caseload.store.alert_table import AlertTable
+from caseload.store.audit_table import AuditTable
+from caseload.store.bulk_load import BulkTable
 from caseload.store.db import Database, StoreError, utc_now
-from caseload.store.entries import EntryTable
-from caseload.store.patients import PatientTable
-from caseload.store.staff import StaffTable
-from caseload.store.state import StateTable
+from caseload.store.entry_table import EntryTable
+from caseload.store.patient_table import PatientTable
+from caseload.store.staff_table import StaffTable
+from caseload.store.snapshot_table import StateTable
 
 
 class Store:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from textual.screen import Screen
 
 from caseload.core.model import Alert
-from caseload.services import alerts as alert_service
+from caseload.application import alert_handling as alert_service
 from caseload.tui.alert_support import note_required
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
 from caseload.tui.words import alert_label

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from caseload.core.model import Alert
-from caseload.services.alerts import is_clinical
+from caseload.application.alert_handling import is_clinical
 from caseload.tui.gate import StoreGate
 
 

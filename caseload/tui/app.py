@@ -23,10 +23,10 @@ from textual.worker import Worker, WorkerState
 from caseload.core.model import Actor, Role, Severity
 from caseload.core.parse import InputError
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
-from caseload.services.caseload import CaseloadLine
-from caseload.services.errors import Refused
-from caseload.services.identity import resolve_actor
-from caseload.services.ui_support import needs_sign_in
+from caseload.application.caseload_view import CaseloadLine
+from caseload.application.errors import Refused
+from caseload.application.identity import resolve_actor
+from caseload.application.account_setup import needs_sign_in
 from caseload.store import Store, StoreError
 from caseload.tui.gate import StoreGate
 from caseload.tui.screens.caseload import CaseloadScreen

@@ -10,7 +10,7 @@ from datetime import date
 
 from caseload.core.analysis import CycleRecord
 from caseload.core.model import MUCUS_SCALE, Entry, Kind
-from caseload.services.caseload import PatientRecord
+from caseload.application.caseload_view import PatientRecord
 
 STRIP_ROWS = ("flow", "mucus", "LH", "hCG", "scan")
 FLOW_MARKS = {"spotting": "▁", "light": "▃", "moderate": "▅", "heavy": "▇"}

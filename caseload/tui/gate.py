@@ -13,8 +13,8 @@ from typing import TypeVar
 
 from caseload.core.model import Actor
 from caseload.core.settings import Protocol
-from caseload.services.context import Context
-from caseload.services.permissions import allowed
+from caseload.application.context import Context
+from caseload.application.permissions import allowed
 from caseload.store import Store
 
 T = TypeVar("T")

@@ -6,7 +6,7 @@ from __future__ import annotations
 from rich.text import Text
 
 from caseload.core.analysis import Analysis
-from caseload.services.caseload import PatientRecord
+from caseload.application.caseload_view import PatientRecord
 from caseload.tui.words import CAUTION, NEXT_EVENT_LABELS, day_span, literal, phase_label, short_day
 
 METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",

@@ -12,7 +12,7 @@ from textual.message import Message
 from textual.screen import Screen
 
 from caseload.core.model import Kind
-from caseload.services.entries import Logged
+from caseload.application.entries import Logged
 from caseload.tui.words import alert_label, phase_label, plain
 
 

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import pytest
 
-from caseload.bench.accuracy import (
+from tools.bench.accuracy import (
     ACCURACY_SEED,
     CAVEAT,
     CONDITIONS,

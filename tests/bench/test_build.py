@@ -6,13 +6,13 @@ from datetime import UTC, date, datetime
 
 import pytest
 
-from caseload.bench.build import END, BenchSpec, bench_store, build, parse_sizes
+from tools.bench.build import END, BenchSpec, bench_store, build, parse_sizes
 from caseload.core.model import Actor, Kind, Patient, PatientStatus, Plan, Role, Staff
 from caseload.core.parse import parse_entry
-from caseload.services.staff import init_store
-from caseload.sim import simulate_caseload
+from caseload.application.staff import init_store
+from tools.sim import simulate_caseload
 from caseload.store import Store, StoreError
-from caseload.store.bulk import NewEntry
+from caseload.store.bulk_load import NewEntry
 
 AT = datetime(2026, 1, 5, 9, 30, tzinfo=UTC)
 NURSE = Staff("nurse-1", "Nurse One", Role.NURSE, True, "nurse-one")

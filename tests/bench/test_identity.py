@@ -13,14 +13,14 @@ from datetime import timedelta
 
 import pytest
 
-from caseload.bench.build import BenchSpec, bench_staff, bench_store
+from tools.bench.build import BenchSpec, bench_staff, bench_store
 from caseload.core.analysis import analyse
 from caseload.core.distributions import SUPPORT_SCALES, day_masses, t_lower_tail
 from caseload.core.model import observations
 from caseload.core.prediction import _joint, _marginal, predictive
-from caseload.services.context import Context
-from caseload.services.derived import refresh_all
-from caseload.services.entries import amend_entry, log_entry, void_entry
+from caseload.application.context import Context
+from caseload.application.recompute import refresh_all
+from caseload.application.entries import amend_entry, log_entry, void_entry
 from caseload.store import Store
 
 

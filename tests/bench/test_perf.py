@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from datetime import date
 
-from caseload.bench.measure import week_before
-from caseload.bench.perf import growth, summarise, targets
+from tools.bench.measure import week_before
+from tools.bench.perf import growth, summarise, targets
 
 
 def test_the_summary_week_is_the_last_complete_iso_week():

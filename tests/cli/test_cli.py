@@ -83,7 +83,7 @@ def test_usage_errors_exit_2(clinic):
 
 
 def test_unmapped_os_account_and_as_for_non_admins_are_refused(clinic, monkeypatch):
-    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "stranger")
+    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "stranger")
     result = clinic("list")
     assert result.exit_code == 1 and "not mapped" in result.stderr
 

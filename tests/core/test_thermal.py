@@ -11,7 +11,7 @@ from caseload.core.model import Kind, Observation, Value
 from caseload.core.parse import parse_entry
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.thermal import Reading, change_point, thermal_shift, three_over_six, valid_readings
-from caseload.sim import simulate_caseload
+from tools.sim import simulate_caseload
 
 DAY1 = date(2024, 3, 1)
 

@@ -7,9 +7,9 @@ from datetime import date
 
 import pytest
 
-from caseload.services.context import Context
-from caseload.services.demo import build_demo
-from caseload.services.protocol import load_protocol
+from caseload.application.context import Context
+from caseload.application.demo import build_demo
+from caseload.application.protocol import load_protocol
 
 BUILD_DAY = date(2026, 12, 1)
 

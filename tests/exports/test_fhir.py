@@ -18,8 +18,8 @@ from hypothesis import strategies as st
 
 from caseload.core.model import Kind
 from caseload.exports import fhir
-from caseload.services import referral
-from caseload.services.reports import _secret
+from caseload.application import referral
+from caseload.application.weekly_summary import _secret
 
 
 @pytest.fixture(scope="module")

@@ -8,7 +8,7 @@ import re
 import pytest
 
 from caseload.exports import chart, pack, pack_pdf
-from caseload.services.caseload import show_patient
+from caseload.application.caseload_view import show_patient
 
 
 def pack_of(ctx, patient_id: str, cycles: int = 3) -> pack.Pack:

@@ -34,9 +34,9 @@ import pytest
 from caseload.core.alerts import Candidate
 from caseload.core.model import Actor, AlertState, Entry, Patient, PatientStatus, Plan, Role, Severity, Staff
 from caseload.core.parse import parse_entry
-from caseload.services.context import Context
-from caseload.services.identity import os_account
-from caseload.services.staff import init_store
+from caseload.application.context import Context
+from caseload.application.identity import os_account
+from caseload.application.staff import init_store
 from caseload.store import Store
 
 LONDON = ZoneInfo("Europe/London")

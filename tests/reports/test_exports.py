@@ -13,8 +13,8 @@ import openpyxl
 import pytest
 from openpyxl.utils import get_column_letter
 
-from caseload.reports.tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
-from caseload.services.reports import compute_summary, export_summary
+from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, SHARE, sections
+from caseload.application.weekly_summary import compute_summary, export_summary
 from tests.reports.conftest import W43
 from tests.reports.expected import KEYS, w43
 

@@ -13,9 +13,9 @@ import openpyxl
 import pytest
 
 from caseload.core.parse import InputError
-from caseload.reports import render
-from caseload.services.errors import Refused
-from caseload.services.reports import compute_summary, export_summary, pseudonym
+from caseload.exports import summary_files as render
+from caseload.application.errors import Refused
+from caseload.application.weekly_summary import compute_summary, export_summary, pseudonym
 from tests.reports.conftest import PATIENTS, W43, W44
 
 OUT = {"xlsx": "s.xlsx", "html": "s.html", "json": "s.json", "csv": "s-csv"}
@@ -204,7 +204,7 @@ def test_free_text_loses_patient_names_and_birth_dates(text, scrubbed):
     from datetime import date
 
     from caseload.core.model import Patient
-    from caseload.reports.deidentify import text_scrubber
+    from caseload.application.week.pseudonyms import text_scrubber
 
     scrub = text_scrubber([Patient("P1", "Mary-Jane O'Brien", date(1990, 3, 14), None),
                            Patient("P2", "Li Na", date(1988, 7, 2), None)])

@@ -8,9 +8,9 @@ from datetime import date, timedelta
 import pytest
 from dateutil.relativedelta import relativedelta
 
-from caseload.reports.alert_summary import percentile
-from caseload.reports.tables import INT, sections
-from caseload.services.reports import compute_summary
+from caseload.application.week.alert_counts import percentile
+from caseload.exports.summary_tables import INT, sections
+from caseload.application.weekly_summary import compute_summary
 from tests.reports.conftest import W43, W44
 from tests.reports.expected import KEYS, w43
 

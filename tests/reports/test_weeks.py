@@ -12,7 +12,7 @@ from zoneinfo import ZoneInfo
 import pytest
 
 from caseload.core.parse import InputError
-from caseload.reports.weeks import iso_week, parse_week
+from caseload.application.week.iso_weeks import iso_week, parse_week
 
 
 def _reference_weeks(year: int) -> int:

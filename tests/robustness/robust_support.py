@@ -10,9 +10,9 @@ from datetime import date
 from pathlib import Path
 
 from caseload.core.model import Actor
-from caseload.services.context import Context
-from caseload.services.entries import log_entry
-from caseload.services.importer import import_csv
+from caseload.application.context import Context
+from caseload.application.entries import log_entry
+from caseload.application.csv_import import import_csv
 from caseload.store import Store
 
 TODAY = date(2026, 12, 1)

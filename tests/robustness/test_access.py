@@ -15,20 +15,20 @@ import pytest
 
 from caseload.cli import main
 from caseload.core.model import Actor, Role
-from caseload.services import maintenance
-from caseload.services.alerts import acknowledge, list_alerts
-from caseload.services.caseload import list_caseload, show_patient
-from caseload.services.context import Context
-from caseload.services.derived import refresh_all
-from caseload.services.entries import amend_entry, log_entry, patient_entries, void_entry
-from caseload.services.errors import Refused
-from caseload.services.identity import os_account, resolve_actor
-from caseload.services.importer import import_csv
-from caseload.services.patients import add_patient, update_patient
-from caseload.services.permissions import DOING, MATRIX
-from caseload.services.protocol import show_protocol, use_protocol
-from caseload.services.reports import export_summary
-from caseload.services.staff import add_staff, claim_staff, map_account, set_active
+from caseload.application import store_care as maintenance
+from caseload.application.alert_handling import acknowledge, list_alerts
+from caseload.application.caseload_view import list_caseload, show_patient
+from caseload.application.context import Context
+from caseload.application.recompute import refresh_all
+from caseload.application.entries import amend_entry, log_entry, patient_entries, void_entry
+from caseload.application.errors import Refused
+from caseload.application.identity import os_account, resolve_actor
+from caseload.application.csv_import import import_csv
+from caseload.application.patients import add_patient, update_patient
+from caseload.application.permissions import DOING, MATRIX
+from caseload.application.protocol import show_protocol, use_protocol
+from caseload.application.weekly_summary import export_summary
+from caseload.application.staff import add_staff, claim_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
 
@@ -180,7 +180,7 @@ def test_as_is_honoured_for_an_admin_and_recorded_with_the_os_account(clinic):
 def as_nurse_account(clinic, monkeypatch):
     """The command line run from the OS account mapped to nurse nell."""
     assert clinic("staff", "map", "nell", "nell-account").exit_code == 0
-    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "nell-account")
+    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "nell-account")
     return clinic
 
 
@@ -209,7 +209,7 @@ def test_as_an_unknown_staff_member_is_one_line(clinic, who, fragment):
 
 
 def test_unmapped_account_is_refused(clinic, monkeypatch):
-    monkeypatch.setattr("caseload.cli.common.os_account", lambda: "stranger")
+    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "stranger")
     before = snapshot(clinic.db)
     result = clinic("log", "P0001", "lh", "positive")
     assert result.exit_code == 1 and "not mapped to a staff member" in result.stderr

@@ -14,11 +14,11 @@ from hypothesis import strategies as st
 from caseload.cli import main
 from caseload.core import parse
 from caseload.core.model import Actor, Kind, PatientStatus, Plan, Role
-from caseload.services.context import Context
-from caseload.services.identity import os_account
-from caseload.services.importer import import_csv
-from caseload.services.patients import add_patient
-from caseload.services.staff import add_staff, init_store
+from caseload.application.context import Context
+from caseload.application.identity import os_account
+from caseload.application.csv_import import import_csv
+from caseload.application.patients import add_patient
+from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, snapshot
 

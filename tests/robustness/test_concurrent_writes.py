@@ -13,17 +13,17 @@ import pytest
 
 from caseload.core.model import Actor, Role
 from caseload.core.parse import parse_entry
-from caseload.services import importer
-from caseload.services.context import Context
-from caseload.services.entries import log_entry
-from caseload.services.errors import Refused
-from caseload.services.importer import import_csv
+from caseload.application import csv_import as importer
+from caseload.application.context import Context
+from caseload.application.entries import log_entry
+from caseload.application.errors import Refused
+from caseload.application.csv_import import import_csv
 from caseload.store import Store, StoreError
 from caseload.store import db as db_module
 from tests.robustness.robust_support import assert_clean_exit, audit_mismatches, snapshot
 
 STRESS = Path(__file__).resolve().parents[1] / "stress" / "stress.py"
-SERVICES = Path(db_module.__file__).resolve().parents[1] / "services"
+SERVICES = Path(db_module.__file__).resolve().parents[1] / "application"
 
 
 def test_reduced_stress_run_loses_nothing():

@@ -12,7 +12,7 @@ from collections import Counter
 from pathlib import Path
 
 from caseload.core.model import Role
-from caseload.services.patients import add_patient
+from caseload.application.patients import add_patient
 from caseload.store import Store
 from tests.robustness.robust_support import BATCH_ROWS, audit_mismatches, crash_writer, integrity
 

@@ -7,7 +7,7 @@ import statistics
 from datetime import date
 
 from caseload.core.model import Plan
-from caseload.sim.cycles import draw_cycles, population_profile
+from tools.sim.cycles import draw_cycles, population_profile
 
 START, END = date(2020, 1, 1), date(2020, 9, 30)
 

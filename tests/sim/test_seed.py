@@ -12,8 +12,8 @@ import pytest
 
 from caseload.core.model import MUCUS_SCALE, Flow, Kind, PatientStatus, Plan, Role
 from caseload.core.parse import parse_entry
-from caseload.sim.demo_caseload import ALERT_KINDS
-from caseload.sim.write_seed import DEFAULT_DIR, main, write_seed
+from tools.sim.demo_caseload import ALERT_KINDS
+from tools.sim.write_seed import DEFAULT_DIR, main, write_seed
 from tests.sim.chart_rules import (
     bleed_lengths,
     bleed_starts,

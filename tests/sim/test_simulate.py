@@ -14,10 +14,10 @@ import pytest
 
 from caseload.core.model import MUCUS_SCALE, Flow, Kind, Plan
 from caseload.core.parse import parse_entry
-from caseload.sim import simulate_caseload, simulate_patient
-from caseload.sim.chart import TrueCycle
-from caseload.sim.cycles import population_profile
-from caseload.sim.render import render_chart
+from tools.sim import simulate_caseload, simulate_patient
+from tools.sim.chart import TrueCycle
+from tools.sim.cycles import population_profile
+from tools.sim.render import render_chart
 
 START, END = date(2023, 1, 1), date(2023, 12, 31)
 FORMATS = {

@@ -10,8 +10,8 @@ import pytest
 
 from caseload.core.model import Kind, Role
 from caseload.core.parse import parse_entry
-from caseload.services.entries import amend_entry, log_entry, void_entry
-from caseload.services.patients import add_patient
+from caseload.application.entries import amend_entry, log_entry, void_entry
+from caseload.application.patients import add_patient
 from caseload.store import Store, StoreError
 from caseload.store import migrations
 

@@ -8,7 +8,7 @@ from datetime import date
 import pytest
 
 from caseload.core.model import Actor
-from caseload.services.context import Context
+from caseload.application.context import Context
 from caseload.store import Store
 from caseload.tui.app import CaseloadApp, make_app
 from tests.tui.fixture_store import ACCOUNTS, TODAY, build

@@ -7,10 +7,10 @@ from pathlib import Path
 
 from caseload.core.model import Actor
 from caseload.core.parse import parse_entry
-from caseload.services.context import Context
-from caseload.services.derived import refresh_all
-from caseload.services.patients import add_patient, update_patient
-from caseload.services.staff import add_staff, init_store
+from caseload.application.context import Context
+from caseload.application.recompute import refresh_all
+from caseload.application.patients import add_patient, update_patient
+from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
 
 TODAY = date(2026, 12, 1)

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from caseload.core.model import AlertState
-from caseload.services.alerts import list_alerts
+from caseload.application.alert_handling import list_alerts
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
@@ -136,7 +136,7 @@ async def test_a_refused_action_shows_one_line_and_no_traceback(app_as, service_
         await settle(pilot)
         await highlight(pilot, fever.id)
         # Another terminal resolves the alert while the note is being typed.
-        from caseload.services.alerts import resolve
+        from caseload.application.alert_handling import resolve
 
         await pilot.press("a", *"seen")
         resolve(check, fever.id, "handled by phone")

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from caseload.services.caseload import list_caseload
+from caseload.application.caseload_view import list_caseload
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import FilterBar
 from caseload.tui.widgets.status_line import StatusLine

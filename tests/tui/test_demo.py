@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
-from caseload.services.caseload import list_caseload
-from caseload.services.context import Context
-from caseload.services.demo import build_demo
+from caseload.application.caseload_view import list_caseload
+from caseload.application.context import Context
+from caseload.application.demo import build_demo
 from caseload.tui.app import make_app
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from tests.tui.conftest import settle

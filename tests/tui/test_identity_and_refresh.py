@@ -6,8 +6,8 @@ import asyncio
 
 import pytest
 
-from caseload.services.entries import log_entry
-from caseload.services.errors import Refused
+from caseload.application.entries import log_entry
+from caseload.application.errors import Refused
 from caseload.tui.app import make_app
 from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.sign_in import SignInScreen

@@ -5,7 +5,7 @@ from __future__ import annotations
 from textual import events
 
 from caseload.core.model import Kind
-from caseload.services.entries import patient_entries
+from caseload.application.entries import patient_entries
 from caseload.tui.screens.correct_entry import CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from caseload.services.caseload import show_patient
+from caseload.application.caseload_view import show_patient
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable

@@ -12,8 +12,8 @@ from textual.screen import Screen
 from textual.widgets import Footer, Static
 
 from caseload.core.model import Alert
-from caseload.services.alerts import list_alerts
-from caseload.services.context import Context
+from caseload.application.alert_handling import list_alerts
+from caseload.application.context import Context
 from caseload.tui.alert_actions import start_handling
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_table import AlertTable

@@ -15,8 +15,8 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
-from caseload.services.caseload import CaseloadLine, list_caseload
-from caseload.services.derived import RefreshReport, refresh_all
+from caseload.application.caseload_view import CaseloadLine, list_caseload
+from caseload.application.recompute import RefreshReport, refresh_all
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.search import match_rank

@@ -15,7 +15,7 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry
 from caseload.core.parse import InputError, parse_value
-from caseload.services.entries import amend_entry, void_entry
+from caseload.application.entries import amend_entry, void_entry
 from caseload.tui.words import kind_label, literal, short_day
 from caseload.tui.writes import logged_summary, voided_summary, write
 

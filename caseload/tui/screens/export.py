@@ -14,7 +14,7 @@ from textual.message import Message
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
-from caseload.services.reports import FOLDER_FORMATS, FORMATS, export_summary
+from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS, export_summary
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]

@@ -21,8 +21,8 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry, Kind
 from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_day, parse_entry
-from caseload.services.context import Context
-from caseload.services.entries import Logged, amend_entry, log_entry, patient_entries
+from caseload.application.context import Context
+from caseload.application.entries import Logged, amend_entry, log_entry, patient_entries
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
 from caseload.tui.widgets.type_ahead import TypeAheadInput

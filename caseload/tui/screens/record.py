@@ -11,7 +11,7 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
-from caseload.services.caseload import PatientRecord, show_patient
+from caseload.application.caseload_view import PatientRecord, show_patient
 from caseload.tui.alert_actions import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text

@@ -17,8 +17,8 @@ from textual.widgets import Footer, Label, OptionList, Static
 from textual.widgets.option_list import Option
 
 from caseload.core.model import Actor, Staff
-from caseload.services.staff import claim_staff
-from caseload.services.ui_support import sign_in_roster
+from caseload.application.staff import claim_staff
+from caseload.application.account_setup import sign_in_roster
 from caseload.tui.words import literal
 
 

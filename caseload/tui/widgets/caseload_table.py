@@ -7,7 +7,7 @@ from rich.text import Text
 from textual.binding import Binding
 from textual.widgets import DataTable
 
-from caseload.services.caseload import CaseloadLine
+from caseload.application.caseload_view import CaseloadLine
 from caseload.tui.words import alert_label, literal, phase_label, short_day
 
 NEXT_SHORT = {"window start": "window", "period": "period", "trigger size": "trigger", "pregnancy test": "hCG test"}

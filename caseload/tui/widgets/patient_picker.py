@@ -12,7 +12,7 @@ from textual.widgets import Input, OptionList
 from textual.widgets.option_list import Option
 
 from caseload.core.model import Patient
-from caseload.services.caseload import CaseloadLine
+from caseload.application.caseload_view import CaseloadLine
 from caseload.tui.search import find_patients
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.tui.words import literal, phase_label, plain

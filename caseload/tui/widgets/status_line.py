@@ -6,7 +6,7 @@ from rich.text import Text
 from textual.widgets import Static
 
 from caseload.core.model import Severity
-from caseload.services.caseload import CaseloadLine
+from caseload.application.caseload_view import CaseloadLine
 from caseload.tui.words import literal
 
 

@@ -1,0 +1,125 @@
+"""Logging, correcting and voiding entries. Each write recomputes that patient in the same transaction."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from caseload.core.model import Entry, Kind, PatientStatus
+from caseload.core.parse import InputError, ParsedEntry, parse_entry, parse_value
+from caseload.application.context import Context
+from caseload.application.recompute import Refreshed, refresh_patient
+from caseload.application.errors import NotFound, Refused
+from caseload.application.patients import get_patient
+
+REASON_MAX = 500
+
+
+@dataclass(frozen=True)
+class Logged:
+    """What a write did: the stored entry and the patient's state after it."""
+
+    entry: Entry
+    refreshed: Refreshed
+
+
+def _reason(text: str, what: str) -> str:
+    reason = " ".join((text or "").split())
+    if not reason:
+        raise InputError(f"a {what} needs a reason: say why with --reason")
+    if len(reason) > REASON_MAX:
+        raise InputError(f"reason is {len(reason)} characters: keep it to {REASON_MAX}")
+    return reason
+
+
+def check_loggable(ctx: Context, patient_id: str, parsed: ParsedEntry, supersedes: int | None = None) -> None:
+    """Rules that need the store: the patient takes entries, one temperature a day."""
+    patient = get_patient(ctx, patient_id)
+    if patient.status is PatientStatus.DISCHARGED:
+        raise Refused(f"patient {patient.id} is discharged: re-open the patient before logging")
+    if parsed.day < patient.born:
+        raise InputError(
+            f"day {parsed.day.isoformat()} is before {patient.id}'s date of birth ({patient.born.isoformat()}): check the year"
+        )
+    if parsed.kind is Kind.TEMP:
+        same_day = [e for e in ctx.store.entries.current_on(patient.id, parsed.day, Kind.TEMP) if e.id != supersedes]
+        if same_day:
+            first = same_day[0]
+            raise Refused(
+                f"{patient.id} already has a temperature on {parsed.day.isoformat()} (entry {first.id}: "
+                f"{first.value.display()} C): to correct it, amend entry {first.id} with a reason"
+            )
+
+
+def log_entry(
+    ctx: Context,
+    patient_id: str,
+    kind: str,
+    value: str,
+    on: str = "today",
+    at: str | None = None,
+    flags=(),
+    note: str = "",
+) -> Logged:
+    ctx.require("entry.log")
+    parsed = parse_entry(kind, value, ctx.today, on=on, at=at, flags=flags, note=note)
+    patient = get_patient(ctx, patient_id)
+
+    def work() -> Logged:
+        check_loggable(ctx, patient.id, parsed)
+        entry = ctx.store.entries.add(ctx.actor, patient.id, parsed)
+        return Logged(entry, refresh_patient(ctx, patient))
+
+    return ctx.store.transact(work)
+
+
+def get_entry(ctx: Context, entry_id: int | str) -> Entry:
+    try:
+        entry = ctx.store.entries.get(int(entry_id))
+    except (ValueError, OverflowError):  # not a number, or beyond any id SQLite can hold
+        entry = None
+    if entry is None:
+        raise NotFound(f"no entry '{entry_id}': see 'caseload entries PATIENT'")
+    return entry
+
+
+def _current(entry: Entry) -> None:
+    if entry.voided_reason is not None:
+        raise Refused(f"entry {entry.id} is void ({entry.voided_reason}): log a new entry instead")
+    if entry.superseded_by is not None:
+        raise Refused(f"entry {entry.id} was corrected by entry {entry.superseded_by}: amend that one")
+
+
+def amend_entry(ctx: Context, entry_id: int | str, value: str, reason: str) -> Logged:
+    """A new entry that supersedes the old one; the old row stays, marked as corrected."""
+    ctx.require("entry.amend")
+    old = get_entry(ctx, entry_id)
+    _current(old)
+    why = _reason(reason, "correction")
+    parsed = ParsedEntry(old.kind, old.day, parse_value(old.kind, value), value.strip(), old.time, old.flags, old.note)
+    patient = get_patient(ctx, old.patient_id)
+
+    def work() -> Logged:
+        check_loggable(ctx, patient.id, parsed, supersedes=old.id)
+        entry = ctx.store.entries.add(ctx.actor, patient.id, parsed, supersedes=old.id, amend_reason=why)
+        return Logged(entry, refresh_patient(ctx, patient))
+
+    return ctx.store.transact(work)
+
+
+def void_entry(ctx: Context, entry_id: int | str, reason: str) -> Logged:
+    ctx.require("entry.void")
+    old = get_entry(ctx, entry_id)
+    _current(old)
+    why = _reason(reason, "void")
+    patient = get_patient(ctx, old.patient_id)
+
+    def work() -> Logged:
+        entry = ctx.store.entries.void(ctx.actor, old, why)
+        return Logged(entry, refresh_patient(ctx, patient))
+
+    return ctx.store.transact(work)
+
+
+def patient_entries(ctx: Context, patient_id: str) -> list[Entry]:
+    ctx.require("patient.show")
+    return ctx.store.entries.for_patient(get_patient(ctx, patient_id).id)

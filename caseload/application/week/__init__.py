@@ -1,0 +1,1 @@
+"""The weekly caseload summary, computed once and rendered by the exporters."""

@@ -1,0 +1,174 @@
+"""The weekly summary for supervisors: computing it once, and exporting it with its audit row.
+
+De-identified exports show each patient as a keyed pseudonym: HMAC-SHA256 of the patient id
+under the store's own secret, so it is the same for a patient in every week's export of that
+store and cannot be reversed without the secret. Staff ids stay as they are.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import os
+import secrets
+import shutil
+from pathlib import Path
+
+from caseload.core.parse import InputError, one_line
+from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
+from caseload.application.week.clinical_events import cycles_into_week
+from caseload.application.week.pseudonyms import deidentified, text_scrubber
+from caseload.application.week.figures import WeeklySummary
+from caseload.exports.summary_files import FOLDER_FORMATS, FORMATS, write
+from caseload.application.week.compile import WeekData, charting_from, compute
+from caseload.application.week.iso_weeks import Week, iso_week
+from caseload.application.context import Context
+from caseload.application.errors import Refused
+from caseload.application.staff import DEFAULT_TIMEZONE
+from caseload.store.summary_queries import ReportQueries, Span
+
+PSEUDONYM_PREFIX = "px-"
+PSEUDONYM_HEX_DIGITS = 10
+
+
+def pseudonym(secret: str, patient_id: str) -> str:
+    digest = hmac.new(secret.encode("utf-8"), patient_id.encode("utf-8"), hashlib.sha256).hexdigest()
+    return PSEUDONYM_PREFIX + digest[:PSEUDONYM_HEX_DIGITS]
+
+
+def _week(ctx: Context, text: str) -> Week:
+    week = iso_week(text, ctx.store.db.meta("timezone") or DEFAULT_TIMEZONE)
+    if week.first_day > ctx.today:
+        raise InputError(
+            f"week {week.label} starts on {week.first_day.isoformat()}, after today ({ctx.today.isoformat()}): "
+            "choose a week that has begun"
+        )
+    return week
+
+
+def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
+    span = Span(week.start, week.end)
+    positives = q.hcg_positives(week.first_day, week.last_day, POSITIVE, HCG_POSITIVE_IU_L)
+    temperature_days = q.temperature_days(week.first_day, week.last_day)
+    bleeds = q.charting_bleeds(charting_from(week, ctx.protocol), week.last_day)
+    cycles = cycles_into_week(bleeds, temperature_days, week, ctx.protocol)
+    return WeekData(
+        staff=tuple(ctx.store.staff.all()),
+        patients={p.id: p for p in ctx.store.patients.all()},
+        at_start=q.patient_versions(week.start),
+        at_end=q.patient_versions(week.end),
+        alert_history=tuple(q.alert_history(span)),
+        unresolved_at_start=tuple(q.unresolved_alerts(week.start)),
+        entries_logged=tuple(q.entries_logged(span, week.day_starts)),
+        changes=tuple(q.changes(span)),
+        temperature_days=temperature_days,
+        cycles=cycles,
+        temperatures=q.temperatures_from({pid: spans[0].start for pid, spans in cycles.items()}, week.last_day),
+        hcg_positives=tuple(positives),
+        hcg_entries={p.patient_id: ctx.store.entries.for_patient(p.patient_id) for p in positives},
+    )
+
+
+def compute_summary(ctx: Context, week: str) -> WeeklySummary:
+    """The summary of one ISO week ('2026-W48'), with patient ids and names (supervisors and admins)."""
+    ctx.require("summary.export")
+    period = _week(ctx, week)
+    with ReportQueries(ctx.store.db).snapshot() as q:
+        data = _week_data(ctx, q, period)
+    return compute(period, data, ctx.protocol, ctx.today)
+
+
+def _format(fmt: str) -> str:
+    word = fmt.strip().lower()
+    if word not in FORMATS:
+        raise InputError(f"format '{one_line(fmt)}' not known: use one of {', '.join(FORMATS)}")
+    return word
+
+
+def _target(out: Path, fmt: str) -> Path:
+    if not out.parent.is_dir():
+        raise InputError(f"folder {out.parent} does not exist: create it first or choose another --out")
+    if fmt in FOLDER_FORMATS and out.exists() and not out.is_dir():
+        raise InputError(f"{out} is a file: {fmt} is written as a folder of files, give a folder path")
+    if fmt not in FOLDER_FORMATS and out.is_dir():
+        raise InputError(f"{out} is a folder: give a file path for {fmt}")
+    return out
+
+
+def _secret(ctx: Context) -> str:
+    secret = ctx.store.db.meta("pseudonym_secret")
+    if not secret:
+        raise Refused("this store has no pseudonym secret, so it cannot de-identify: "
+                      "it was not set up by 'caseload init'")
+    return secret
+
+
+def _staging(target: Path, fmt: str) -> Path:
+    """A hidden path beside the target, so that publishing is a rename on the same file system."""
+    staged = target.parent / f".{target.name}.{secrets.token_hex(4)}.partial"
+    if fmt in FOLDER_FORMATS:
+        staged.mkdir()
+    return staged
+
+
+def _owner_only(staged: Path) -> None:
+    """Exports hold patient data: readable by their owner only, like the store itself."""
+    if staged.is_dir():
+        staged.chmod(0o700)
+        for item in staged.iterdir():
+            item.chmod(0o600)
+    else:
+        staged.chmod(0o600)
+
+
+def _publish(staged: Path, target: Path, fmt: str) -> list[Path]:
+    if fmt not in FOLDER_FORMATS:
+        os.replace(staged, target)
+        return [target]
+    target.mkdir(mode=0o700, exist_ok=True)
+    moved = []
+    for item in sorted(staged.iterdir()):
+        os.replace(item, target / item.name)
+        moved.append(target / item.name)
+    return moved
+
+
+def _discard(path: Path) -> None:
+    if path.is_dir():
+        shutil.rmtree(path)
+    else:
+        path.unlink(missing_ok=True)
+
+
+def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: bool) -> Path:
+    """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it.
+
+    The file is rendered aside and published in the transaction of its audit row: a refused
+    or failed export leaves neither a file nor an audit row.
+    """
+    ctx.require("summary.export")
+    fmt = _format(fmt)
+    target = _target(Path(out), fmt)
+    secret = _secret(ctx) if deidentify else None
+    summary = compute_summary(ctx, week)
+    if secret is not None:
+        summary = deidentified(summary, lambda pid: pseudonym(secret, pid), text_scrubber(ctx.store.patients.all()))
+    staged = _staging(target, fmt)
+    published: list[Path] = []
+
+    def record() -> None:
+        after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target)}
+        ctx.store.db.audit(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
+        published.extend(_publish(staged, target, fmt))
+
+    try:
+        write(summary, fmt, staged)
+        _owner_only(staged)
+        ctx.store.transact(record)
+    except BaseException:
+        for path in published:
+            path.unlink(missing_ok=True)
+        raise
+    finally:
+        _discard(staged)
+    return target

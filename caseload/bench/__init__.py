@@ -1,1 +1,0 @@
-"""Benchmarks and accuracy on simulated caseloads: `python -m caseload.bench`."""

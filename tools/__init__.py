@@ -1,0 +1,1 @@
+"""Development tools: the chart simulator, demo authoring and the benchmark. Not shipped in the package."""

@@ -1,0 +1,1 @@
+"""Benchmarks and accuracy on simulated caseloads: `python -m tools.bench`."""

@@ -1,0 +1,91 @@
+"""`python -m tools.bench`: what the tool costs as the caseload grows, and how good it is.
+
+    python -m tools.bench                      200x1, 2000x2 and 10000x1, 5 runs each
+    python -m tools.bench --quick --accuracy   200x1 only, with a smaller accuracy sample
+    python -m tools.bench --skip-perf --accuracy
+
+Bench stores are built once and cached under --folder; results go to --out as JSON and a
+markdown snippet beside it.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import shlex
+import sqlite3
+import sys
+import time
+from pathlib import Path
+
+from rich.console import Console
+
+from tools.bench.accuracy import ACCURACY_SEED, run_accuracy
+from tools.bench.build import bench_store, parse_sizes
+from tools.bench.perf import growth, measure_size, targets
+from tools.bench.report import markdown, print_report, target_dicts
+
+DEFAULT_SIZES = "200x1,2000x2,10000x1"
+
+
+def _args(argv: list[str] | None) -> argparse.Namespace:
+    parser = argparse.ArgumentParser(prog="python -m tools.bench", description=__doc__.splitlines()[0])
+    parser.add_argument("--sizes", default=DEFAULT_SIZES, help=f"PATIENTSxYEARS,... (default {DEFAULT_SIZES})")
+    parser.add_argument("--runs", type=int, default=5, help="runs per figure, each in a fresh process (default 5)")
+    parser.add_argument("--folder", type=Path, default=Path("bench_out"), help="cache of built stores (default bench_out)")
+    parser.add_argument("--out", type=Path, help="results JSON (default FOLDER/results.json)")
+    parser.add_argument("--quick", action="store_true", help="200x1 only, 3 runs, a smaller accuracy sample")
+    parser.add_argument("--accuracy", action="store_true", help="also measure accuracy on simulated charts")
+    parser.add_argument("--skip-perf", action="store_true", help="no cost figures (with --accuracy: accuracy alone)")
+    parser.add_argument("--patients", type=int, default=1000, help="accuracy: simulated patients (default 1000)")
+    parser.add_argument("--daily-patients", type=int, default=400,
+                        help="accuracy: of those, analysed on every day of their year (default 400)")
+    args = parser.parse_args(argv)
+    if args.quick:
+        args.sizes, args.runs = "200x1", min(args.runs, 3)
+        args.patients, args.daily_patients = min(args.patients, 200), min(args.daily_patients, 60)
+    if args.runs < 1 or args.patients < 1 or args.daily_patients < 0:
+        parser.error("--runs and --patients must be 1 or more, --daily-patients 0 or more")
+    try:
+        args.specs = parse_sizes(args.sizes)
+    except ValueError as err:
+        parser.error(str(err))
+    args.out = args.out or args.folder / "results.json"
+    return args
+
+
+def machine() -> str:
+    return f"{os.cpu_count()} cores, Python {platform.python_version()}, SQLite {sqlite3.sqlite_version}, {platform.system()}"
+
+
+def main(argv: list[str] | None = None) -> None:
+    args = _args(argv)
+    console = Console(stderr=True)
+    began = time.perf_counter()
+    given = shlex.join(sys.argv[1:] if argv is None else argv)
+    result: dict = {"command": f"python -m tools.bench {given}".strip(),
+                    "machine": machine(), "runs": args.runs, "sizes": []}  # fmt: skip
+    if not args.skip_perf:
+        (args.folder / "stores").mkdir(parents=True, exist_ok=True)
+        for spec in args.specs:
+            console.print(f"[bold]{spec.name}[/bold]: bench store")
+            built = bench_store(spec, args.folder / "stores")
+            console.print(f"  {'reused' if built.reused else 'built'}: {built.entries:,} entries, load {built.load_seconds} s")
+            result["sizes"].append(measure_size(built, args.folder / "work", args.runs, say=console.print))
+        result["targets"] = target_dicts(targets(result["sizes"]))
+        result["growth"] = growth(result["sizes"])
+    if args.accuracy:
+        console.print(f"[bold]accuracy[/bold]: {args.patients} patients, {args.daily_patients} day by day")
+        result["accuracy"] = run_accuracy(args.patients, args.daily_patients, ACCURACY_SEED)
+    result["elapsed_s"] = round(time.perf_counter() - began, 1)
+    args.out.parent.mkdir(parents=True, exist_ok=True)
+    args.out.write_text(json.dumps(result, indent=2))
+    args.out.with_suffix(".md").write_text(markdown(result))
+    print_report(Console(), result)
+    console.print(f"written: {args.out} and {args.out.with_suffix('.md')}")
+
+
+if __name__ == "__main__":
+    main()
