@@ -58,19 +58,9 @@ def entry_json(e: Entry) -> dict:
     }
 
 
-def _status(e: Entry) -> str:
-    if e.voided_reason is not None:
-        return f"void: {e.voided_reason}"
-    if e.superseded_by is not None:
-        return f"corrected by {e.superseded_by}"
-    if e.supersedes is not None:
-        return f"corrects {e.supersedes}: {e.amend_reason}"
-    return ""
-
-
 def entries_table(entries: list[Entry]) -> None:
     rows = [
-        [e.id, e.day.isoformat(), e.time or "", e.kind.value, e.value.display(), ",".join(e.flags), e.by, _status(e), e.note]
+        [e.id, e.day.isoformat(), e.time or "", e.kind.value, e.value.display(), ",".join(e.flags), e.by, e.history(), e.note]
         for e in entries
     ]
     print_table(["id", "day", "time", "kind", "value", "flags", "by", "correction", "note"], rows)

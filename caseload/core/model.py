@@ -153,6 +153,16 @@ class Entry:
     def disturbed(self) -> bool:
         return any(f in DISTURBANCE_FLAGS for f in self.flags)
 
+    def history(self) -> str:
+        """Where the entry stands among corrections and voids, in words; empty for a plain entry."""
+        if self.voided_reason is not None:
+            return f"void: {self.voided_reason}"
+        if self.superseded_by is not None:
+            return f"corrected by {self.superseded_by}"
+        if self.supersedes is not None:
+            return f"corrects {self.supersedes}: {self.amend_reason}"
+        return ""
+
 
 @dataclass(frozen=True)
 class Observation:

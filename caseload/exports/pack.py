@@ -237,21 +237,11 @@ def _value(e: Entry) -> str:
     return e.value.display() + (f" {unit}" if unit else "")
 
 
-def _entry_state(e: Entry) -> str:
-    if e.voided_reason is not None:
-        return f"voided: {e.voided_reason}"
-    if e.superseded_by is not None:
-        return f"corrected by #{e.superseded_by}"
-    if e.supersedes is not None:
-        return f"corrects #{e.supersedes}: {e.amend_reason or ''}"
-    return ""
-
-
 def entries_section(i: PackInput, since: date | None) -> Section:
     chosen = sorted((e for e in i.entries if since is None or e.day >= since), key=lambda e: (e.day, e.time or "", e.id))
     rows = tuple(
         Row((str(e.id), e.day.isoformat(), e.time or "", e.kind.value, _value(e), ", ".join(e.flags), e.note,
-             i.staff_names.get(e.by, e.by), _entry_state(e)), struck=not e.current)
+             i.staff_names.get(e.by, e.by), e.history()), struck=not e.current)
         for e in chosen
     )
     heading = "Entries of the charted cycles" if since is not None else "Entries"

@@ -66,7 +66,7 @@ def test_corrections_are_struck_through_with_their_reason_and_logger(ctx):
     record = show_patient(ctx, "P0003")
     replaced = [e for e in record.entries if e.superseded_by is not None and e.day >= record.analysis.cycles[-12:][0].start]
     assert [r.cells[0] for r in struck] == [str(e.id) for e in replaced]
-    corrections = [r for r in p.entries.table.rows if r.cells[-1].startswith("corrects #")]
+    corrections = [r for r in p.entries.table.rows if r.cells[-1].startswith("corrects ")]
     assert all("digits swapped" in r.cells[-1] or r.cells[-1].split(": ", 1)[1] for r in corrections)
     page = pack.html(p)
     assert page.count("<tr class=\"struck\">") == len(struck)
