@@ -1,0 +1,92 @@
+"""A patient's record made to travel: the referral pack (PDF or HTML) or the FHIR R4 bundle."""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.message import Message
+from textual.screen import ModalScreen
+from textual.widgets import Footer, Input, Label, Select, Static
+
+from caseload.application.referral import export_fhir, make_pack
+from caseload.core.parse import InputError
+from caseload.exports.pack import PAPERS
+
+FORMATS = [("referral pack, PDF", "pdf"), ("referral pack, HTML", "html"), ("FHIR R4 bundle, JSON", "json")]
+DEFAULT_CYCLES = "3"
+
+
+def default_target(patient_id: str, today: date, fmt: str) -> Path:
+    stem = "fhir" if fmt == "json" else "referral"
+    return Path.home() / f"{stem}-{patient_id}-{today.isoformat()}.{fmt}"
+
+
+def _write(ctx, patient_id: str, fmt: str, out: Path, cycles: str, paper: str) -> Path:
+    """The chosen file, through the same use cases as the commands `pack` and `fhir`."""
+    if fmt == "json":
+        return export_fhir(ctx, patient_id, out)[0]
+    if not cycles.isdigit():
+        raise InputError(f"cycles '{cycles}' not understood: give a whole number, 1 or more")
+    return make_pack(ctx, patient_id, out, int(cycles), paper)
+
+
+class ReferralDialog(ModalScreen[None]):
+    """Enter in a field writes the file; Esc closes. Offered to nurses and up."""
+
+    CSS_PATH = "dialogs.tcss"
+    BINDINGS = [Binding("escape", "dismiss", "Close", id="referral.close")]
+
+    class Written(Message):
+        def __init__(self, path: Path) -> None:
+            super().__init__()
+            self.path = path
+
+    class Failed(Message):
+        def __init__(self, reason: str) -> None:
+            super().__init__()
+            self.reason = reason
+
+    def __init__(self, patient_id: str) -> None:
+        super().__init__()
+        self.patient_id = patient_id
+
+    def compose(self) -> ComposeResult:
+        today = self.app.gate.today
+        with Vertical(classes="dialog"):
+            yield Label(f"Referral pack or FHIR export of {self.patient_id}", classes="dialog-title")
+            yield Label("What")
+            yield Select(FORMATS, value="pdf", allow_blank=False, id="format", compact=True)
+            yield Label("Write to")
+            yield Input(str(default_target(self.patient_id, today, "pdf")), id="out", compact=True)
+            yield Label("Cycles to chart, paper")
+            yield Input(DEFAULT_CYCLES, id="cycles", compact=True)
+            yield Select([(p, p) for p in PAPERS], value=PAPERS[0], allow_blank=False, id="paper", compact=True)
+            yield Static("Enter in a field writes the file (owner-only; an existing file is kept).", id="check",
+                         classes="check")
+        yield Footer(compact=True)
+
+    @on(Select.Changed, "#format")
+    def _format(self, event: Select.Changed) -> None:
+        self.query_one("#out", Input).value = str(default_target(self.patient_id, self.app.gate.today, str(event.value)))
+
+    @on(Input.Submitted)
+    def _write(self) -> None:
+        self.query_one("#check", Static).update(Text("Writing…", style="dim"))
+        self.app.store_job(
+            self, _write, self.patient_id, str(self.query_one("#format", Select).value),
+            Path(self.query_one("#out", Input).value).expanduser(), self.query_one("#cycles", Input).value.strip(),
+            str(self.query_one("#paper", Select).value), reply=self.Written, refusal=self.Failed,
+        )
+
+    def on_referral_dialog_written(self, message: Written) -> None:
+        self.notify(f"Written to {message.path}", markup=False)
+        self.dismiss()
+
+    def on_referral_dialog_failed(self, message: Failed) -> None:
+        self.query_one("#check", Static).update(Text(f"Not written: {message.reason}", style="bold"))
