@@ -28,6 +28,7 @@ from caseload.application.patients import add_patient, update_patient
 from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
+from caseload.application.referral import export_fhir, make_pack
 from caseload.application.staff import add_staff, claim_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
@@ -66,6 +67,8 @@ PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
     "protocol.view": lambda ctx, env: show_protocol(ctx),
     "protocol.set": lambda ctx, env: use_protocol(ctx, str(env.protocol_file)),
     "summary.export": lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True),
+    "referral.pack": lambda ctx, env: make_pack(ctx, "P0001", env.out.with_suffix(".html")),
+    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out),
 }
 CELLS = [(action, role) for action in sorted(MATRIX) for role in Role]
 
