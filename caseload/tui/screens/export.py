@@ -10,11 +10,11 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.message import Message
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
 from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS, export_summary
+from caseload.tui.file_messages import FileRefused, FileWritten
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
@@ -36,16 +36,6 @@ class ExportDialog(ModalScreen[None]):
 
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
-
-    class Exported(Message):
-        def __init__(self, path: Path) -> None:
-            super().__init__()
-            self.path = path
-
-    class Failed(Message):
-        def __init__(self, reason: str) -> None:
-            super().__init__()
-            self.reason = reason
 
     def compose(self) -> ComposeResult:
         week = iso_week(self.app.gate.today)
@@ -72,12 +62,12 @@ class ExportDialog(ModalScreen[None]):
         self.app.store_job(
             self, export_summary, self.query_one("#week", Input).value.strip(), str(self.query_one("#format", Select).value),
             Path(self.query_one("#out", Input).value).expanduser(), bool(self.query_one("#deidentify", Select).value),
-            reply=self.Exported, refusal=self.Failed,
+            reply=FileWritten, refusal=FileRefused,
         )
 
-    def on_export_dialog_exported(self, message: Exported) -> None:
+    def on_file_written(self, message: FileWritten) -> None:
         self.notify(f"Summary written to {message.path}", markup=False)
         self.dismiss()
 
-    def on_export_dialog_failed(self, message: Failed) -> None:
+    def on_file_refused(self, message: FileRefused) -> None:
         self.query_one("#check", Static).update(Text(f"Not exported: {message.reason}", style="bold"))

@@ -10,13 +10,13 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.message import Message
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
 from caseload.application.referral import export_fhir, make_pack
 from caseload.core.parse import InputError
 from caseload.exports.pack import PAPERS
+from caseload.tui.file_messages import FileRefused, FileWritten
 
 FORMATS = [("referral pack, PDF", "pdf"), ("referral pack, HTML", "html"), ("FHIR R4 bundle, JSON", "json")]
 DEFAULT_CYCLES = "3"
@@ -41,16 +41,6 @@ class ReferralDialog(ModalScreen[None]):
 
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="referral.close")]
-
-    class Written(Message):
-        def __init__(self, path: Path) -> None:
-            super().__init__()
-            self.path = path
-
-    class Failed(Message):
-        def __init__(self, reason: str) -> None:
-            super().__init__()
-            self.reason = reason
 
     def __init__(self, patient_id: str) -> None:
         super().__init__()
@@ -81,12 +71,12 @@ class ReferralDialog(ModalScreen[None]):
         self.app.store_job(
             self, _write, self.patient_id, str(self.query_one("#format", Select).value),
             Path(self.query_one("#out", Input).value).expanduser(), self.query_one("#cycles", Input).value.strip(),
-            str(self.query_one("#paper", Select).value), reply=self.Written, refusal=self.Failed,
+            str(self.query_one("#paper", Select).value), reply=FileWritten, refusal=FileRefused,
         )
 
-    def on_referral_dialog_written(self, message: Written) -> None:
+    def on_file_written(self, message: FileWritten) -> None:
         self.notify(f"Written to {message.path}", markup=False)
         self.dismiss()
 
-    def on_referral_dialog_failed(self, message: Failed) -> None:
+    def on_file_refused(self, message: FileRefused) -> None:
         self.query_one("#check", Static).update(Text(f"Not written: {message.reason}", style="bold"))
