@@ -7,18 +7,21 @@ the audit row, so a refused or failed export leaves neither a file nor an audit 
 
 from __future__ import annotations
 
+import io
 import json
 import os
 import tempfile
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from datetime import date
 from pathlib import Path
+from typing import IO
 from zoneinfo import ZoneInfo
 
 from caseload.core.parse import InputError, one_line
 from caseload.exports import fhir, pack
 from caseload.application.caseload_view import show_patient
 from caseload.application.context import Context
+from caseload.application.patients import get_patient
 from caseload.application.recompute import analyse_patient
 from caseload.application.errors import Refused
 from caseload.application.weekly_summary import PSEUDONYM_PREFIX, _secret, pseudonym
@@ -39,12 +42,12 @@ def _target(out: Path, force: bool) -> Path:
     return out
 
 
-def _publish(ctx: Context, target: Path, data: bytes, audit: Callable[[], None]) -> Path:
-    """Write `data` owner-only beside `target` and rename it into place together with the audit row."""
+def _publish(ctx: Context, target: Path, fill: Callable[[IO[bytes]], None], audit: Callable[[], None]) -> Path:
+    """Let `fill` write owner-only beside `target`, then rename it into place with the audit row."""
     handle, staged = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".partial", dir=target.parent)
     try:
         with os.fdopen(handle, "wb") as f:
-            f.write(data)
+            fill(f)
         os.chmod(staged, 0o600)  # mkstemp already does; said again because the file holds patient data
 
         def record() -> None:
@@ -97,7 +100,7 @@ def make_pack(ctx: Context, patient_id: str, out: Path, cycles: int = 3, paper: 
         after = {"format": fmt, "cycles": cycles, "paper": paper if fmt == "pdf" else None, "path": str(target)}
         ctx.store.db.audit(ctx.actor, "referral.pack", "patient", record.patient.id, after=after)
 
-    return _publish(ctx, target, data, audit)
+    return _publish(ctx, target, lambda f: f.write(data), audit)
 
 
 def shift_days(secret: str, patient_id: str) -> int:
@@ -107,38 +110,78 @@ def shift_days(secret: str, patient_id: str) -> int:
     return offset - MAX_SHIFT_DAYS if offset < MAX_SHIFT_DAYS else offset - MAX_SHIFT_DAYS + 1
 
 
-def fhir_bundle(ctx: Context, patient_id: str | None, since: date | None = None, deidentify: bool = False) -> dict:
-    """The FHIR R4 Bundle of one patient, or of every patient when `patient_id` is None."""
-    ctx.require("fhir.export")
-    if patient_id is None:
-        patients = {p.id: p for p in ctx.store.patients.all()}
-        found = dict(ctx.store.entries.by_patient())
-        chosen = [(p, found.get(p.id, [])) for p in patients.values()]
-    else:
-        p = show_patient(ctx, patient_id).patient
-        chosen = [(p, ctx.store.entries.for_patient(p.id))]
+def _charts(ctx: Context, patient_id: str | None) -> Iterator[fhir.Chart]:
+    """One patient's chart, or every patient's one at a time: the caseload is never all in memory."""
+    if patient_id is not None:
+        p = get_patient(ctx, patient_id)
+        entries = ctx.store.entries.for_patient(p.id)
+        yield fhir.Chart(p, tuple(entries), analyse_patient(ctx, p, entries))
+        return
+    unseen = {p.id: p for p in ctx.store.patients.all()}
+    for pid, entries in ctx.store.entries.by_patient():
+        p = unseen.pop(pid)
+        yield fhir.Chart(p, tuple(entries), analyse_patient(ctx, p, entries))
+    for p in unseen.values():
+        yield fhir.Chart(p, (), analyse_patient(ctx, p, []))
+
+
+def _options(ctx: Context, since: date | None, deidentify: bool) -> fhir.Options:
     masking = None
     if deidentify:
         secret = _secret(ctx)
         masking = fhir.Masking(lambda pid: pseudonym(secret, pid), lambda pid: shift_days(secret, pid))
-    charts = [fhir.Chart(p, tuple(entries), analyse_patient(ctx, p, entries)) for p, entries in chosen]
-    options = fhir.Options(zone=_zone(ctx), generated=ctx.store.db.clock(), since=since, masking=masking)
-    return fhir.bundle(charts, {s.id: s for s in ctx.store.staff.all()}, options)
+    return fhir.Options(zone=_zone(ctx), generated=ctx.store.db.clock(), since=since, masking=masking)
+
+
+def write_bundle(ctx: Context, patient_id: str | None, stream: IO[bytes], since: date | None = None,
+                 deidentify: bool = False) -> int:
+    """Write the FHIR R4 Bundle of one patient (or of all, when `patient_id` is None) as JSON, entry by
+    entry; returns how many resources it holds."""
+    ctx.require("fhir.export")
+    options = _options(ctx, since, deidentify)
+    start = json.dumps(fhir.bundle_start(options))
+    stream.write((start[:-1] + ', "entry": [').encode("utf-8"))
+    count, staff_ids = 0, set()
+
+    def put(resource: dict) -> None:
+        nonlocal count
+        separator = ",\n" if count else "\n"
+        stream.write((separator + json.dumps(fhir.bundle_entry(resource), ensure_ascii=False)).encode("utf-8"))
+        count += 1
+
+    for chart in _charts(ctx, patient_id):
+        staff_ids |= fhir.people(chart, options)
+        for resource in fhir.patient_resources(chart, options):
+            put(resource)
+    for resource in fhir.practitioners({s.id: s for s in ctx.store.staff.all()}, staff_ids, options):
+        put(resource)
+    stream.write(b"\n]}\n")
+    return count
+
+
+def fhir_bundle(ctx: Context, patient_id: str | None, since: date | None = None, deidentify: bool = False) -> dict:
+    """The same Bundle read back as a dict."""
+    buffer = io.BytesIO()
+    write_bundle(ctx, patient_id, buffer, since, deidentify)
+    return json.loads(buffer.getvalue())
 
 
 def export_fhir(ctx: Context, patient_id: str | None, out: Path, since: date | None = None,
                 deidentify: bool = False, force: bool = False) -> tuple[Path, int]:
-    """Write the Bundle as JSON and audit it; returns the path and how many resources it holds."""
+    """Write the Bundle to a file owner-only and audit it; returns the path and how many resources it holds."""
     ctx.require("fhir.export")
-    out = Path(out)
-    target = _target(out, force)
-    bundle = fhir_bundle(ctx, patient_id, since, deidentify)
-    data = json.dumps(bundle, indent=1, ensure_ascii=False).encode("utf-8")
-    patients = [e["resource"]["id"] for e in bundle["entry"] if e["resource"]["resourceType"] == "Patient"]
+    target = _target(Path(out), force)
+    if patient_id is not None:
+        patient_id = get_patient(ctx, patient_id).id
+    count = 0
+
+    def fill(stream: IO[bytes]) -> None:
+        nonlocal count
+        count = write_bundle(ctx, patient_id, stream, since, deidentify)
 
     def audit() -> None:
-        after = {"patients": "all" if patient_id is None else patients, "since": since and since.isoformat(),
-                 "deidentified": deidentify, "resources": len(bundle["entry"]), "path": str(target)}
+        after = {"since": since and since.isoformat(), "deidentified": deidentify, "resources": count,
+                 "path": str(target)}
         ctx.store.db.audit(ctx.actor, "fhir.export", "patient", patient_id or "*", after=after)
 
-    return _publish(ctx, target, data, audit), len(bundle["entry"])
+    return _publish(ctx, target, fill, audit), count

@@ -168,23 +168,30 @@ class _Dates:
         return (at + self.shift).isoformat()
 
 
+def bundle_start(options: Options) -> dict:
+    """The Bundle without its entries, for a writer that adds them one by one."""
+    return {"resourceType": "Bundle", "type": "collection", "timestamp": options.generated.isoformat()}
+
+
+def bundle_entry(resource: dict) -> dict:
+    return {"fullUrl": f"{NAMESPACE}/{resource['resourceType']}/{resource['id']}", "resource": resource}
+
+
+def people(chart: Chart, options: Options) -> set[str]:
+    """The staff a chart's resources point to: who logged its exported entries, and her nurse."""
+    found = {e.by for e in chart.entries if _included(e.day, options.since)}
+    return found | ({chart.patient.nurse_id} if chart.patient.nurse_id else set())
+
+
+def practitioners(staff: Mapping[str, Staff], ids: Iterable[str], options: Options) -> list[dict]:
+    return [practitioner(staff[s], options.masking is not None) for s in sorted(ids) if s in staff]
+
+
 def bundle(charts: Sequence[Chart], staff: Mapping[str, Staff], options: Options) -> dict:
-    """The FHIR R4 Bundle (type collection) of the given patients."""
-    resources: list[dict] = []
-    people: set[str] = set()
-    for chart in charts:
-        resources.extend(patient_resources(chart, options))
-        people.update(e.by for e in chart.entries if _included(e.day, options.since))
-        if chart.patient.nurse_id:
-            people.add(chart.patient.nurse_id)
-    practitioners = [practitioner(staff[s], options.masking is not None) for s in sorted(people) if s in staff]
-    return {
-        "resourceType": "Bundle",
-        "type": "collection",
-        "timestamp": options.generated.isoformat(),
-        "entry": [{"fullUrl": f"{NAMESPACE}/{r['resourceType']}/{r['id']}", "resource": r}
-                  for r in practitioners + resources],
-    }
+    """The FHIR R4 Bundle (type collection) of the given patients, in memory."""
+    resources = [r for chart in charts for r in patient_resources(chart, options)]
+    ids = set().union(*(people(chart, options) for chart in charts))
+    return {**bundle_start(options), "entry": [bundle_entry(r) for r in practitioners(staff, ids, options) + resources]}
 
 
 def _included(day: date, since: date | None) -> bool:
