@@ -14,6 +14,14 @@ from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
 
 TODAY = date(2026, 12, 1)
+END_TO_END = ("tui", "robustness", "tools")  # folders whose tests drive the whole program; marked slow
+
+
+def pytest_collection_modifyitems(items) -> None:
+    """`-m "not slow"` runs the fast unit tests alone; CI runs everything."""
+    for item in items:
+        if item.path.relative_to(item.config.rootpath).parts[1:2] in [(name,) for name in END_TO_END]:
+            item.add_marker(pytest.mark.slow)
 
 
 @pytest.fixture

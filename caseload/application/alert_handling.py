@@ -89,13 +89,11 @@ def _handle(ctx: Context, alert_id: int | str, target: AlertState, note: str | N
     text = _note(alert, note)
     day = None if until is None else parse_future_day(until, ctx.today)
 
-    def work() -> Alert:
+    with ctx.store.atomic(ctx.today):
         stored = ctx.store.alerts.get(alert.id)  # again inside the write: another terminal may have acted
         if effective(stored, ctx.today).state not in ALLOWED_FROM[target]:
             raise _refusal(stored)
         return ctx.store.alerts.handle(ctx.actor, stored, target, text, day)
-
-    return ctx.store.transact(work)
 
 
 def acknowledge(ctx: Context, alert_id: int | str, note: str | None) -> Alert:

@@ -2,15 +2,15 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 
 from caseload.core.alerts.lifecycle import effective
-from caseload.core.analysis import Analysis, analysis_json
+from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
-from caseload.application.recompute import analyse_patient
+from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
 
 NO_ALERT_RANK = 9
@@ -39,43 +39,16 @@ class CaseloadLine:
             self.patient.id,
         )
 
-    def to_json(self) -> dict:
-        s, top = self.snapshot, self.top_alert
-        return {
-            "patient": self.patient.id,
-            "name": self.patient.name,
-            "nurse": self.patient.nurse_id,
-            "plan": self.patient.plan.value,
-            "status": self.patient.status.value,
-            "cycle_day": self.cycle_day,
-            "phase": s.phase if s else None,
-            "fertile_window": [d.isoformat() for d in s.fertile_window] if s and s.fertile_window else None,
-            "shift_confirmed_on": s.shift_confirmed_on.isoformat() if s and s.shift_confirmed_on else None,
-            "next_event": s.next_event if s else None,
-            "next_event_day": s.next_event_day.isoformat() if s and s.next_event_day else None,
-            "top_alert": None if top is None else alert_brief(top),
-            "more_alerts": max(0, len(self.alerts) - 1),
-            "days_since_entry": self.days_since_entry,
-        }
-
-
-def alert_brief(a: Alert) -> dict:
-    return {"id": a.id, "kind": a.kind, "severity": a.severity.value, "state": a.state.value,
-            "due": a.due.isoformat(), "message": a.message}
-
 
 def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
     return tuple(sorted(alerts, key=lambda a: (a.severity.rank, a.due, a.id)))
 
 
-def list_caseload(ctx: Context, nurse: str | None = None) -> list[CaseloadLine]:
+def list_caseload(ctx: Context) -> list[CaseloadLine]:
     """Every patient under care (not discharged), most pressing first: alert severity, due day, cycle day."""
     ctx.require("caseload.view")
-    under_care = [
-        p for p in ctx.store.patients.all()
-        if p.status is not PatientStatus.DISCHARGED and (not nurse or p.nurse_id == nurse)
-    ]
-    states = ctx.store.state.all([p.id for p in under_care] if nurse else None)
+    under_care = [p for p in ctx.store.patients.all() if p.status is not PatientStatus.DISCHARGED]
+    states = ctx.store.state.all()
     open_by_patient: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
         a = effective(stored, ctx.today)  # a snooze whose day has come counts, even before a refresh
@@ -105,18 +78,13 @@ class PatientRecord:
     alerts: tuple[Alert, ...]
     entries: tuple[Entry, ...]
 
-    def to_json(self) -> dict:
-        p = self.patient
-        return {
-            "patient": p.id,
-            "name": p.name,
-            "born": p.born.isoformat(),
-            "nurse": p.nurse_id,
-            "status": p.status.value,
-            "plan": p.plan.value,
-            **analysis_json(self.analysis),
-            "alerts": [alert_brief(a) for a in self.alerts],
-        }
+
+def row_after(line: CaseloadLine, done: Refreshed, today: date) -> CaseloadLine:
+    """A patient's list row after a save, from the snapshot and alerts the save returned: no read."""
+    snap, raised = done.snapshot, {a.id: a for a in done.raised}
+    alerts = [a for a in line.alerts if a.id not in raised] + list(raised.values())
+    return replace(line, snapshot=snap, cycle_day=snap.cycle_day(today), alerts=pressing_first(alerts),
+                   days_since_entry=snap.days_since_entry(today))
 
 
 def show_patient(ctx: Context, patient_id: str) -> PatientRecord:

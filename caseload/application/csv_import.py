@@ -73,7 +73,7 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
             if any(len(c) > MAX_FIELD for c in record):
                 raise InputError(f"a field is longer than {MAX_FIELD} characters")
             cells = dict(zip(header, record))
-            patient = get_patient(ctx, parse_id(cells["patient"], "patient")).id
+            patient = get_patient(ctx, parse_id(cells["patient"], "patient"))
             parsed = parse_entry(
                 cells["kind"],
                 cells["value"],
@@ -84,12 +84,12 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
                 note=cells.get("note", ""),
             )
             if parsed.kind is Kind.TEMP:
-                key = (patient, parsed.day.isoformat())
+                key = (patient.id, parsed.day.isoformat())
                 if key in temps_seen:
-                    raise InputError(f"a second temperature for {patient} on {key[1]} in the same file")
+                    raise InputError(f"a second temperature for {patient.id} on {key[1]} in the same file")
                 temps_seen.add(key)
             check_loggable(ctx, patient, parsed)
-            rows.append((patient, parsed))
+            rows.append((patient.id, parsed))
     except (InputError, Refused) as err:
         raise InputError(f"line {line}: {err}") from None
     except csv.Error as err:
@@ -102,7 +102,7 @@ def parse_rows(ctx: Context, data: bytes) -> list[tuple[str, ParsedEntry]]:
 def _recheck(ctx: Context, patient_id: str, parsed: ParsedEntry) -> None:
     """The store rules again, inside the write: another terminal may have logged since the file was read."""
     try:
-        check_loggable(ctx, patient_id, parsed)
+        check_loggable(ctx, get_patient(ctx, patient_id), parsed)
     except Refused as err:
         raise Refused(f"{err} (logged from another terminal during the import): nothing imported") from None
 
@@ -110,8 +110,7 @@ def _recheck(ctx: Context, patient_id: str, parsed: ParsedEntry) -> None:
 def import_csv(ctx: Context, data: bytes) -> Imported:
     ctx.require("entry.import")
     rows = parse_rows(ctx, data)
-
-    def work() -> Imported:
+    with ctx.store.atomic(ctx.today):
         touched: dict[str, None] = {}
         for patient_id, parsed in rows:
             _recheck(ctx, patient_id, parsed)
@@ -120,5 +119,3 @@ def import_csv(ctx: Context, data: bytes) -> Imported:
         for patient_id in touched:
             refresh_patient(ctx, ctx.store.patients.get(patient_id))
         return Imported(len(rows), len(touched))
-
-    return ctx.store.transact(work)

@@ -17,7 +17,6 @@ from caseload.application.recompute import refresh_all
 from caseload.application.protocol import load_protocol
 from caseload.store import Store
 from caseload.store.bulk_load import NewEntry
-from caseload.store.db import utc_now
 
 SEED_DIR = resources.files("caseload") / "seed_data"
 
@@ -78,22 +77,17 @@ def build_demo(path: Path, today: date, account: str) -> Demo:
     ]
     entry_rows = _rows("entries.csv")
 
-    def set_meta() -> None:
-        store.db.set_meta("timezone", clinic["timezone"])
-        store.db.set_meta("clinic", clinic["name"])
-        store.db.set_meta("pseudonym_secret", "demo-" + clinic["name"])
-
-    store.transact(set_meta)
+    with store.atomic(today):
+        store.set_meta("timezone", clinic["timezone"])
+        store.set_meta("clinic", clinic["name"])
+        store.set_meta("pseudonym_secret", "demo-" + clinic["name"])
     store.bulk.staff(admin, staff)
     store.bulk.patients(admin, patients)
     items, voids = _entries(entry_rows, by_id, today, zone, store.bulk.next_entry_id())
     store.bulk.entries(items)
     for actor, entry_id, reason, at in voids:
-        store.db.clock = lambda at=at: at
-        try:
-            store.transact(lambda: store.entries.void(actor, store.entries.get(entry_id), reason))
-        finally:
-            store.db.clock = utc_now
+        with store.clock_at(at), store.atomic(at.astimezone(zone).date()):
+            store.entries.void(actor, store.entries.get(entry_id), reason)
     ctx = Context(store, admin, today, load_protocol(store))
     refresh_all(ctx)
     return Demo(store, clinic["name"], staff, len(patients), len(items), admin)

@@ -3,8 +3,9 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from datetime import date
 
-from caseload.core.model import Entry, Kind, PatientStatus
+from caseload.core.model import Entry, Kind, Patient, PatientStatus
 from caseload.core.parse import InputError, ParsedEntry, parse_entry, parse_value
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, refresh_patient
@@ -31,9 +32,8 @@ def _reason(text: str, what: str) -> str:
     return reason
 
 
-def check_loggable(ctx: Context, patient_id: str, parsed: ParsedEntry, supersedes: int | None = None) -> None:
+def check_loggable(ctx: Context, patient: Patient, parsed: ParsedEntry, supersedes: int | None = None) -> None:
     """Rules that need the store: the patient takes entries, one temperature a day."""
-    patient = get_patient(ctx, patient_id)
     if patient.status is PatientStatus.DISCHARGED:
         raise Refused(f"patient {patient.id} is discharged: re-open the patient before logging")
     if parsed.day < patient.born:
@@ -41,13 +41,18 @@ def check_loggable(ctx: Context, patient_id: str, parsed: ParsedEntry, supersede
             f"day {parsed.day.isoformat()} is before {patient.id}'s date of birth ({patient.born.isoformat()}): check the year"
         )
     if parsed.kind is Kind.TEMP:
-        same_day = [e for e in ctx.store.entries.current_on(patient.id, parsed.day, Kind.TEMP) if e.id != supersedes]
-        if same_day:
-            first = same_day[0]
+        first = same_day_temperature(ctx, patient.id, parsed.day, supersedes)
+        if first is not None:
             raise Refused(
                 f"{patient.id} already has a temperature on {parsed.day.isoformat()} (entry {first.id}: "
                 f"{first.value.display()} C): to correct it, amend entry {first.id} with a reason"
             )
+
+
+def same_day_temperature(ctx: Context, patient_id: str, day: date, supersedes: int | None = None) -> Entry | None:
+    """The patient's counting temperature on `day` (one a day), other than the entry being corrected."""
+    same_day = [e for e in ctx.store.entries.current_on(patient_id, day, Kind.TEMP) if e.id != supersedes]
+    return same_day[0] if same_day else None
 
 
 def log_entry(
@@ -62,14 +67,11 @@ def log_entry(
 ) -> Logged:
     ctx.require("entry.log")
     parsed = parse_entry(kind, value, ctx.today, on=on, at=at, flags=flags, note=note)
-    patient = get_patient(ctx, patient_id)
-
-    def work() -> Logged:
-        check_loggable(ctx, patient.id, parsed)
+    with ctx.store.atomic(ctx.today):
+        patient = get_patient(ctx, patient_id)
+        check_loggable(ctx, patient, parsed)
         entry = ctx.store.entries.add(ctx.actor, patient.id, parsed)
         return Logged(entry, refresh_patient(ctx, patient))
-
-    return ctx.store.transact(work)
 
 
 def get_entry(ctx: Context, entry_id: int | str) -> Entry:
@@ -96,14 +98,11 @@ def amend_entry(ctx: Context, entry_id: int | str, value: str, reason: str) -> L
     _current(old)
     why = _reason(reason, "correction")
     parsed = ParsedEntry(old.kind, old.day, parse_value(old.kind, value), value.strip(), old.time, old.flags, old.note)
-    patient = get_patient(ctx, old.patient_id)
-
-    def work() -> Logged:
-        check_loggable(ctx, patient.id, parsed, supersedes=old.id)
+    with ctx.store.atomic(ctx.today):
+        patient = get_patient(ctx, old.patient_id)
+        check_loggable(ctx, patient, parsed, supersedes=old.id)
         entry = ctx.store.entries.add(ctx.actor, patient.id, parsed, supersedes=old.id, amend_reason=why)
         return Logged(entry, refresh_patient(ctx, patient))
-
-    return ctx.store.transact(work)
 
 
 def void_entry(ctx: Context, entry_id: int | str, reason: str) -> Logged:
@@ -111,13 +110,10 @@ def void_entry(ctx: Context, entry_id: int | str, reason: str) -> Logged:
     old = get_entry(ctx, entry_id)
     _current(old)
     why = _reason(reason, "void")
-    patient = get_patient(ctx, old.patient_id)
-
-    def work() -> Logged:
+    with ctx.store.atomic(ctx.today):
+        patient = get_patient(ctx, old.patient_id)
         entry = ctx.store.entries.void(ctx.actor, old, why)
         return Logged(entry, refresh_patient(ctx, patient))
-
-    return ctx.store.transact(work)
 
 
 def patient_entries(ctx: Context, patient_id: str) -> list[Entry]:

@@ -1,6 +1,8 @@
-"""Refusals raised by the services. Each message is one line, fit to show as it is."""
+"""Refusals raised by the use cases. Each message is one line, fit to show as it is: InputError for
+what was typed, Refused for rules and permissions, StoreError for a file that cannot be used."""
 
 from caseload.core.parse import InputError
+from caseload.store import StoreError
 
 
 class Refused(Exception):
@@ -11,4 +13,4 @@ class NotFound(Refused):
     """The named patient, staff member, entry or alert does not exist."""
 
 
-__all__ = ["InputError", "NotFound", "Refused"]
+__all__ = ["InputError", "NotFound", "Refused", "StoreError"]

@@ -25,14 +25,18 @@ def os_account() -> str:
         return f"uid-{uid}"
 
 
+def not_mapped(account: str) -> Refused:
+    return Refused(
+        f"OS account '{account}' is not mapped to a staff member: ask an admin to run "
+        f"'caseload staff map STAFF {account}'"
+    )
+
+
 def resolve_actor(store: Store, account: str, as_staff: str | None = None) -> Actor:
     """The acting staff member for this OS account, or a one-line refusal."""
     own = store.staff.by_os_account(account)
     if own is None:
-        raise Refused(
-            f"OS account '{account}' is not mapped to a staff member: ask an admin to run "
-            f"'caseload staff map STAFF {account}'"
-        )
+        raise not_mapped(account)
     if not own.active:
         raise Refused(f"staff member {own.id} is inactive and can do nothing: ask an admin")
     if as_staff is None or as_staff == own.id:

@@ -50,7 +50,8 @@ def add_patient(
     )
     if ctx.store.patients.get(patient.id):
         raise Refused(f"patient id {patient.id} is taken: choose another")
-    return ctx.store.transact(lambda: ctx.store.patients.add(ctx.actor, patient))
+    with ctx.store.atomic(ctx.today):
+        return ctx.store.patients.add(ctx.actor, patient)
 
 
 def update_patient(
@@ -68,13 +69,14 @@ def update_patient(
         after = replace(after, plan=parse_choice(plan, Plan, "plan"))
     if status is not None:
         after = replace(after, status=parse_choice(status, PatientStatus, "status"))
+        if after.status is not before.status:
+            # The day a pregnancy begins or ends by the nurse's decision.
+            after = replace(after, status_since=ctx.today)
     if nurse is not None:
         after = replace(after, nurse_id=_nurse(ctx, nurse))
     if charting_temps is not None:
         after = replace(after, charting_temps=charting_temps)
-    def work():
+    with ctx.store.atomic(ctx.today):
         ctx.store.patients.update(ctx.actor, before, after)
         refresh_patient(ctx, after)
-
-    ctx.store.transact(work)
     return after

@@ -1,4 +1,4 @@
-"""Who may do what. Checked here, in the services, whatever a front end shows or hides."""
+"""Who may do what. Checked by every use case, whatever a front end shows or hides."""
 
 from __future__ import annotations
 

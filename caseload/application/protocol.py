@@ -49,7 +49,7 @@ def read_protocol_file(path: str) -> Protocol:
 
 
 def protocol_in_use(store: Store) -> ProtocolInUse:
-    path = store.db.meta(META_KEY)
+    path = store.meta(META_KEY)
     if path is None:
         return ProtocolInUse(None, DEFAULT_PROTOCOL, None)
     try:
@@ -73,17 +73,14 @@ def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]
     ctx.require("protocol.set")
     chosen = str(Path(path).expanduser().resolve())
     protocol = read_protocol_file(chosen)
-    before = ctx.store.db.meta(META_KEY)
-
-    def work() -> None:
-        ctx.store.db.set_meta(META_KEY, chosen)
-        in_use = ProtocolInUse(chosen, protocol, None)
-        ctx.store.db.audit(ctx.actor, "protocol.use", "meta", META_KEY, before={"path": before},
-                           after={"path": chosen, "overrides": in_use.overrides()})
-
-    ctx.store.transact(work)
+    in_use = ProtocolInUse(chosen, protocol, None)
+    with ctx.store.atomic(ctx.today):
+        before = ctx.store.meta(META_KEY)
+        ctx.store.set_meta(META_KEY, chosen)
+        ctx.store.audit.record(ctx.actor, "protocol.use", "meta", META_KEY, before={"path": before},
+                               after={"path": chosen, "overrides": in_use.overrides()})
     report = refresh_all(replace(ctx, protocol=protocol))
-    return ProtocolInUse(chosen, protocol, None), report
+    return in_use, report
 
 
 def check_protocol_file(path: str) -> ProtocolInUse:

@@ -18,13 +18,6 @@ class Refreshed:
     snapshot: Snapshot
     raised: tuple[Alert, ...]
 
-    def summary(self) -> str:
-        day = self.snapshot.cycle_day(self.snapshot.computed_on)
-        text = f"Cycle day {day} ({self.snapshot.phase})." if day else f"No cycle start yet ({self.snapshot.phase})."
-        if self.raised:
-            text += " Raised: " + "; ".join(f"{a.kind} ({a.severity.value})" for a in self.raised) + "."
-        return text
-
 
 @dataclass(frozen=True)
 class RefreshReport:
@@ -56,9 +49,8 @@ def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
 def refresh_all(ctx: Context) -> RefreshReport:
     """Every patient as of ctx.today, in one pass over the entries and one transaction. Idempotent."""
     ctx.require("alert.refresh")
-    patients = {p.id: p for p in ctx.store.patients.all()}
-
-    def work() -> RefreshReport:
+    with ctx.store.atomic(ctx.today):
+        patients = {p.id: p for p in ctx.store.patients.all()}
         raised = resolved = 0
         unseen = dict(patients)
         # Streamed patient by patient: the caseload's entries are never all in memory at once.
@@ -69,5 +61,3 @@ def refresh_all(ctx: Context) -> RefreshReport:
             _, new, gone = _recompute(ctx, patient, [])
             raised, resolved = raised + len(new), resolved + gone
         return RefreshReport(len(patients), raised, resolved)
-
-    return ctx.store.transact(work)

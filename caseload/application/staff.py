@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import secrets
+from datetime import date
+
+import pendulum
 
 from caseload.core.model import Actor, Role, Staff
-from caseload.core.parse import parse_choice, parse_id, parse_name
+from caseload.core.parse import InputError, one_line, parse_choice, parse_id, parse_name
 from caseload.application.context import Context
 from caseload.application.errors import NotFound, Refused
 from caseload.store import Store
@@ -13,21 +16,43 @@ from caseload.store import Store
 DEFAULT_TIMEZONE = "Europe/London"
 
 
-def init_store(store: Store, admin_id: str, name: str, account: str, timezone: str = DEFAULT_TIMEZONE) -> Actor:
-    """Make a new store's first admin, mapped to the OS account that runs it."""
+def init_store(
+    store: Store, admin_id: str, name: str, account: str, timezone: str = DEFAULT_TIMEZONE, day: date | None = None
+) -> Actor:
+    """Make a new store's first admin, mapped to the OS account that runs it. `day` is the date of
+    record (default: today in the clinic's time zone)."""
     admin = Staff(parse_id(admin_id, "staff"), parse_name(name), Role.ADMIN, True, account)
+    zone = parse_timezone(timezone)
     if store.staff.all():
         raise Refused(f"{store.path} is already set up: add staff with 'caseload staff add'")
     actor = Actor(admin, account)
-
-    def work():
+    with store.atomic(day or local_today(zone)):
         store.staff.add(actor, admin)
-        store.db.set_meta("timezone", timezone)
-        store.db.set_meta("pseudonym_secret", secrets.token_hex(32))
-        store.db.audit(actor, "store.init", "meta", None, after={"timezone": timezone})
-
-    store.transact(work)
+        store.set_meta("timezone", zone)
+        store.set_meta("pseudonym_secret", secrets.token_hex(32))
+        store.audit.record(actor, "store.init", "meta", None, after={"timezone": zone})
     return actor
+
+
+def local_today(zone: str) -> date:
+    """The calendar day it is now in a time zone: the clinic's date of record."""
+    local = pendulum.now(zone)
+    return date(local.year, local.month, local.day)
+
+
+def clinic_today(store: Store) -> date:
+    """The clinic's real date now, in the time zone stored at set-up."""
+    return local_today(store.meta("timezone") or DEFAULT_TIMEZONE)
+
+
+def parse_timezone(text: str) -> str:
+    """An IANA time zone name ('Europe/London'), or one line saying what is accepted."""
+    name = (text or "").strip()
+    try:
+        pendulum.timezone(name)
+    except Exception:  # pendulum raises its own not-found error, or ValueError for odd text
+        raise InputError(f"time zone '{one_line(name)}' not known: use an IANA name such as Europe/London") from None
+    return name
 
 
 def add_staff(ctx: Context, staff_id: str, name: str, role: str, account: str | None = None) -> Staff:
@@ -37,7 +62,8 @@ def add_staff(ctx: Context, staff_id: str, name: str, role: str, account: str | 
         raise Refused(f"staff id {staff.id} is taken: choose another")
     if account and ctx.store.staff.by_os_account(account):
         raise Refused(f"OS account '{account}' is already mapped to {ctx.store.staff.by_os_account(account).id}")
-    return ctx.store.transact(lambda: ctx.store.staff.add(ctx.actor, staff))
+    with ctx.store.atomic(ctx.today):
+        return ctx.store.staff.add(ctx.actor, staff)
 
 
 def get_staff(store: Store, staff_id: str) -> Staff:
@@ -55,7 +81,8 @@ def map_account(ctx: Context, staff_id: str, account: str) -> Staff:
     if holder and holder.id != staff.id:
         raise Refused(f"OS account '{account}' is mapped to {holder.id}: unmap it first")
     updated = Staff(staff.id, staff.name, staff.role, staff.active, account)
-    ctx.store.transact(lambda: ctx.store.staff.update(ctx.actor, staff, updated))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.staff.update(ctx.actor, staff, updated)
     return updated
 
 
@@ -65,11 +92,12 @@ def set_active(ctx: Context, staff_id: str, active: bool) -> Staff:
     if staff.id == ctx.actor.id and not active:
         raise Refused("you cannot deactivate yourself: ask another admin")
     updated = Staff(staff.id, staff.name, staff.role, active, staff.os_account)
-    ctx.store.transact(lambda: ctx.store.staff.update(ctx.actor, staff, updated))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.staff.update(ctx.actor, staff, updated)
     return updated
 
 
-def claim_staff(store: Store, staff_id: str, account: str) -> Actor:
+def claim_staff(store: Store, staff_id: str, account: str, day: date | None = None) -> Actor:
     """First sign-in from an unmapped OS account: take an active staff record that has no account yet."""
     if store.staff.by_os_account(account):
         raise Refused(f"OS account '{account}' is already mapped to a staff member")
@@ -82,5 +110,6 @@ def claim_staff(store: Store, staff_id: str, account: str) -> Actor:
         raise Refused(f"{staff.id} is an admin record: another admin maps it with 'caseload staff map {staff.id} ACCOUNT'")
     claimed = Staff(staff.id, staff.name, staff.role, True, account)
     actor = Actor(claimed, account)
-    store.transact(lambda: store.staff.update(actor, staff, claimed))
+    with store.atomic(day or clinic_today(store)):
+        store.staff.update(actor, staff, claimed)
     return actor

@@ -12,7 +12,8 @@ def backup(ctx: Context, target: str) -> Path:
     ctx.require("store.backup")
     path = Path(target)
     ctx.store.backup(path)
-    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.backup", "store", None, after={"path": str(path)}))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.audit.record(ctx.actor, "store.backup", "store", None, after={"path": str(path)})
     return path
 
 
@@ -27,7 +28,8 @@ def restore(ctx: Context, source: str) -> int:
         # Audit rows written after the backup was taken are gone with the replaced file; name their ids,
         # since the ids that follow will be issued again.
         record["audit_ids_replaced"] = [last_restored + 1, last_before]
-    ctx.store.transact(lambda: ctx.store.db.audit(ctx.actor, "store.restore", "store", None, after=record))
+    with ctx.store.atomic(ctx.today):
+        ctx.store.audit.record(ctx.actor, "store.restore", "store", None, after=record)
     return version
 
 

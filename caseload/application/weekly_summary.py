@@ -12,6 +12,8 @@ import hmac
 import os
 import secrets
 import shutil
+from collections.abc import Callable
+from datetime import date
 from pathlib import Path
 
 from caseload.core.parse import InputError, one_line
@@ -19,13 +21,17 @@ from caseload.core.pregnancy import HCG_POSITIVE_IU_L, POSITIVE
 from caseload.application.week.clinical_events import cycles_into_week
 from caseload.application.week.pseudonyms import deidentified, text_scrubber
 from caseload.application.week.figures import WeeklySummary
-from caseload.exports.summary_files import FOLDER_FORMATS, FORMATS, write
 from caseload.application.week.compile import WeekData, charting_from, compute
 from caseload.application.week.iso_weeks import Week, iso_week
 from caseload.application.context import Context
 from caseload.application.errors import Refused
 from caseload.application.staff import DEFAULT_TIMEZONE
 from caseload.store.summary_queries import ReportQueries, Span
+
+FORMATS = ("xlsx", "html", "csv", "json")
+FOLDER_FORMATS = frozenset({"csv"})  # written as a folder of files
+Renderer = Callable[[WeeklySummary, str, Path], None]
+"""Writes a summary in a format to a path: given by the front end from caseload.exports."""
 
 PSEUDONYM_PREFIX = "px-"
 PSEUDONYM_HEX_DIGITS = 10
@@ -37,7 +43,7 @@ def pseudonym(secret: str, patient_id: str) -> str:
 
 
 def _week(ctx: Context, text: str) -> Week:
-    week = iso_week(text, ctx.store.db.meta("timezone") or DEFAULT_TIMEZONE)
+    week = iso_week(text, ctx.store.meta("timezone") or DEFAULT_TIMEZONE)
     if week.first_day > ctx.today:
         raise InputError(
             f"week {week.label} starts on {week.first_day.isoformat()}, after today ({ctx.today.isoformat()}): "
@@ -73,7 +79,7 @@ def compute_summary(ctx: Context, week: str) -> WeeklySummary:
     """The summary of one ISO week ('2026-W48'), with patient ids and names (supervisors and admins)."""
     ctx.require("summary.export")
     period = _week(ctx, week)
-    with ReportQueries(ctx.store.db).snapshot() as q:
+    with ctx.store.summary_queries().snapshot() as q:
         data = _week_data(ctx, q, period)
     return compute(period, data, ctx.protocol, ctx.today)
 
@@ -95,8 +101,9 @@ def _target(out: Path, fmt: str) -> Path:
     return out
 
 
-def _secret(ctx: Context) -> str:
-    secret = ctx.store.db.meta("pseudonym_secret")
+def pseudonym_secret(ctx: Context) -> str:
+    """The store's key for pseudonyms and date offsets; refused when the store has none."""
+    secret = ctx.store.meta("pseudonym_secret")
     if not secret:
         raise Refused("this store has no pseudonym secret, so it cannot de-identify: "
                       "it was not set up by 'caseload init'")
@@ -140,8 +147,12 @@ def _discard(path: Path) -> None:
         path.unlink(missing_ok=True)
 
 
-def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: bool) -> Path:
-    """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it.
+def export_summary(
+    ctx: Context, week: str, fmt: str, out: Path, deidentify: bool, render: Renderer, recorded_on: date | None = None
+) -> Path:
+    """Write one week's summary as xlsx, html, json (a file) or csv (a folder), and audit it. The
+    summary is computed as of ctx.today; its audit row records `recorded_on` (default ctx.today), the
+    date of record, when the export is a view of another day.
 
     The file is rendered aside and published in the transaction of its audit row: a refused
     or failed export leaves neither a file nor an audit row.
@@ -149,22 +160,21 @@ def export_summary(ctx: Context, week: str, fmt: str, out: Path, deidentify: boo
     ctx.require("summary.export")
     fmt = _format(fmt)
     target = _target(Path(out), fmt)
-    secret = _secret(ctx) if deidentify else None
+    secret = pseudonym_secret(ctx) if deidentify else None
     summary = compute_summary(ctx, week)
     if secret is not None:
         summary = deidentified(summary, lambda pid: pseudonym(secret, pid), text_scrubber(ctx.store.patients.all()))
     staged = _staging(target, fmt)
     published: list[Path] = []
 
-    def record() -> None:
-        after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target)}
-        ctx.store.db.audit(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
-        published.extend(_publish(staged, target, fmt))
-
+    after = {"week": summary.week.label, "format": fmt, "deidentified": deidentify, "path": str(target),
+             "as_of": ctx.today.isoformat()}
     try:
-        write(summary, fmt, staged)
+        render(summary, fmt, staged)
         _owner_only(staged)
-        ctx.store.transact(record)
+        with ctx.store.atomic(recorded_on or ctx.today):
+            ctx.store.audit.record(ctx.actor, "summary.export", "summary", summary.week.label, after=after)
+            published.extend(_publish(staged, target, fmt))
     except BaseException:
         for path in published:
             path.unlink(missing_ok=True)

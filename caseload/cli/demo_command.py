@@ -2,20 +2,18 @@
 
 from __future__ import annotations
 
-from datetime import date
+from dataclasses import replace
 from pathlib import Path
 
 import click
 import platformdirs
 
-import pendulum
-
-from caseload.cli.session import Session, pass_session
-from caseload.cli.interface_command import open_interface
-from caseload.cli.text_views import list_table, print_table
-from caseload.application import caseload_view as caseload_service
 from caseload.application.demo import build_demo, clinic_timezone
 from caseload.application.identity import os_account
+from caseload.application.staff import local_today
+from caseload.cli.global_options import GlobalOptions, pass_options
+from caseload.cli.interface_command import open_interface
+from caseload.cli.printing import list_table, print_table
 
 
 def demo_store_path() -> Path:
@@ -24,25 +22,20 @@ def demo_store_path() -> Path:
 
 @click.command()
 @click.option("--no-ui", is_flag=True, help="Build the demo store and print the caseload list only.")
-@pass_session
-def demo(session: Session, no_ui: bool) -> None:
+@pass_options
+def demo(options: GlobalOptions, no_ui: bool) -> None:
     """Build the invented demo caseload (dated relative to today) and open it."""
-    path = Path(session.db_path) if session.db_path else demo_store_path()
-    if session.today_text:
-        today = date.fromisoformat(session.today_text)
-    else:
-        local = pendulum.now(clinic_timezone())
-        today = date(local.year, local.month, local.day)
-    built = build_demo(path, today, os_account())
+    path = Path(options.db_path) if options.db_path else demo_store_path()
+    built = build_demo(path, options.date_of_record or local_today(clinic_timezone()), os_account())
     built.store.close()
     click.echo(f"Demo caseload of {built.clinic}: {built.patients} patients, {built.entries} entries, store {path}")
     click.echo(f"Your OS account is mapped to the admin {built.admin.id}; try any role with --as:")
     print_table(["staff", "name", "role"], [[s.id, s.name, s.role.value] for s in built.staff])
-    demo_session = Session(str(path), session.as_staff, today.isoformat())
+    on_demo = replace(options, db_path=str(path), clinic=None)
     if no_ui:
-        list_table(caseload_service.list_caseload(demo_session.context()))
+        list_table(on_demo.open_clinic().morning_list())
     else:
-        open_interface(demo_session)
+        open_interface(on_demo)
 
 
 COMMANDS = [demo]

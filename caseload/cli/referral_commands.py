@@ -6,10 +6,11 @@ from pathlib import Path
 
 import click
 
-from caseload.cli.session import Session, pass_session
-from caseload.core.parse import parse_day
-from caseload.exports.pack import PAPERS
-from caseload.application import referral
+from caseload.application.clinic import Clinic
+from caseload.application.referral import PAPERS
+from caseload.cli.global_options import pass_clinic
+from caseload.exports import fhir as fhir_files
+from caseload.exports import pack_files
 
 
 @click.command()
@@ -18,10 +19,10 @@ from caseload.application import referral
 @click.option("--cycles", default=3, show_default=True, type=click.IntRange(min=1), help="How many recent cycles to chart.")
 @click.option("--paper", default="a4", show_default=True, type=click.Choice(PAPERS), help="Paper size of a PDF.")
 @click.option("--force", is_flag=True, help="Replace the file if it exists.")
-@pass_session
-def pack(session: Session, patient: str, out: str, cycles: int, paper: str, force: bool) -> None:
+@pass_clinic
+def pack(clinic: Clinic, patient: str, out: str, cycles: int, paper: str, force: bool) -> None:
     """Make PATIENT's referral pack: summary, alerts, charts and entries of the last cycles."""
-    path = referral.make_pack(session.context(), patient, Path(out), cycles, paper, force)
+    path = clinic.referral_pack(patient, Path(out), cycles, paper, force, pack_files.render)
     click.echo(f"Referral pack for {patient.strip()} written to {path}.")
 
 
@@ -32,15 +33,13 @@ def pack(session: Session, patient: str, out: str, cycles: int, paper: str, forc
 @click.option("--since", metavar="DATE", help="Leave out entries and derived dates before this day.")
 @click.option("--deidentify", is_flag=True, help="Keyed pseudonyms, no names or birth dates, dates shifted per patient, no free text.")
 @click.option("--force", is_flag=True, help="Replace the file if it exists.")
-@pass_session
-def fhir(session: Session, patient: str | None, everyone: bool, out: str, since: str | None,
+@pass_clinic
+def fhir(clinic: Clinic, patient: str | None, everyone: bool, out: str, since: str | None,
          deidentify: bool, force: bool) -> None:
     """Export PATIENT (or --all) as an HL7 FHIR R4 Bundle of type collection."""
     if bool(patient) == everyone:
         raise click.UsageError("give one PATIENT or --all, not both and not neither")
-    ctx = session.context()
-    day = parse_day(since, ctx.today) if since else None
-    path, count = referral.export_fhir(ctx, patient, Path(out), day, deidentify, force)
+    path, count = clinic.fhir_export(patient, Path(out), since, deidentify, force, fhir_files.write_bundle)
     kind = "de-identified " if deidentify else ""
     click.echo(f"FHIR R4 bundle ({kind}{count} resources) written to {path}.")
 

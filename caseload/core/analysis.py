@@ -6,19 +6,45 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
-from datetime import date
+from datetime import date, timedelta
 
 from caseload.core import cycles as cy
 from caseload.core.figo import Classification, age_on, classify
 from caseload.core.follicles import Follicles, follicles
-from caseload.core.markers import Markers, luteal_length, markers
+from caseload.core.markers import (
+    Markers,
+    dating_conflict,
+    days_after_ovulation,
+    fertile_until,
+    lh_positive,
+    luteal_length,
+    markers,
+)
 from caseload.core.model import Kind, Observation, Patient, PatientStatus
-from caseload.core.prediction import Evidence, Prediction, predict, predictive, watch_horizon
-from caseload.core.pregnancy import HcgTrend, HcgValue, Pregnancy, hcg_trend, pregnancy, serum_values
+from caseload.core.prediction import (
+    Evidence,
+    Prediction,
+    cycle_predictive,
+    luteal_predictive,
+    predict,
+    watch_horizon,
+)
+from caseload.core.pregnancy import (
+    Discounted,
+    Episode,
+    HcgTrend,
+    HcgValue,
+    Pregnancy,
+    episodes,
+    hcg_trend,
+    pregnancy,
+    serum_values,
+)
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 from caseload.core.stats import CycleStats, cycle_stats
-from caseload.core.thermal import ThermalShift, thermal_shift, valid_readings
+from caseload.core.thermal import ThermalShift, excluded_readings, thermal_shift, valid_readings
 
 # The caseload list's phase words.
 BLEEDING = "bleeding"
@@ -43,6 +69,8 @@ class CycleRecord:
     shift: ThermalShift
     markers: Markers
     luteal_length: int | None  # complete cycles with a dated ovulation only
+    pregnancy: bool = False  # a pregnancy began in it: not a cycle for statistics or prediction
+    dating_conflict: str | None = None  # why the dated luteal length is not believed (shown, not learnt)
 
 
 @dataclass(frozen=True)
@@ -71,13 +99,21 @@ class Analysis:
     last_bleed_day: date | None  # last day of the latest menstrual bleed
     last_entry_day: date | None  # of any kind
     age_years: int
+    intermenstrual: tuple[cy.Bleed, ...] = ()  # bleeds between periods, flagged or too soon to start a cycle
+    episode: Episode | None = None  # the latest pregnancy while no period has followed it
+    pregnancy_bleeds: tuple[cy.Bleed, ...] = ()  # bleeds during `episode`
+    hcg_discounted: tuple[Discounted, ...] = ()  # positive urine tests taken as a trigger's hCG
 
 
-def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol) -> CycleRecord:
+def _record(
+    span: cy.CycleSpan, group: list[Observation], today: date, protocol: Protocol, found: tuple[Episode, ...]
+) -> CycleRecord:
     temps = [o for o in group if o.kind == Kind.TEMP]
     signs = [o for o in group if o.kind == Kind.LH or o.kind == Kind.MUCUS]
-    shift = thermal_shift(valid_readings(temps), span.start, span.end or today, protocol)
-    found = markers(signs, shift, protocol, retrospective=not span.is_open)
+    readings, left_out = valid_readings(temps, protocol), excluded_readings(temps, protocol)
+    shift = thermal_shift(readings, span.start, span.end or today, protocol, left_out)
+    marks = markers(signs, shift, protocol, retrospective=not span.is_open)
+    luteal = luteal_length(marks, span.next_start)
     return CycleRecord(
         start=span.start,
         end=span.end,
@@ -86,8 +122,10 @@ def _record(span: cy.CycleSpan, group: list[Observation], today: date, protocol:
         bleed_days=span.bleed.days,
         bleed_end=span.bleed.end,
         shift=shift,
-        markers=found,
-        luteal_length=luteal_length(found.ovulation, span.next_start),
+        markers=marks,
+        luteal_length=luteal,
+        pregnancy=any(span.start <= e.start and (span.next_start is None or e.start < span.next_start) for e in found),
+        dating_conflict=dating_conflict(luteal, marks, protocol),
     )
 
 
@@ -96,20 +134,32 @@ def analyse(
 ) -> Analysis:
     """Everything the core can say about one patient as of `today`."""
     seen = sorted((o for o in observations if o.day <= today), key=lambda o: o.day)
-    spans = cy.cycle_spans(cy.menstrual_bleeds(seen, protocol))
+    found, discounted = episodes(seen, patient.status, patient.status_since, protocol)
+    lochia = timedelta(days=protocol.lochia_days)
+    bleeding = cy.sort_bleeding(seen, protocol, tuple((e.start, e.end and e.end + lochia) for e in found))
+    spans = cy.cycle_spans(list(bleeding.menstrual))
     groups = cy.group_by_cycle(seen, spans)
-    records = tuple(_record(span, group, today, protocol) for span, group in zip(spans, groups))
-    current = records[-1] if records else None
+    records = tuple(_record(span, group, today, protocol, found) for span, group in zip(spans, groups))
+    last = records[-1] if records else None
+    # The latest pregnancy counts until a period follows it: cycles restart with that period.
+    episode = found[-1] if found and (last is None or last.start <= found[-1].start) else None
+    ended = episode is not None and episode.end is not None
+    current = None if ended else last
     current_obs = groups[-1] if groups else seen
-    complete = [r for r in records if not r.is_open][-protocol.stats_cycles :]
+    complete = [r for r in records if not r.is_open and not r.pregnancy][-protocol.stats_cycles :]
     stats = cycle_stats([r.length for r in complete], [r.bleed_days for r in complete])
     age = age_on(patient.born, today)
-
+    during = () if episode is None else tuple(
+        b for b in bleeding.in_pregnancy if episode.start <= b.start and (episode.end is None or b.start <= episode.end)
+    )
     pregnant = pregnancy(
         current_obs,
-        current.start if current else None,
-        current.markers.ovulation if current else None,
-        patient.status == PatientStatus.PREGNANT,
+        last.start if last else None,
+        last.markers.ovulation if last else None,
+        episode,
+        patient.status == PatientStatus.PREGNANT and patient.status_since is None,
+        usual_cycle(stats, age, protocol),
+        during,
         today,
         protocol,
     )
@@ -126,7 +176,7 @@ def analyse(
         patient_id=patient.id,
         today=today,
         cycle_start=current.start if current else None,
-        cycle_day=(today - current.start).days + 1 if current else None,
+        cycle_day=cy.cycle_day(current.start, today) if current else None,
         cycles=records,
         current=current,
         stats=stats,
@@ -141,7 +191,18 @@ def analyse(
         last_bleed_day=last_bleed,
         last_entry_day=seen[-1].day if seen else None,
         age_years=age,
+        intermenstrual=bleeding.intermenstrual,
+        episode=episode,
+        pregnancy_bleeds=during,
+        hcg_discounted=discounted,
     )
+
+
+def usual_cycle(stats: CycleStats, age: int, protocol: Protocol) -> int | None:
+    """The usual cycle length (the median) when cycles classify as regular (FIGO 2018), else None."""
+    if classify(stats, None, False, age, protocol).regularity != "regular":
+        return None
+    return math.floor(stats.median + 0.5)
 
 
 def _forecast(
@@ -150,22 +211,28 @@ def _forecast(
     # A "cycle" past the amenorrhoea threshold is an absence of bleeding, not a pattern to learn from
     # (and a mistyped year would otherwise stretch the forecast grid over decades).
     lengths = [r.length for r in complete if r.length < protocol.amenorrhoea_days]
-    luteals = [r.luteal_length for r in complete if r.luteal_length is not None]
-    cycle = predictive(lengths, protocol.prior_cycle_mean, protocol.prior_cycle_sd, protocol.prior_weight_cycles)
-    luteal = predictive(luteals, protocol.prior_luteal_mean, protocol.prior_luteal_sd, protocol.prior_weight_cycles)
+    # The model counts from the day after the estimated ovulation day, whatever dated it; a length
+    # that says the dating is wrong is shown, not learnt.
+    luteals = [
+        days_after_ovulation(r.markers.ovulation, r.end + timedelta(days=1)) for r in complete if r.dating_conflict is None
+    ]
+    luteals = [days for days in luteals if days is not None]
+    cycle = cycle_predictive(lengths, protocol)
+    luteal = luteal_predictive(luteals, protocol)
 
     def cycle_day(day: date | None) -> int | None:
-        return None if day is None else (day - current.start).days + 1
+        return None if day is None else cy.cycle_day(current.start, day)
 
     shift = current.shift
-    readings = [cycle_day(r.day) for r in valid_readings(current_obs)]
-    lh_tests = [cycle_day(o.day) for o in current_obs if o.kind == Kind.LH]
+    readings = [cycle_day(r.day) for r in valid_readings(current_obs, protocol)]
+    negatives = tuple(cycle_day(o.day) for o in current_obs if o.kind == Kind.LH and not lh_positive(o, protocol))
     evidence = Evidence(
         cycle_day=cycle_day(today),
         first_high=cycle_day(shift.first_high) if shift.confirmed else None,
         lh_surge=cycle_day(current.markers.lh_surge),
-        horizon=watch_horizon(readings, lh_tests, protocol),
+        horizon=watch_horizon(readings, protocol),
         rise_start=None if shift.confirmed else cycle_day(shift.rise_start),
+        lh_negatives=negatives,
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 
@@ -183,8 +250,12 @@ def _phase(
         return UNKNOWN
     if (today - current.bleed_end).days <= 1:
         return BLEEDING
-    ovulation = current.markers.ovulation
-    if current.shift.confirmed or (ovulation is not None and ovulation < today):
+    ovulation, until = current.markers.ovulation, fertile_until(current.markers, protocol)
+    if current.shift.confirmed:
+        return LUTEAL
+    if until is not None and today <= until:
+        return WINDOW  # the fertile time the LH surge or mucus peak shows has not ended
+    if ovulation is not None and ovulation < today:
         return LUTEAL
     if current.markers.lh_surge is not None:
         return WINDOW
@@ -201,7 +272,7 @@ def _next_event(phase: str, forecast: Prediction | None, scans: Follicles | None
     """The earliest coming event worth planning for."""
     if phase == PREGNANT or forecast is None:
         return None
-    if today > forecast.next_period_range[1]:
+    if today > forecast.next_period_range[1] and phase != BLEEDING:  # a bleed that runs on is no missed period
         return NextEvent("pregnancy test", today)
     events = [NextEvent("period", forecast.next_period)]
     if forecast.fertile_window is not None and phase in (BLEEDING, PRE_WINDOW):
@@ -210,124 +281,3 @@ def _next_event(phase: str, forecast: Prediction | None, scans: Follicles | None
         events.append(NextEvent("trigger size", scans.trigger_day))
     coming = [e for e in events if e.day >= today]
     return min(coming, key=lambda e: e.day) if coming else None
-
-
-def _iso(day: date | None) -> str | None:
-    return None if day is None else day.isoformat()
-
-
-def _span(pair: tuple[date, date] | None) -> list[str] | None:
-    return None if pair is None else [pair[0].isoformat(), pair[1].isoformat()]
-
-
-def _shift_json(shift: ThermalShift) -> dict:
-    cp = shift.change_point
-    return {
-        "confirmed": shift.confirmed,
-        "confirmed_on": _iso(shift.confirmed_on),
-        "first_high": _iso(shift.first_high),
-        "coverline": shift.coverline,
-        "change_point": None
-        if cp is None
-        else {
-            "split_on": cp.split_on.isoformat(),
-            "low_mean": cp.low_mean,
-            "high_mean": cp.high_mean,
-            "difference": cp.difference,
-            "strength": cp.strength,
-            "passes": cp.passes,
-        },
-        "agreement": shift.agreement,
-        "readings": shift.readings,
-        "coverage": shift.coverage,
-        "days_above_coverline": shift.days_above_coverline,
-    }
-
-
-def _prediction_json(p: Prediction) -> dict:
-    return {
-        "ovulation": _iso(p.ovulation),
-        "ovulation_range": _span(p.ovulation_range),
-        "fertile_window": _span(p.fertile_window),
-        "next_period": p.next_period.isoformat(),
-        "next_period_range": _span(p.next_period_range),
-        "daily": [{"day": d.day.isoformat(), "p_fertile": d.p_fertile} for d in p.daily],
-        "calendar_rule": None if p.calendar_rule is None else list(p.calendar_rule),
-        "expected_ovulation": p.expected_ovulation.isoformat(),
-        "expected_ovulation_range": _span(p.expected_ovulation_range),
-        "evidence": p.evidence,
-    }
-
-
-def _pregnancy_json(p: Pregnancy) -> dict:
-    trend = p.hcg_trend
-    return {
-        "edd": _iso(p.edd),
-        "edd_method": p.edd_method,
-        "gestational_age_days": p.gestational_age_days,
-        "gestational_age": p.gestational_age,
-        "hcg_rise_48h": None if trend is None else trend.rise_48h,
-        "hcg_doubling_days": None if trend is None else trend.doubling_days,
-        "positive_test": _iso(p.positive_test),
-    }
-
-
-def _follicles_json(f: Follicles) -> dict:
-    return {
-        "lead_mm": f.lead_mm,
-        "mature_count": f.mature_count,
-        "growth_mm_per_day": f.growth_mm_per_day,
-        "trigger_day": _iso(f.trigger_day),
-        "trigger_reached": f.trigger_reached,
-        "endometrium_mm": f.endometrium_mm,
-        "last_scan": f.scans[-1].day.isoformat(),
-    }
-
-
-def analysis_json(a: Analysis) -> dict:
-    """The analysis keys of the `show --json` contract (the caller adds `patient` and `alerts`)."""
-    s, c = a.stats, a.classification
-    current = a.current
-    return {
-        "today": a.today.isoformat(),
-        "cycle_day": a.cycle_day,
-        "cycle_start": _iso(a.cycle_start),
-        "cycles": [
-            {
-                "start": r.start.isoformat(),
-                "length": r.length,
-                "bleed_days": r.bleed_days,
-                "ovulation": _iso(r.markers.ovulation),
-                "ovulation_method": r.markers.ovulation_method,
-                "luteal_length": r.luteal_length,
-                "open": r.is_open,
-            }
-            for r in a.cycles
-        ],
-        "stats": {
-            "count": s.count,
-            "mean": s.mean,
-            "sd": s.sd,
-            "median": s.median,
-            "shortest": s.shortest,
-            "longest": s.longest,
-            "variation": s.variation,
-        },
-        "classification": {"frequency": c.frequency, "regularity": c.regularity, "duration": c.duration},
-        "prediction": None if a.prediction is None else _prediction_json(a.prediction),
-        "thermal_shift": None if current is None else _shift_json(current.shift),
-        "pregnancy": None if a.pregnancy is None else _pregnancy_json(a.pregnancy),
-        "markers": None
-        if current is None
-        else {
-            "lh_surge": _iso(current.markers.lh_surge),
-            "mucus_peak": _iso(current.markers.mucus_peak),
-            "ovulation": _iso(current.markers.ovulation),
-            "ovulation_method": current.markers.ovulation_method,
-        },
-        "follicles": None if a.follicles is None else _follicles_json(a.follicles),
-        "phase": a.phase,
-        "next_event": None
-        if a.next_event is None
-        else {"label": a.next_event.label, "day": a.next_event.day.isoformat()},
-    }

@@ -61,11 +61,6 @@ def _lower(z: float, tail: float) -> float:
     return tail if z < 0 else 1.0 - tail
 
 
-def t_lower_tail(z: float, dof: float) -> float:
-    """P(T <= z) for a standard Student's t, accurate far into the lower tail."""
-    return _lower(z, _tail(z, dof))
-
-
 def _between(lo: float, hi: float, lo_tail: float, hi_tail: float) -> float:
     """P(lo < T <= hi), taken on the side of zero that keeps precision."""
     if lo >= 0.0:

@@ -86,6 +86,7 @@ class Patient:
     plan: Plan = Plan.NATURAL
     created: date | None = None
     charting_temps: bool = True
+    status_since: date | None = None  # date of record of the last status change; None if never changed
 
 
 @dataclass(frozen=True)
@@ -152,16 +153,6 @@ class Entry:
     @property
     def disturbed(self) -> bool:
         return any(f in DISTURBANCE_FLAGS for f in self.flags)
-
-    def history(self) -> str:
-        """Where the entry stands among corrections and voids, in words; empty for a plain entry."""
-        if self.voided_reason is not None:
-            return f"void: {self.voided_reason}"
-        if self.superseded_by is not None:
-            return f"corrected by {self.superseded_by}"
-        if self.supersedes is not None:
-            return f"corrects {self.supersedes}: {self.amend_reason}"
-        return ""
 
 
 @dataclass(frozen=True)

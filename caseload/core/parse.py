@@ -8,6 +8,7 @@ and what is accepted.
 from __future__ import annotations
 
 import re
+import unicodedata
 from dataclasses import dataclass
 from datetime import date, timedelta
 
@@ -60,11 +61,22 @@ def accepted(words) -> str:
     return ", ".join(words)
 
 
-def one_line(text: str, limit: int = 60) -> str:
-    """User text fit for a one-line message: control characters (newlines, terminal escapes)
-    are shown escaped; letters of every script stay as they are."""
-    shown = "".join(ch if ch.isprintable() else ch.encode("unicode_escape").decode("ascii") for ch in text)
-    return shown if len(shown) <= limit else shown[: limit - 1] + "…"
+# Characters that act on a terminal or hide in it instead of showing: controls (newline, escape),
+# format characters (bidi overrides, zero-width), lone surrogates from undecodable bytes, private-use
+# and unassigned code points, and line or paragraph separators. Spaces of every kind stay spaces.
+INERT_CATEGORIES = frozenset({"Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"})
+
+
+def one_line(text: str, limit: int | None = 60) -> str:
+    """User text fit for one line of a message or a screen: characters that would act on the terminal
+    are shown as escapes; letters of every script and every kind of space stay as they are. The one
+    rule for all display (see caseload.presentation.safe_text); `limit` shortens long text."""
+    shown = "".join(
+        ch.encode("unicode_escape").decode("ascii") if unicodedata.category(ch) in INERT_CATEGORIES
+        else ch
+        for ch in text
+    )
+    return shown if limit is None or len(shown) <= limit else shown[: limit - 1] + "…"
 
 
 def parse_kind(word: str) -> Kind:

@@ -1,13 +1,19 @@
 """Prediction for the current cycle as a probability distribution over the ovulation cycle day.
 
 Cycle length L and luteal length T (days from the day after ovulation to the day before the next
-period, Lenton 1984) each come from a Bayesian normal model: the patient's own values shrunk
-toward a population prior (cycle: Fehring 2006; luteal: Lenton 1984) that carries
-`prior_weight_cycles` cycles' worth of weight. With the variance learnt too, the predictive is
-Student's t; its heavier tails are what let the population prior alone meet Wilcox 2000 (at
-least a 10% chance of being in the fertile window on every cycle day 6 to 21), which a normal
-with the same figures misses (6% on day 21). Ovulation falls on cycle day O = L - T and the next
-period on day L + 1. The current cycle's evidence then reweights the joint grid.
+period, Lenton 1984) each come from a hierarchical normal model: her mean is drawn from the
+population (cycle: Fehring 2006; luteal: Lenton 1984) and her values scatter around it with her
+own spread. The population's SD splits into a between-women part and a usual within-woman part,
+so the prior on her mean weighs as many cycles as her within-woman variance is a multiple of the
+between-women variance: a consistent history (small spread) is hardly pulled toward the population
+mean, a scattered one more. Her spread is learnt from her values against the usual spread, which
+carries `prior_weight_cycles` cycles' worth of weight; with it learnt the predictive is Student's t.
+Ovulation falls on cycle day O = L - T and the next period on day L + 1, never before
+`earliest_ovulation_day`. A small share of cycles ovulate at any day up to
+`late_ovulation_last_day` whatever the pattern (Wilcox 2000: the window comes late sporadically,
+4-6% potentially fertile in the fifth week, even in regular women), so the daily curve keeps a
+tail. The current cycle's evidence then reweights the joint grid; ovulation and the next period
+always come from the same grid, so the next period stays ovulation plus the luteal length.
 """
 
 from __future__ import annotations
@@ -55,24 +61,47 @@ class Evidence:
     cycle_day: int  # today
     first_high: int | None  # of a confirmed thermal shift
     lh_surge: int | None
-    horizon: int | None  # earliest day ovulation can still be on; None when nothing is watched
+    horizon: int | None  # earliest day ovulation can still be on by the temperatures; None when not watched
     rise_start: int | None = None  # first day of a rise the change point sees without a confirmed shift
+    lh_negatives: tuple[int, ...] = ()  # days of negative LH tests, in order
 
 
-def watch_horizon(reading_days: list[int], lh_test_days: list[int], protocol: Protocol) -> int | None:
-    """The earliest cycle day ovulation can still be on when the watching has shown no sign of it.
+# A surge lasts about two days (from memory): negative tests at most this many days apart leave
+# no day of it untested, so they form one run.
+MAX_LH_TEST_GAP_DAYS = 2
 
-    Temperatures: ovulation before the last `shift_confirm_readings` readings would have given a
-    confirmed shift by now, provided there were enough readings for the rule to work at all.
-    LH: a surge precedes ovulation, so none up to the last test means ovulation is not past it.
-    """
-    found = []
+
+def watch_horizon(reading_days: list[int], protocol: Protocol) -> int | None:
+    """The earliest cycle day ovulation can still be on when the temperatures show no sign of it:
+    ovulation before the last `shift_confirm_readings` readings would have given a confirmed shift
+    by now, provided there were enough readings for the rule to work at all."""
     confirm = protocol.shift_confirm_readings
     if len(reading_days) >= protocol.shift_low_days + confirm:
-        found.append(reading_days[-confirm])
-    if lh_test_days:
-        found.append(lh_test_days[-1])
-    return max(found, default=None)
+        return reading_days[-confirm]
+    return None
+
+
+def lh_horizon(negatives: tuple[int, ...], expected: tuple[int, int], protocol: Protocol) -> int | None:
+    """The earliest cycle day ovulation can still be on after negative LH tests, or None.
+
+    A negative test says only that the surge was not on that day. A run of negatives with no day
+    of a surge untested, begun before the earliest expected surge, says the surge is not yet past;
+    a lone negative, or a run begun after ovulation may already have happened, says nothing. Tests
+    after the expected ovulation range say nothing of ovulation earlier in it.
+    """
+    first_surge = expected[0] - protocol.lh_to_ovulation_days
+    run: list[int] = []
+    for day in sorted(set(negatives)):
+        if day > expected[1]:
+            break
+        if run and day - run[-1] > MAX_LH_TEST_GAP_DAYS:
+            if run[0] <= first_surge:
+                break  # the run that covered the expected surge ended; later ones start too late
+            run = []
+        run.append(day)
+    if not run or run[0] > first_surge:
+        return None
+    return run[-1] + protocol.lh_to_ovulation_days
 
 
 @dataclass(frozen=True)
@@ -98,22 +127,39 @@ class Prediction:
     evidence: str  # "lh", "shift", "change-point", joined by "+"; "elapsed" (watched days, no sign); "pattern"
     cycle_length: Predictive
     luteal_length: Predictive
+    reason: str = ""  # in words: what the forecast rests on and why it moved from the pattern
+    peak_p_fertile: float = 0.0  # the highest P(fertile) of any cycle day by her pattern alone
 
 
-def predictive(values: list[int], prior_mean: float, prior_sd: float, prior_weight: float) -> Predictive:
-    """Normal model with a conjugate normal-inverse-chi-squared prior (kappa0 = nu0 = prior weight).
-
-    With no values the prior stands alone, whatever its weight.
-    """
+def predictive(
+    values: list[int], prior_mean: float, prior_sd: float, within_sd: float, prior_weight: float
+) -> Predictive:
+    """Hierarchical normal model: her mean from N(prior_mean, between^2), where between^2 =
+    prior_sd^2 - within_sd^2, her values from N(her mean, her variance); her variance is her own
+    spread pooled with `within_sd` carrying `prior_weight` values' worth. With no values the
+    population stands alone."""
     n = len(values)
-    weight = prior_weight if n else max(prior_weight, 1.0)
-    kappa = weight + n
-    mean = sum(values) / n if n else prior_mean
+    if not n:
+        return Predictive(prior_mean, max(prior_sd, MIN_SCALE_DAYS), max(prior_weight, 1.0), 0)
+    between_var = max(prior_sd**2 - within_sd**2, MIN_SCALE_DAYS**2)
+    mean = sum(values) / n
     spread = sum((v - mean) ** 2 for v in values)
-    centre = (weight * prior_mean + n * mean) / kappa
-    variance = (weight * prior_sd**2 + spread + weight * n / kappa * (mean - prior_mean) ** 2) / kappa
-    scale = max(math.sqrt(variance * (1 + 1 / kappa)), MIN_SCALE_DAYS)
-    return Predictive(round(centre, 4), round(scale, 4), kappa, n)
+    dof = max(prior_weight + n - 1, 1.0)
+    within_var = (prior_weight * within_sd**2 + spread) / dof
+    prior_cycles = within_var / between_var  # the weight of the population mean, in her cycles
+    centre = (prior_cycles * prior_mean + n * mean) / (prior_cycles + n)
+    scale = max(math.sqrt(within_var * (1 + 1 / (prior_cycles + n))), MIN_SCALE_DAYS)
+    return Predictive(round(centre, 4), round(scale, 4), dof, n)
+
+
+def cycle_predictive(lengths: list[int], protocol: Protocol) -> Predictive:
+    p = protocol
+    return predictive(lengths, p.prior_cycle_mean, p.prior_cycle_sd, p.prior_cycle_within_sd, p.prior_weight_cycles)
+
+
+def luteal_predictive(luteals: list[int], protocol: Protocol) -> Predictive:
+    p = protocol
+    return predictive(luteals, p.prior_luteal_mean, p.prior_luteal_sd, p.prior_luteal_within_sd, p.prior_weight_cycles)
 
 
 def calendar_rule(lengths: list[int], protocol: Protocol) -> tuple[int, int] | None:
@@ -181,19 +227,35 @@ def _combined(found: list[tuple[str, dict[int, float]]]) -> dict[int, float]:
     return {o: math.prod(lk[o] for _, lk in found) for o in days}
 
 
-def _joint(cycle: Predictive, luteal: Predictive) -> dict[tuple[int, int], float]:
-    """P(O = o, N = n) on whole cycle days, N being the next period's cycle day; O >= 1."""
+def _joint(cycle: Predictive, luteal: Predictive, protocol: Protocol) -> dict[tuple[int, int], float]:
+    """P(O = o, N = n) on whole cycle days, N being the next period's cycle day: the pattern and,
+    with `late_ovulation_share`, a sporadic ovulation on any day up to `late_ovulation_last_day`;
+    never before `earliest_ovulation_day`."""
+    earliest = protocol.earliest_ovulation_day
     l_first, l_masses = day_masses(cycle.centre, cycle.scale, cycle.dof, 2)
     t_first, t_masses = day_masses(luteal.centre, luteal.scale, luteal.dof, 1)
-    grid: dict[tuple[int, int], float] = {}
+    pattern: defaultdict[tuple[int, int], float] = defaultdict(float)
     for i, pl in enumerate(l_masses):
         length = l_first + i
-        base = length - t_first  # o = base - j, so only j < base leaves o >= 1
-        for j, pt in enumerate(t_masses[: max(base, 0)]):
-            weight = pl * pt
-            if weight > 0.0:
-                grid[(base - j, length + 1)] = weight
-    return grid
+        base = length - t_first  # o = base - j
+        for j, pt in enumerate(t_masses[: max(base - earliest + 1, 0)]):
+            if pl * pt > 0.0:
+                pattern[(base - j, length + 1)] += pl * pt
+    total = math.fsum(pattern.values())
+    share = protocol.late_ovulation_share if total > 0.0 else 1.0
+    days = range(earliest, max(protocol.late_ovulation_last_day, max((o for o, _ in pattern), default=0)) + 1)
+    grid = defaultdict(float, {key: (1.0 - share) * w / total for key, w in pattern.items()})
+    for o in days:
+        for j, pt in enumerate(t_masses):
+            grid[(o, o + t_first + j + 1)] += share * pt / len(days)
+    return dict(grid)
+
+
+def _from(grid: dict[tuple[int, int], float], horizon: int | None) -> dict[tuple[int, int], float]:
+    """The grid with ovulation before `horizon` struck out, renormalised; empty when nothing is left."""
+    kept = {key: w for key, w in grid.items() if horizon is None or key[0] >= horizon}
+    total = math.fsum(kept.values())
+    return {key: w / total for key, w in kept.items()} if total > 0.0 else {}
 
 
 def predict(
@@ -206,15 +268,27 @@ def predict(
     protocol: Protocol,
 ) -> Prediction:
     """Forecast the cycle that began on `start`."""
-    pattern = _joint(cycle, luteal)
+
+    def on(cycle_day: int) -> date:
+        return start + timedelta(days=cycle_day - 1)
+
+    def day_of(day: date) -> int:
+        return (day - start).days + 1
+
+    pattern = _joint(cycle, luteal, protocol)
+    pattern_days = _marginal(pattern, 0)
+    expected, expected_range = _summary(*pattern_days, OVULATION_RANGE, on)
+    expected_days = (day_of(expected_range[0]), day_of(expected_range[1]))
     found = _evidence_likelihoods(evidence, protocol)
     if not found:
-        # Days watched with no sign of ovulation are excluded (truncate and renormalise).
-        informed, label = pattern, "pattern" if evidence.horizon is None else "elapsed"
-        horizon = evidence.horizon or 1
-        total = math.fsum(w for key, w in pattern.items() if key[0] >= horizon)
-        current = {key: w / total for key, w in pattern.items() if key[0] >= horizon} if total > 0.0 else {}
+        watched = [h for h in (evidence.horizon, lh_horizon(evidence.lh_negatives, expected_days, protocol)) if h]
+        horizon = max(watched, default=None)
+        label = "pattern" if horizon is None else "elapsed"
+        # Days watched with no sign of ovulation are struck out; the next period moves with it.
+        current = _from(pattern, horizon)
+        informed = current or pattern
     else:
+        horizon = None
         label = "+".join(name for name, _ in found)
         # When the history, the LH test and the shift disagree, the most trusted evidence wins alone.
         informed = (
@@ -224,10 +298,6 @@ def predict(
         )
         current = informed
 
-    def on(cycle_day: int) -> date:
-        return start + timedelta(days=cycle_day - 1)
-
-    expected, expected_range = _summary(*_marginal(pattern, 0), OVULATION_RANGE, on)
     next_period, period_range = _summary(*_marginal(informed, 1), PERIOD_RANGE, on)
     ovulation = ov_range = window = None
     daily: tuple[DayChance, ...] = ()
@@ -238,7 +308,10 @@ def predict(
         width = protocol.fertile_window_days
         window = (max(ovulation - timedelta(days=width - 1), start), ovulation)
         distribution = tuple((on(d), round(p, 6)) for d, p in zip(days, probs))
-        daily = _daily(dict(zip(days, probs)), evidence.cycle_day, today, width)
+        by_day = dict(zip(days, probs))
+        daily = _daily(by_day, evidence.cycle_day, today, width)
+        # The most likely day of each margin may disagree; the outlook keeps them one luteal phase apart.
+        next_period = ovulation + timedelta(days=round(luteal.centre) + 1)
     return Prediction(
         ovulation=ovulation,
         ovulation_range=ov_range,
@@ -253,7 +326,50 @@ def predict(
         evidence=label,
         cycle_length=cycle,
         luteal_length=luteal,
+        peak_p_fertile=_peak(pattern_days, protocol.fertile_window_days),
+        reason=_reason(
+            label, evidence, horizon, cycle, day_of(expected), None if ovulation is None else day_of(ovulation),
+            day_of(next_period),
+        ),
     )
+
+
+def _reason(
+    label: str,
+    evidence: Evidence,
+    horizon: int | None,
+    cycle: Predictive,
+    expected: int,
+    ovulation: int | None,
+    next_period: int,
+) -> str:
+    """What the forecast rests on, and why it moved from the pattern, in words (cycle days, so the
+    words stay true whatever the calendar)."""
+    history = (
+        f"her {cycle.observed} cycles (about {cycle.centre:.0f} days) and the population prior (Fehring 2006)"
+        if cycle.observed
+        else "the population prior alone (Fehring 2006), no complete cycle yet"
+    )
+    then = f"next period on cycle day {next_period}"
+    if label == "pattern":
+        return f"From {history}: ovulation expected around cycle day {expected}; {then}, a luteal phase later."
+    if label == "elapsed":
+        if ovulation is None:
+            return f"Not yet: no sign of ovulation by cycle day {evidence.cycle_day}, past every day the model allows."
+        moved = "" if ovulation == expected else f" (the pattern alone said cycle day {expected})"
+        return (
+            f"Not yet: the temperatures and LH tests up to cycle day {evidence.cycle_day} show no sign of "
+            f"ovulation, so it is put on cycle day {horizon} or later, most likely cycle day {ovulation}{moved}; "
+            f"the next period moves with it: {then}."
+        )
+    signs = []
+    if evidence.lh_surge is not None:
+        signs.append(f"LH surge on cycle day {evidence.lh_surge} (ovulation about a day later, WHO Task Force 1980)")
+    if evidence.first_high is not None:
+        signs.append(f"thermal shift confirmed, first high on cycle day {evidence.first_high}: ovulation has passed")
+    if evidence.rise_start is not None:
+        signs.append(f"a temperature rise from cycle day {evidence.rise_start} (change point, Hilgers 1980)")
+    return f"Dated by this cycle: {'; '.join(signs)}; {then}, a luteal phase later."
 
 
 def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tuple[int, int], float]:
@@ -267,11 +383,21 @@ def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tup
     }
 
 
+def _peak(pattern_days: tuple[list[int], list[float]], width: int) -> float:
+    """The highest P(fertile) of any cycle day by the pattern: how peaked her own curve is."""
+    by_day = dict(zip(*pattern_days))
+    first, last = min(by_day), max(by_day)
+    return round(min(max(_fertile(by_day, d, width) for d in range(max(first - width + 1, 1), last + 1)), 1.0), 4)
+
+
+def _fertile(p_ovulation: dict[int, float], d: int, width: int) -> float:
+    """P(fertile) on cycle day d = P(ovulation falls on d .. d + width - 1) (Wilcox 1995)."""
+    return math.fsum(p_ovulation.get(o, 0.0) for o in range(d, d + width))
+
+
 def _daily(p_ovulation: dict[int, float], cycle_day: int, today: date, width: int) -> tuple[DayChance, ...]:
-    """P(fertile) on day d = P(ovulation falls on d .. d + width - 1) (Wilcox 1995)."""
     out = []
     for ahead in range(DAILY_DAYS):
-        d = cycle_day + ahead
-        p = math.fsum(p_ovulation.get(o, 0.0) for o in range(d, d + width))
+        p = _fertile(p_ovulation, cycle_day + ahead, width)
         out.append(DayChance(today + timedelta(days=ahead), round(min(max(p, 0.0), 1.0), 4)))
     return tuple(out)

@@ -19,6 +19,9 @@ ORDERED = (
     ("figo_frequent_below", "figo_infrequent_above"),
     ("hcg_pair_min_hours", "hcg_pair_max_hours"),
     ("mature_follicle_mm", "trigger_follicle_mm"),
+    ("shift_level_rise_c", "shift_quick_rise_c"),
+    ("prior_cycle_within_sd", "prior_cycle_sd"),
+    ("prior_luteal_within_sd", "prior_luteal_sd"),
 )
 FIELDS = {f.name: f for f in fields(Protocol)}
 

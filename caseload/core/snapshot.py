@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from caseload.core.analysis import Analysis
+from caseload.core.cycles import cycle_day
 
 
 @dataclass(frozen=True)
@@ -24,7 +25,7 @@ class Snapshot:
     last_entry_day: date | None
 
     def cycle_day(self, today: date) -> int | None:
-        return None if self.cycle_start is None else (today - self.cycle_start).days + 1
+        return None if self.cycle_start is None else cycle_day(self.cycle_start, today)
 
     def days_since_entry(self, today: date) -> int | None:
         return None if self.last_entry_day is None else (today - self.last_entry_day).days

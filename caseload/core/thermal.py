@@ -1,14 +1,21 @@
 """Thermal shift of one cycle: the three-over-six rule and a change-point estimate beside it.
 
-Three-over-six rule (Marquette University Institute for NFP): the first high is the first reading
-at least `shift_rise_c` above each of the previous `shift_low_days` valid readings; the coverline
-lies `coverline_above_c` above the highest of those; the shift is confirmed on the
-`shift_confirm_readings`-th consecutive reading above the coverline. Disturbed readings are skipped
-and missing days are tolerated (the rule counts readings, not days).
+Three-over-six rule as published (WHO multicentre study of the ovulation method, as described by
+Miolo, Colombo and Marshall, Contraception 1993; Marshall, Lancet 1968): the first time in the cycle
+that three consecutive readings are all above the level of the six immediately before them, one
+"spike" among the six (a reading `shift_spike_c` or more above both its neighbours) set aside. The
+rule slides along the cycle: a run that fails does not end the search. On a flat chart the wording
+alone passes by chance once in 84 places (3! 6! / 9!), so about a third of flat simulated cycles
+would confirm; the level must also have risen: the highs' mean clears the six's by
+`shift_quick_rise_c` on the third high, or by `shift_level_rise_c` (WHO Global Handbook: the
+temperature rises 0.2-0.5 C) on a fourth. The coverline form (common practice: first high
+`shift_rise_c` above the highest of the six, coverline `coverline_above_c` above it, confirmed on the
+`shift_confirm_readings`-th reading above it) is a protocol choice (`shift_rule` = 2). Disturbed and
+fever readings are set aside and listed; missing days are tolerated (the rule counts readings).
 
 Hilgers 1980 dates ovulation from the first day of the rise, which the rule's first high marks
 only on an abrupt rise: on a gradual one (WHO Global Handbook) the level has begun to climb before
-any reading clears the six before it by 0.2 C. The change point's first high-level reading marks
+any reading clears the six before it. The change point's first high-level reading marks
 that start, and without a confirmed shift a passing change point is the only sign of the rise.
 """
 
@@ -21,6 +28,7 @@ from datetime import date
 from caseload.core.model import Kind, Observation
 from caseload.core.settings import Protocol
 
+PUBLISHED_FORM, COVERLINE_FORM = 1, 2  # values of the `shift_rule` protocol setting
 # Change-point levels need a few readings each to mean anything; three matches the confirmation count.
 MIN_LEVEL_READINGS = 3
 # The rise is dated only when the day before it was read or is the one day missed: after a longer
@@ -34,6 +42,15 @@ MAX_UNREAD_DAYS_BEFORE_RISE = 1
 class Reading:
     day: date
     celsius: float
+
+
+@dataclass(frozen=True)
+class ExcludedReading:
+    """A temperature the shift rules leave out, and why (the chart draws it apart)."""
+
+    day: date
+    celsius: float
+    reason: str  # "disturbed: <flags>" or "fever"
 
 
 @dataclass(frozen=True)
@@ -64,15 +81,41 @@ class ThermalShift:
     coverage: float | None  # share of days from day 1 to the last day considered with a valid reading
     days_above_coverline: int  # days spanned by the latest unbroken run of readings above the coverline
     last_reading: date | None
+    excluded: tuple[ExcludedReading, ...] = ()  # readings the rules left out, with the reason
 
 
-def valid_readings(observations: list[Observation]) -> list[Reading]:
-    """Undisturbed temperatures, one per day (the later entry of a day wins), in day order."""
+def _left_out(obs: Observation, protocol: Protocol) -> str | None:
+    """Why a temperature is left out of the shift rules, or None when it counts."""
+    if obs.flags and obs.disturbed:
+        return "disturbed: " + ", ".join(obs.flags)
+    # A fever lifts the reading for reasons of its own (common practice): it says nothing of a shift.
+    if obs.value.number >= protocol.fever_c:
+        return "fever"
+    return None
+
+
+def _temperatures(observations: list[Observation]) -> list[Observation]:
+    return [o for o in observations if o.kind == Kind.TEMP and o.value.number is not None]
+
+
+def valid_readings(observations: list[Observation], protocol: Protocol) -> list[Reading]:
+    """Temperatures the shift rules use, one per day (the later entry of a day wins), in day order:
+    neither flagged as disturbed nor at the fever threshold."""
     by_day: dict[date, float] = {}
-    for obs in observations:
-        if obs.kind == Kind.TEMP and obs.value.number is not None and not (obs.flags and obs.disturbed):
+    for obs in _temperatures(observations):
+        if _left_out(obs, protocol) is None:
             by_day[obs.day] = obs.value.number
     return [Reading(day, by_day[day]) for day in sorted(by_day)]
+
+
+def excluded_readings(observations: list[Observation], protocol: Protocol) -> tuple[ExcludedReading, ...]:
+    """Every temperature the shift rules leave out, with the reason, in day order."""
+    found = []
+    for obs in _temperatures(observations):
+        reason = _left_out(obs, protocol)
+        if reason is not None:
+            found.append(ExcludedReading(obs.day, obs.value.number, reason))
+    return tuple(sorted(found, key=lambda e: e.day))
 
 
 def _hundredths(celsius: float) -> int:
@@ -84,15 +127,54 @@ def _hundredths(celsius: float) -> int:
 class _RuleResult:
     first_high: int | None  # index into the readings
     confirmed_at: int | None
-    coverline: int | None  # hundredths of a degree
+    coverline: int | None  # hundredths of a degree: the level the highs must stay above
 
 
 def three_over_six(readings: list[Reading], protocol: Protocol) -> _RuleResult:
-    """The first shift by the three-over-six rule; a fall to the coverline restarts the search."""
+    """The first shift by the protocol's form of the three-over-six rule."""
     temps = [_hundredths(r.celsius) for r in readings]
+    if protocol.shift_rule == COVERLINE_FORM:
+        return _coverline_form(temps, protocol)
+    return _published_form(temps, protocol)
+
+
+def _six_without_spike(six: list[int], before: int | None, first_high: int, spike: int) -> list[int]:
+    """The six lows with one spike set aside: the highest, when it is `spike` or more above both
+    neighbours (Miolo 1993). `before` is the reading before the six, `first_high` the one after."""
+    top = max(range(len(six)), key=six.__getitem__)
+    left = six[top - 1] if top > 0 else before
+    right = six[top + 1] if top + 1 < len(six) else first_high
+    if left is not None and six[top] >= left + spike and six[top] >= right + spike:
+        return six[:top] + six[top + 1 :]
+    return six
+
+
+def _risen(highs: list[int], lows: list[int], rise: int) -> bool:
+    """mean(highs) - mean(lows) >= rise, in whole numbers."""
+    return sum(highs) * len(lows) - sum(lows) * len(highs) >= rise * len(highs) * len(lows)
+
+
+def _published_form(temps: list[int], protocol: Protocol) -> _RuleResult:
+    lows, confirm = protocol.shift_low_days, protocol.shift_confirm_readings
+    quick, level = _hundredths(protocol.shift_quick_rise_c), _hundredths(protocol.shift_level_rise_c)
+    spike = _hundredths(protocol.shift_spike_c)
+    for i in range(lows, len(temps)):
+        six = _six_without_spike(temps[i - lows : i], temps[i - lows - 1] if i > lows else None, temps[i], spike)
+        ceiling = max(six)
+        run = 0
+        while i + run < len(temps) and run <= confirm and temps[i + run] > ceiling:
+            run += 1
+            highs = temps[i : i + run]
+            if (run == confirm and _risen(highs, six, quick)) or (run == confirm + 1 and _risen(highs, six, level)):
+                return _RuleResult(i, i + run - 1, ceiling)
+        if i + run == len(temps) and run > 0:
+            return _RuleResult(i, None, ceiling)  # readings ran out above the six: it may still confirm
+    return _RuleResult(None, None, None)
+
+
+def _coverline_form(temps: list[int], protocol: Protocol) -> _RuleResult:
     lows, rise = protocol.shift_low_days, _hundredths(protocol.shift_rise_c)
     above, confirm = _hundredths(protocol.coverline_above_c), protocol.shift_confirm_readings
-    pending: _RuleResult = _RuleResult(None, None, None)
     for i in range(lows, len(temps)):
         highest = max(temps[i - lows : i])
         if temps[i] < highest + rise:
@@ -104,10 +186,8 @@ def three_over_six(readings: list[Reading], protocol: Protocol) -> _RuleResult:
         if run_end - i + 1 == confirm:
             return _RuleResult(i, run_end, coverline)
         if run_end + 1 == len(temps):
-            # Readings ran out before a fall: the shift may still confirm.
-            pending = _RuleResult(i, None, coverline)
-            break
-    return pending
+            return _RuleResult(i, None, coverline)  # readings ran out before a fall: it may still confirm
+    return _RuleResult(None, None, None)
 
 
 def change_point(readings: list[Reading], protocol: Protocol) -> ChangePoint | None:
@@ -179,7 +259,13 @@ def rise_start(readings: list[Reading], rule: _RuleResult, cp: ChangePoint | Non
     return readings[begins].day if unread <= MAX_UNREAD_DAYS_BEFORE_RISE else None
 
 
-def thermal_shift(readings: list[Reading], start: date, last_day: date, protocol: Protocol) -> ThermalShift:
+def thermal_shift(
+    readings: list[Reading],
+    start: date,
+    last_day: date,
+    protocol: Protocol,
+    excluded: tuple[ExcludedReading, ...] = (),
+) -> ThermalShift:
     """The shift of one cycle from its valid readings; `last_day` is the cycle's end or today."""
     rule = three_over_six(readings, protocol)
     cp = change_point(readings, protocol)
@@ -202,6 +288,7 @@ def thermal_shift(readings: list[Reading], start: date, last_day: date, protocol
         coverage=round(len(readings) / days, 3) if days > 0 else None,
         days_above_coverline=_days_above(readings, rule),
         last_reading=readings[-1].day if readings else None,
+        excluded=excluded,
     )
 
 

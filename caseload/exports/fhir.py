@@ -15,12 +15,15 @@ namespace ends in `.invalid` (RFC 2606): it can never be mistaken for a publishe
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Mapping, Sequence
+import json
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from datetime import date, datetime, time, timedelta, tzinfo
+from typing import IO
 
 from caseload.core.analysis import Analysis
 from caseload.core.model import Entry, Kind, Patient, Staff
+from caseload.application.referral import Chart, Options
 
 NAMESPACE = "https://caseload.invalid/fhir"
 CODE_SYSTEM = NAMESPACE + "/CodeSystem/observation"  # what was observed: the tool's kinds and derived facts
@@ -115,31 +118,6 @@ EDD_METHODS = {
 }
 
 
-@dataclass(frozen=True)
-class Chart:
-    """One patient's record to export: her stored entries (with their history) and her analysis."""
-
-    patient: Patient
-    entries: tuple[Entry, ...]
-    analysis: Analysis
-
-
-@dataclass(frozen=True)
-class Masking:
-    """De-identification: a keyed pseudonym and a keyed day offset for each patient id."""
-
-    pseudonym: Callable[[str], str]
-    shift_days: Callable[[str], int]
-
-
-@dataclass(frozen=True)
-class Options:
-    zone: tzinfo  # the clinic's time zone, for times of day
-    generated: datetime  # the Bundle's timestamp (aware)
-    since: date | None = None  # entries and derived dates before this day are left out
-    masking: Masking | None = None
-
-
 def fhir_id(text: str) -> str:
     """A staff or patient id as a FHIR id ([A-Za-z0-9-.]): '.' and '_' are escaped so no two ids meet."""
     return text.replace(".", ".d").replace("_", ".u")
@@ -187,11 +165,27 @@ def practitioners(staff: Mapping[str, Staff], ids: Iterable[str], options: Optio
     return [practitioner(staff[s], options.masking is not None) for s in sorted(ids) if s in staff]
 
 
-def bundle(charts: Sequence[Chart], staff: Mapping[str, Staff], options: Options) -> dict:
-    """The FHIR R4 Bundle (type collection) of the given patients, in memory."""
-    resources = [r for chart in charts for r in patient_resources(chart, options)]
-    ids = set().union(*(people(chart, options) for chart in charts))
-    return {**bundle_start(options), "entry": [bundle_entry(r) for r in practitioners(staff, ids, options) + resources]}
+def write_bundle(charts: Iterable[Chart], staff: Mapping[str, Staff], options: Options, stream: IO[bytes]) -> int:
+    """Write the FHIR R4 Bundle (type collection) of the charts to `stream` as JSON, entry by entry,
+    so that no more than one chart is held at a time; returns how many resources it holds."""
+    start = json.dumps(bundle_start(options))
+    stream.write((start[:-1] + ', "entry": [').encode("utf-8"))
+    count, staff_ids = 0, set()
+
+    def put(resource: dict) -> None:
+        nonlocal count
+        separator = ",\n" if count else "\n"
+        stream.write((separator + json.dumps(bundle_entry(resource), ensure_ascii=False)).encode("utf-8"))
+        count += 1
+
+    for chart in charts:
+        staff_ids |= people(chart, options)
+        for resource in patient_resources(chart, options):
+            put(resource)
+    for resource in practitioners(staff, staff_ids, options):
+        put(resource)
+    stream.write(b"\n]}\n")
+    return count
 
 
 def _included(day: date, since: date | None) -> bool:

@@ -17,10 +17,12 @@ from markupsafe import Markup
 
 from caseload.core.analysis import Analysis, CycleRecord
 from caseload.core.figo import Classification
-from caseload.core.model import Alert, Entry, Kind, Patient, observations
+from caseload.core.model import Alert, Entry, Kind, observations
 from caseload.core.pregnancy import hcg_trend
-from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.core.settings import Protocol
+from caseload.application.referral import PackInput
 from caseload.exports import chart
+from caseload.presentation.glossary import entry_history
 
 CAUTION = (
     "Predictions in this pack are estimates from the patient's own records and published population figures; "
@@ -29,7 +31,6 @@ CAUTION = (
 )
 OVULATION_METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
                           "mucus": "mucus peak"}
-PAPERS = ("a4", "letter")  # for the PDF
 UNITS = {Kind.HCG: "IU/L", Kind.LH: "IU/L"}
 
 
@@ -66,20 +67,6 @@ class Pack:
     charts: tuple[ChartBlock, ...]
     entries: Section
     caution: str
-
-
-@dataclass(frozen=True)
-class PackInput:
-    clinic: str
-    today: date
-    patient: Patient
-    analysis: Analysis
-    entries: Sequence[Entry]  # every stored entry, corrections and voids included
-    alerts: Sequence[Alert]  # not resolved, most pressing first
-    staff_names: Mapping[str, str]
-    cycles: int  # how many recent cycles to chart
-    prepared_by: str
-    protocol: Protocol = DEFAULT_PROTOCOL
 
 
 def _num(value: float | None, digits: int = 1) -> str:
@@ -241,7 +228,7 @@ def entries_section(i: PackInput, since: date | None) -> Section:
     chosen = sorted((e for e in i.entries if since is None or e.day >= since), key=lambda e: (e.day, e.time or "", e.id))
     rows = tuple(
         Row((str(e.id), e.day.isoformat(), e.time or "", e.kind.value, _value(e), ", ".join(e.flags), e.note,
-             i.staff_names.get(e.by, e.by), e.history()), struck=not e.current)
+             i.staff_names.get(e.by, e.by), entry_history(e)), struck=not e.current)
         for e in chosen
     )
     heading = "Entries of the charted cycles" if since is not None else "Entries"

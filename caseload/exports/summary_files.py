@@ -17,8 +17,6 @@ WRITERS: dict[str, Callable[[WeeklySummary, Path], None]] = {
     "csv": write_csv,  # a folder of files
     "json": write_json,
 }
-FORMATS = tuple(WRITERS)
-FOLDER_FORMATS = frozenset({"csv"})
 
 
 def write(summary: WeeklySummary, fmt: str, path: Path) -> None:

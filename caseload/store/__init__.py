@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
-from collections.abc import Callable
-from datetime import datetime
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from datetime import date, datetime
 from pathlib import Path
 
 from caseload.store import backup_restore as maintenance
@@ -15,10 +16,11 @@ from caseload.store.entry_table import EntryTable
 from caseload.store.patient_table import PatientTable
 from caseload.store.staff_table import StaffTable
 from caseload.store.snapshot_table import StateTable
+from caseload.store.summary_queries import ReportQueries
 
 
 class Store:
-    """The tables of one store file. Writes go inside `with store.write():`."""
+    """The tables of one store file. Writes go inside `with store.atomic(day_of_record):`."""
 
     def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now):
         self.db = Database(path, clock)
@@ -37,9 +39,33 @@ class Store:
     def write(self):
         return self.db.write()
 
-    def transact(self, work):
-        """Run `work()` in one write transaction with a bounded retry on a locked file."""
-        return self.db.transact(work)
+    def atomic(self, day_of_record: date | None = None):
+        """One transaction that nests (savepoints inside); its audit rows record `day_of_record`."""
+        return self.db.atomic(day_of_record)
+
+    def transact(self, work, day_of_record: date | None = None):
+        """Run `work()` as one transaction, rerun whole while another writer holds the lock."""
+        return self.db.transact(work, day_of_record)
+
+    def meta(self, key: str) -> str | None:
+        """A store-wide setting (time zone, clinic name, pseudonym secret, protocol file)."""
+        return self.db.meta(key)
+
+    def set_meta(self, key: str, value: str) -> None:
+        self.db.set_meta(key, value)
+
+    def summary_queries(self) -> ReportQueries:
+        """The weekly summary's reads, each run against one consistent snapshot."""
+        return ReportQueries(self.db)
+
+    @contextmanager
+    def clock_at(self, at: datetime) -> Iterator[None]:
+        """Stamp the changes made in the block at `at` (history loaded after the fact, as the demo's)."""
+        self.db.clock = lambda: at
+        try:
+            yield
+        finally:
+            self.db.clock = utc_now
 
     def backup(self, target: Path) -> None:
         maintenance.backup_to(self.db, Path(target))

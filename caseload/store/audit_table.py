@@ -1,9 +1,10 @@
-"""The audit trail: read-only access (rows are appended by Database.audit inside each change)."""
+"""The audit trail: rows appended inside each change's transaction, and read back."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
+from caseload.core.model import Actor
 from caseload.store.db import Database
 
 
@@ -18,15 +19,21 @@ class AuditRow:
     row_id: str | None
     before: str | None
     after: str | None
+    day_of_record: str | None
 
 
 class AuditTable:
     def __init__(self, db: Database):
         self.db = db
 
+    def record(self, actor: Actor, action: str, table: str, row_id=None, before=None, after=None) -> None:
+        """Append the audit row of a change that has no table of its own (settings, backups, exports);
+        inside the change's transaction."""
+        self.db.audit(actor, action, table, row_id, before, after)
+
     def rows(self, action_prefix: str = "") -> list[AuditRow]:
         rows = self.db.query(
-            "SELECT id, at, by_staff, os_account, action, tbl AS 'table', row_id, before, after"
+            "SELECT id, at, by_staff, os_account, action, tbl AS 'table', row_id, before, after, day_of_record"
             " FROM audit WHERE action LIKE ? ORDER BY id",
             (action_prefix + "%",),
         )

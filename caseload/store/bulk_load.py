@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass
-from datetime import datetime
+from datetime import date, datetime
 from itertools import islice
 
 from caseload.core.model import Actor, Patient, Staff
@@ -38,6 +38,11 @@ class NewEntry:
 
 def _at_text(at: datetime) -> str:
     return at.isoformat(timespec="seconds")  # as Database.now_text writes it
+
+
+def _day_of(at_text: str) -> date:
+    """History loaded after the fact is recorded as of the day it says it was written (its local date)."""
+    return date.fromisoformat(at_text[:10])
 
 
 class BulkTable:
@@ -92,7 +97,7 @@ class BulkTable:
         return sum(1 for _ in self.db.conn.execute(CURRENT_ROWS + IN_ORDER))
 
     def _audit(self, changes: Iterable[tuple]) -> None:
-        self.db.conn.executemany(AUDIT_INSERT, (audit_values(*c) for c in changes))
+        self.db.conn.executemany(AUDIT_INSERT, (audit_values(*c, _day_of(c[0])) for c in changes))
 
 
 @dataclass(frozen=True)
@@ -114,7 +119,7 @@ def prepare_entries(items: Iterable[NewEntry]) -> PreparedEntries:
         columns = columns or ("id", *row)
         rows.append((item.id, *row.values()))
         action = "entry.amend" if item.supersedes else "entry.log"
-        audits.append(audit_values(at, item.actor, action, "entry", item.id, after=row))
+        audits.append(audit_values(at, item.actor, action, "entry", item.id, after=row, day_of_record=_day_of(at)))
     return PreparedEntries(columns, rows, audits)
 
 

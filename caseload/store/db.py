@@ -8,7 +8,7 @@ import sqlite3
 import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager, suppress
-from datetime import UTC, datetime
+from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import TypeVar
 
@@ -57,6 +57,8 @@ class Database:
         conn.isolation_level = None  # transactions are begun explicitly, see write()
         self.db = sqlite_utils.Database(conn)
         self.conn = conn
+        self.day_of_record: date | None = None  # set by the outermost atomic() for its audit rows
+        self._savepoints = 0
         try:
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
             self._prepare()
@@ -136,8 +138,14 @@ class Database:
         if self.conn.in_transaction:
             raise StoreError("a write transaction is already open on this connection")
         self.conn.execute("BEGIN IMMEDIATE")
-        try:
+        with self._open_transaction():
             yield self.conn
+
+    @contextmanager
+    def _open_transaction(self) -> Iterator[None]:
+        """COMMIT the transaction just begun when the block ends, ROLLBACK if it raised."""
+        try:
+            yield
         except BaseException:
             if self.conn.in_transaction:
                 self.conn.execute("ROLLBACK")
@@ -151,13 +159,62 @@ class Database:
                     self.conn.execute("ROLLBACK")
                 raise
 
-    def transact(self, work: Callable[[], T], attempts: int = 6) -> T:
-        """Run `work` in one write transaction, retrying the whole of it while another writer
-        holds the lock past the busy timeout. Anything else is raised at once."""
+    @contextmanager
+    def atomic(self, day_of_record: date | None = None, attempts: int = 6) -> Iterator[sqlite3.Connection]:
+        """One transaction that nests. The outermost takes the write lock (BEGIN IMMEDIATE), waiting
+        with a bounded retry while other writers hold it; once taken the lock is held to COMMIT. An
+        inner one is a savepoint, rolled back alone when it fails. `day_of_record` is the clinic day
+        the outermost one's audit rows record."""
+        if not self.conn.in_transaction:
+            self._retry_on_lock(lambda: self.conn.execute("BEGIN IMMEDIATE"), attempts)
+            with self._begun(day_of_record):
+                yield self.conn
+            return
+        self._savepoints += 1
+        name = f"nested_{self._savepoints}"
+        self.conn.execute(f"SAVEPOINT {name}")
+        try:
+            yield self.conn
+        except BaseException:
+            self.conn.execute(f"ROLLBACK TO {name}")
+            self.conn.execute(f"RELEASE {name}")
+            raise
+        else:
+            self.conn.execute(f"RELEASE {name}")
+        finally:
+            self._savepoints -= 1
+
+    @contextmanager
+    def _begun(self, day_of_record: date | None) -> Iterator[None]:
+        """The transaction just begun: its day of record, then COMMIT, or ROLLBACK if the block raised."""
+        self.day_of_record = day_of_record
+        try:
+            with self._open_transaction():
+                yield
+        finally:
+            self.day_of_record = None
+
+    def transact(self, work: Callable[[], T], day_of_record: date | None = None, attempts: int = 6) -> T:
+        """Run `work` as one transaction, rerunning the whole of it while another writer holds the
+        lock past the busy timeout (a lock can also bite at COMMIT outside WAL mode). Inside a
+        transaction already open it is one savepoint, and the outermost unit retries."""
+        if self.conn.in_transaction:
+            with self.atomic():
+                return work()
+
+        def unit() -> T:
+            self.conn.execute("BEGIN IMMEDIATE")
+            with self._begun(day_of_record):
+                return work()
+
+        return self._retry_on_lock(unit, attempts)
+
+    def _retry_on_lock(self, step: Callable[[], T], attempts: int) -> T:
+        """`step()`, tried again with a growing pause while the file is locked by another writer; a
+        lock past every attempt is one line saying nothing was written. Anything else is raised at once."""
         for attempt in range(1, attempts + 1):
             try:
-                with self.write():
-                    return work()
+                return step()
             except sqlite3.OperationalError as err:
                 if not _is_lock_error(err):
                     raise
@@ -175,7 +232,9 @@ class Database:
         """Append the audit row for a change; call it inside the change's transaction."""
         if not self.conn.in_transaction:
             raise StoreError("audit rows are written only inside the transaction of their change")
-        self.conn.execute(AUDIT_INSERT, audit_values(self.now_text(), actor, action, table, row_id, before, after))
+        self.conn.execute(
+            AUDIT_INSERT, audit_values(self.now_text(), actor, action, table, row_id, before, after, self.day_of_record)
+        )
 
     def query(self, sql: str, params=()) -> list[dict]:
         return list(self.db.query(sql, params))
@@ -189,13 +248,17 @@ class Database:
 
 
 AUDIT_INSERT = (
-    "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after) VALUES (?, ?, ?, ?, ?, ?, ?, ?)"
+    "INSERT INTO audit (at, by_staff, os_account, action, tbl, row_id, before, after, day_of_record)"
+    " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)"
 )
 
 
-def audit_values(at: str, actor: Actor, action: str, table: str, row_id, before=None, after=None) -> tuple:
+def audit_values(
+    at: str, actor: Actor, action: str, table: str, row_id, before=None, after=None, day_of_record: date | None = None
+) -> tuple:
     """The values of one audit row, in AUDIT_INSERT's column order."""
-    return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), _json(before), _json(after))
+    return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), _json(before),
+            _json(after), None if day_of_record is None else day_of_record.isoformat())
 
 
 def _is_lock_error(err: sqlite3.OperationalError) -> bool:

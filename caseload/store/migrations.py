@@ -138,7 +138,30 @@ def _v1(conn: sqlite3.Connection) -> None:
     run_script(conn, APPEND_ONLY.format(table="audit"))
 
 
-MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1]
+def _audit_day_of_record(conn: sqlite3.Connection) -> None:
+    """Each audit row names the clinic day its change was made as of (the date of record); rows
+    written before this column existed keep NULL: their day was never recorded."""
+    conn.execute("ALTER TABLE audit ADD COLUMN day_of_record TEXT")
+
+
+def _status_since(conn: sqlite3.Connection) -> None:
+    """The date of record of a patient's last status change: the day a pregnancy began or ended.
+    Filled from the audit for patients whose status was changed before this version."""
+    run_script(
+        conn,
+        """
+        ALTER TABLE patient ADD COLUMN status_since TEXT;
+        UPDATE patient SET status_since = (
+            SELECT substr(a.at, 1, 10) FROM audit a
+            WHERE a.tbl = 'patient' AND a.row_id = patient.id AND a.before IS NOT NULL
+              AND json_extract(a.before, '$.status') IS NOT json_extract(a.after, '$.status')
+            ORDER BY a.id DESC LIMIT 1
+        );
+        """,
+    )
+
+
+MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [_v1, _audit_day_of_record, _status_since]
 LATEST = len(MIGRATIONS)
 
 

@@ -25,6 +25,7 @@ def patient_from_row(row: dict) -> Patient:
         plan=Plan(row["plan"]),
         created=date.fromisoformat(row["created"]),
         charting_temps=bool(row["charting_temps"]),
+        status_since=date.fromisoformat(row["status_since"]) if row.get("status_since") else None,
     )
 
 
@@ -38,6 +39,7 @@ def patient_to_row(p: Patient) -> dict:
         "plan": p.plan.value,
         "created": p.created.isoformat(),
         "charting_temps": int(p.charting_temps),
+        "status_since": None if p.status_since is None else p.status_since.isoformat(),
     }
 
 

@@ -18,17 +18,7 @@ class StateTable:
             (snap.patient_id, snap.computed_on.isoformat(), json.dumps(snap.to_dict())),
         )
 
-    def get(self, patient_id: str) -> Snapshot | None:
-        row = self.db.conn.execute("SELECT state FROM patient_state WHERE patient_id = ?", (patient_id,)).fetchone()
-        return Snapshot.from_dict(json.loads(row[0])) if row else None
-
-    def all(self, patient_ids: list[str] | None = None) -> dict[str, Snapshot]:
-        """Every patient's snapshot, or only those of `patient_ids` (one nurse's list)."""
-        if patient_ids is None:
-            rows = self.db.conn.execute("SELECT patient_id, state FROM patient_state")
-        else:
-            rows = self.db.conn.execute(
-                "SELECT patient_id, state FROM patient_state WHERE patient_id IN (SELECT value FROM json_each(?))",
-                (json.dumps(patient_ids),),
-            )
+    def all(self) -> dict[str, Snapshot]:
+        """Every patient's snapshot, by patient id."""
+        rows = self.db.conn.execute("SELECT patient_id, state FROM patient_state")
         return {pid: Snapshot.from_dict(json.loads(state)) for pid, state in rows}

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from caseload.core.analysis import CycleRecord
+from caseload.core.cycles import cycle_day
 from caseload.core.model import MUCUS_SCALE, Entry, Kind
 from caseload.application.caseload_view import PatientRecord
 
@@ -48,10 +49,6 @@ class CycleView:
         if self.fertile:
             parts.append("bars: P(fertile), right scale")
         return " · ".join(parts)
-
-
-def cycle_day(start: date, day: date) -> int:
-    return (day - start).days + 1
 
 
 def _strip_mark(entry: Entry) -> tuple[str, str] | None:

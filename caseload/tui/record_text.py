@@ -6,8 +6,11 @@ from __future__ import annotations
 from rich.text import Text
 
 from caseload.core.analysis import Analysis
+from caseload.core.cycles import cycle_day
 from caseload.application.caseload_view import PatientRecord
-from caseload.tui.words import CAUTION, NEXT_EVENT_LABELS, day_span, literal, phase_label, short_day
+from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, phase_label
+from caseload.presentation.days import day_span, short_day
+from caseload.tui.rich_text import literal
 
 METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
                 "mucus": "mucus peak"}
@@ -40,7 +43,7 @@ def cycle_rows(a: Analysis) -> list[list[str]]:
     rows = []
     for number, c in reversed(list(enumerate(a.cycles, start=1))):
         ov = c.markers.ovulation
-        ov_text = "-" if ov is None else f"day {(ov - c.start).days + 1} ({short_day(ov)})"
+        ov_text = "-" if ov is None else f"day {cycle_day(c.start, ov)} ({short_day(ov)})"
         rows.append([
             str(number),
             short_day(c.start),

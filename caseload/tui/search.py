@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from caseload.core.model import Patient
-from caseload.tui.words import folded
+from caseload.tui.rich_text import folded
 
 
 def match_rank(patient: Patient, typed: str) -> int | None:

@@ -137,11 +137,11 @@ def test_snooze_refusals(fever, as_role):
 
 
 def test_logging_gap_routine_escalated_then_auto_resolved(as_role, patient, store):
-    start = TODAY - timedelta(days=4)  # today is cycle day 5; fertile days expected from day 5
+    start = TODAY - timedelta(days=4)  # today is cycle day 5; fertile days expected from day 6
     import_csv(as_role(Role.NURSE), history_csv(patient.id, start, 1))
     gap = only(as_role(Role.NURSE), "logging-gap")
     assert gap.severity is Severity.INFO and gap.evidence["whole_days"] == 3  # days 2-4 (common practice: 3)
-    assert gap.evidence["expected_fertile_days"][0] == TODAY.isoformat()
+    assert gap.evidence["expected_fertile_days"][0] == (TODAY + timedelta(days=1)).isoformat()
     phone = as_role(Role.PHONE)
     service.acknowledge(phone, gap.id, None)  # routine: the phone line may, no note needed
     later = as_role(Role.PHONE, TODAY + timedelta(days=3))  # the gap now covers the expected fertile days

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import sqlite3
+from pathlib import Path
 
 import pytest
 
@@ -83,7 +84,7 @@ def test_usage_errors_exit_2(clinic):
 
 
 def test_unmapped_os_account_and_as_for_non_admins_are_refused(clinic, monkeypatch):
-    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "stranger")
+    monkeypatch.setattr("caseload.application.clinic.os_account", lambda: "stranger")
     result = clinic("list")
     assert result.exit_code == 1 and "not mapped" in result.stderr
 
@@ -98,7 +99,8 @@ def test_show_json_has_the_contract_keys(clinic):
     assert data["patient"] == "P0001"
     assert data["cycle_start"] == "2026-11-29" and data["cycle_day"] == 3
     assert data["cycles"][0] == {"start": "2026-11-01", "length": 28, "bleed_days": 2, "ovulation": None,
-                                 "ovulation_method": None, "luteal_length": None, "open": False}
+                                 "ovulation_method": None, "luteal_length": None, "dating_conflict": None,
+                                 "open": False, "pregnancy": False}
     assert set(data["stats"]) >= {"count", "mean", "sd", "shortest", "longest", "variation"}
     assert set(data["classification"]) == {"frequency", "regularity", "duration"}
     assert set(data["prediction"]) >= {"ovulation", "ovulation_range", "fertile_window", "next_period",
@@ -125,3 +127,17 @@ def test_list_backup_and_check(clinic, tmp_path):
     assert clinic("backup", str(tmp_path / "b.db")).exit_code == 0
     check = clinic("check")
     assert check.exit_code == 0 and "integrity: ok" in check.output and "audit id gaps: none" in check.output
+
+
+@pytest.mark.parametrize("zone", ["Mars/Base", "Europe/Londn", "", "../etc/passwd"])
+def test_init_refuses_an_unknown_time_zone(run, zone):
+    # IANA time zone database (tzdata): these names are not zones; nothing may be written.
+    result = run("init", "--admin", "ada", "--name", "Ada Admin", "--timezone", zone)
+    assert result.exit_code == 1
+    assert len(result.stderr.strip().splitlines()) == 1 and "time zone" in result.stderr
+    assert not Path(run.db).exists()
+
+
+def test_init_accepts_a_known_time_zone(run):
+    # IANA time zone database (tzdata): America/New_York is a zone.
+    assert run("init", "--admin", "ada", "--name", "Ada Admin", "--timezone", "America/New_York").exit_code == 0

@@ -11,10 +11,10 @@ from datetime import timedelta
 
 import pytest
 
-from caseload.core.alerts import CAUTION, RULES, AlertKind
+from caseload.core.alerts import CAUTION, RULES, AlertKind, Facts
 from caseload.core.model import Kind, PatientStatus, Plan, Severity, Value
 from caseload.core.settings import DEFAULT_PROTOCOL
-from tests.core.alert_charts import HIGH, LOW, Chart, at, day, kinds, of, patient, run
+from tests.core.alert_charts import HIGH, LOW, START, Chart, at, day, kinds, of, patient, run
 
 K = AlertKind
 
@@ -98,6 +98,78 @@ def test_window_alerts_end_with_a_confirmed_shift():
     assert not {K.WINDOW_OPEN, K.WINDOW_APPROACHING} & kinds(found, raisable_only=False)
 
 
+@pytest.mark.parametrize("peak_cd", [18, 20, 22])
+def test_mucus_fertile_time_lasts_to_the_third_day_after_the_peak(peak_cd):
+    # Mucus observation: fertile to the end of the third day after the peak (common practice); a
+    # late peak, where the pattern alone gives P(fertile) under 0.5, still opens the window, and the
+    # phase is not luteal the day after the peak while the window is open.
+    chart, current = regular(temps=False)
+    chart.add(day(current, peak_cd - 1), Kind.MUCUS, Value(word="stretchy"))
+    chart.add(day(current, peak_cd), Kind.MUCUS, Value(word="stretchy"))
+    chart.add(day(current, peak_cd + 1), Kind.MUCUS, Value(word="sticky"))
+    who = patient(temps=False)
+    for cd in range(peak_cd + 1, peak_cd + 4):
+        analysis, found = run(chart, day(current, cd), who)
+        assert analysis.current.markers.mucus_peak == day(current, peak_cd)
+        assert K.WINDOW_OPEN in kinds(found) and analysis.phase == "window", cd
+    analysis, found = run(chart, day(current, peak_cd + 4), who)
+    assert analysis.phase == "luteal" and K.WINDOW_OPEN not in kinds(found)
+
+
+def _window_days(chart: Chart, start, days: range, who=None) -> dict[int, set]:
+    """Cycle day -> the window kinds raised that day."""
+    out = {}
+    for cd in days:
+        found = run(chart, day(start, cd), who or patient(temps=False))[1]
+        out[cd] = kinds(found) & {K.WINDOW_OPEN, K.WINDOW_APPROACHING}
+    return out
+
+
+@pytest.mark.parametrize(
+    "lengths", [(), (35,), (24, 38, 30, 45, 27, 35), (40, 26, 33, 48, 29, 37, 31), (22, 23, 36, 37)]
+)
+def test_window_open_for_new_and_irregular_patients_whose_curve_stays_flat(lengths):
+    # A new patient (population prior, Fehring 2006) or an irregular one never reaches P(fertile)
+    # 0.5; the window opens at the top of her own curve (0.8 of its peak, common practice) instead,
+    # and approaches before that (0.2, common practice; six-day window: Wilcox 1995).
+    chart = Chart()
+    current = chart.history(list(lengths), temps=False) if lengths else day(START, 1)
+    chart.bleed(current)
+    seen = _window_days(chart, current, range(2, 40))
+    opened = [cd for cd, k in seen.items() if K.WINDOW_OPEN in k]
+    approached = [cd for cd, k in seen.items() if K.WINDOW_APPROACHING in k]
+    assert opened and approached and min(approached) < min(opened)
+    first = run(chart, day(current, min(opened)), patient(temps=False))[0].prediction
+    assert first.daily[0].p_fertile >= 0.8 * first.peak_p_fertile - 1e-9
+
+
+def test_window_approaching_never_ends_as_passed_at_the_peak():
+    # A new patient: every day up to the peak of her curve, a raised window-approaching alert ends
+    # (if it ends) because the window opened, never because it passed.
+    from caseload.core.alerts.lifecycle import ended_reason
+    from caseload.core.model import Alert, AlertState
+
+    chart = Chart()
+    current = day(START, 1)
+    chart.bleed(current)
+    who = patient(temps=False)
+    raised = None
+    for cd in range(2, 30):
+        analysis, found = run(chart, day(current, cd), who)
+        approaching = of(found, K.WINDOW_APPROACHING)
+        if raised is None and approaching and approaching[0].raisable:
+            c = approaching[0]
+            raised = Alert(id=1, patient_id=c.patient_id, kind=c.kind, key=c.key, severity=c.severity,
+                           raised_on=day(current, cd), due=c.due, message=c.message, evidence=c.evidence,
+                           rule=c.rule, source=c.source, state=AlertState.OPEN)  # fmt: skip
+        elif raised is not None and not approaching:
+            facts = Facts(who, analysis, chart.obs, day(current, cd), DEFAULT_PROTOCOL)
+            assert "has passed" not in ended_reason(raised, facts)
+            assert K.WINDOW_OPEN in kinds(found)
+            break
+    assert raised is not None
+
+
 @pytest.mark.parametrize("status", [PatientStatus.PREGNANT, PatientStatus.PAUSED, PatientStatus.DISCHARGED])
 def test_no_window_alerts_once_pregnant_paused_or_discharged(status):
     chart, today = follicular(10)
@@ -111,7 +183,7 @@ def test_every_plan_times_something_to_ovulation(plan):
     assert K.WINDOW_OPEN in kinds(run(chart, today, patient(plan=plan))[1])
 
 
-# --- no-thermal-shift (grace of 3 days and 70% coverage: common practice; three-over-six rule, Marquette NFP)
+# --- no-thermal-shift (grace of 3 days and 70% coverage: common practice; three-over-six rule, Miolo 1993; Marshall 1968)
 
 
 def test_no_thermal_shift_the_day_after_the_deadline():
@@ -187,10 +259,10 @@ def test_monophasic_cycle_near_miss_readings_on_19_of_28_days():
 
 
 def _uncertain(chart: Chart, start, until_cd: int) -> None:
-    """Low to day 14, then mostly high with every third reading back under the coverline: the
+    """Low to day 14, then mostly high with every third reading back to the low level: the
     three-over-six rule never sees three highs in a row, the change-point estimate sees the rise."""
     for cd in range(1, until_cd + 1):
-        chart.temp(day(start, cd), LOW if cd <= 14 else (LOW + 0.05 if (cd - 15) % 3 == 2 else HIGH))
+        chart.temp(day(start, cd), LOW if cd <= 14 or (cd - 15) % 3 == 2 else HIGH)
 
 
 def test_no_monophasic_cycle_when_the_change_point_sees_a_rise():
@@ -363,9 +435,34 @@ def test_hcg_pair_24_h_apart_is_scaled_to_48_h():
     assert alert.evidence["rise_48h"] == 0.44 and alert.evidence["hours"] == 24.0
 
 
-def test_hcg_pair_more_than_72_h_apart_is_not_compared():
-    chart, today, who = _hcg(100, 110, hours=96)
-    assert not of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+@pytest.mark.parametrize(
+    "hours, second, raised",
+    [
+        # Barnhart 2004: at least 24% in 1 day and 53% in 2 days. Other intervals scale log-linearly:
+        # a factor 1.53 ** (hours / 48), i.e. sqrt(1.53) = 1.237 a day (consistent with 24% in 1 day),
+        # 1.53 ** 1.5 = 1.8925 over 3 days and 1.53 ** 2 = 2.3409 over 4 days.
+        (24, 124, False),
+        (24, 123, True),
+        (72, 190, False),
+        (72, 189, True),
+        (96, 235, False),
+        (96, 234, True),
+        (96, 110, True),
+        (120, 290, False),  # 1.53 ** 2.5 = 2.896
+        (120, 289, True),
+    ],
+)
+def test_hcg_minimum_rise_is_scaled_to_any_interval_of_24_h_or_more(hours, second, raised):
+    chart, today, who = _hcg(100, second, hours=hours)
+    assert bool(of(run(chart, today, who)[1], K.HCG_RISE_LOW)) is raised
+
+
+@pytest.mark.parametrize("hours", [6, 30, 96, 144])
+def test_hcg_any_fall_is_urgent_whatever_the_gap(hours):
+    # Barnhart 2004: any fall of serum hCG in early pregnancy is abnormal (200 -> 120 over 96 h).
+    chart, today, who = _hcg(200, 120, hours=hours)
+    (alert,) = of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    assert alert.severity is Severity.URGENT and alert.evidence["rise_48h"] < 0
 
 
 def test_morse_minimum_as_a_clinic_setting():
@@ -419,9 +516,9 @@ def test_logging_gap_near_miss_two_whole_days():
 
 
 def test_logging_gap_is_soon_once_it_covers_the_expected_fertile_days():
-    chart, current, today = _gap(9)  # days 3-8; the pattern expects fertile days from day 6
+    chart, current, today = _gap(9)  # days 3-8; six 28-day cycles: ovulation from day 12 (80% range), fertile from day 7
     (alert,) = of(run(chart, today)[1], K.LOGGING_GAP)
-    assert alert.severity is Severity.SOON and alert.evidence["expected_fertile_days"][0] == day(current, 6).isoformat()
+    assert alert.severity is Severity.SOON and alert.evidence["expected_fertile_days"][0] == day(current, 7).isoformat()
 
 
 def test_no_logging_gap_for_a_paused_patient():
@@ -473,3 +570,23 @@ def test_every_candidate_carries_rule_source_evidence_and_the_caution():
     for c in found:
         assert c.rule and c.source and c.evidence and c.message.endswith(".") and c.caution == CAUTION
         assert c.key.startswith(f"P0001:{c.kind}:")
+
+
+@pytest.mark.parametrize("fevers", [(38.1, 38.3, 38.4), (38.0, 38.0, 38.2), (38.6, 39.0, 38.8)])
+def test_fever_readings_neither_confirm_a_shift_nor_end_the_window(fevers):
+    # Readings at or above 38.0 C (fever threshold, common practice) after 36.40 lows are left out
+    # of the shift rules (Miolo 1993 counts undisturbed readings only): no shift, the window alerts
+    # stay on, the fever alert is raised, and the chart lists the readings left out and why.
+    from caseload.presentation.json_shapes import analysis_json
+
+    chart, current = regular()
+    chart.temps(current, day(current, 11))
+    for cd, t in zip((12, 13, 14), fevers):
+        chart.temp(day(current, cd), t)
+    analysis, found = run(chart, day(current, 14))
+    assert not analysis.current.shift.confirmed and analysis.phase == "window"
+    assert {K.WINDOW_OPEN, K.FEVER} <= kinds(found)
+    excluded = analysis_json(analysis)["thermal_shift"]["excluded_readings"]
+    assert [(e["day"], e["celsius"], e["reason"]) for e in excluded] == [
+        (day(current, cd).isoformat(), t, "fever") for cd, t in zip((12, 13, 14), fevers)
+    ]

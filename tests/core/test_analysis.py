@@ -8,7 +8,8 @@ from datetime import date, timedelta
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from caseload.core.analysis import PHASES, analyse, analysis_json
+from caseload.core.analysis import PHASES, analyse
+from caseload.presentation.json_shapes import analysis_json
 from caseload.core.model import Kind, Observation, Patient, PatientStatus, Scan, Value
 
 BORN = date(1991, 7, 9)
@@ -61,7 +62,7 @@ def test_json_has_the_contract_keys():
         "ovulation", "ovulation_range", "fertile_window", "next_period", "next_period_range", "daily", "calendar_rule",
     } <= out["prediction"].keys()
     assert {"confirmed", "confirmed_on", "first_high", "coverline", "change_point"} <= out["thermal_shift"].keys()
-    assert out["prediction"]["daily"][0].keys() == {"day", "p_fertile"}
+    assert {"day", "p_fertile"} <= out["prediction"]["daily"][0].keys()
     assert out["prediction"]["calendar_rule"] == [26 - 18, 31 - 11]
     assert out["cycles"][-1]["length"] is None and out["cycle_day"] == 12
     assert out["pregnancy"] is None and out["phase"] in PHASES

@@ -1,14 +1,17 @@
 """Ovulation markers: LH surge, mucus peak, the estimate's order of trust, luteal length."""
 
+from dataclasses import replace
 from datetime import date, timedelta
 
 import pytest
 
-from caseload.core.analysis import analyse, analysis_json
-from caseload.core.markers import luteal_length, lh_surge, markers, mucus_peak
+from caseload.core.analysis import analyse
+from caseload.presentation.json_shapes import analysis_json
+from caseload.core.markers import Markers, luteal_length, lh_surges, markers, mucus_peak
 from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.core.settings import DEFAULT_PROTOCOL as P
-from caseload.core.thermal import thermal_shift, valid_readings
+from caseload.core.settings import Protocol
+from caseload.core.thermal import COVERLINE_FORM, thermal_shift, valid_readings
 
 DAY1 = date(2024, 5, 1)
 
@@ -27,13 +30,13 @@ def mucus(n: int, word: str) -> Observation:
 
 def test_the_surge_is_the_first_positive_test():
     obs = [lh(11, "negative"), lh(13, "positive"), lh(14, "positive")]
-    assert lh_surge(obs, P) == on(13)
+    assert lh_surges(obs, P) == [on(13)]
 
 
 @pytest.mark.parametrize("iu_l, positive", [(24.9, False), (25.0, True)])
 def test_a_numeric_lh_counts_from_the_protocol_threshold(iu_l, positive):
     # Common practice: 25 IU/L urinary LH read as a positive test.
-    assert (lh_surge([lh(12, number=iu_l)], P) == on(12)) is positive
+    assert (lh_surges([lh(12, number=iu_l)], P) == [on(12)]) is positive
 
 
 def test_mucus_peak_is_the_last_peak_type_day_confirmed_by_a_drier_one():
@@ -56,9 +59,9 @@ def _shift_chart() -> list[Observation]:
     return [Observation(on(d), Kind.TEMP, Value(number=t)) for d, t in (lows | highs).items()]
 
 
-def _markers(obs: list[Observation], retrospective: bool = False):
-    shift = thermal_shift(valid_readings(obs), DAY1, on(20), P)
-    return markers(obs, shift, P, retrospective)
+def _markers(obs: list[Observation], retrospective: bool = False, protocol: Protocol = P):
+    shift = thermal_shift(valid_readings(obs, protocol), DAY1, on(20), protocol)
+    return markers(obs, shift, protocol, retrospective)
 
 
 def test_order_of_trust_lh_then_shift_then_mucus():
@@ -74,11 +77,36 @@ def test_order_of_trust_lh_then_shift_then_mucus():
     assert _markers([]).ovulation is None and _markers([]).ovulation_method is None
 
 
+def dated(ovulation: date | None, method: str | None, surge: date | None = None) -> Markers:
+    return Markers(surge, None, ovulation, method)
+
+
 def test_luteal_length_counts_from_the_day_after_ovulation_to_the_day_before_the_period():
     # Lenton 1984 convention: ovulation on day 14, next period on day 29 -> days 15..28 = 14.
-    assert luteal_length(on(14), on(29)) == 14
-    assert luteal_length(None, on(29)) is None
-    assert luteal_length(on(14), None) is None
+    assert luteal_length(dated(on(14), "shift"), on(29)) == 14
+    assert luteal_length(dated(None, None), on(29)) is None
+    assert luteal_length(dated(on(14), "shift"), None) is None
+
+
+@pytest.mark.parametrize(
+    "surge, next_period, days",
+    [
+        (date(2024, 6, 8), date(2024, 6, 20), 11),  # bleed 26 May, LH positive 8 Jun, bleed 20 Jun
+        (date(2024, 6, 7), date(2024, 6, 20), 12),
+        (date(2024, 6, 9), date(2024, 6, 20), 10),
+        (date(2024, 6, 8), date(2024, 6, 23), 14),
+    ],
+)
+def test_short_luteal_phase_counts_from_the_day_after_the_lh_peak(surge, next_period, days):
+    # Lenton 1984: the luteal phase runs from the day after the LH peak to the day before menses,
+    # so 8 Jun peak, 20 Jun period -> 9..19 Jun = 11 days (not 10), whatever the surge-to-ovulation lag.
+    chart = [
+        Observation(date(2024, 5, 26), Kind.BLEED, Value(word="moderate")),
+        Observation(surge, Kind.LH, Value(word="positive")),
+        Observation(next_period, Kind.BLEED, Value(word="moderate")),
+    ]
+    first = analyse(Patient("P1", "A", date(1990, 1, 1), None), chart, next_period + timedelta(days=1), P).cycles[0]
+    assert first.markers.ovulation == surge + timedelta(days=1) and first.luteal_length == days
 
 
 def temps(values: dict[int, float]) -> list[Observation]:
@@ -86,26 +114,27 @@ def temps(values: dict[int, float]) -> list[Observation]:
 
 
 LOW = {d: 36.40 + 0.05 * (d % 2) for d in range(1, 15)}
-# A ramp the three-over-six rule never confirms; the change point's high level starts on day 16.
+# A ramp the coverline form never confirms; the change point's high level starts on day 16.
+COVER = replace(P, shift_rule=COVERLINE_FORM)
 RAMP = LOW | {15: 36.52, 16: 36.60, 17: 36.68, 18: 36.70, 19: 36.75, 20: 36.70}
 
 
 def test_a_change_point_dates_a_completed_cycle_the_rule_did_not_confirm():
     peak = [mucus(13, "stretchy"), mucus(14, "sticky")]
-    done = _markers(temps(RAMP) + peak, retrospective=True)
+    done = _markers(temps(RAMP) + peak, retrospective=True, protocol=COVER)
     # The day before the first day of the rise, ahead of the mucus peak in the order of trust.
     assert (done.ovulation, done.ovulation_method) == (on(15), "change-point")
     # In the open cycle a later reading could still move the split: the mucus peak stands.
-    still_open = _markers(temps(RAMP) + peak)
+    still_open = _markers(temps(RAMP) + peak, protocol=COVER)
     assert (still_open.ovulation, still_open.ovulation_method) == (on(13), "mucus")
-    assert _markers(temps(RAMP), retrospective=False).ovulation is None
+    assert _markers(temps(RAMP), retrospective=False, protocol=COVER).ovulation is None
 
 
 def test_a_gradual_shift_dates_ovulation_from_the_first_day_of_the_rise():
     # Hilgers 1980: ovulation is dated from the first day of the rise, not from the rule's first
     # high (day 18 here); the level began to climb on day 16, so ovulation is put on day 15.
     gradual = LOW | {15: 36.58, 16: 36.66, 17: 36.70, 18: 36.92, 19: 36.90, 20: 36.92}
-    found = _markers(temps(gradual))
+    found = _markers(temps(gradual), protocol=COVER)
     assert (found.ovulation, found.ovulation_method) == (on(15), "shift")
 
 
@@ -134,8 +163,54 @@ def test_show_json_names_the_change_point_method():
     # "change-point" is an added ovulation_method word of the `show --json` contract.
     ramp = RAMP | {d: 36.72 for d in range(21, 29)}
     bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, 29)]
-    out = analysis_json(analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29)))
+    out = analysis_json(analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29), COVER))
     first = out["cycles"][0]
     assert (first["ovulation"], first["ovulation_method"]) == (on(15).isoformat(), "change-point")
     # Lenton 1984: days 16..28 are the luteal phase.
     assert first["luteal_length"] == 13
+
+
+def _cycle_with(extra: list[Observation], length: int = 33) -> list[Observation]:
+    """A cycle of `length` days with lows to day 19 and highs from day 20, then the next period."""
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, length + 1)]
+    readings = {d: 36.40 + 0.05 * (d % 2) for d in range(4, 20)} | {d: 36.80 for d in range(20, length + 1)}
+    return sorted(bleeds + temps(readings) + extra, key=lambda o: o.day)
+
+
+@pytest.mark.parametrize("early", [3, 5, 8])
+def test_an_early_lh_positive_that_contradicts_the_shift_does_not_date_ovulation(early):
+    # A positive on an early day and a clear shift from day 20: ovulation by the LH test would lie
+    # more than 6 days before the rise (Hilgers 1980), so the shift dates it (day 19) and the
+    # luteal phase is 14 days (Lenton 1984), not 27; the nurse is told of the conflict.
+    record = analyse(PATIENT, _cycle_with([lh(early, "positive")]), on(34)).cycles[0]
+    assert (record.markers.ovulation, record.markers.ovulation_method) == (on(19), "shift")
+    assert record.luteal_length == 14 and record.dating_conflict is None
+    assert "dating conflict" in record.markers.conflict and f"{20 - early} days before" in record.markers.conflict
+
+
+def test_a_later_surge_that_fits_the_shift_wins_over_an_earlier_one():
+    # Two surges (a negative between them): the one consistent with the shift dates ovulation
+    # (WHO Task Force 1980: about a day after the surge).
+    obs = [lh(5, "positive"), lh(6, "negative"), lh(18, "positive")]
+    record = analyse(PATIENT, _cycle_with(obs), on(34)).cycles[0]
+    assert (record.markers.lh_surge, record.markers.ovulation, record.markers.ovulation_method) == (on(18), on(19), "lh")
+    assert "15 days before" in record.markers.conflict  # the day-5 positive, 15 days before the rise
+
+
+@pytest.mark.parametrize(
+    "length, lh_day, conflict",
+    [(33, 5, True), (40, 14, True), (30, 9, True), (30, 10, False), (28, 13, False), (20, 13, False), (20, 14, True)],
+)
+def test_a_luteal_phase_outside_7_to_20_days_is_a_dating_conflict_not_learnt(length, lh_day, conflict):
+    # ASRM 2021: luteal phases are typically 11-17 days; one under 7 or over 20 says the dating is
+    # wrong. Without temperatures the LH test dates ovulation alone (WHO Task Force 1980: a day later).
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, length + 1)]
+    obs = sorted(bleeds + [lh(lh_day, "positive")], key=lambda o: o.day)
+    a = analyse(PATIENT, obs, on(length + 2))
+    record = a.cycles[0]
+    # Lenton 1984: from the day after the LH peak to the day before the period.
+    assert record.luteal_length == length - lh_day
+    assert (record.dating_conflict is not None) is conflict
+    # Not learnt: the forecast's luteal length stays the population's when the only one conflicts.
+    assert (a.prediction.luteal_length.observed == 0) is conflict
+    assert analysis_json(a)["cycles"][0]["dating_conflict"] == record.dating_conflict

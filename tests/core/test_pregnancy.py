@@ -5,10 +5,18 @@ from datetime import date, datetime, timedelta
 import pytest
 from dateutil.relativedelta import relativedelta
 
-from caseload.core.model import Kind, Observation, Value
-from caseload.core.pregnancy import HcgValue, from_ovulation, hcg_trend, naegele, pregnancy
+from caseload.core.analysis import analyse
+from caseload.presentation.json_shapes import analysis_json
+from caseload.core.model import Kind, Observation, Patient, PatientStatus, Value
+from caseload.core.pregnancy import HcgValue, episodes, from_ovulation, hcg_trend, naegele, pregnancy
 from caseload.core.settings import DEFAULT_PROTOCOL as P
 from caseload.core.settings import Protocol
+
+
+def pregnant(obs, lmp, ovulation, by_status, today, protocol=P, usual=None):
+    """The pregnancy as `analyse` builds it from the chart's latest episode."""
+    found, _ = episodes(obs, PatientStatus.ACTIVE, None, protocol)
+    return pregnancy(obs, lmp, ovulation, found[-1] if found else None, by_status, usual, (), today, protocol)
 
 
 @pytest.mark.parametrize(
@@ -86,26 +94,55 @@ def test_the_fit_needs_two_distinct_days_within_the_window():
 
 def test_sample_times_are_used_for_the_interval():
     obs = [serum(date(2024, 4, 1), 100.0, "08:00"), serum(date(2024, 4, 3), 153.0, "08:00")]
-    found = pregnancy(obs, date(2024, 3, 1), None, False, date(2024, 4, 3), P)
+    found = pregnant(obs, date(2024, 3, 1), None, False, date(2024, 4, 3), P)
     assert found.hcg_trend.rise_48h == pytest.approx(0.53, abs=1e-4)
 
 
 def test_pregnancy_is_present_on_a_positive_test_or_the_status():
     lmp, today = date(2024, 3, 1), date(2024, 4, 12)
-    assert pregnancy([serum(today, 20.0)], lmp, None, False, today, P) is None
+    assert pregnant([serum(today, 20.0)], lmp, None, False, today, P) is None
     # Common practice: serum hCG of 25 IU/L or more counts as positive.
-    found = pregnancy([serum(today, 25.0)], lmp, None, False, today, P)
+    found = pregnant([serum(today, 25.0)], lmp, None, False, today, P)
     assert found.positive_test == today and found.edd_method == "naegele"
     assert found.edd == date(2024, 12, 6)
     assert found.gestational_age_days == 42 and found.gestational_age == "6w0d"
     urine = Observation(today, Kind.HCG, Value(word="positive"))
-    assert pregnancy([urine], lmp, None, False, today, P) is not None
-    assert pregnancy([], lmp, None, True, today, P).positive_test is None
+    assert pregnant([urine], lmp, None, False, today, P) is not None
+    assert pregnant([], lmp, None, True, today, P).positive_test is None
 
 
 def test_a_dated_ovulation_dates_the_pregnancy():
     today = date(2024, 4, 12)
-    found = pregnancy([], date(2024, 3, 1), date(2024, 3, 18), True, today, P)
+    found = pregnant([], date(2024, 3, 1), date(2024, 3, 18), True, today, P)
     assert found.edd_method == "ovulation" and found.edd == date(2024, 3, 18) + timedelta(days=266)
     # Gestational age counts from two weeks before ovulation: 25 days + 14.
     assert found.gestational_age_days == 25 + 14
+
+
+@pytest.mark.parametrize("usual, shift", [(32, 4), (35, 7), (24, -4), (28, 0)])
+def test_naegele_is_adjusted_for_the_usual_cycle_length_when_regular(usual, shift):
+    # Naegele's rule adjusted for cycle length, EDD = LMP + 280 + (usual - 28) (common practice):
+    # ovulation comes (usual - 28) days later than on day 14. Reference arithmetic: stdlib timedelta.
+    lmp, today = date(2024, 3, 1), date(2024, 4, 12)
+    urine = Observation(today, Kind.HCG, Value(word="positive"))
+    found = pregnant([urine], lmp, None, False, today, usual=usual)
+    assert found.edd == lmp + timedelta(days=280 + shift)
+    assert found.edd_method == ("naegele" if shift == 0 else "naegele-adjusted")
+    assert found.gestational_age_days == 42 - shift  # dated from the adjusted EDD
+
+
+@pytest.mark.parametrize("length, method", [(32, "naegele-adjusted"), (28, "naegele"), (None, "naegele")])
+def test_show_json_names_the_due_date_rule(length, method):
+    # Naegele's rule, adjusted only when cycles are regular (FIGO 2018 regularity); 6 cycles of
+    # 24-36 days vary by 12 days (irregular at 34), so the plain rule applies.
+    lengths = [length] * 6 if length else [24, 36, 26, 34, 28, 30]
+    start, obs = date(2024, 1, 1), []
+    for n in lengths:
+        obs.append(Observation(start, Kind.BLEED, Value(word="moderate")))
+        start += timedelta(days=n)
+    obs += [Observation(start, Kind.BLEED, Value(word="moderate")),
+            Observation(start + timedelta(days=30), Kind.HCG, Value(word="positive"))]
+    who = Patient("P1", "A", date(1990, 1, 1), None)
+    shown = analysis_json(analyse(who, obs, start + timedelta(days=31), P))["pregnancy"]
+    assert shown["edd_method"] == method
+    assert shown["edd"] == (start + timedelta(days=280 + ((length or 28) - 28))).isoformat()

@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from dataclasses import fields
+
 import pytest
 
 from caseload.core.parse import InputError
 from caseload.core.protocol_file import parse_protocol, setting_rows
-from caseload.core.settings import DEFAULT_PROTOCOL, protocol_fields
+from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
 
 
 def test_an_empty_file_keeps_every_default():
@@ -21,7 +23,7 @@ def test_defaults_carry_their_published_sources():
     assert rows["figo_prolonged_bleed_above"].value == 8  # FIGO 2018: normal up to 8 days
     assert rows["fever_c"].value == 38.0 and rows["fever_c"].source == "common practice"
     assert not any(r.overridden for r in rows.values())
-    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [name for name, _, _ in protocol_fields()]
+    assert [r.name for r in setting_rows(DEFAULT_PROTOCOL)] == [f.name for f in fields(Protocol)]
 
 
 def test_overrides_are_typed_and_marked():

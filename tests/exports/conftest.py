@@ -1,4 +1,5 @@
-"""The invented demo caseload, built once for the export tests, and a context acting as its admin."""
+"""The exports' fixtures: the weekly summary's hand-built clinic (shared with the summary's own
+tests), and the invented demo caseload, built once, with a context acting as its admin."""
 
 from __future__ import annotations
 
@@ -10,6 +11,7 @@ import pytest
 from caseload.application.context import Context
 from caseload.application.demo import build_demo
 from caseload.application.protocol import load_protocol
+from tests.application.week.conftest import clinic, fresh_clinic  # noqa: F401 - fixtures
 
 BUILD_DAY = date(2026, 12, 1)
 

@@ -6,6 +6,7 @@ Bundle is parsed by those models, which check types, cardinalities and value set
 
 from __future__ import annotations
 
+import io
 import json
 from collections import Counter
 from datetime import date, timedelta
@@ -19,17 +20,27 @@ from hypothesis import strategies as st
 from caseload.core.model import Kind
 from caseload.exports import fhir
 from caseload.application import referral
-from caseload.application.weekly_summary import _secret
+from caseload.application.caseload_view import show_patient
+from caseload.application.weekly_summary import pseudonym, pseudonym_secret
+
+
+def bundle_of(ctx, patient_id: str | None, since: date | None = None, deidentify: bool = False) -> dict:
+    """The Bundle as the export streams it, read back."""
+    stream = io.BytesIO()
+    count = referral.stream_bundle(ctx, patient_id, stream, since, deidentify, fhir.write_bundle)
+    bundle = json.loads(stream.getvalue())
+    assert len(bundle["entry"]) == count
+    return bundle
 
 
 @pytest.fixture(scope="module")
 def bundle(ctx):
-    return referral.fhir_bundle(ctx, None)
+    return bundle_of(ctx, None)
 
 
 @pytest.fixture(scope="module")
 def masked(ctx):
-    return referral.fhir_bundle(ctx, None, deidentify=True)
+    return bundle_of(ctx, None, deidentify=True)
 
 
 def resources(b: dict, kind: str) -> list[dict]:
@@ -122,7 +133,7 @@ def test_loinc_codes_are_the_published_ones(bundle):
 
 
 def test_derived_dates_follow_the_published_rules(demo, ctx, bundle):
-    p14 = referral.show_patient(ctx, "P0014").analysis
+    p14 = show_patient(ctx, "P0014").analysis
     derived = {o["id"]: o for o in resources(bundle, "Observation") if o["subject"]["reference"] == "Patient/P0014"}
     lmp = derived["P0014-lmp"]["valueDateTime"]
     assert lmp == p14.cycle_start.isoformat()
@@ -139,7 +150,7 @@ def test_derived_dates_follow_the_published_rules(demo, ctx, bundle):
 
 def test_since_leaves_out_earlier_entries(ctx):
     since = date(2026, 11, 1)
-    b = referral.fhir_bundle(ctx, "P0014", since=since)
+    b = bundle_of(ctx, "P0014", since=since)
     days = [o["effectiveDateTime"][:10] for o in resources(b, "Observation") if o["id"].startswith("entry-")]
     assert days and min(days) >= since.isoformat()
     assert len(resources(b, "Patient")) == 1
@@ -159,7 +170,7 @@ def test_deidentified_bundle_has_no_names_birth_dates_or_free_text(demo, masked)
 
 
 def test_deidentified_dates_move_by_one_keyed_offset_per_patient(demo, ctx, bundle, masked):
-    secret = _secret(ctx)
+    secret = pseudonym_secret(ctx)
     plain = {o["id"]: o for o in resources(bundle, "Observation")}
     offsets = {}
     for o in resources(masked, "Observation"):
@@ -170,7 +181,7 @@ def test_deidentified_dates_move_by_one_keyed_offset_per_patient(demo, ctx, bund
         offsets.setdefault(o["subject"]["reference"], set()).add((after - before).days)
     assert all(len(s) == 1 for s in offsets.values())
     for p in demo.store.patients.all():
-        ref = f"Patient/{referral.pseudonym(secret, p.id)}"
+        ref = f"Patient/{pseudonym(secret, p.id)}"
         if ref in offsets:
             assert offsets[ref] == {referral.shift_days(secret, p.id)} and 0 not in offsets[ref]
     assert len({next(iter(s)) for s in offsets.values()}) > len(offsets) // 2  # offsets differ between patients

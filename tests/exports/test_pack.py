@@ -9,12 +9,13 @@ import pytest
 
 from caseload.exports import chart, pack, pack_pdf
 from caseload.application.caseload_view import show_patient
+from caseload.application.referral import PackInput
 
 
 def pack_of(ctx, patient_id: str, cycles: int = 3) -> pack.Pack:
     record = show_patient(ctx, patient_id)
     names = {s.id: s.name for s in ctx.store.staff.all()}
-    return pack.build(pack.PackInput(
+    return pack.build(PackInput(
         clinic="Test Clinic", today=ctx.today, patient=record.patient, analysis=record.analysis,
         entries=record.entries, alerts=record.alerts, staff_names=names, cycles=cycles, prepared_by="Tester",
         protocol=ctx.protocol,

@@ -22,7 +22,7 @@ class Cli:
     def __call__(self, *args, input=None):
         # color=True: click strips nothing, so the output is what a terminal would receive.
         return self.runner.invoke(main, ["--db", str(self.db), "--today", TODAY.isoformat(), *args], input=input,
-                                  color=True)
+                                  color=True, obj=TODAY)
 
 
 @pytest.fixture

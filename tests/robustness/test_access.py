@@ -13,6 +13,7 @@ from pathlib import Path
 
 import pytest
 
+from caseload.exports.summary_files import write
 from caseload.cli import main
 from caseload.core.model import Actor, Role
 from caseload.application import store_care as maintenance
@@ -29,6 +30,7 @@ from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
 from caseload.application.referral import export_fhir, make_pack
+from caseload.exports import fhir, pack_files
 from caseload.application.staff import add_staff, claim_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
@@ -66,9 +68,10 @@ PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
     "alert.handle-routine": lambda ctx, env: acknowledge(ctx, env.routine_alert, None),
     "protocol.view": lambda ctx, env: show_protocol(ctx),
     "protocol.set": lambda ctx, env: use_protocol(ctx, str(env.protocol_file)),
-    "summary.export": lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True),
-    "referral.pack": lambda ctx, env: make_pack(ctx, "P0001", env.out.with_suffix(".html")),
-    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out),
+    "summary.export": lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True, render=write),
+    "referral.pack": lambda ctx, env: make_pack(ctx, "P0001", env.out.with_suffix(".html"), 3, "a4", False,
+                                                pack_files.render),
+    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out, None, False, False, fhir.write_bundle),
 }
 CELLS = [(action, role) for action in sorted(MATRIX) for role in Role]
 
@@ -183,7 +186,7 @@ def test_as_is_honoured_for_an_admin_and_recorded_with_the_os_account(clinic):
 def as_nurse_account(clinic, monkeypatch):
     """The command line run from the OS account mapped to nurse nell."""
     assert clinic("staff", "map", "nell", "nell-account").exit_code == 0
-    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "nell-account")
+    monkeypatch.setattr("caseload.application.clinic.os_account", lambda: "nell-account")
     return clinic
 
 
@@ -212,7 +215,7 @@ def test_as_an_unknown_staff_member_is_one_line(clinic, who, fragment):
 
 
 def test_unmapped_account_is_refused(clinic, monkeypatch):
-    monkeypatch.setattr("caseload.cli.session.os_account", lambda: "stranger")
+    monkeypatch.setattr("caseload.application.clinic.os_account", lambda: "stranger")
     before = snapshot(clinic.db)
     result = clinic("log", "P0001", "lh", "positive")
     assert result.exit_code == 1 and "not mapped to a staff member" in result.stderr
@@ -231,13 +234,13 @@ def test_store_and_its_journal_files_are_owner_only_whatever_the_umask(cli):
     assert modes == {"clinic.db": 0o600, "clinic.db-wal": 0o600, "clinic.db-shm": 0o600}
 
 
-FORGED = "(1, 'now', 'mallory', 'x', 'staff.add', 'staff', 'ada', NULL, NULL)"
+FORGED = "(id, at, by_staff, os_account, action, tbl, row_id) VALUES (1, 'now', 'mallory', 'x', 'staff.add', 'staff', 'ada')"
 
 
 @pytest.mark.parametrize("sql", ["UPDATE audit SET by_staff = 'someone else' WHERE id = 1",
                                  "UPDATE audit SET after = NULL", "DELETE FROM audit WHERE id = 2",
-                                 "DELETE FROM audit", f"INSERT OR REPLACE INTO audit VALUES {FORGED}",
-                                 f"REPLACE INTO audit VALUES {FORGED}",
+                                 "DELETE FROM audit", f"INSERT OR REPLACE INTO audit {FORGED}",
+                                 f"REPLACE INTO audit {FORGED}",
                                  "INSERT OR REPLACE INTO entry (id, patient_id, day, kind, raw, by_staff, os_account, at)"
                                  " VALUES (1, 'P0001', '2026-11-28', 'bleed', 'light', 'ada', 'x', 'now')",
                                  "DELETE FROM entry WHERE id = 1"])

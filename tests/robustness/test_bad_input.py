@@ -162,7 +162,7 @@ def module_cli(tmp_path_factory):
     runner = CliRunner()
 
     def run(*args):
-        return runner.invoke(main, ["--db", str(path), *args], color=True)
+        return runner.invoke(main, ["--db", str(path), *args], color=True, obj=TODAY)
 
     for args in (("init", "--admin", "ada", "--name", "Ada Admin"),
                  ("staff", "add", "nell", "--name", "Nell Nurse", "--role", "nurse"),
@@ -271,5 +271,5 @@ def test_odd_review_days_are_one_line(cli, today):
     assert cli("init", "--admin", "ada", "--name", "Ada Admin").exit_code == 0
     assert cli("patient", "add", "P0001", "--name", "Pia", "--born", "1991-04-02").exit_code == 0
     for command in (("list",), ("show", "P0001"), ("log", "P0001", "lh", "positive", "--on", "-3")):
-        result = cli.runner.invoke(main, ["--db", str(cli.db), "--today", today, *command])
+        result = cli.runner.invoke(main, ["--db", str(cli.db), "--today", today, *command], obj=TODAY)
         assert_clean_exit(result)

@@ -11,6 +11,8 @@ from pathlib import Path
 
 import pytest
 
+from caseload.application.clinic import Clinic, Identity
+from caseload.application.identity import os_account
 from caseload.core.model import Actor, Role
 from caseload.core.parse import parse_entry
 from caseload.application import csv_import as importer
@@ -90,7 +92,8 @@ def test_a_failed_commit_is_rolled_back_and_retried_once(store, staffed, patient
     real = store.db.conn
     store.db.conn = CommitFailsOnce(real)
     try:
-        log_entry(Context(store, staffed[Role.PHONE], patient.created), patient.id, "symptom", "dizzy")
+        clinic = Clinic(store, Identity(os_account(), staffed[Role.PHONE].id), date_of_record=patient.created)
+        clinic.log(patient.id, "symptom", "dizzy")
     finally:
         store.db.conn = real
     assert not real.in_transaction
@@ -170,6 +173,7 @@ def test_import_rechecks_the_rules_inside_its_transaction(store, as_role, patien
 
 
 def test_services_write_only_through_the_retrying_transaction():
-    """A bare `write()` in a use case would skip the retry: every service goes through transact()."""
+    """A bare `write()` in a use case would skip the retry: every use case writes in atomic(), inside
+    the Clinic's retrying transact()."""
     offenders = [p.name for p in SERVICES.glob("*.py") if ".write()" in p.read_text() or "BEGIN" in p.read_text()]
     assert offenders == []

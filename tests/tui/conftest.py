@@ -7,8 +7,9 @@ from datetime import date
 
 import pytest
 
-from caseload.core.model import Actor
+from caseload.application.clinic import Clinic, Identity
 from caseload.application.context import Context
+from caseload.core.model import Actor
 from caseload.store import Store
 from caseload.tui.app import CaseloadApp, make_app
 from tests.tui.fixture_store import ACCOUNTS, TODAY, build
@@ -47,8 +48,10 @@ def opened(caseload_file):
 def app_as(opened):
     """app_as('nell') builds the interface for that staff member's OS account, as the CLI does."""
 
-    def make(staff_id: str, account: str | None = None, refresh_seconds: float = 60.0, today: date = TODAY) -> CaseloadApp:
-        return make_app(opened(), today, account or ACCOUNTS[staff_id], refresh_seconds=refresh_seconds)
+    def make(staff_id: str, account: str | None = None, refresh_seconds: float = 60.0, today: date = TODAY,
+             as_of: date | None = None) -> CaseloadApp:
+        clinic = Clinic(opened(), Identity(account or ACCOUNTS[staff_id]), date_of_record=today, as_of=as_of)
+        return make_app(clinic, refresh_seconds=refresh_seconds)
 
     return make
 

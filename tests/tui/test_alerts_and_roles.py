@@ -7,7 +7,7 @@ from caseload.application.alert_handling import list_alerts
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
-from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.entries_table import EntriesTable
 from tests.tui.conftest import settle, fill
 

@@ -5,6 +5,7 @@ from __future__ import annotations
 from caseload.application.caseload_view import list_caseload
 from caseload.application.context import Context
 from caseload.application.demo import build_demo
+from caseload.application.clinic import Clinic, Identity
 from caseload.tui.app import make_app
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from tests.tui.conftest import settle
@@ -16,7 +17,7 @@ async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(tmp_path):
     demo = build_demo(tmp_path / "demo.db", TODAY, "demo-os")
     try:
         lines = list_caseload(Context(demo.store, demo.admin, TODAY))
-        app = make_app(demo.store, TODAY, "demo-os")
+        app = make_app(Clinic(demo.store, Identity("demo-os"), date_of_record=TODAY))
         async with app.run_test(size=(120, 40)) as pilot:
             await settle(pilot)
             table = app.screen.query_one(CaseloadTable)

@@ -6,6 +6,7 @@ import asyncio
 
 import pytest
 
+from caseload.application.clinic import Clinic, Identity
 from caseload.application.entries import log_entry
 from caseload.application.errors import Refused
 from caseload.tui.app import make_app
@@ -29,13 +30,13 @@ async def test_an_unmapped_account_signs_in_by_taking_a_free_record(app_as, serv
         await pilot.press("enter")
         await settle(pilot)
         assert isinstance(app.screen, CaseloadScreen)
-        assert app.gate.actor.id == "pat"
+        assert app.clinic.actor.id == "pat"
     assert service_ctx("ada").store.staff.get("pat").os_account == "newcomer-os"
 
 
 def test_a_refused_identity_stops_before_the_interface_opens(opened):
     with pytest.raises(Refused, match="honoured only for an admin"):
-        make_app(opened(), TODAY, "phil-os", as_staff="nell")
+        make_app(Clinic(opened(), Identity("phil-os", as_staff="nell"), date_of_record=TODAY))
 
 
 async def test_a_write_from_another_terminal_appears_after_the_interval(app_as, service_ctx):
@@ -61,13 +62,25 @@ async def test_stale_snapshots_get_the_morning_refresh(app_as):
         assert app.screen.query_one("#caseload").get_cell("P0001", "cd").plain.strip() == "19"
 
 
+async def test_a_view_of_another_day_never_runs_the_morning_refresh(app_as):
+    """CASELOAD_TODAY or --today open the interface as a read-only view: the snapshots stay as stored."""
+    tomorrow = TODAY.replace(day=2)
+    for as_of in (TODAY.replace(year=2020), TODAY.replace(day=5)):
+        app = app_as("ada", today=tomorrow, as_of=as_of)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await settle(pilot, rounds=5)
+            assert app.roster and all(line.snapshot.computed_on == TODAY for line in app.roster)
+            assert not any(n.message.startswith("Morning refresh") for n in app._notifications)
+            assert "read-only view" in app.screen.query_one("#status").render().plain
+
+
 async def test_worker_errors_become_one_line_notifications(app_as):
-    def broken(ctx):
+    def broken():
         raise Refused("nurse1 may not do that: it needs supervisor")
 
     app = app_as("ada")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        app.store_job(app, broken)
+        app.save(broken, summary=str)
         await settle(pilot)
         assert [n.message for n in app._notifications][-1] == "nurse1 may not do that: it needs supervisor"

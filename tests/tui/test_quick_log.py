@@ -32,7 +32,7 @@ async def test_phone_clerk_logs_a_temperature_by_name(app_as, service_ctx):
         screen = app.screen
         assert isinstance(screen, QuickLogScreen)
         result = screen.query_one("#result").render().plain
-        assert result.startswith("Saved #") and "P0004: temp 36.55" in result and "cycle day 20" in result
+        assert result.startswith("Saved #") and "P0004: temp 36.55" in result and "Cycle day 20" in result
         [entry] = temps_today(check, "P0004")
         assert entry.value.number == 36.55 and entry.by == "phil"
         await pilot.press("escape")
@@ -58,7 +58,7 @@ async def test_a_bleed_after_the_temperature_in_the_same_call(app_as, service_ct
         await pilot.press("enter")
         await settle(pilot)
         result = app.screen.query_one("#result").render().plain
-        assert "bleed heavy on 2026-11-30" in result and "Now cycle day 2" in result
+        assert "bleed heavy on 2026-11-30" in result and "Cycle day 2 (flow days)" in result
         bleeds = [e for e in patient_entries(check, "P0004") if e.kind is Kind.BLEED and e.current]
         assert bleeds[-1].day.isoformat() == "2026-11-30"
         # 98.1 F is (98.1 - 32) x 5/9 = 36.72 C (NIST SP 811 conversion).
@@ -142,3 +142,19 @@ async def test_keys_arriving_in_one_burst_land_in_their_fields(app_as, service_c
         assert kinds == ["bleed", "temp"]
         assert temps_today(check, "P0004")[0].value.number == 36.55
         assert app.screen.query_one("#kind").value == ""
+
+
+async def test_a_save_updates_its_row_from_the_returned_snapshot_without_reading_the_list(app_as):
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        reads = []
+        list_once = app.clinic.morning_list
+        app.clinic.morning_list = lambda: reads.append(1) or list_once()
+        await pilot.press("l", *"noor", "enter", "b", "enter", *"heavy", "enter")
+        await settle(pilot)
+        assert reads == []  # the save's own snapshot rebuilt the row
+        (row,) = [line for line in app.roster if line.patient.id == "P0004"]
+        # A heavy bleed logged today starts a new cycle: today is cycle day 1 (day 1 = first day of flow).
+        assert row.cycle_day == 1 and row.days_since_entry == 0
+        assert row.snapshot.computed_on == TODAY

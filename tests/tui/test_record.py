@@ -7,7 +7,7 @@ from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.marker_strip import MarkerStrip
-from caseload.tui.words import CAUTION
+from caseload.presentation.glossary import CAUTION
 from tests.tui.conftest import settle
 
 
@@ -30,9 +30,9 @@ async def test_chart_shows_the_current_cycle_with_its_shift(app_as, service_ctx)
         view = screen.query_one(CycleChart)._view
         assert view.is_open and view.today_day == record.analysis.cycle_day == 18
         # Temperatures rise after cycle day 14: the third high reading (day 17) confirms the shift
-        # (three-over-six rule, Marquette NFP); the coverline is 0.1 C over the highest of the six lows.
+        # (three-over-six rule, Miolo 1993; Marshall 1968); the line drawn is the highest of the six lows.
         assert view.confirmed_day == (shift.confirmed_on - record.analysis.cycle_start).days + 1 == 17
-        assert view.coverline == shift.coverline == 36.54
+        assert view.coverline == shift.coverline == 36.44
         strip = screen.query_one(MarkerStrip)
         assert strip.get_cell("flow", "2").plain == "▇"  # heavy on day 2
         assert CAUTION in screen.query_one("#caution").render().plain

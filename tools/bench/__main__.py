@@ -22,7 +22,7 @@ from pathlib import Path
 
 from rich.console import Console
 
-from tools.bench.accuracy import ACCURACY_SEED, run_accuracy
+from tools.bench.accuracy import ACCURACY_SEED, run_accuracy, shift_sweep
 from tools.bench.build import bench_store, parse_sizes
 from tools.bench.perf import growth, measure_size, targets
 from tools.bench.report import markdown, print_report, target_dicts
@@ -42,10 +42,13 @@ def _args(argv: list[str] | None) -> argparse.Namespace:
     parser.add_argument("--patients", type=int, default=1000, help="accuracy: simulated patients (default 1000)")
     parser.add_argument("--daily-patients", type=int, default=400,
                         help="accuracy: of those, analysed on every day of their year (default 400)")
+    parser.add_argument("--sweep-women", type=int, default=150,
+                        help="accuracy: simulated women per noise SD and chart type in the thermal-shift sweep (default 150)")
     args = parser.parse_args(argv)
     if args.quick:
         args.sizes, args.runs = "200x1", min(args.runs, 3)
         args.patients, args.daily_patients = min(args.patients, 200), min(args.daily_patients, 60)
+        args.sweep_women = min(args.sweep_women, 40)
     if args.runs < 1 or args.patients < 1 or args.daily_patients < 0:
         parser.error("--runs and --patients must be 1 or more, --daily-patients 0 or more")
     try:
@@ -79,6 +82,8 @@ def main(argv: list[str] | None = None) -> None:
     if args.accuracy:
         console.print(f"[bold]accuracy[/bold]: {args.patients} patients, {args.daily_patients} day by day")
         result["accuracy"] = run_accuracy(args.patients, args.daily_patients, ACCURACY_SEED)
+        console.print(f"[bold]thermal-shift sweep[/bold]: {args.sweep_women} women per noise SD and chart type")
+        result["accuracy"]["shift_sweep"] = shift_sweep(args.sweep_women, ACCURACY_SEED)
     result["elapsed_s"] = round(time.perf_counter() - began, 1)
     args.out.parent.mkdir(parents=True, exist_ok=True)
     args.out.write_text(json.dumps(result, indent=2))

@@ -19,9 +19,11 @@ from tools.bench.build import parsed_entry
 from caseload.core.alerts import Facts
 from caseload.core.alerts.window import window_approaching
 from caseload.core.analysis import analyse
-from caseload.core.model import Kind, Observation, Patient
+from caseload.core.model import Kind, Observation, Patient, Plan
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.core.thermal import COVERLINE_FORM, PUBLISHED_FORM, thermal_shift, valid_readings
 from tools.sim import SimChart, TrueCycle, simulate_patient
+from tools.sim.cycles import population_profile
 from tools.sim.simulate import caseload_profile
 
 ACCURACY_SEED = 20260202
@@ -34,6 +36,12 @@ CONDITIONS: dict[str, frozenset[Kind]] = {
     "temperatures + LH + mucus": MARKERS,
 }
 BINS = 10
+# The thermal-shift sweep: women of the regular population whose temperature rises 0.3 C after
+# ovulation (WHO Global Handbook: 0.2-0.5 C), read with each noise SD, against flat charts.
+NOISE_SDS = (0.08, 0.10, 0.12, 0.15)
+SWEEP_RISE_C = 0.3
+SWEEP_END = date(2025, 6, 30)
+SHIFT_DETECTORS = ("three-over-six", "coverline form", "change point")
 
 
 @dataclass
@@ -226,3 +234,53 @@ def figures(t: Tally, patients: int, daily_patients: int, seed: int) -> dict:
             "not_raised_before_ovulation": _share(t.unwarned, len(warned) + t.unwarned),
         },
     }
+
+
+def _sweep_counts(noise_sd: float, women: int, anovulatory: bool, seed: int) -> dict[str, list[int]]:
+    """Per detector: [complete cycles, cycles it called biphasic] over `women` simulated half-years."""
+    protocols = {
+        "three-over-six": replace(DEFAULT_PROTOCOL, shift_rule=PUBLISHED_FORM),
+        "coverline form": replace(DEFAULT_PROTOCOL, shift_rule=COVERLINE_FORM),
+    }
+    counts = {d: [0, 0] for d in SHIFT_DETECTORS}
+    for index in range(women):
+        rng = random.Random(seed * 1_000_003 + index * 2 + anovulatory)
+        profile = replace(
+            population_profile(rng, Plan.NATURAL, True),
+            temp_noise=noise_sd, temp_rise=SWEEP_RISE_C, anovulatory_rate=1.0 if anovulatory else 0.0,
+            fahrenheit_rate=0.0,
+        )  # fmt: skip
+        chart = simulate_patient(rng, profile, START, SWEEP_END)
+        temps = [o for o in observations_of(chart, {Kind.TEMP}) if o.kind == Kind.TEMP]
+        for cycle in chart.truth:
+            if cycle.length is None or cycle.start < START or cycle.next_start > SWEEP_END:
+                continue
+            group = [o for o in temps if cycle.start <= o.day < cycle.next_start]
+            last = cycle.next_start - timedelta(days=1)
+            for name, protocol in protocols.items():
+                shift = thermal_shift(valid_readings(group, protocol), cycle.start, last, protocol)
+                counts[name][0] += 1
+                counts[name][1] += shift.confirmed
+                if name == "three-over-six":
+                    counts["change point"][0] += 1
+                    counts["change point"][1] += shift.change_point is not None and shift.change_point.passes
+    return counts
+
+
+def shift_sweep(women: int, seed: int = ACCURACY_SEED, noise_sds: tuple[float, ...] = NOISE_SDS) -> dict:
+    """Sensitivity on ovulatory charts and false confirmations on flat (anovulatory) ones, per
+    reading noise SD, for the three-over-six rule, its coverline form and the change point."""
+    out = {}
+    for sd in noise_sds:
+        ovulatory = _sweep_counts(sd, women, False, seed)
+        flat = _sweep_counts(sd, women, True, seed)
+        out[f"{sd:.2f}"] = {
+            d: {
+                "ovulatory_cycles": ovulatory[d][0],
+                "sensitivity": _share(ovulatory[d][1], ovulatory[d][0]),
+                "flat_cycles": flat[d][0],
+                "false_confirmation": _share(flat[d][1], flat[d][0]),
+            }
+            for d in SHIFT_DETECTORS
+        }
+    return {"rise_c": SWEEP_RISE_C, "women_per_condition": women, "by_noise_sd": out}

@@ -97,6 +97,22 @@ def print_accuracy(console: Console, a: dict) -> None:
     console.print(f"window-approaching: median {w['median_days_before_window']} days before the true window "
                   f"(quartiles {w['quartiles']}), raised before the window in {_pct(w['raised_before_window'])} "
                   f"of {w['cycles']} cycles, not before ovulation in {_pct(w['not_raised_before_ovulation'])}")  # fmt: skip
+    if a.get("shift_sweep"):
+        table = Table(title=f"thermal shift by reading noise, rise {a['shift_sweep']['rise_c']} C: sensitivity / false confirmation")
+        table.add_column("noise SD (C)")
+        for name in next(iter(a["shift_sweep"]["by_noise_sd"].values())):
+            table.add_column(name)
+        for row in sweep_rows(a["shift_sweep"]):
+            table.add_row(*row)
+        console.print(table)
+
+
+def sweep_rows(sweep: dict) -> list[list[str]]:
+    """One row per noise SD: the SD, then 'sensitivity / false confirmation' per detector."""
+    return [
+        [sd] + [f"{_pct(d['sensitivity'])} / {_pct(d['false_confirmation'])}" for d in detectors.values()]
+        for sd, detectors in sweep["by_noise_sd"].items()
+    ]
 
 
 def _pct(share: float | None) -> str:
@@ -135,6 +151,13 @@ def markdown(result: dict) -> str:
                   f"fertile window ({w['cycles']} cycles).", "", "| P(fertile) bin | days | mean predicted | observed |",
                   "|---|---|---|---|"]  # fmt: skip
         lines += [f"| {r['bin']} | {r['days']} | {_fmt(r['mean_predicted'])} | {_fmt(r['observed'])} |" for r in p["reliability"]]
+        if a.get("shift_sweep"):
+            sweep = a["shift_sweep"]
+            names = list(next(iter(sweep["by_noise_sd"].values())))
+            lines += ["", f"Thermal shift by reading noise (rise {sweep['rise_c']} C, {sweep['women_per_condition']} women per "
+                      "cell): sensitivity on ovulatory charts / false confirmation on flat ones.", "",
+                      f"| noise SD (C) | {' | '.join(names)} |", "|---|" + "---|" * len(names)]  # fmt: skip
+            lines += [f"| {' | '.join(row)} |" for row in sweep_rows(sweep)]
     return "\n".join(lines) + "\n"
 
 

@@ -16,9 +16,11 @@ from tools.sim.demo_scenarios import (
     Build,
     amended_temperature,
     amenorrhoea,
+    bleeding_in_pregnancy,
     discharged_after_pregnancy,
     early_pregnancy,
     fever,
+    intermenstrual,
     irregular,
     lh_positive_today,
     logging_gap,
@@ -39,7 +41,7 @@ from tools.sim.demo_scenarios import (
 ALERT_KINDS = (
     "window-approaching", "window-open", "no-thermal-shift", "monophasic-cycle", "irregular-cycles",
     "short-luteal-phase", "prolonged-bleeding", "period-overdue", "sustained-high-temps", "amenorrhoea",
-    "hcg-rise-low", "multiple-follicles", "logging-gap", "fever",
+    "hcg-rise-low", "multiple-follicles", "logging-gap", "fever", "intermenstrual-bleeding", "bleeding-in-pregnancy",
 )  # fmt: skip
 DEMO_SEED = 20240601
 _NURSE_KINDS = {Kind.MED, Kind.SCAN, Kind.TRIGGER, Kind.INSEMINATION}
@@ -134,6 +136,8 @@ SPECS: tuple[Spec, ...] = (
     Spec("P0038", "Keira Walsh", 27, ACTIVE, N, False, False, (), "regular cycles, mucus only; day 1", quiet(1)),
     Spec("P0039", "Farida Osman", 40, ACTIVE, N, False, False, (), "regular 29-day cycles, mucus only; day 2", quiet(2, 29)),
     Spec("P0040", "Beatriz Costa", 31, ACTIVE, N, True, False, (), "regular 27-day cycles, luteal phase (day 20)", quiet(20, 27), mucus=False),
+    Spec("P0041", "Hana Kovacova", 33, PREGNANT, T, True, True, ("hcg-rise-low", "bleeding-in-pregnancy"), "early pregnancy: serum hCG 150 then 180 (slow), light bleeding since yesterday", bleeding_in_pregnancy),
+    Spec("P0042", "Marisol Vega", 30, ACTIVE, N, True, False, ("intermenstrual-bleeding",), "light bleeding marked mid-cycle on days 15-17 (day 18)", intermenstrual),
 )  # fmt: skip
 
 

@@ -143,6 +143,30 @@ def early_pregnancy(first_hcg: int, second_hcg: int) -> Build:
     return build
 
 
+def bleeding_in_pregnancy(rng: random.Random, profile: Profile) -> list[Logged]:
+    """Positive urine test, serum hCG 150 then 180 over 48 h (slow), light bleeding since yesterday."""
+    cycles = scripted(rng, profile, Current(29, 14))
+    start = _current_start(cycles)
+    entries = drop(render(rng, profile, cycles), start + timedelta(days=5), TODAY, [Kind.HCG, Kind.BLEED])
+    yesterday = TODAY - timedelta(days=1)
+    tests = (
+        SimEntry(day_of(start, 26), Kind.HCG, "positive"),
+        SimEntry(day_of(start, 27), Kind.HCG, "150"),
+        SimEntry(yesterday, Kind.HCG, "180"),
+        SimEntry(yesterday, Kind.BLEED, "light", note="cramps"),
+        SimEntry(TODAY, Kind.BLEED, "light"),
+    )
+    return logged(add(entries, *tests))
+
+
+def intermenstrual(rng: random.Random, profile: Profile) -> list[Logged]:
+    """Day 18 of a regular cycle; light bleeding marked mid-cycle on days 15 to 17."""
+    cycles = scripted(rng, profile, Current(18, 14, 28))
+    start = _current_start(cycles)
+    spots = (SimEntry(day_of(start, cd), Kind.BLEED, "light", flags=("midcycle",)) for cd in (15, 16, 17))
+    return logged(add(render(rng, profile, cycles), *spots))
+
+
 def stimulated_luteal(rng: random.Random, profile: Profile) -> list[Logged]:
     """Tablets, scans and a trigger on day 12-13; today a week after ovulation."""
     return logged(render(rng, profile, scripted(rng, profile, Current(21, 14, 28))))

@@ -58,7 +58,7 @@ def confirmed_shift(cycles: Sequence[CycleSpan], temperatures: Sequence[Observat
                     protocol: Protocol) -> date | None:
     """The day in the week a thermal shift was confirmed by the three-over-six rule, if one was."""
     for span, group in zip(cycles, group_by_cycle(list(temperatures), list(cycles))):
-        readings = valid_readings(group)
+        readings = valid_readings(group, protocol)
         confirmed = three_over_six(readings, protocol).confirmed_at
         if confirmed is not None and week.first_day <= readings[confirmed].day <= week.last_day:
             return readings[confirmed].day

@@ -25,14 +25,15 @@ from caseload.core.alerts.base import (
 )
 from caseload.core.alerts.cycle import (
     amenorrhoea,
+    intermenstrual_bleeding,
     irregular_cycles,
     period_overdue,
     prolonged_bleeding,
     short_luteal_phase,
 )
 from caseload.core.alerts.readings import fever, logging_gap
-from caseload.core.alerts.thermal import monophasic_cycle, no_thermal_shift, sustained_high_temps
-from caseload.core.alerts.treatment import hcg_rise_low, multiple_follicles
+from caseload.core.alerts.thermal_alerts import monophasic_cycle, no_thermal_shift, sustained_high_temps
+from caseload.core.alerts.treatment import bleeding_in_pregnancy, hcg_rise_low, multiple_follicles
 from caseload.core.alerts.window import window_approaching, window_open
 from caseload.core.analysis import Analysis
 from caseload.core.model import Observation, Patient
@@ -59,6 +60,8 @@ RULES: dict[AlertKind, tuple[Scope, Rule]] = {
     K.MULTIPLE_FOLLICLES: (Scope(CHARTING, when_pregnant=False), multiple_follicles),
     K.LOGGING_GAP: (Scope(MONITORED, when_pregnant=False), logging_gap),
     K.FEVER: (Scope(CHARTING, when_pregnant=True), fever),
+    K.INTERMENSTRUAL_BLEEDING: (Scope(CHARTING, when_pregnant=False), intermenstrual_bleeding),
+    K.BLEEDING_IN_PREGNANCY: (Scope(CHARTING, when_pregnant=True), bleeding_in_pregnancy),
 }
 
 

@@ -35,6 +35,8 @@ class AlertKind(StrEnum):
     MULTIPLE_FOLLICLES = "multiple-follicles"
     LOGGING_GAP = "logging-gap"
     FEVER = "fever"
+    INTERMENSTRUAL_BLEEDING = "intermenstrual-bleeding"
+    BLEEDING_IN_PREGNANCY = "bleeding-in-pregnancy"
 
 
 ALERT_KINDS: tuple[str, ...] = tuple(k.value for k in AlertKind)
@@ -159,5 +161,3 @@ def iso(day: date | None) -> str | None:
     return None if day is None else day.isoformat()
 
 
-def cycle_day(start: date, day: date) -> int:
-    return (day - start).days + 1

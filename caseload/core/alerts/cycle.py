@@ -9,8 +9,9 @@ from __future__ import annotations
 
 from datetime import timedelta
 
-from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, iso, source_of
-from caseload.core.model import Severity
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
+from caseload.core.cycles import cycle_day
+from caseload.core.model import Kind, Severity
 
 FIGO = "FIGO 2018 (Munro 2018)"
 FIGO_SETTINGS = ("figo_frequent_below", "figo_infrequent_above", "figo_variation_mid", "figo_variation_young_old")
@@ -122,11 +123,60 @@ def prolonged_bleeding(f: Facts) -> list[Candidate]:
     return found
 
 
+def intermenstrual_bleeding(f: Facts) -> list[Candidate]:
+    """Bleeding between periods (flagged mid-cycle, or too soon after a day 1 to start a cycle) of
+    at least the protocol's days, or its heavy days, in one cycle; the current or the last cycle's
+    finding raises, older ones are held."""
+    p, cycles = f.protocol, f.analysis.cycles
+    found = []
+    for index, record in enumerate(cycles):
+        inside = [
+            b for b in f.analysis.intermenstrual if record.start <= b.start and (record.end is None or b.start <= record.end)
+        ]
+        days, heavy = sum(b.flow_days for b in inside), sum(b.heavy_days for b in inside)
+        if not inside or (days < p.intermenstrual_alert_days and heavy < p.intermenstrual_heavy_days):
+            continue
+        found.append(
+            f.candidate(
+                AlertKind.INTERMENSTRUAL_BLEEDING,
+                record.start.isoformat(),
+                Severity.SOON,
+                f"Intermenstrual bleeding: {days} days ({heavy} heavy) between periods in the cycle of "
+                f"{record.start.isoformat()}, from {inside[0].start.isoformat()}: FIGO 2018 abnormal bleeding "
+                "symptom; review.",
+                {
+                    "cycle_start": record.start.isoformat(),
+                    "bleeds": [
+                        {"start": b.start.isoformat(), "end": b.end.isoformat(), "flow_days": b.flow_days,
+                         "heavy_days": b.heavy_days}
+                        for b in inside
+                    ],
+                    "flow_days": days,
+                    "heavy_days": heavy,
+                    "limit_days": p.intermenstrual_alert_days,
+                    "limit_heavy_days": p.intermenstrual_heavy_days,
+                },
+                f"Bleeding between periods on {p.intermenstrual_alert_days} days or more, or heavy on "
+                f"{p.intermenstrual_heavy_days} or more, in one cycle",
+                source_of(p, ("intermenstrual_alert_days", "intermenstrual_heavy_days", "min_cycle_days"),
+                          f"{FIGO}: intermenstrual bleeding; thresholds common practice"),
+                raisable=index >= len(cycles) - 2,
+            )
+        )
+    return found
+
+
+def bleeding_now(f: Facts) -> bool:
+    """Any bleeding logged today or yesterday."""
+    return any(o.kind == Kind.BLEED and o.day >= f.today - timedelta(days=1) for o in f.observations if o.day <= f.today)
+
+
 def period_overdue(f: Facts) -> list[Candidate]:
     """Past the next period's 90% upper bound, or more days after the first high than a luteal
-    phase lasts, whichever comes first; no bleed yet."""
+    phase lasts, whichever comes first; no bleed yet. Never while she is bleeding: a bleed that
+    runs on is prolonged-bleeding's, bleeding between periods intermenstrual-bleeding's."""
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
-    if current is None or forecast is None:
+    if current is None or forecast is None or bleeding_now(f):
         return []
     latest = forecast.next_period_range[1]
     shift = current.shift

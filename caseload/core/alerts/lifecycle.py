@@ -13,7 +13,7 @@ from datetime import date, timedelta
 
 from caseload.core.alerts import AlertKind, Candidate, Facts, scope_of
 from caseload.core.alerts.base import skip_reason
-from caseload.core.alerts.window import p_today
+from caseload.core.alerts.window import open_threshold, p_today
 from caseload.core.model import Alert, AlertState
 from caseload.core.parse import InputError, one_line
 
@@ -32,7 +32,7 @@ CURRENT_CYCLE_KINDS = frozenset(
     {
         AlertKind.WINDOW_APPROACHING, AlertKind.WINDOW_OPEN, AlertKind.NO_THERMAL_SHIFT, AlertKind.PERIOD_OVERDUE,
         AlertKind.SUSTAINED_HIGH_TEMPS, AlertKind.AMENORRHOEA, AlertKind.LOGGING_GAP, AlertKind.HCG_RISE_LOW,
-        AlertKind.MULTIPLE_FOLLICLES,
+        AlertKind.MULTIPLE_FOLLICLES, AlertKind.BLEEDING_IN_PREGNANCY,
     }
 )  # fmt: skip
 
@@ -102,7 +102,7 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
         return f"LH surge logged on {current.markers.lh_surge.isoformat()}: the window is open"
     if kind in windows and analysis.prediction is not None:
         chance = p_today(analysis.prediction)
-        opened = kind is AlertKind.WINDOW_APPROACHING and chance >= facts.protocol.window_open_p
+        opened = kind is AlertKind.WINDOW_APPROACHING and chance >= open_threshold(analysis.prediction, facts.protocol)
         return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
     if kind is AlertKind.IRREGULAR_CYCLES:
         c = analysis.classification

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 from datetime import date, timedelta
 
-from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, source_of
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, source_of
+from caseload.core.cycles import cycle_day
 from caseload.core.model import Kind, Observation, Severity
 
 

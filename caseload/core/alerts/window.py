@@ -10,13 +10,14 @@ from __future__ import annotations
 
 from datetime import timedelta
 
-from caseload.core.alerts.base import AlertKind, Candidate, Facts, cycle_day, iso, source_of
+from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
+from caseload.core.cycles import cycle_day
+from caseload.core.markers import fertile_until
 from caseload.core.model import Plan, Severity
 from caseload.core.prediction import Prediction
+from caseload.core.settings import Protocol
 
 WINDOW_SOURCE = "common practice; six-day window: Wilcox 1995"
-# The ovum lives 12-24 hours (common practice): an LH-dated window closes the day after ovulation.
-OVUM_DAYS = 1
 
 APPROACHING_ACTION = {
     Plan.NATURAL: "let the patient know her fertile days are coming",
@@ -36,32 +37,40 @@ def p_today(prediction: Prediction) -> float:
     return prediction.daily[0].p_fertile if prediction.daily else 0.0
 
 
-def lh_window_open(f: Facts) -> bool:
-    """An LH surge this cycle and no confirmed shift yet, up to the day after the ovulation the
-    surge dates. The shift may confirm late or never (no temperatures, a slow rise), and the fertile
-    time does not wait for it."""
+def open_threshold(prediction: Prediction, protocol: Protocol) -> float:
+    """P(fertile) today that opens the window: `window_open_p`, or on a flat curve (a new or
+    irregular patient, whose peak never reaches it) the top of her own curve, within
+    `window_open_share_of_peak` of its peak, so the alert works for every patient."""
+    return min(protocol.window_open_p, protocol.window_open_share_of_peak * prediction.peak_p_fertile)
+
+
+def marker_window_open(f: Facts) -> bool:
+    """An LH surge or a mucus peak this cycle and no confirmed shift yet, up to the last fertile day
+    they show (the day after the ovulation the surge dates; the third day after the mucus peak). The
+    shift may confirm late or never (no temperatures, a slow rise), and the fertile time does not
+    wait for it."""
     current = f.analysis.current
-    surge = current.markers.lh_surge
-    if surge is None or current.shift.confirmed:
-        return False
-    return f.today <= surge + timedelta(days=f.protocol.lh_to_ovulation_days + OVUM_DAYS)
+    until = fertile_until(current.markers, f.protocol)
+    return until is not None and not current.shift.confirmed and f.today <= until
 
 
 def window_open(f: Facts) -> list[Candidate]:
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
     if current is None or forecast is None or current.shift.confirmed:
         return []
-    chance, lh = p_today(forecast), lh_window_open(f)
-    raisable = chance >= p.window_open_p or lh
+    chance, marked, threshold = p_today(forecast), marker_window_open(f), open_threshold(forecast, p)
+    raisable = chance >= threshold or marked
     # Held through a dip to the approaching level, until the latest day the pattern expects ovulation.
     held = chance >= p.window_approaching_p and f.today <= forecast.expected_ovulation_range[1]
     if not (raisable or held):
         return []
     cd = cycle_day(current.start, f.today)
     action = OPEN_ACTION[f.patient.plan]
-    if lh:
-        surge = current.markers.lh_surge.isoformat()
-        message = f"Fertile window open: LH surge on {surge}, no shift yet (cycle day {cd}); {action}."
+    if marked:
+        signs = [f"LH surge on {current.markers.lh_surge.isoformat()}"] if current.markers.lh_surge else []
+        if current.markers.mucus_peak is not None:
+            signs.append(f"mucus peak on {current.markers.mucus_peak.isoformat()}")
+        message = f"Fertile window open: {' and '.join(signs)}, no shift yet (cycle day {cd}); {action}."
     else:
         message = f"Fertile window open: P(fertile) today {chance:.2f} (cycle day {cd}); {action}."
     window = forecast.fertile_window
@@ -75,12 +84,17 @@ def window_open(f: Facts) -> list[Candidate]:
                 "cycle_start": current.start.isoformat(),
                 "cycle_day": cd,
                 "p_fertile_today": chance,
+                "open_threshold": round(threshold, 4),
                 "lh_surge": iso(current.markers.lh_surge),
+                "mucus_peak": iso(current.markers.mucus_peak),
                 "ovulation": iso(forecast.ovulation),
                 "fertile_window": None if window is None else [window[0].isoformat(), window[1].isoformat()],
             },
-            f"P(fertile) today at least {p.window_open_p:g}, or an LH surge this cycle with no confirmed shift",
-            source_of(p, ("window_open_p",), WINDOW_SOURCE + "; LH to ovulation: WHO Task Force 1980"),
+            f"P(fertile) today at least {p.window_open_p:g} (on a flat curve, {p.window_open_share_of_peak:g} of its "
+            "peak), or an LH surge or mucus peak this cycle with no confirmed shift (to the third day after the peak)",
+            source_of(
+                p, ("window_open_p", "window_open_share_of_peak"), WINDOW_SOURCE + "; LH to ovulation: WHO Task Force 1980; mucus peak + 3 days: common practice"
+            ),
             raisable=raisable,
         )
     ]
@@ -90,7 +104,7 @@ def window_approaching(f: Facts) -> list[Candidate]:
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
     if current is None or forecast is None or current.shift.confirmed or current.markers.lh_surge is not None:
         return []
-    if not forecast.daily or p_today(forecast) >= p.window_open_p:
+    if not forecast.daily or p_today(forecast) >= open_threshold(forecast, p):
         return []  # no forecast of the coming days, or open rather than approaching
     peak = max(forecast.daily, key=lambda d: d.p_fertile)
     reaching = [d for d in forecast.daily if d.p_fertile >= p.window_approaching_p]

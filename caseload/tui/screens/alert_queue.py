@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import VerticalScroll
@@ -11,21 +11,17 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.core.model import Alert
-from caseload.application.alert_handling import list_alerts
-from caseload.application.context import Context
-from caseload.tui.alert_actions import start_handling
+from caseload.tui.handle_alert import start_handling
+from caseload.tui.saving import StoreChanged
 from caseload.tui.screens.record import RecordScreen
-from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
 
 
-def open_alerts(ctx: Context, nurse: str | None) -> list[Alert]:
-    return list_alerts(ctx, state="open", nurse=nurse)
-
-
-class AlertQueueScreen(Screen):
+class AlertQueueScreen(ClinicWork, Screen):
     """Enter opens the patient's record with the alert's evidence in view."""
 
     CSS_PATH = "alert_queue.tcss"
@@ -72,8 +68,17 @@ class AlertQueueScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        nurse = self.app.gate.actor.id if self.app.mine else None
-        self.app.store_job(self, open_alerts, nurse, reply=self.Loaded, refusal=self.LoadFailed)
+        self._load(self.app.clinic.actor.id if self.app.mine else None)
+
+    @work(**STORE_WORK, name="load")
+    def _load(self, nurse: str | None) -> None:
+        self.post_message(self.Loaded(self.app.clinic.alerts("open", None, nurse)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(self.LoadFailed(reason))
+
+    def on_store_changed(self, message: StoreChanged) -> None:
+        self.reload()
 
     def on_alert_queue_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False

@@ -8,25 +8,23 @@ today, the morning refresh runs in a worker and the list is read again after it.
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
-from caseload.application.caseload_view import CaseloadLine, list_caseload
-from caseload.application.recompute import RefreshReport, refresh_all
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.application.caseload_view import CaseloadLine
+from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.saving import StoreChanged
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
 from caseload.tui.widgets.status_line import StatusLine
-
-
-def needs_morning_refresh(lines: tuple[CaseloadLine, ...], today) -> bool:
-    return any(line.snapshot is None or line.snapshot.computed_on < today for line in lines)
 
 
 def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple[CaseloadLine, ...]:
@@ -45,7 +43,7 @@ def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple
     return tuple(out)
 
 
-class CaseloadScreen(Screen):
+class CaseloadScreen(ClinicWork, Screen):
     """Who needs attention today, and why."""
 
     CSS_PATH = "caseload.tcss"
@@ -104,7 +102,26 @@ class CaseloadScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, list_caseload, reply=self.Loaded, refusal=self.LoadFailed)
+        self._load()
+
+    @work(**STORE_WORK, name="load")
+    def _load(self) -> None:
+        self.post_message(self.Loaded(self.app.clinic.morning_list()))
+
+    @work(**STORE_WORK, name="refresh")
+    def _morning_refresh(self) -> None:
+        self.post_message(self.Refreshed(self.app.clinic.refresh()))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        if name == "load":
+            self.post_message(self.LoadFailed(reason))
+
+    def on_store_changed(self, message: StoreChanged) -> None:
+        """After a save: the list already holds a logged entry's row; anything else is read again."""
+        if message.row_updated:
+            self._show()
+        else:
+            self.reload()
 
     def on_caseload_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
@@ -115,9 +132,9 @@ class CaseloadScreen(Screen):
             self._show()
         if not self._refresh_checked:
             self._refresh_checked = True
-            if needs_morning_refresh(message.lines, self.app.gate.today):
+            if self.app.clinic.morning_refresh_due(message.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
-                self.app.store_job(self, refresh_all, reply=self.Refreshed)
+                self._morning_refresh()
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
@@ -130,7 +147,7 @@ class CaseloadScreen(Screen):
 
     def _show(self) -> None:
         filters = self.query_one(FilterBar).filters
-        lines = visible(self.app.roster, filters, self.app.gate.actor.id)
+        lines = visible(self.app.roster, filters, self.app.clinic.actor.id)
         self.query_one(CaseloadTable).show(lines)
         total = len(self.app.roster)
         note = f"{len(lines)} of {total} patients"
@@ -190,7 +207,7 @@ class CaseloadScreen(Screen):
         if action == "back_to_list":
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
-            return self.app.gate.may("summary.export")
+            return self.app.clinic.may("summary.export")
         return True
 
     def action_export(self) -> None:

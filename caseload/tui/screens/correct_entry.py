@@ -15,9 +15,10 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry
 from caseload.core.parse import InputError, parse_value
-from caseload.application.entries import amend_entry, void_entry
-from caseload.tui.words import kind_label, literal, short_day
-from caseload.tui.writes import logged_summary, voided_summary, write
+from caseload.presentation.glossary import kind_label
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
+from caseload.tui.saving import logged_summary, voided_summary
 
 
 @dataclass(frozen=True)
@@ -94,8 +95,8 @@ def correct_entry(screen: Screen, entry: Entry) -> Callable[[Correction | None],
         if correction is None:
             return
         if correction.value is not None:
-            write(screen, amend_entry, entry.id, correction.value, correction.reason, summary=logged_summary)
+            screen.app.save(screen.app.clinic.amend, entry.id, correction.value, correction.reason, summary=logged_summary)
         else:
-            write(screen, void_entry, entry.id, correction.reason, summary=voided_summary)
+            screen.app.save(screen.app.clinic.void, entry.id, correction.reason, summary=voided_summary)
 
     return done

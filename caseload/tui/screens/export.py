@@ -6,14 +6,16 @@ from datetime import date
 from pathlib import Path
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
-from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS, export_summary
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
+from caseload.exports.summary_files import write
 from caseload.tui.file_messages import FileRefused, FileWritten
 
 DEFAULT_FORMAT = "xlsx"
@@ -31,14 +33,14 @@ def default_target(week: str, fmt: str) -> Path:
     return Path.home() / (name if fmt in FOLDER_FORMATS else f"{name}.{fmt}")
 
 
-class ExportDialog(ModalScreen[None]):
+class ExportDialog(ClinicWork, ModalScreen[None]):
     """Enter in a field exports; Esc closes. Offered to supervisors and admins only."""
 
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
 
     def compose(self) -> ComposeResult:
-        week = iso_week(self.app.gate.today)
+        week = iso_week(self.app.clinic.as_of)
         with Vertical(classes="dialog"):
             yield Label("Export the weekly summary", classes="dialog-title")
             yield Label("Week (YYYY-Www)")
@@ -59,11 +61,16 @@ class ExportDialog(ModalScreen[None]):
     @on(Input.Submitted)
     def _export(self) -> None:
         self.query_one("#check", Static).update(Text("Exporting…", style="dim"))
-        self.app.store_job(
-            self, export_summary, self.query_one("#week", Input).value.strip(), str(self.query_one("#format", Select).value),
-            Path(self.query_one("#out", Input).value).expanduser(), bool(self.query_one("#deidentify", Select).value),
-            reply=FileWritten, refusal=FileRefused,
-        )
+        self._write_summary(self.query_one("#week", Input).value.strip(), str(self.query_one("#format", Select).value),
+                            Path(self.query_one("#out", Input).value).expanduser(),
+                            bool(self.query_one("#deidentify", Select).value))
+
+    @work(**STORE_WORK, name="export")
+    def _write_summary(self, week: str, fmt: str, out: Path, deidentify: bool) -> None:
+        self.post_message(FileWritten(self.app.clinic.export_summary(week, fmt, out, deidentify, write)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(FileRefused(reason))
 
     def on_file_written(self, message: FileWritten) -> None:
         self.notify(f"Summary written to {message.path}", markup=False)

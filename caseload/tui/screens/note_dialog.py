@@ -16,7 +16,8 @@ from textual.widgets import Footer, Input, Label, Static
 from caseload.core.model import Alert
 from caseload.core.alerts.lifecycle import parse_future_day
 from caseload.core.parse import InputError
-from caseload.tui.words import alert_label, literal
+from caseload.presentation.glossary import alert_label
+from caseload.tui.rich_text import literal
 
 
 @dataclass(frozen=True)

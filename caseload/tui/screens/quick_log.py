@@ -7,10 +7,8 @@ dialog stays open after a save, so a caller's temperature and bleed go in one af
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 from rich.text import Text
-from textual import events, on
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -19,26 +17,21 @@ from textual.screen import ModalScreen
 from textual.suggester import Suggester
 from textual.widgets import Footer, Input, Label, Static
 
-from caseload.core.model import Entry, Kind
-from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_day, parse_entry
-from caseload.application.context import Context
-from caseload.application.entries import Logged, amend_entry, log_entry, patient_entries
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.core.model import Kind
+from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_entry
+from caseload.application.clinic import SameDayReading
+from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
 from caseload.tui.widgets.type_ahead import TypeAheadInput
-from caseload.tui.words import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, literal, match_kind, short_day
-from caseload.tui.writes import logged_summary
+from caseload.presentation.glossary import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, match_kind
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
+from caseload.tui.saving import Saved, logged_summary
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
-
-
-@dataclass(frozen=True)
-class SameDayReading:
-    """The patient already has a counting temperature that day."""
-
-    existing: Entry
-    value: str
 
 
 class KindSuggester(Suggester):
@@ -48,19 +41,7 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-def log_or_find_reading(
-    ctx: Context, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str
-) -> Logged | SameDayReading:
-    """Log the entry, unless it is a temperature on a day that already has one: then say which."""
-    if kind is Kind.TEMP:
-        day = parse_day(on, ctx.today)
-        same = [e for e in patient_entries(ctx, patient_id) if e.current and e.kind is Kind.TEMP and e.day == day]
-        if same:
-            return SameDayReading(same[0], value)
-    return log_entry(ctx, patient_id, kind.value, value, on, at, flags, note)
-
-
-class QuickLogScreen(ModalScreen[None]):
+class QuickLogScreen(ClinicWork, ModalScreen[None]):
     """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
 
     CSS_PATH = "quick_log.tcss"
@@ -135,7 +116,7 @@ class QuickLogScreen(ModalScreen[None]):
         if kind is None:
             typed = self._text("kind").strip()
             raise InputError(f"kind '{one_line(typed)}' not understood: use {KINDS_HINT}" if typed else f"type a kind: {KINDS_HINT}")
-        return parse_entry(kind, self._text("value"), self.app.gate.today, on=self._text("day") or "today",
+        return parse_entry(kind, self._text("value"), self.app.clinic.as_of, on=self._text("day") or "today",
                            at=self._text("time").strip() or None, flags=self._text("flags"), note=self._text("note"))
 
     @on(Input.Changed)
@@ -216,11 +197,19 @@ class QuickLogScreen(ModalScreen[None]):
         self._saving = True
         self._typed_from = field
         result.update(Text("Saving…", style="dim"))
-        self.app.store_job(
-            self, log_or_find_reading, picker.patient.id, parsed.kind, self._text("value"),
-            self._text("day") or "today", self._text("time").strip() or None, self._text("flags"), self._text("note"),
-            reply=self.Done, refusal=self.Refused,
-        )
+        self._log_call(picker.patient.id, parsed.kind, self._text("value"), self._text("day") or "today",
+                       self._text("time").strip() or None, self._text("flags"), self._text("note"))
+
+    @work(**STORE_WORK, name="save")
+    def _log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str) -> None:
+        self.post_message(self.Done(self.app.clinic.log_call(patient_id, kind, value, on, at, flags, note)))
+
+    @work(**STORE_WORK, name="save")
+    def _amend(self, entry_id: int, value: str, reason: str) -> None:
+        self.post_message(self.Done(self.app.clinic.amend(entry_id, value, reason)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(self.Refused(reason))
 
     def _finish_typing(self, next_field: str | None) -> None:
         """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped."""
@@ -249,12 +238,12 @@ class QuickLogScreen(ModalScreen[None]):
         for field in ("kind", "value", "time", "flags", "note"):
             self.query_one(f"#{field}", Input).value = ""
         self._finish_typing("kind")
-        self.app.store_changed()
+        self.app.post_message(Saved(None, outcome))
 
     def _same_day(self, found: SameDayReading) -> None:
         e = found.existing
         line = f"{e.patient_id} already has {e.value.display()} C on {short_day(e.day)} (entry #{e.id})"
-        if not self.app.gate.may("entry.amend"):
+        if not self.app.clinic.may("entry.amend"):
             self.query_one("#result", Static).update(Text(f"Not saved: {line}; a nurse can replace it with a correction."))
             return
 
@@ -263,8 +252,7 @@ class QuickLogScreen(ModalScreen[None]):
                 self.query_one("#result", Static).update(Text(f"Not saved: {line}, kept as it is."))
                 return
             self._saving = True
-            self.app.store_job(self, amend_entry, e.id, correction.value, correction.reason,
-                               reply=self.Done, refusal=self.Refused)
+            self._amend(e.id, correction.value, correction.reason)
 
         dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?")
         self.app.push_screen(dialog, replace)

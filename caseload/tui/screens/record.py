@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
@@ -11,18 +11,20 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
-from caseload.application.caseload_view import PatientRecord, show_patient
-from caseload.tui.alert_actions import start_handling
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.application.caseload_view import PatientRecord
+from caseload.tui.handle_alert import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
-from caseload.tui.widgets.alert_table import AlertTable
+from caseload.tui.widgets.alert_list import AlertTable
+from caseload.tui.saving import StoreChanged
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.marker_strip import LEGEND, MarkerStrip
 from caseload.tui.widgets.status_line import StatusLine
-from caseload.tui.words import CAUTION
+from caseload.presentation.glossary import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
 CYCLES = Binding.Group("Cycle")
@@ -31,7 +33,7 @@ TAB_FOCUS = {"cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "
 CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
 
 
-class RecordScreen(Screen):
+class RecordScreen(ClinicWork, Screen):
     """Opened from the list or the alert queue; `alert_id` opens the alerts tab with that alert in view."""
 
     CSS_PATH = "record.tcss"
@@ -102,7 +104,17 @@ class RecordScreen(Screen):
         if self._loading:
             return
         self._loading = True
-        self.app.store_job(self, show_patient, self.patient_id, reply=self.Loaded, refusal=self.LoadFailed)
+        self._load()
+
+    @work(**STORE_WORK, name="load")
+    def _load(self) -> None:
+        self.post_message(self.Loaded(self.app.clinic.patient_record(self.patient_id)))
+
+    def work_failed(self, name: str, reason: str) -> None:
+        self.post_message(self.LoadFailed(reason))
+
+    def on_store_changed(self, message: StoreChanged) -> None:
+        self.reload()
 
     def on_record_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
@@ -158,7 +170,7 @@ class RecordScreen(Screen):
             return
         count = len(record.analysis.cycles)
         index = count - 1 if self._cycle is None else self._cycle
-        view = cycle_view(record, index, self.app.gate.today)
+        view = cycle_view(record, index, self.app.clinic.as_of)
         self.query_one("#chart-title", Static).update(
             Text(view.title if view else "No cycle recorded yet", style="bold")
         )
@@ -174,7 +186,7 @@ class RecordScreen(Screen):
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "referral":
-            return self.app.gate.may("referral.pack")
+            return self.app.clinic.may("referral.pack")
         return True
 
     def action_referral(self) -> None:

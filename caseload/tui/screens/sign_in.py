@@ -7,7 +7,7 @@ and cannot be taken (an admin moves them).
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -16,10 +16,9 @@ from textual.screen import Screen
 from textual.widgets import Footer, Label, OptionList, Static
 from textual.widgets.option_list import Option
 
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.core.model import Actor, Staff
-from caseload.application.staff import claim_staff
-from caseload.application.account_setup import sign_in_roster
-from caseload.tui.words import literal
+from caseload.tui.rich_text import literal
 
 
 NAME_WIDTH = 20
@@ -38,7 +37,7 @@ class StaffList(OptionList):
     BINDINGS = [Binding("enter", "select", "Sign in as", id="sign_in.take")]
 
 
-class SignInScreen(Screen):
+class SignInScreen(ClinicWork, Screen):
     CSS_PATH = "sign_in.tcss"
     AUTO_FOCUS = "StaffList"
     BINDINGS = [Binding("q", "app.quit", "Quit", id="sign_in.quit")]
@@ -56,22 +55,29 @@ class SignInScreen(Screen):
     def compose(self) -> ComposeResult:
         with Vertical(id="sign-in"):
             yield Label("Who are you?", classes="dialog-title")
-            account = self.app.gate.account
+            account = self.app.clinic.identity.account
             yield Static(Text(f"The OS account '{account}' is not linked to a staff record yet. "
                               "Pick yours with the arrows and Enter; it is linked from then on."))
             yield StaffList(id="staff")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.app.store_job(self, sign_in_roster, reply=self.Roster, before_sign_in=True)
+        self._roster()
+
+    @work(**STORE_WORK, name="roster")
+    def _roster(self) -> None:
+        self.post_message(self.Roster(self.app.clinic.sign_in_roster()))
+
+    @work(**STORE_WORK, name="claim")
+    def _claim(self, staff_id: str) -> None:
+        self.post_message(self.Claimed(self.app.clinic.claim(staff_id)))
 
     def on_sign_in_screen_roster(self, message: Roster) -> None:
         self.query_one(StaffList).set_options(staff_option(s) for s in message.staff)
 
     @on(OptionList.OptionSelected)
     def _chosen(self, event: OptionList.OptionSelected) -> None:
-        self.app.store_job(self, claim_staff, event.option.id, self.app.gate.account,
-                           reply=self.Claimed, before_sign_in=True)
+        self._claim(event.option.id)
 
     def on_sign_in_screen_claimed(self, message: Claimed) -> None:
-        self.app.signed_in(message.actor)
+        self.app.signed_in()

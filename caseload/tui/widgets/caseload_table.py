@@ -1,4 +1,4 @@
-"""The morning list: one row per patient under care, in the triage order the service gives."""
+"""The morning list: one row per patient under care, in the triage order the Clinic gives."""
 
 from __future__ import annotations
 
@@ -8,9 +8,10 @@ from textual.binding import Binding
 from textual.widgets import DataTable
 
 from caseload.application.caseload_view import CaseloadLine
-from caseload.tui.words import alert_label, literal, phase_label, short_day
+from caseload.presentation.glossary import alert_label, next_event_short, phase_label
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
 
-NEXT_SHORT = {"window start": "window", "period": "period", "trigger size": "trigger", "pregnancy test": "hCG test"}
 GAP_WARN_DAYS = 3  # days without an entry worth a glance (the logging-gap default)
 
 
@@ -59,7 +60,7 @@ def next_cell(line: CaseloadLine) -> Text:
     s = line.snapshot
     if s is None or s.next_event is None:
         return Text("-", style="dim")
-    return Text(f"{NEXT_SHORT.get(s.next_event, s.next_event)} {short_day(s.next_event_day)}")
+    return Text(f"{next_event_short(s.next_event)} {short_day(s.next_event_day)}")
 
 
 def last_cell(line: CaseloadLine) -> Text:

@@ -12,7 +12,9 @@ from textual.message import Message
 from textual.widgets import DataTable
 
 from caseload.core.model import Entry, Kind
-from caseload.tui.words import kind_label, literal, short_day
+from caseload.presentation.glossary import kind_label
+from caseload.presentation.days import short_day
+from caseload.tui.rich_text import literal
 
 COLUMNS = ("#", "Day", "Kind", "Value", "Status", "Time", "Flags", "By", "Note")
 VALUE_WIDTH = 18
@@ -100,7 +102,7 @@ class EntriesTable(DataTable):
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action in ("amend", "void"):
-            if not self.app.gate.may(f"entry.{action}"):
+            if not self.app.clinic.may(f"entry.{action}"):
                 return False
             entry = self.current_entry()
             return True if entry is not None and entry.current else None

@@ -6,9 +6,10 @@ from rich.text import Text
 from textual.widgets import Static
 
 from caseload.core.model import Alert
-from caseload.tui.words import alert_label, literal, long_day
+from caseload.presentation.glossary import ALERT_CAUTION, alert_label
+from caseload.presentation.days import long_day
+from caseload.tui.rich_text import literal
 
-ALERT_CAUTION = "An alert supports clinical judgement and the clinic's protocols; it does not replace them."
 
 
 def evidence_value(value: object) -> str:

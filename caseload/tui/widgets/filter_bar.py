@@ -13,7 +13,7 @@ from textual.reactive import reactive
 from textual.widgets import Input, Select, Static
 
 from caseload.core.model import Plan
-from caseload.tui.words import ALERT_LABELS
+from caseload.presentation.glossary import ALERT_LABELS
 
 ANY = "any"
 

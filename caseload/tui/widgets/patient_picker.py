@@ -15,13 +15,15 @@ from caseload.core.model import Patient
 from caseload.application.caseload_view import CaseloadLine
 from caseload.tui.search import find_patients
 from caseload.tui.widgets.type_ahead import TypeAheadInput
-from caseload.tui.words import literal, phase_label, plain
+from caseload.presentation.glossary import phase_label
+from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import printable
 
 SHOWN = 4
 
 
 def typed_form(patient: Patient) -> str:
-    return f"{patient.id} {plain(patient.name)}"
+    return f"{patient.id} {printable(patient.name)}"
 
 
 def picked_label(line: CaseloadLine) -> Text:

@@ -7,7 +7,7 @@ from textual.widgets import Static
 
 from caseload.core.model import Severity
 from caseload.application.caseload_view import CaseloadLine
-from caseload.tui.words import literal
+from caseload.tui.rich_text import literal
 
 
 def severity_counts(lines: tuple[CaseloadLine, ...]) -> dict[Severity, int]:
@@ -30,9 +30,11 @@ class StatusLine(Static):
 
     def _redraw(self, _value=None) -> None:
         app = self.app
-        actor = app.gate.actor
-        today = app.gate.today
+        actor = app.clinic.actor if app.clinic.signed_in else None
+        today = app.clinic.as_of
         text = Text(f"{today.day} {today.strftime('%b %Y')}", style="bold")
+        if app.clinic.viewing_another_day:
+            text.append(" read-only view", style="reverse")
         if actor is not None:
             text.append(" ")
             text.append_text(literal(actor.staff.name[:NAME_WIDTH]))

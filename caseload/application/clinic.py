@@ -1,0 +1,356 @@
+"""The one way into a store for every front end: a `Clinic`, opened from a store path and an identity.
+
+A Clinic holds the store, who is acting, the clinic's date of record (its real local date, in the
+time zone kept in the store), the day being looked at ("as of", the date of record unless asked
+otherwise) and the protocol in force. Its methods are the use cases; each checks permissions, runs
+in one transaction (nesting inside any the caller holds) and returns typed results. The bodies live
+in one module per noun (`entries`, `patients`, `staff`, `alert_handling`, ...).
+
+The date rule: writes and refreshes always use the date of record. Any other as-of date is a
+read-only view; a write under it is refused in one line, except for an admin in maintenance mode
+(`maintenance_date`), whose writes record the day they were made as of and are audited as such.
+"""
+
+from __future__ import annotations
+
+import sqlite3
+import threading
+from dataclasses import dataclass
+from datetime import date
+from pathlib import Path
+from typing import Callable
+
+from caseload.core.model import Actor, Alert, Entry, Kind, Patient, Role, Staff
+from caseload.core.parse import InputError, parse_day
+from caseload.core.settings import Protocol
+from caseload.application import alert_handling, caseload_view, csv_import, entries, patients, protocol, staff
+from caseload.application import referral, store_care, weekly_summary
+from caseload.application.caseload_view import CaseloadLine, PatientRecord
+from caseload.application.context import Context
+from caseload.application.csv_import import Imported
+from caseload.application.entries import Logged
+from caseload.application.errors import Refused
+from caseload.application.identity import not_mapped, os_account, resolve_actor
+from caseload.application.permissions import allowed
+from caseload.application.protocol import ProtocolInUse
+from caseload.application.recompute import RefreshReport, refresh_all
+from caseload.application.week.figures import WeeklySummary
+from caseload.store import Store, StoreError
+from caseload.store.backup_restore import Health
+
+
+@dataclass(frozen=True)
+class Identity:
+    """Who opens the store: the OS account (from the OS itself) and, for an admin's account, `--as`."""
+
+    account: str
+    as_staff: str | None = None
+
+    @classmethod
+    def from_os(cls, as_staff: str | None = None) -> Identity:
+        return cls(os_account(), as_staff)
+
+
+@dataclass(frozen=True)
+class SameDayReading:
+    """A temperature was not logged: the patient already has a counting one that day."""
+
+    existing: Entry
+    value: str
+
+
+def plain_reason(error: BaseException) -> str:
+    """One line for a person about a failed use case, without a traceback."""
+    if isinstance(error, (InputError, Refused, StoreError)):
+        return str(error)
+    if isinstance(error, sqlite3.OperationalError) and "locked" in str(error).lower():
+        return "the store is busy with another terminal's change: try again in a moment"
+    if isinstance(error, sqlite3.Error):
+        return f"the store could not be read or written ({error})"
+    return f"unexpected {type(error).__name__}: {error}"
+
+
+class Clinic:
+    """One store, one acting staff member, one day of record. Safe to share between threads: each
+    call holds the clinic's lock, so its one SQLite connection is never used by two at once."""
+
+    def __init__(
+        self,
+        store: Store,
+        identity: Identity,
+        *,
+        as_of: date | None = None,
+        maintenance_date: date | None = None,
+        date_of_record: date | None = None,
+    ):
+        """`as_of`: a read-only view of another day (`--today`). `maintenance_date`: an admin's
+        audited writes as of another day. `date_of_record`: the clinic's real date, given only by
+        tests (never the environment); by default today in the clinic's time zone."""
+        self.store = store
+        self.identity = identity
+        self.real_date = date_of_record or staff.clinic_today(store)
+        self._actor = None if store.staff.by_os_account(identity.account) is None else resolve_actor(
+            store, identity.account, identity.as_staff
+        )
+        self.maintenance_date = maintenance_date
+        if maintenance_date is not None:
+            if self._actor is None or self._actor.role is not Role.ADMIN:
+                who = "nobody" if self._actor is None else f"{self._actor.id} ({self._actor.role.value})"
+                raise Refused(f"--maintenance-date is honoured only for an admin; this is {who}")
+        self.as_of = as_of or self.date_of_record
+        self.protocol: Protocol = protocol.load_protocol(store)
+        self.lock = threading.RLock()
+
+    @classmethod
+    def create(cls, path: str | Path, identity: Identity, admin_id: str, name: str, timezone: str,
+               date_of_record: date | None = None) -> Actor:
+        """Set up a new store at `path` with its first admin, mapped to the identity's OS account."""
+        staff.parse_timezone(timezone)  # refused before any file is made
+        with Store(path) as store:
+            return staff.init_store(store, admin_id, name, identity.account, timezone, date_of_record)
+
+    @classmethod
+    def open(cls, path: str | Path, identity: Identity, **dates) -> Clinic:
+        """Open the store file at `path` (it must exist) for `identity`; see __init__ for the dates."""
+        store = Store(path)
+        try:
+            return cls(store, identity, **dates)
+        except BaseException:
+            store.close()
+            raise
+
+    def close(self) -> None:
+        self.store.close()
+
+    def __enter__(self) -> Clinic:
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    # --- who and when
+
+    @property
+    def date_of_record(self) -> date:
+        """The day writes and refreshes are made as of: the real date, or an admin's maintenance date."""
+        return self.maintenance_date or self.real_date
+
+    @property
+    def signed_in(self) -> bool:
+        return self._actor is not None
+
+    @property
+    def actor(self) -> Actor:
+        if self._actor is None:
+            raise not_mapped(self.identity.account)
+        return self._actor
+
+    @property
+    def viewing_another_day(self) -> bool:
+        return self.as_of != self.date_of_record
+
+    def may(self, action: str) -> bool:
+        """Whether the acting staff member's role allows an action (each use case checks anyway)."""
+        return self._actor is not None and allowed(self._actor, action)
+
+    def _reading(self) -> Context:
+        return Context(self.store, self.actor, self.as_of, self.protocol)
+
+    def _writing(self, doing: str) -> Context:
+        """The context of a write, or a refusal when the day under view is not the date of record."""
+        if self.viewing_another_day:
+            raise Refused(
+                f"the view as of {self.as_of.isoformat()} is read-only: {doing} uses the clinic's date of record "
+                f"({self.date_of_record.isoformat()}); drop --today / CASELOAD_TODAY to do it"
+            )
+        return Context(self.store, self.actor, self.date_of_record, self.protocol)
+
+    def _write(self, doing: str, use_case: Callable, *args, **kwargs):
+        """Run a writing use case as one transaction as of the date of record, rerun whole if another
+        writer held the lock. In maintenance mode the transaction also records who wrote as of which
+        day, and what the real date was."""
+        with self.lock:
+            ctx = self._writing(doing)
+
+            def unit():
+                if self.maintenance_date is not None:
+                    self.store.audit.record(ctx.actor, "maintenance.write", "meta", None,
+                                            after={"date_of_record": self.date_of_record.isoformat(),
+                                                   "real_date": self.real_date.isoformat(), "doing": doing})
+                return use_case(ctx, *args, **kwargs)
+
+            return self.store.transact(unit, self.date_of_record)
+
+    def _maintain(self, doing: str, use_case: Callable, *args):
+        """Backup and restore: they copy or replace the whole file, so they open their own short
+        transaction for the audit row instead of running inside one."""
+        with self.lock:
+            return use_case(self._writing(doing), *args)
+
+    def _read(self, use_case: Callable, *args, **kwargs):
+        with self.lock:
+            return use_case(self._reading(), *args, **kwargs)
+
+    # --- sign-in (before anyone acts)
+
+    def sign_in_roster(self) -> list[Staff]:
+        """The active staff an unmapped OS account may claim as its own record (the first sign-in)."""
+        with self.lock:
+            return [s for s in self.store.staff.all() if s.active]
+
+    def claim(self, staff_id: str) -> Actor:
+        """First sign-in from an unmapped OS account: take an active staff record with no account yet."""
+        with self.lock:
+            self._actor = staff.claim_staff(self.store, staff_id, self.identity.account, self.real_date)
+            return self._actor
+
+    # --- entries
+
+    def log(self, patient_id: str, kind: str, value: str, on: str = "today", at: str | None = None,
+            flags=(), note: str = "") -> Logged:
+        return self._write("logging", entries.log_entry, patient_id, kind, value, on, at, flags, note)
+
+    def log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str,
+                 note: str) -> Logged | SameDayReading:
+        """The phone line's save: log the entry, or, for a temperature on a day that already has one,
+        return that reading so the caller can offer a correction instead."""
+        with self.lock:
+            if kind is Kind.TEMP:
+                ctx = self._writing("logging")
+                # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
+                same = entries.same_day_temperature(ctx, patient_id.strip(), parse_day(on, ctx.today))
+                if same is not None:
+                    return SameDayReading(same, value)
+            return self.log(patient_id, kind.value, value, on, at, flags, note)
+
+    def amend(self, entry_id: int | str, value: str, reason: str) -> Logged:
+        return self._write("correcting an entry", entries.amend_entry, entry_id, value, reason)
+
+    def void(self, entry_id: int | str, reason: str) -> Logged:
+        return self._write("voiding an entry", entries.void_entry, entry_id, reason)
+
+    def entries(self, patient_id: str) -> list[Entry]:
+        return self._read(entries.patient_entries, patient_id)
+
+    def import_csv(self, data: bytes) -> Imported:
+        return self._write("importing", csv_import.import_csv, data)
+
+    # --- patients and staff
+
+    def register_patient(self, patient_id: str, name: str, born: str, nurse: str | None = None,
+                         plan: str = "natural", charting_temps: bool = True) -> Patient:
+        return self._write("registering a patient", patients.add_patient, patient_id, name, born, nurse, plan,
+                           charting_temps)
+
+    def set_patient(self, patient_id: str, plan: str | None = None, status: str | None = None,
+                    nurse: str | None = None) -> Patient:
+        return self._write("changing a patient", patients.update_patient, patient_id, plan=plan, status=status,
+                           nurse=nurse)
+
+    def staff_list(self) -> list[Staff]:
+        with self.lock:
+            self.actor  # noqa: B018 - refuses an unmapped account
+            return self.store.staff.all()
+
+    def add_staff(self, staff_id: str, name: str, role: str, account: str | None = None) -> Staff:
+        return self._write("adding staff", staff.add_staff, staff_id, name, role, account)
+
+    def map_account(self, staff_id: str, account: str) -> Staff:
+        return self._write("mapping an OS account", staff.map_account, staff_id, account)
+
+    def deactivate_staff(self, staff_id: str) -> Staff:
+        return self._write("deactivating staff", staff.set_active, staff_id, False)
+
+    # --- alerts
+
+    def alerts(self, state: str = "open", kind: str | None = None, nurse: str | None = None) -> list[Alert]:
+        return self._read(alert_handling.list_alerts, state, kind, nurse)
+
+    def acknowledge(self, alert_id: int | str, note: str | None) -> Alert:
+        return self._write("acknowledging an alert", alert_handling.acknowledge, alert_id, note)
+
+    def snooze(self, alert_id: int | str, until: str, note: str | None) -> Alert:
+        return self._write("snoozing an alert", alert_handling.snooze, alert_id, until, note)
+
+    def resolve(self, alert_id: int | str, note: str | None) -> Alert:
+        return self._write("resolving an alert", alert_handling.resolve, alert_id, note)
+
+    def refresh(self) -> RefreshReport:
+        """Every patient's snapshot and alerts brought up to the date of record."""
+        return self._write("the alert refresh", refresh_all)
+
+    def morning_refresh_due(self, lines: list[CaseloadLine] | tuple[CaseloadLine, ...]) -> bool:
+        """Whether opening the list should run the refresh: some snapshot is older than the date of
+        record, and the list is not a view of another day (a view never writes)."""
+        if self.viewing_another_day or not self.may("alert.refresh"):
+            return False
+        return any(line.snapshot is None or line.snapshot.computed_on < self.date_of_record for line in lines)
+
+    # --- reading the caseload
+
+    def morning_list(self) -> list[CaseloadLine]:
+        return self._read(caseload_view.list_caseload)
+
+    def list_after(self, lines: tuple[CaseloadLine, ...], done: Logged) -> tuple[CaseloadLine, ...]:
+        """The morning list after a save, with the saved patient's row rebuilt from what the save
+        returned, in triage order again; no store read."""
+        changed = [caseload_view.row_after(line, done.refreshed, self.as_of) if line.patient.id == done.entry.patient_id
+                   else line for line in lines]
+        return tuple(sorted(changed, key=CaseloadLine.sort_key))
+
+    def patient_record(self, patient_id: str) -> PatientRecord:
+        return self._read(caseload_view.show_patient, patient_id)
+
+    # --- weekly summary
+
+    def weekly_summary(self, week: str) -> WeeklySummary:
+        return self._read(weekly_summary.compute_summary, week)
+
+    def export_summary(self, week: str, fmt: str, out: Path, deidentify: bool,
+                       render: weekly_summary.Renderer) -> Path:
+        """Write one week's summary with `render` (the exports' writer for the format), audited. A view:
+        allowed as of any day, its audit row recording the date of record."""
+        return self._read(weekly_summary.export_summary, week, fmt, out, deidentify, render, self.date_of_record)
+
+    # --- records that travel
+
+    def referral_pack(self, patient_id: str, out: Path, cycles: int, paper: str, force: bool,
+                      render: referral.PackRenderer) -> Path:
+        """Write one patient's referral pack (PDF or HTML by the file's suffix) with `render`, audited.
+        A view: allowed as of any day, its audit row recording the date of record."""
+        return self._read(referral.make_pack, patient_id, out, cycles, paper, force, render, self.date_of_record)
+
+    def fhir_export(self, patient_id: str | None, out: Path, since: str | None, deidentify: bool, force: bool,
+                    write: referral.BundleWriter) -> tuple[Path, int]:
+        """Write one patient (or every one, for None) as a FHIR R4 Bundle with `write`, audited; returns
+        the path and how many resources it holds. A view, like the pack."""
+        return self._read(referral.export_fhir, patient_id, out, since, deidentify, force, write,
+                          self.date_of_record)
+
+    # --- the store itself
+
+    def backup(self, target: str) -> Path:
+        return self._maintain("a backup", store_care.backup, target)
+
+    def restore(self, source: str) -> int:
+        version = self._maintain("a restore", store_care.restore, source)
+        self.protocol = protocol.load_protocol(self.store)
+        return version
+
+    def check(self) -> Health:
+        return self._read(store_care.check)
+
+    # --- the clinic protocol
+
+    def protocol_in_use(self) -> ProtocolInUse:
+        """The protocol in force and any error that put the defaults back (no permission needed)."""
+        with self.lock:
+            return protocol.protocol_in_use(self.store)
+
+    def protocol_show(self) -> ProtocolInUse:
+        return self._read(protocol.show_protocol)
+
+    def protocol_use(self, path: str) -> tuple[ProtocolInUse, RefreshReport]:
+        in_use, report = self._write("changing the protocol", protocol.use_protocol, path)
+        self.protocol = in_use.protocol
+        return in_use, report

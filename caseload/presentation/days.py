@@ -1,0 +1,23 @@
+"""Days as people read them, one format per use: a short day for columns, a long one for headings."""
+
+from __future__ import annotations
+
+from datetime import date
+
+
+def short_day(day: date | None) -> str:
+    """'1 Dec' style: unambiguous in every locale and short enough for a column."""
+    return "-" if day is None else f"{day.day} {day.strftime('%b')}"
+
+
+def long_day(day: date) -> str:
+    return f"{day.strftime('%a')} {day.day} {day.strftime('%b %Y')}"
+
+
+def day_span(pair: tuple[date, date] | None) -> str:
+    return "-" if pair is None else f"{short_day(pair[0])} to {short_day(pair[1])}"
+
+
+def iso_day(day: date | None) -> str:
+    """A day for scripts and plain listings: YYYY-MM-DD, or '-' when there is none."""
+    return "-" if day is None else day.isoformat()

@@ -1,0 +1,28 @@
+"""Calling the Clinic from the interface: every call runs in a Textual thread worker (`@work`), so the
+screen never waits on the store; a failed call becomes one notification, never a traceback."""
+
+from __future__ import annotations
+
+from textual.worker import Worker, WorkerState
+
+from caseload.application.clinic import plain_reason
+
+STORE = "store"  # the worker group of every Clinic call
+STORE_WORK = {"thread": True, "group": STORE, "exit_on_error": False}  # @work(**STORE_WORK)
+
+
+class ClinicWork:
+    """Mixed into a Screen (or the App) whose `@work(**STORE_WORK)` methods call the Clinic.
+
+    Worker state messages go to the node that ran the worker, so each one handles its own failures:
+    the reason is notified, and `work_failed(worker name, reason)` lets the screen put itself right."""
+
+    def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
+        if event.state is not WorkerState.ERROR:
+            return
+        reason = plain_reason(event.worker.error)
+        self.app.notify(reason, title="Not done", severity="error", markup=False, timeout=8)
+        self.work_failed(event.worker.name, reason)
+
+    def work_failed(self, name: str, reason: str) -> None:
+        """Override to react to a failed call (the notification is already shown)."""
