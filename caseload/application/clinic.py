@@ -24,7 +24,7 @@ from caseload.core.model import Actor, Alert, Entry, Kind, Patient, Role, Staff
 from caseload.core.parse import InputError, parse_day
 from caseload.core.settings import Protocol
 from caseload.application import alert_handling, caseload_view, csv_import, entries, patients, protocol, staff
-from caseload.application import store_care, weekly_summary
+from caseload.application import referral, store_care, weekly_summary
 from caseload.application.caseload_view import CaseloadLine, PatientRecord
 from caseload.application.context import Context
 from caseload.application.csv_import import Imported
@@ -342,6 +342,21 @@ class Clinic:
         """Write one week's summary with `render` (the exports' writer for the format), audited. A view:
         allowed as of any day, its audit row recording the date of record."""
         return self._read(weekly_summary.export_summary, week, fmt, out, deidentify, render, force,
+                          self.date_of_record)
+
+    # --- records that travel
+
+    def referral_pack(self, patient_id: str, out: Path, cycles: int, paper: str, force: bool,
+                      render: referral.PackRenderer) -> Path:
+        """Write one patient's referral pack (PDF or HTML by the file's suffix) with `render`, audited.
+        A view: allowed as of any day, its audit row recording the date of record."""
+        return self._read(referral.make_pack, patient_id, out, cycles, paper, force, render, self.date_of_record)
+
+    def fhir_export(self, patient_id: str | None, out: Path, since: str | None, deidentify: bool, force: bool,
+                    write: referral.BundleWriter) -> tuple[Path, int]:
+        """Write one patient (or every one, for None) as a FHIR R4 Bundle with `write`, audited; returns
+        the path and how many resources it holds. A view, like the pack."""
+        return self._read(referral.export_fhir, patient_id, out, since, deidentify, force, write,
                           self.date_of_record)
 
     # --- the store itself

@@ -108,7 +108,8 @@ def _target(out: Path, fmt: str) -> Path:
     return out
 
 
-def _secret(ctx: Context) -> str:
+def pseudonym_secret(ctx: Context) -> str:
+    """The store's key for pseudonyms and date offsets; refused when the store has none."""
     secret = ctx.store.meta("pseudonym_secret")
     if not secret:
         raise Refused("this store has no pseudonym secret, so it cannot de-identify: "
@@ -131,7 +132,7 @@ def export_summary(
     ctx.require("summary.export")
     fmt = _format(fmt)
     target = _target(Path(out), fmt)
-    secret = _secret(ctx) if deidentify else None
+    secret = pseudonym_secret(ctx) if deidentify else None
     summary = compute_summary(ctx, week)
     if secret is not None:
         summary = deidentified(summary, lambda pid: pseudonym(secret, pid))

@@ -10,8 +10,9 @@ from datetime import date
 
 import click
 
-from caseload.cli import alert_commands, demo_command, entry_commands, host_commands, interface_command, patient_commands
-from caseload.cli import protocol_commands, staff_commands, store_commands, summary_commands
+from caseload.cli import alert_commands, demo_command, entry_commands, host_commands, interface_command
+from caseload.cli import patient_commands, protocol_commands, referral_commands, staff_commands, store_commands
+from caseload.cli import summary_commands
 from caseload.cli.global_options import GlobalOptions, fail_cleanly
 
 
@@ -42,7 +43,7 @@ def main(ctx: click.Context, db_path: str | None, as_staff: str | None, today: s
 
 
 for module in (store_commands, staff_commands, patient_commands, entry_commands, alert_commands, protocol_commands,
-               summary_commands, demo_command, host_commands):
+               summary_commands, referral_commands, demo_command, host_commands):
     for command in module.COMMANDS:
         main.add_command(command)
 

@@ -8,7 +8,7 @@ from rich.table import Table
 
 from caseload.core.model import Entry
 from caseload.presentation.days import iso_day, short_day
-from caseload.presentation.glossary import CAUTION, alert_label, next_event_short, phase_label
+from caseload.presentation.glossary import CAUTION, alert_label, entry_history, next_event_short, phase_label
 from caseload.presentation.safe_text import printable
 
 
@@ -33,19 +33,9 @@ def print_table(headers: list[str], rows: list[list[object]], title: str | None 
     console().print(table)
 
 
-def _status(e: Entry) -> str:
-    if e.voided_reason is not None:
-        return f"void: {e.voided_reason}"
-    if e.superseded_by is not None:
-        return f"corrected by {e.superseded_by}"
-    if e.supersedes is not None:
-        return f"corrects {e.supersedes}: {e.amend_reason}"
-    return ""
-
-
 def entries_table(entries: list[Entry]) -> None:
     rows = [
-        [e.id, e.day.isoformat(), e.time or "", e.kind.value, e.value.display(), ",".join(e.flags), e.by, _status(e), e.note]
+        [e.id, e.day.isoformat(), e.time or "", e.kind.value, e.value.display(), ",".join(e.flags), e.by, entry_history(e), e.note]
         for e in entries
     ]
     print_table(["id", "day", "time", "kind", "value", "flags", "by", "correction", "note"], rows)

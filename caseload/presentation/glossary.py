@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from caseload.core.analysis import BLEEDING, LUTEAL, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
 from caseload.application.recompute import Refreshed, RefreshReport
 from caseload.core import alerts
-from caseload.core.model import MUCUS_SCALE, Flow, Kind
+from caseload.core.model import MUCUS_SCALE, Entry, Flow, Kind
 
 CAUTION = (
     "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
@@ -131,6 +131,17 @@ def match_kind(text: str) -> Kind | None:
     if exact is not None or not typed:
         return exact
     return next((kind for name, kind in names if name.startswith(typed)), None)
+
+
+def entry_history(e: Entry) -> str:
+    """Where an entry stands among corrections and voids, in words; empty for a plain entry."""
+    if e.voided_reason is not None:
+        return f"void: {e.voided_reason}"
+    if e.superseded_by is not None:
+        return f"corrected by {e.superseded_by}"
+    if e.supersedes is not None:
+        return f"corrects {e.supersedes}: {e.amend_reason}"
+    return ""
 
 
 def refreshed_line(done: Refreshed) -> str:

@@ -30,6 +30,8 @@ from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
 from caseload.application.clinic import Clinic, Identity
+from caseload.application.referral import export_fhir, make_pack
+from caseload.exports import fhir, pack_files
 from caseload.application.staff import add_staff, map_account, set_active
 from caseload.store import Store
 from tests.robustness.robust_support import TODAY, assert_clean_exit, copy_store, snapshot
@@ -68,6 +70,9 @@ PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
     "protocol.view": lambda ctx, env: show_protocol(ctx),
     "protocol.set": lambda ctx, env: use_protocol(ctx, str(env.protocol_file)),
     "summary.export": lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True, render=write),
+    "referral.pack": lambda ctx, env: make_pack(ctx, "P0001", env.out.with_suffix(".html"), 3, "a4", False,
+                                                pack_files.render),
+    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out, None, False, False, fhir.write_bundle),
 }
 CELLS = [(action, role) for action in sorted(MATRIX) for role in Role]
 

@@ -10,13 +10,13 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.message import Message
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
 from caseload.exports.summary_files import write
+from caseload.tui.file_messages import FileRefused, FileWritten
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
@@ -38,16 +38,6 @@ class ExportDialog(ClinicWork, ModalScreen[None]):
 
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
-
-    class Exported(Message):
-        def __init__(self, path: Path) -> None:
-            super().__init__()
-            self.path = path
-
-    class Failed(Message):
-        def __init__(self, reason: str) -> None:
-            super().__init__()
-            self.reason = reason
 
     def compose(self) -> ComposeResult:
         week = iso_week(self.app.clinic.as_of)
@@ -77,14 +67,14 @@ class ExportDialog(ClinicWork, ModalScreen[None]):
 
     @work(**STORE_WORK, name="export")
     def _write_summary(self, week: str, fmt: str, out: Path, deidentify: bool) -> None:
-        self.post_message(self.Exported(self.app.clinic.export_summary(week, fmt, out, deidentify, write)))
+        self.post_message(FileWritten(self.app.clinic.export_summary(week, fmt, out, deidentify, write)))
 
     def work_failed(self, name: str, reason: str) -> None:
-        self.post_message(self.Failed(reason))
+        self.post_message(FileRefused(reason))
 
-    def on_export_dialog_exported(self, message: Exported) -> None:
+    def on_file_written(self, message: FileWritten) -> None:
         self.notify(f"Summary written to {message.path}", markup=False)
         self.dismiss()
 
-    def on_export_dialog_failed(self, message: Failed) -> None:
+    def on_file_refused(self, message: FileRefused) -> None:
         self.query_one("#check", Static).update(Text(f"Not exported: {message.reason}", style="bold"))

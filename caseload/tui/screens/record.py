@@ -47,6 +47,7 @@ class RecordScreen(ClinicWork, Screen):
         Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries"),
         Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
         Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
+        Binding("p", "referral", "Pack/FHIR", id="record.referral"),
     ]
 
     class Loaded(Message):
@@ -182,6 +183,17 @@ class RecordScreen(ClinicWork, Screen):
         self.query_one(TabbedContent).active = tab
         if tab in TAB_FOCUS:
             self.query_one(TAB_FOCUS[tab]).focus()
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "referral":
+            return self.app.clinic.may("referral.pack")
+        return True
+
+    def action_referral(self) -> None:
+        # Loaded on demand, like the summary export: most sessions never make a pack.
+        from caseload.tui.screens.referral import ReferralDialog
+
+        self.app.push_screen(ReferralDialog(self.patient_id))
 
     def action_cycle(self, step: int) -> None:
         if self._record is None or not self._record.analysis.cycles:

@@ -1,0 +1,128 @@
+"""The referral pack's content, its HTML page and its PDF, built from the demo caseload."""
+
+from __future__ import annotations
+
+import html
+import re
+
+import pytest
+
+from caseload.exports import chart, pack, pack_pdf
+from caseload.application.caseload_view import show_patient
+from caseload.application.referral import PackInput
+
+
+def pack_of(ctx, patient_id: str, cycles: int = 3) -> pack.Pack:
+    record = show_patient(ctx, patient_id)
+    names = {s.id: s.name for s in ctx.store.staff.all()}
+    return pack.build(PackInput(
+        clinic="Test Clinic", today=ctx.today, patient=record.patient, analysis=record.analysis,
+        entries=record.entries, alerts=record.alerts, staff_names=names, cycles=cycles, prepared_by="Tester",
+        protocol=ctx.protocol,
+    ))
+
+
+def section(p: pack.Pack, heading: str) -> pack.Section:
+    return next(s for s in p.sections if s.heading.startswith(heading))
+
+
+def test_irregular_cycles_are_explained_with_the_figo_numbers(ctx):
+    p = pack_of(ctx, "P0005")
+    lines = section(p, "Cycle summary").paragraphs
+    # The demo patient's cycles run 25 to 40 days at age 32; FIGO 2018 (Munro 2018): a shortest-to-
+    # longest variation above 7 days at age 26-41 is irregular.
+    assert "FIGO 2018 regularity: irregular (shortest 25, longest 40: variation 15 days; normal up to 7 at age 32)." in lines
+    (why,) = [s for s in p.sections if s.heading.startswith("Why")]
+    assert any(text.startswith("irregular-cycles (soon") and "FIGO 2018 (Munro 2018)" in text for text in why.paragraphs)
+
+
+@pytest.mark.parametrize("patient_id, rise", [("P0014", "125%"), ("P0015", "20%")])
+def test_the_hcg_series_shows_the_rise_per_48_hours(ctx, patient_id, rise):
+    # Two serum values 48 h apart: the rise per 48 h is simply second / first - 1
+    # (120 -> 270 is 125%, 400 -> 480 is 20%; Barnhart 2004 expects at least 53%).
+    table = section(pack_of(ctx, patient_id), "Pregnancy").table
+    assert [r.cells[2] for r in table.rows] == ["-", rise]
+
+
+def test_follicle_tracking_appears_only_with_scans(ctx):
+    tracked = section(pack_of(ctx, "P0017"), "Follicle tracking")
+    assert tracked.paragraphs[0].startswith("Lead follicle 19.0 mm; 4 at or above 14 mm")
+    assert not any(s.heading.startswith("Follicle") for s in pack_of(ctx, "P0001").sections)
+
+
+@pytest.mark.parametrize("cycles", [1, 2, 3, 5])
+def test_the_last_n_cycles_are_charted_and_their_entries_listed(ctx, cycles):
+    p = pack_of(ctx, "P0003", cycles)
+    analysis = show_patient(ctx, "P0003").analysis
+    shown = analysis.cycles[-cycles:]
+    assert [b.caption for b in p.charts] == [f"Cycle {len(analysis.cycles) - len(shown) + n + 1} from {c.start}"
+                                            for n, c in enumerate(shown)]
+    days = {r.cells[1] for r in p.entries.table.rows}
+    assert min(days) == shown[0].start.isoformat()
+
+
+def test_corrections_are_struck_through_with_their_reason_and_logger(ctx):
+    p = pack_of(ctx, "P0003", 12)
+    struck = [r for r in p.entries.table.rows if r.struck]
+    record = show_patient(ctx, "P0003")
+    replaced = [e for e in record.entries if e.superseded_by is not None and e.day >= record.analysis.cycles[-12:][0].start]
+    assert [r.cells[0] for r in struck] == [str(e.id) for e in replaced]
+    corrections = [r for r in p.entries.table.rows if r.cells[-1].startswith("corrects ")]
+    assert all("digits swapped" in r.cells[-1] or r.cells[-1].split(": ", 1)[1] for r in corrections)
+    page = pack.html(p)
+    assert page.count("<tr class=\"struck\">") == len(struck)
+    assert "<s>36.73 °C</s>" in page  # the keyed slip, shown and struck, as stored
+
+
+def test_the_html_is_self_contained_with_print_styles_and_one_svg_per_cycle(ctx):
+    p = pack_of(ctx, "P0009")
+    page = pack.html(p)
+    # Nothing fetched from elsewhere: no src, href, url() or @import; the only URL is the SVG namespace.
+    assert not re.search(r"\bsrc=|\bhref=|url\(|@import|<script", page)
+    assert set(re.findall(r"https?://[^\s\"']+", page)) == {"http://www.w3.org/2000/svg"}
+    assert "@media print" in page and page.count("<svg") == len(p.charts) == 3
+    assert html.unescape(page).count(pack.CAUTION) == 2
+    assert "not contraception advice" in pack.CAUTION and "licensed clinical judgement" in pack.CAUTION
+
+
+def test_names_in_the_html_are_escaped(ctx):
+    from dataclasses import replace
+    p = pack_of(ctx, "P0001")
+    hostile = replace(p, title="Referral pack: <script>x</script>")
+    assert "<script>" not in pack.html(hostile)
+
+
+def test_the_current_cycle_alone_shows_p_fertile_and_excluded_readings_are_hollow(ctx):
+    p = pack_of(ctx, "P0009")
+    labels = [[s.text for s in b.figure.shapes if isinstance(s, chart.Label)] for b in p.charts]
+    assert ["P(fertile)" in found for found in labels] == [False, False, True]
+    record = show_patient(ctx, "P0009")
+    for block, rec in zip(p.charts, record.analysis.cycles[-3:]):
+        last = rec.end or ctx.today
+        disturbed = [e for e in record.entries if e.current and e.kind.value == "temp" and e.disturbed
+                     and rec.start <= e.day <= last]
+        hollow = [s for s in block.figure.shapes if isinstance(s, chart.Dot) and s.hollow]
+        assert len(hollow) == len(disturbed) + 1  # and one in the legend
+        if rec.shift.coverline is not None:
+            assert f"coverline {rec.shift.coverline:.2f}" in [s.text for s in block.figure.shapes if isinstance(s, chart.Label)]
+
+
+@pytest.mark.parametrize("paper, media_box", [
+    # ISO 216 A4 is 210 x 297 mm; US Letter is 8.5 x 11 in: in PDF points (1/72 in).
+    ("a4", (595.28, 841.89)),
+    ("letter", (612.0, 792.0)),
+])
+def test_the_pdf_is_drawn_on_the_chosen_paper_with_vector_charts(ctx, paper, media_box):
+    data = pack_pdf.render(pack_of(ctx, "P0017"), paper)
+    assert data.startswith(b"%PDF-")
+    boxes = {tuple(round(float(v), 2) for v in m) for m in re.findall(rb"/MediaBox \[0 0 ([\d.]+) ([\d.]+)\]", data)}
+    assert boxes == {media_box}
+    assert b"/Subtype /Image" not in data  # charts are drawn as vectors, not pictures
+
+
+def test_a_name_outside_the_pdf_font_is_flagged_not_dropped(ctx):
+    from dataclasses import replace
+    p = pack_of(ctx, "P0001")
+    p = replace(p, who=(("Patient", "Zhou 周"),) + p.who[1:])
+    assert pack_pdf._fits(p) is False
+    assert pack_pdf.render(p).startswith(b"%PDF-")
