@@ -332,6 +332,34 @@ def test_short_luteal_phase_near_miss_11_days():
     assert K.SHORT_LUTEAL_PHASE not in kinds(run(chart, today)[1], raisable_only=False)
 
 
+def _lh_dated(lh_day: int):
+    """A 28-day cycle dated by one positive LH test alone (no temperatures)."""
+    chart = Chart()
+    start = chart.history([28] * 5)
+    chart.cycle(start, 28, None, temps=False).lh(day(start, lh_day))
+    nxt = start + timedelta(days=28)
+    chart.bleed(nxt)
+    return chart, nxt + timedelta(days=1)
+
+
+@pytest.mark.parametrize("lh_day, luteal", [(22, 6), (24, 4)])
+def test_a_luteal_phase_too_short_to_be_real_is_a_dating_conflict_not_a_short_phase(lh_day, luteal):
+    # ASRM 2021: typical 11-17 days; under 7 days says the dating is wrong, shown as a conflict and
+    # not raised as short-luteal-phase. Counted from the day after the LH peak (Lenton 1984).
+    chart, today = _lh_dated(lh_day)
+    analysis, candidates = run(chart, today)
+    record = analysis.cycles[-2]
+    assert record.luteal_length == luteal and record.dating_conflict is not None
+    assert K.SHORT_LUTEAL_PHASE not in kinds(candidates, raisable_only=False)
+
+
+def test_a_short_but_plausible_lh_dated_luteal_phase_is_still_raised():
+    # 28 - 21 = 7 days from the day after the LH peak (Lenton 1984): within 7-20, and 10 or fewer (ASRM 2021).
+    chart, today = _lh_dated(21)
+    (alert,) = of(run(chart, today)[1], K.SHORT_LUTEAL_PHASE)
+    assert alert.evidence["luteal_length"] == 7
+
+
 # --- prolonged-bleeding (FIGO 2018: normal up to 8 days)
 
 

@@ -85,7 +85,9 @@ def short_luteal_phase(f: Facts) -> list[Candidate]:
     found = []
     for record in complete:
         days = record.luteal_length
-        if days is None or days > p.short_luteal_max_days:
+        # A length outside the plausible range says the ovulation dating is wrong (ASRM 2021): it is
+        # shown as a dating conflict, not reported as a short phase.
+        if days is None or days > p.short_luteal_max_days or record.dating_conflict is not None:
             continue
         found.append(
             f.candidate(
