@@ -20,7 +20,7 @@ LINT = [sys.executable, "-c", "import sys; from importlinter.cli import lint_imp
 
 def lint(project: Path) -> subprocess.CompletedProcess:
     env = {**os.environ, "PYTHONPATH": str(project)}  # the package found first is the one in `project`
-    return subprocess.run([*LINT, str(project / "pyproject.toml")], cwd=project, env=env, capture_output=True, text=True)
+    return subprocess.run([*LINT, "--config", str(project / "pyproject.toml")], cwd=project, env=env, capture_output=True, text=True)
 
 
 def test_the_layer_contracts_are_kept():
