@@ -53,7 +53,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
     BINDINGS = [
         Binding("escape", "dismiss", "Close", id="quick_log.close"),
         Binding("ctrl+s", "save", "Save", id="quick_log.save"),
-        Binding("ctrl+p", "change_patient", "Change patient", id="quick_log.change_patient"),
+        Binding("ctrl+o", "change_patient", "Change patient", id="quick_log.change_patient"),
     ]
 
     class Done(Message):
@@ -146,7 +146,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         if patient is None:
             whose.update("Log a call: pick a patient")
             return
-        locked = " (ctrl+p changes patient)" if self.query_one("#patient", Input).disabled else ""
+        locked = " (ctrl+o: other patient)" if self.query_one("#patient", Input).disabled else ""
         whose.update(Text(f"Log a call for {patient.id} ", style="bold").append_text(literal(printable(patient.name)))
                      .append(locked, style="dim"))
 
