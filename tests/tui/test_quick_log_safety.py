@@ -21,6 +21,12 @@ def shown(app, selector: str) -> str:
     return app.screen.query_one(selector).render().plain
 
 
+async def press_and_settle(pilot, *keys: str) -> None:
+    """Keys pressed without a pause between them, then the saves they started are let finish."""
+    await pilot.press(*keys)
+    await settle(pilot)
+
+
 async def open_record(app, pilot, patient_id: str) -> None:
     await settle(pilot)
     app.push_screen(RecordScreen(patient_id))
@@ -33,8 +39,7 @@ async def test_typed_ahead_from_a_record_logs_for_that_patient(app_as, service_c
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0004")
         # `l t Enter` and the reading with no pause: `t` must go to Kind, not to a patient search.
-        await pilot.press("l", "t", "enter", *"36.61", "enter", "b", "enter", *"light", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "l", "t", "enter", *"36.61", "enter", "b", "enter", *"light", "enter")
         assert isinstance(app.screen, QuickLogScreen)
         assert shown(app, "#whose").startswith("Log a call for P0004 Noor Haddad")
         assert app.screen.query_one("#patient").disabled
@@ -49,8 +54,7 @@ async def test_changing_the_patient_of_a_record_is_an_explicit_key(app_as, servi
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0004")
-        await pilot.press("l", "ctrl+o", *"rosa", "enter", "m", "enter", *"sticky", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "l", "ctrl+o", *"rosa", "enter", "m", "enter", *"sticky", "enter")
         assert shown(app, "#whose").startswith("Log a call for P0002 Rosa Lind")
     assert [e.value.word for e in today_of(check, "P0002", Kind.MUCUS)] == ["sticky"]
     assert today_of(check, "P0004", Kind.MUCUS) == []
@@ -65,8 +69,7 @@ async def test_the_day_goes_back_to_today_after_a_save(app_as, service_ctx):
         await fill(pilot, "-1")
         # 2026-12-01 minus one day is Monday 30 November 2026 (Gregorian calendar).
         assert shown(app, "#day-warning") == "Not today: saving on Mon 30 Nov 2026 (yesterday)"
-        await pilot.press("enter", "m", "enter", *"damp", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "enter", "m", "enter", *"damp", "enter")
         assert app.screen.query_one("#day").value == "today"
         assert not app.screen.query_one("#day-warning").display
         await pilot.press("t", "enter", *"36.5", "tab")
@@ -88,8 +91,7 @@ async def test_an_unusual_temperature_is_saved_only_on_a_second_enter(app_as, se
         await settle(pilot, rounds=5)
         assert "41.50 C is outside the usual basal range 35.5-38.5 C" in shown(app, "#result")
         assert today_of(check, "P0004", Kind.TEMP) == []
-        await pilot.press("enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "enter")
         assert shown(app, "#result").startswith("Saved #")
     assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [41.5]
 
@@ -99,15 +101,12 @@ async def test_a_changed_value_is_asked_about_again(app_as, service_ctx):
     app = app_as("phil")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        await pilot.press("l", *"noor", "enter", "t", "enter", *"34.0", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "l", *"noor", "enter", "t", "enter", *"34.0", "enter")
         assert "34.00 C is outside" in shown(app, "#result")
-        await pilot.press("ctrl+u", *"35.0", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "ctrl+u", *"35.0", "enter")
         assert "35.00 C is outside" in shown(app, "#result")
         # Inside the band (35.5-38.5 C, from memory) a reading saves at once: 38.4 is a low fever, not a typo.
-        await pilot.press("ctrl+u", *"38.4", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "ctrl+u", *"38.4", "enter")
         assert shown(app, "#result").startswith("Saved #")
     assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [38.4]
 
@@ -120,8 +119,7 @@ async def test_a_reading_with_its_point_missing_gets_a_hint_and_is_kept_as_typed
         await pilot.press("l", *"noor", "enter", "t", "enter", *"365")
         await pilot.pause()
         assert shown(app, "#check").endswith("did you mean 36.5?")
-        await pilot.press("enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "enter")
         assert app.screen.query_one("#value").value == "365"
         await pilot.press("ctrl+u", *"3.65")
         await pilot.pause()
@@ -131,8 +129,7 @@ async def test_a_reading_with_its_point_missing_gets_a_hint_and_is_kept_as_typed
         await pilot.pause()
         line = shown(app, "#check")
         assert "185.00 C" in line and line.endswith("did you mean 36.5?")
-        await pilot.press("enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "enter")
     assert today_of(check, "P0004", Kind.TEMP) == []
 
 
@@ -141,14 +138,11 @@ async def test_a_second_mucus_the_same_day_asks_first(app_as, service_ctx):
     app = app_as("phil")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        await pilot.press("l", *"noor", "enter", "m", "enter", *"damp", "enter", "m", "enter", *"watery", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "l", *"noor", "enter", "m", "enter", *"damp", "enter", "m", "enter", *"watery", "enter")
         assert "already a mucus entry that day" in shown(app, "#result")
         assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp"]
-        await pilot.press("enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "enter")
         # LH may be tested twice a day (common practice): no question.
-        await pilot.press("l", "enter", *"neg", "enter", "l", "enter", *"pos", "enter")
-        await settle(pilot)
+        await press_and_settle(pilot, "l", "enter", *"neg", "enter", "l", "enter", *"pos", "enter")
     assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp", "watery"]
     assert len(today_of(check, "P0004", Kind.LH)) == 2
