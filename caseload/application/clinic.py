@@ -21,7 +21,7 @@ from pathlib import Path
 from typing import Callable
 
 from caseload.core.model import Actor, Alert, Entry, Kind, Patient, Role, Staff
-from caseload.core.parse import InputError, parse_day
+from caseload.core.parse import InputError, parse_day, parse_entry
 from caseload.core.settings import Protocol
 from caseload.application import alert_handling, caseload_view, csv_import, entries, patients, protocol, staff
 from caseload.application import referral, store_care, weekly_summary
@@ -58,6 +58,13 @@ class SameDayReading:
 
     existing: Entry
     value: str
+
+
+@dataclass(frozen=True)
+class SecondLook:
+    """An entry was not logged yet: it is unusual, and saving it as typed needs a confirmation."""
+
+    question: str
 
 
 def plain_reason(error: BaseException) -> str:
@@ -228,13 +235,18 @@ class Clinic:
         return self._write("logging", entries.log_entry, patient_id, kind, value, on, at, flags, note)
 
     def log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str,
-                 note: str) -> Logged | SameDayReading:
-        """The phone line's save: log the entry, or, for a temperature on a day that already has one,
-        return that reading so the caller can offer a correction instead."""
+                 note: str, confirmed: bool = False) -> Logged | SameDayReading | SecondLook:
+        """The phone line's save: log the entry; or, for a temperature on a day that already has one,
+        return that reading so the caller can offer a correction; or, unless `confirmed`, say why an
+        unusual entry needs a second look."""
         with self.lock:
+            ctx = self._writing("logging")
+            # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
+            parsed = parse_entry(kind, value, ctx.today, on=on, at=at, flags=flags, note=note)
+            question = None if confirmed else entries.second_look(ctx, patient_id.strip(), parsed)
+            if question is not None:
+                return SecondLook(question)
             if kind is Kind.TEMP:
-                ctx = self._writing("logging")
-                # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
                 same = entries.same_day_temperature(ctx, patient_id.strip(), parse_day(on, ctx.today))
                 if same is not None:
                     return SameDayReading(same, value)

@@ -7,6 +7,7 @@ from datetime import date
 
 from caseload.core.model import Entry, Kind, Patient, PatientStatus
 from caseload.core.parse import InputError, ParsedEntry, parse_entry, parse_value
+from caseload.core.second_look import once_a_day_twice, unusual_reading
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, refresh_patient
 from caseload.application.errors import NotFound, Refused
@@ -47,6 +48,15 @@ def check_loggable(ctx: Context, patient: Patient, parsed: ParsedEntry, supersed
                 f"{patient.id} already has a temperature on {parsed.day.isoformat()} (entry {first.id}: "
                 f"{first.value.display()} C): to correct it, amend entry {first.id} with a reason"
             )
+
+
+def second_look(ctx: Context, patient_id: str, parsed: ParsedEntry) -> str | None:
+    """Why an entry that may be logged deserves a confirmation first (unusual reading, second of
+    a once-a-day kind), or None. Temperatures already on the day are offered as corrections instead."""
+    unusual = unusual_reading(parsed, ctx.protocol)
+    if unusual is not None or parsed.kind is Kind.TEMP:
+        return unusual
+    return once_a_day_twice(parsed.kind, len(ctx.store.entries.current_on(patient_id, parsed.day, parsed.kind)))
 
 
 def same_day_temperature(ctx: Context, patient_id: str, day: date, supersedes: int | None = None) -> Entry | None:

@@ -83,6 +83,8 @@ class Protocol:
     cyst_mm: float = setting(25.0, "from memory", 20, 40, "unchanged on two scans, this size (mm) is a possible cyst")
     trigger_follicle_mm: float = setting(18.0, "common practice", 14, 25, "lead follicle diameter (mm) at which a trigger is planned")
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")
+    plausible_temp_low_c: float = setting(35.5, "from memory", 34.0, 37.0, "lowest basal temperature (C) saved without a second look")
+    plausible_temp_high_c: float = setting(38.5, "from memory", 37.0, 42.0, "highest basal temperature (C) saved without a second look")
     fever_c: float = setting(38.0, "common practice", 37.5, 39.5, "temperature (C) counted as a fever")
     alert_lookback_days: int = setting(14, "common practice", 1, 90, "days back a fever reading is still raised when first seen")
     mass_resolve_share: float = setting(0.5, "common practice", 0.1, 1.0, "share of the unresolved alerts above which one refresh's auto-resolutions stop it")

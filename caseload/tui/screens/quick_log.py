@@ -1,8 +1,11 @@
 """The phone line's quick log: patient, kind, value, Enter. Everything is checked as it is typed.
 
-The day defaults to today (also "yesterday", "-2", or a date); time, flags and a note are optional.
-A second temperature on the same day offers a correction of the first instead of failing; the
-dialog stays open after a save, so a caller's temperature and bleed go in one after the other.
+The day defaults to today (also "yesterday", "-2", or a date), is said in words when it is not
+today, and goes back to today after each save; time, flags and a note are optional. A second
+temperature on the same day offers a correction of the first instead of failing; an unusual entry
+(a temperature outside the basal range, a second mucus or bleed that day) is saved only on a second
+Enter. The dialog stays open after a save, so a caller's temperature and bleed go in one after the
+other. Opened from a record, it logs for that patient until the patient field is unlocked.
 """
 
 from __future__ import annotations
@@ -20,13 +23,15 @@ from textual.widgets import Footer, Input, Label, Static
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.core.model import Kind
 from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_entry
-from caseload.application.clinic import SameDayReading
+from caseload.application.clinic import SameDayReading, SecondLook
+from caseload.core.second_look import meant_celsius
 from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.presentation.glossary import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, match_kind
-from caseload.presentation.days import short_day
+from caseload.presentation.days import long_day, short_day
+from caseload.presentation.safe_text import printable
 from caseload.tui.rich_text import literal
 from caseload.tui.saving import Saved, logged_summary
 
@@ -48,10 +53,11 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
     BINDINGS = [
         Binding("escape", "dismiss", "Close", id="quick_log.close"),
         Binding("ctrl+s", "save", "Save", id="quick_log.save"),
+        Binding("ctrl+o", "change_patient", "Change patient", id="quick_log.change_patient"),
     ]
 
     class Done(Message):
-        def __init__(self, outcome: Logged | SameDayReading) -> None:
+        def __init__(self, outcome: Logged | SameDayReading | SecondLook) -> None:
             super().__init__()
             self.outcome = outcome
 
@@ -66,10 +72,11 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         self._settled = settled  # opened from a record: the patient is not in question
         self._saving = False
         self._typed_from: TypeAheadInput | None = None
+        self._confirmed_for: tuple[str, ...] | None = None  # what was typed when a second look was asked
 
     def compose(self) -> ComposeResult:
         with Vertical(id="quick-log"):
-            yield Label("Log a call", classes="dialog-title")
+            yield Label("Log a call", id="whose", classes="dialog-title")
             with Horizontal(classes="row"):
                 yield Label("Patient", classes="field")
                 yield PatientPicker(self.app.roster, self._patient_id, id="picker")
@@ -88,6 +95,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
             with Horizontal(classes="row"):
                 yield Label("Note", classes="field")
                 yield TypeAheadInput(placeholder="optional", id="note", compact=True)
+            yield Static("", id="day-warning")
             yield Static("", id="check", classes="check")
             yield Static("", id="result")
         yield Footer(compact=True)
@@ -98,8 +106,18 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         return self.query_one("#kind" if picker.patient and self._settled else "#patient", TypeAheadInput)
 
     def on_mount(self) -> None:
+        if self._settled and self.query_one(PatientPicker).patient is not None:
+            self.query_one("#patient", Input).disabled = True  # changing patient is an explicit act
         self._first_field().focus()
         self._check()
+
+    def action_change_patient(self) -> None:
+        """Unlock the patient field of a quick log opened from a record."""
+        field = self.query_one("#patient", TypeAheadInput)
+        field.disabled = False
+        field.focus()
+        field.select_all()
+        self._show_whose()
 
     def on_key(self, event: events.Key) -> None:
         """Keys typed right after `l`, before a field has the focus, go to the field that is getting it."""
@@ -119,8 +137,33 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         return parse_entry(kind, self._text("value"), self.app.clinic.as_of, on=self._text("day") or "today",
                            at=self._text("time").strip() or None, flags=self._text("flags"), note=self._text("note"))
 
+    def _typed(self) -> tuple[str, ...]:
+        return tuple(self._text(f) for f in ("patient", "kind", *DETAIL_FIELDS))
+
+    def _show_whose(self) -> None:
+        patient = self.query_one(PatientPicker).patient
+        whose = self.query_one("#whose", Label)
+        if patient is None:
+            whose.update("Log a call: pick a patient")
+            return
+        locked = " (ctrl+o: other patient)" if self.query_one("#patient", Input).disabled else ""
+        whose.update(Text(f"Log a call for {patient.id} ", style="bold").append_text(literal(printable(patient.name)))
+                     .append(locked, style="dim"))
+
+    def _show_day(self, parsed: ParsedEntry | None) -> None:
+        """A day other than today is said loudly, in words, before anything is saved."""
+        warning = self.query_one("#day-warning", Static)
+        today = self.app.clinic.as_of
+        away = parsed is not None and parsed.day != today
+        warning.display = away
+        if away:
+            ago = (today - parsed.day).days
+            when = "yesterday" if ago == 1 else f"{ago} days ago"
+            warning.update(Text(f"Not today: saving on {long_day(parsed.day)} ({when})", style="bold reverse"))
+
     @on(Input.Changed)
     def _check(self) -> None:
+        self._show_whose()
         kind = match_kind(self._text("kind"))
         value = self.query_one("#value", Input)
         value.placeholder = WORDS_BY_KIND[kind].hint if kind else ""
@@ -128,15 +171,18 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         self.query_one("#flags", Input).placeholder = ",".join(flags) if flags else "none"
         check = self.query_one("#check", Static)
         if not self._text("kind").strip():
+            self._show_day(None)
             check.set_class(False, "refused")
             check.update(Text(f"Next: the kind ({KINDS_HINT}), then Enter", style="dim"))
             return
         try:
             parsed = self._parsed()
         except InputError as err:
+            self._show_day(None)
             check.set_class(True, "refused")
-            check.update(Text(f"Not yet: {err}"))
+            check.update(Text(f"Not yet: {err}{self._meant_hint(kind)}"))
             return
+        self._show_day(parsed)
         check.set_class(False, "refused")
         shown = parsed.value.display() + (" C" if parsed.kind is Kind.TEMP else "")
         text = Text(f"Ready: {kind_label(parsed.kind)} ", style="bold")
@@ -145,7 +191,12 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         if parsed.flags:
             text.append(f" ({', '.join(parsed.flags)})")
         text.append(" · Enter saves")
-        check.update(text)
+        check.update(text.append(self._meant_hint(kind)))
+
+    def _meant_hint(self, kind: Kind | None) -> str:
+        """A temperature typed with its point missing or misplaced: say what it probably meant, change nothing."""
+        meant = meant_celsius(self._text("value")) if kind is Kind.TEMP else None
+        return f" · did you mean {meant:.2f}".rstrip("0").rstrip(".") + "?" if meant is not None else ""
 
     def _move_on(self, source: TypeAheadInput, target_id: str) -> None:
         target = self.query_one(f"#{target_id}", TypeAheadInput)
@@ -154,6 +205,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
 
     @on(PatientPicker.Picked)
     def _picked(self, message: PatientPicker.Picked) -> None:
+        self._show_whose()
         if message.patient is not None:
             self._move_on(self.query_one("#patient", TypeAheadInput), "kind")
 
@@ -197,12 +249,15 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         self._saving = True
         self._typed_from = field
         result.update(Text("Saving…", style="dim"))
+        confirmed = self._confirmed_for == self._typed()
+        self._confirmed_for = None
         self._log_call(picker.patient.id, parsed.kind, self._text("value"), self._text("day") or "today",
-                       self._text("time").strip() or None, self._text("flags"), self._text("note"))
+                       self._text("time").strip() or None, self._text("flags"), self._text("note"), confirmed)
 
     @work(**STORE_WORK, name="save")
-    def _log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str) -> None:
-        self.post_message(self.Done(self.app.clinic.log_call(patient_id, kind, value, on, at, flags, note)))
+    def _log_call(self, patient_id: str, kind: Kind, value: str, on: str, at: str | None, flags: str, note: str,
+                  confirmed: bool) -> None:
+        self.post_message(self.Done(self.app.clinic.log_call(patient_id, kind, value, on, at, flags, note, confirmed)))
 
     @work(**STORE_WORK, name="save")
     def _amend(self, entry_id: int, value: str, reason: str) -> None:
@@ -234,9 +289,17 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
             self._finish_typing(None)
             self._same_day(outcome)
             return
+        if isinstance(outcome, SecondLook):
+            # Keys typed ahead are dropped: the next Enter must be a decision taken after reading this.
+            self._confirmed_for = self._typed()
+            self._finish_typing(None)
+            self.query_one("#result", Static).update(
+                Text(f"Not saved yet: {outcome.question}. Enter again saves it as typed; or change it.", style="bold"))
+            return
         self.query_one("#result", Static).update(Text(logged_summary(outcome)))
         for field in ("kind", "value", "time", "flags", "note"):
             self.query_one(f"#{field}", Input).value = ""
+        self.query_one("#day", Input).value = "today"  # the next entry of the call is today's unless said
         self._finish_typing("kind")
         self.app.post_message(Saved(None, outcome))
 

@@ -1,0 +1,148 @@
+"""The quick log puts data where the user meant it: the record's patient, today unless said, and a
+second look at unusual entries. Keys are pressed in one burst, as a fast typist sends them."""
+
+from __future__ import annotations
+
+from textual import events
+
+from caseload.core.model import Kind
+from caseload.application.entries import patient_entries
+from caseload.tui.screens.quick_log import QuickLogScreen
+from caseload.tui.screens.record import RecordScreen
+from tests.tui.conftest import fill, settle
+from tests.tui.fixture_store import TODAY
+
+
+def today_of(ctx, patient_id: str, kind: Kind):
+    return [e for e in patient_entries(ctx, patient_id) if e.kind is kind and e.day == TODAY and e.current]
+
+
+def shown(app, selector: str) -> str:
+    return app.screen.query_one(selector).render().plain
+
+
+async def press_and_settle(pilot, *keys: str) -> None:
+    """Keys pressed without a pause between them, then the saves they started are let finish."""
+    await pilot.press(*keys)
+    await settle(pilot)
+
+
+async def open_record(app, pilot, patient_id: str) -> None:
+    await settle(pilot)
+    app.push_screen(RecordScreen(patient_id))
+    await settle(pilot)
+
+
+async def test_typed_ahead_from_a_record_logs_for_that_patient(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0004")
+        # `l t Enter` and the reading with no pause: `t` must go to Kind, not to a patient search.
+        await press_and_settle(pilot, "l", "t", "enter", *"36.61", "enter", "b", "enter", *"light", "enter")
+        assert isinstance(app.screen, QuickLogScreen)
+        assert shown(app, "#whose").startswith("Log a call for P0004 Noor Haddad")
+        assert app.screen.query_one("#patient").disabled
+    assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [36.61]
+    assert [e.value.word for e in today_of(check, "P0004", Kind.BLEED)] == ["light"]
+    for other in ("P0001", "P0002", "P0003"):
+        assert [e for e in patient_entries(check, other) if e.by == "phil"] == []
+
+
+async def test_changing_the_patient_of_a_record_is_an_explicit_key(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0004")
+        await press_and_settle(pilot, "l", "ctrl+o", *"rosa", "enter", "m", "enter", *"sticky", "enter")
+        assert shown(app, "#whose").startswith("Log a call for P0002 Rosa Lind")
+    assert [e.value.word for e in today_of(check, "P0002", Kind.MUCUS)] == ["sticky"]
+    assert today_of(check, "P0004", Kind.MUCUS) == []
+
+
+async def test_the_day_goes_back_to_today_after_a_save(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", *"noor", "enter", "b", "enter", *"heavy", "tab")
+        await fill(pilot, "-1")
+        # 2026-12-01 minus one day is Monday 30 November 2026 (Gregorian calendar).
+        assert shown(app, "#day-warning") == "Not today: saving on Mon 30 Nov 2026 (yesterday)"
+        await press_and_settle(pilot, "enter", "m", "enter", *"damp", "enter")
+        assert app.screen.query_one("#day").value == "today"
+        assert not app.screen.query_one("#day-warning").display
+        await pilot.press("t", "enter", *"36.5", "tab")
+        await fill(pilot, "-3")
+        assert shown(app, "#day-warning") == "Not today: saving on Sat 28 Nov 2026 (3 days ago)"
+    bleeds = [e for e in patient_entries(check, "P0004") if e.kind is Kind.BLEED and e.current]
+    assert bleeds[-1].day.isoformat() == "2026-11-30"
+    assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp"]
+
+
+async def test_an_unusual_temperature_is_saved_only_on_a_second_enter(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        # Arriving in one burst, the second Enter came before the question was on screen: no answer.
+        for key in ["l", *"noor", "enter", "t", "enter", *"41.5", "enter", "enter"]:
+            app.post_message(events.Key(key, "\r" if key == "enter" else key))
+        await settle(pilot, rounds=5)
+        assert "41.50 C is outside the usual basal range 35.5-38.5 C" in shown(app, "#result")
+        assert today_of(check, "P0004", Kind.TEMP) == []
+        await press_and_settle(pilot, "enter")
+        assert shown(app, "#result").startswith("Saved #")
+    assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [41.5]
+
+
+async def test_a_changed_value_is_asked_about_again(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "l", *"noor", "enter", "t", "enter", *"34.0", "enter")
+        assert "34.00 C is outside" in shown(app, "#result")
+        await press_and_settle(pilot, "ctrl+u", *"35.0", "enter")
+        assert "35.00 C is outside" in shown(app, "#result")
+        # Inside the band (35.5-38.5 C, from memory) a reading saves at once: 38.4 is a low fever, not a typo.
+        await press_and_settle(pilot, "ctrl+u", *"38.4", "enter")
+        assert shown(app, "#result").startswith("Saved #")
+    assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [38.4]
+
+
+async def test_a_reading_with_its_point_missing_gets_a_hint_and_is_kept_as_typed(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("l", *"noor", "enter", "t", "enter", *"365")
+        await pilot.pause()
+        assert shown(app, "#check").endswith("did you mean 36.5?")
+        await press_and_settle(pilot, "enter")
+        assert app.screen.query_one("#value").value == "365"
+        await pilot.press("ctrl+u", *"3.65")
+        await pilot.pause()
+        assert shown(app, "#check").endswith("did you mean 36.5?")
+        # 365 F is (365 - 32) x 5/9 = 185 C (NIST SP 811 conversion): said, with the likely meaning.
+        await pilot.press("ctrl+u", *"365F")
+        await pilot.pause()
+        line = shown(app, "#check")
+        assert "185.00 C" in line and line.endswith("did you mean 36.5?")
+        await press_and_settle(pilot, "enter")
+    assert today_of(check, "P0004", Kind.TEMP) == []
+
+
+async def test_a_second_mucus_the_same_day_asks_first(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "l", *"noor", "enter", "m", "enter", *"damp", "enter", "m", "enter", *"watery", "enter")
+        assert "already a mucus entry that day" in shown(app, "#result")
+        assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp"]
+        await press_and_settle(pilot, "enter")
+        # LH may be tested twice a day (common practice): no question.
+        await press_and_settle(pilot, "l", "enter", *"neg", "enter", "l", "enter", *"pos", "enter")
+    assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp", "watery"]
+    assert len(today_of(check, "P0004", Kind.LH)) == 2
