@@ -107,5 +107,5 @@ def snooze(ctx: Context, alert_id: int | str, until: str, note: str | None) -> A
 
 
 def resolve(ctx: Context, alert_id: int | str, note: str | None) -> Alert:
-    """Done with: never raised again for the same key."""
+    """Done with: its episode is raised again only if the finding gets worse (as a new alert row)."""
     return _handle(ctx, alert_id, AlertState.RESOLVED, note)

@@ -83,7 +83,7 @@ def snooze(clinic: Clinic, alert_id: str, until: str, note: str | None) -> None:
 @click.option("--note", help="What was done (needed for clinical alerts).")
 @pass_clinic
 def resolve(clinic: Clinic, alert_id: str, note: str | None) -> None:
-    """Resolve an alert; it is never raised again for the same cycle or event."""
+    """Resolve an alert; it is raised again for the same cycle or event only if the finding gets worse."""
     _done(clinic.resolve(alert_id, note), "resolved")
 
 

@@ -213,7 +213,7 @@ class ReportQueries:
     def unresolved_alerts(self, moment: datetime) -> list[AlertEvent]:
         """The last transition before `moment` of each alert that was not resolved then.
 
-        A resolved alert stays resolved (its key is never raised again), so the only candidates
+        A resolved alert row stays resolved (a returning finding is a new row), so the only candidates
         are alerts unresolved now and those resolved since `moment`: not the whole history.
         """
         when, params = _before("x.at", moment)
