@@ -33,10 +33,12 @@ def test_an_upward_import_breaks_the_contract(tmp_path):
     shutil.copy(PROJECT / "pyproject.toml", tmp_path / "pyproject.toml")
     (tmp_path / "caseload" / "application" / "upward.py").write_text("import caseload.tui.app\n")
     (tmp_path / "caseload" / "core" / "stored.py").write_text("import sqlite3\n")
+    (tmp_path / "caseload" / "core" / "clocked.py").write_text("import pendulum\n")
     result = lint(tmp_path)
     assert result.returncode == 1
     assert "caseload.application is not allowed to import caseload.tui" in result.stdout
     assert "caseload.core is not allowed to import sqlite3" in result.stdout
+    assert "caseload.core is not allowed to import pendulum" in result.stdout
 
 
 def test_core_imports_no_storage_or_ui():
