@@ -16,6 +16,7 @@ from html import escape
 
 from caseload.core.analysis import CycleRecord
 from caseload.core.model import MUCUS_SCALE, Flow, Kind, Observation
+from caseload.presentation.days import iso_day, short_day
 
 WIDTH = 180.0  # mm: fits A4 and Letter inside 15 mm margins
 LEFT = 19.0  # room for the row labels
@@ -138,7 +139,7 @@ def cycle_figure(chart: CycleInput) -> Figure:
         return bottom - (celsius - low) / (high - low) * height
 
     length = "open" if rec.is_open else f"{rec.length} days"
-    title = f"Cycle {chart.number}: from {start.isoformat()} ({length})"
+    title = f"Cycle {chart.number}: from {iso_day(start)} ({length})"
     if (drawn_to - start).days + 1 > MAX_DAYS:
         title += f"; drawn to day {MAX_DAYS}"
     shapes.append(Label(0, 4.5, title, 3.0, bold=True))
@@ -164,7 +165,7 @@ def cycle_figure(chart: CycleInput) -> Figure:
     shapes.append(Line(0, dates_top, WIDTH - RIGHT, dates_top, GRID, 0.15))
     for i in range(0, days, 7):
         day = start + timedelta(days=i)
-        shapes.append(Label(LEFT + (i + 0.5) * dx, dates_top + 3.2, day.strftime("%d %b"), 2.0, FAINT, "middle"))
+        shapes.append(Label(LEFT + (i + 0.5) * dx, dates_top + 3.2, short_day(day), 2.0, FAINT, "middle"))
     legend_y = dates_top + 7.5
     shapes += _legend(legend_y)
     return Figure(WIDTH, legend_y + 2.0, tuple(shapes))

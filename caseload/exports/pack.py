@@ -22,15 +22,15 @@ from caseload.core.pregnancy import hcg_trend
 from caseload.core.settings import Protocol
 from caseload.application.referral import PackInput
 from caseload.exports import chart
-from caseload.presentation.glossary import entry_history
+from caseload.presentation.days import iso_day, iso_minute, iso_span
+from caseload.presentation.glossary import edd_method_label, entry_history, kind_label, ovulation_method_label
+from caseload.presentation.safe_text import printable
 
 CAUTION = (
     "Predictions in this pack are estimates from the patient's own records and published population figures; "
     "they are not contraception advice. Alerts point to records worth a clinician's look: they defer to the "
     "clinic's protocols and to licensed clinical judgement, and do not replace either."
 )
-OVULATION_METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
-                          "mucus": "mucus peak"}
 UNITS = {Kind.HCG: "IU/L", Kind.LH: "IU/L"}
 
 
@@ -73,23 +73,19 @@ def _num(value: float | None, digits: int = 1) -> str:
     return "-" if value is None else f"{value:.{digits}f}"
 
 
-def _day(value: date | None) -> str:
-    return "-" if value is None else value.isoformat()
-
-
 def who(i: PackInput) -> tuple[tuple[str, str], ...]:
     p, a = i.patient, i.analysis
-    nurse = "-" if p.nurse_id is None else f"{i.staff_names.get(p.nurse_id, p.nurse_id)} ({p.nurse_id})"
-    cycle = "no cycle start recorded" if a.cycle_day is None else f"day {a.cycle_day} (from {_day(a.cycle_start)})"
+    nurse = "-" if p.nurse_id is None else f"{printable(i.staff_names.get(p.nurse_id, p.nurse_id))} ({p.nurse_id})"
+    cycle = "no cycle start recorded" if a.cycle_day is None else f"day {a.cycle_day} (from {iso_day(a.cycle_start)})"
     return (
-        ("Patient", p.name),
-        ("Date of birth", f"{p.born.isoformat()} (age {a.age_years})"),
+        ("Patient", printable(p.name)),
+        ("Date of birth", f"{iso_day(p.born)} (age {a.age_years})"),
         ("Patient id", p.id),
         ("Plan and status", f"{p.plan.value}, {p.status.value}"),
         ("Nurse", nurse),
-        ("Clinic", i.clinic),
+        ("Clinic", printable(i.clinic)),
         ("Current cycle", cycle),
-        ("Prepared", f"{i.today.isoformat()} by {i.prepared_by}"),
+        ("Prepared", f"{iso_day(i.today)} by {printable(i.prepared_by)}"),
     )
 
 
@@ -114,7 +110,7 @@ def why(alerts: Sequence[Alert]) -> Section:
     if not alerts:
         return Section("Why: open alerts", ("No alert is open for this patient.",))
     paragraphs = tuple(
-        f"{a.kind} ({a.severity.value}, {a.state.value}, raised {a.raised_on.isoformat()}): {a.message} "
+        f"{a.kind} ({a.severity.value}, {a.state.value}, raised {iso_day(a.raised_on)}): {a.message} "
         f"Evidence: {_evidence(a.evidence)}. Rule: {a.rule}. Source: {a.source}."
         for a in alerts
     )
@@ -140,17 +136,17 @@ def cycle_summary(i: PackInput) -> Section:
     s = a.stats
     stats = (f"{s.count} complete cycles (the last {i.protocol.stats_cycles} at most): mean {_num(s.mean)} days, "
              f"SD {_num(s.sd)}, median {_num(s.median)}, shortest {s.shortest or '-'}, longest {s.longest or '-'}.")
-    luteal = [f"{c.luteal_length} (cycle from {c.start.isoformat()})" for c in a.cycles if c.luteal_length is not None]
+    luteal = [f"{c.luteal_length} (cycle from {iso_day(c.start)})" for c in a.cycles if c.luteal_length is not None]
     luteal_line = "Luteal phases (days): " + ("; ".join(luteal) if luteal else "none measured") + "."
     lines = (stats, *_classification_lines(a.classification, a, i.protocol), luteal_line)
     pr = a.prediction
     if pr is not None:
-        lines += (f"Current cycle (estimates): ovulation most likely {_day(pr.ovulation)}, 80% range "
-                  f"{_span(pr.ovulation_range)}; fertile window {_span(pr.fertile_window)} (Wilcox 1995); "
-                  f"next period about {pr.next_period.isoformat()} (90% range {_span(pr.next_period_range)}).",)
+        lines += (f"Current cycle (estimates): ovulation most likely {iso_day(pr.ovulation)}, 80% range "
+                  f"{iso_span(pr.ovulation_range)}; fertile window {iso_span(pr.fertile_window)} (Wilcox 1995); "
+                  f"next period about {iso_day(pr.next_period)} (90% range {iso_span(pr.next_period_range)}).",)
     rows = tuple(
-        Row((str(n), c.start.isoformat(), "open" if c.length is None else str(c.length), str(c.bleed_days),
-             _day(c.markers.ovulation), OVULATION_METHOD_WORDS.get(c.markers.ovulation_method or "", "-"),
+        Row((str(n), iso_day(c.start), "open" if c.length is None else str(c.length), str(c.bleed_days),
+             iso_day(c.markers.ovulation), ovulation_method_label(c.markers.ovulation_method),
              "-" if c.luteal_length is None else str(c.luteal_length)))
         for n, c in reversed(list(enumerate(a.cycles, start=1)))
     )
@@ -158,17 +154,13 @@ def cycle_summary(i: PackInput) -> Section:
     return Section("Cycle summary", lines, table if rows else None)
 
 
-def _span(pair: tuple[date, date] | None) -> str:
-    return "-" if pair is None else f"{pair[0].isoformat()} to {pair[1].isoformat()}"
-
-
 def pregnancy(i: PackInput) -> Section | None:
     p = i.analysis.pregnancy
     if p is None:
         return None
-    method = {"naegele": "Naegele's rule, LMP + 280 days", "ovulation": "ovulation + 266 days"}.get(p.edd_method or "", "-")
-    lines = [f"Last menstrual period {_day(p.lmp)}; first positive hCG {_day(p.positive_test)}.",
-             f"Estimated delivery date {_day(p.edd)} ({method}); gestational age {p.gestational_age or '-'} today."]
+    lines = [f"Last menstrual period {iso_day(p.lmp)}; first positive hCG {iso_day(p.positive_test)}.",
+             f"Estimated delivery date {iso_day(p.edd)} ({edd_method_label(p.edd_method)}); "
+             f"gestational age {p.gestational_age or '-'} today."]
     trend = p.hcg_trend
     if trend is not None:
         verdict = "below" if trend.below_minimum else "at or above"
@@ -180,7 +172,7 @@ def pregnancy(i: PackInput) -> Section | None:
         if n > 0:
             pair = hcg_trend((p.hcg[n - 1], v), v.taken.date(), i.protocol)
             rise = "-" if pair is None else f"{pair.rise_48h:.0%}"
-        rows.append(Row((v.taken.strftime("%Y-%m-%d %H:%M"), f"{v.iu_l:g}", rise)))
+        rows.append(Row((iso_minute(v.taken), f"{v.iu_l:g}", rise)))
     table = Table(("Serum hCG taken", "IU/L", "Rise per 48 h since the previous"), tuple(rows)) if rows else None
     return Section("Pregnancy", tuple(lines), table)
 
@@ -192,8 +184,8 @@ def follicles(i: PackInput) -> Section | None:
     trigger = "reached" if f.trigger_reached else "projected"
     lines = (f"Lead follicle {_num(f.lead_mm)} mm; {f.mature_count} at or above {i.protocol.mature_follicle_mm:g} mm; "
              f"growth {_num(f.growth_mm_per_day)} mm a day; trigger size {i.protocol.trigger_follicle_mm:g} mm "
-             f"{trigger} {_day(f.trigger_day)}.",)
-    rows = tuple(Row((s.day.isoformat(), _num(s.lead_mm), str(s.mature_count), _num(s.endometrium_mm)))
+             f"{trigger} {iso_day(f.trigger_day)}.",)
+    rows = tuple(Row((iso_day(s.day), _num(s.lead_mm), str(s.mature_count), _num(s.endometrium_mm)))
                  for s in f.scans)
     return Section("Follicle tracking (this cycle)", lines,
                    Table(("Scan", "Lead mm", "Mature", "Endometrium mm"), rows))
@@ -213,7 +205,7 @@ def charts(i: PackInput, shown: Sequence[tuple[int, CycleRecord]]) -> tuple[Char
         group = tuple(o for o in obs if rec.start <= o.day <= last)
         daily = {d.day: d.p_fertile for d in pr.daily} if rec.is_open and pr is not None else {}
         figure = chart.cycle_figure(chart.CycleInput(number, rec, group, last, daily))
-        blocks.append(ChartBlock(f"Cycle {number} from {rec.start.isoformat()}", figure))
+        blocks.append(ChartBlock(f"Cycle {number} from {iso_day(rec.start)}", figure))
     return tuple(blocks)
 
 
@@ -227,8 +219,9 @@ def _value(e: Entry) -> str:
 def entries_section(i: PackInput, since: date | None) -> Section:
     chosen = sorted((e for e in i.entries if since is None or e.day >= since), key=lambda e: (e.day, e.time or "", e.id))
     rows = tuple(
-        Row((str(e.id), e.day.isoformat(), e.time or "", e.kind.value, _value(e), ", ".join(e.flags), e.note,
-             i.staff_names.get(e.by, e.by), entry_history(e)), struck=not e.current)
+        Row((str(e.id), iso_day(e.day), e.time or "", kind_label(e.kind), printable(_value(e)), ", ".join(e.flags),
+             printable(e.note), printable(i.staff_names.get(e.by, e.by)), printable(entry_history(e))),
+            struck=not e.current)
         for e in chosen
     )
     heading = "Entries of the charted cycles" if since is not None else "Entries"
@@ -245,7 +238,7 @@ def build(i: PackInput) -> Pack:
     sections += [s for s in (pregnancy(i), follicles(i)) if s is not None]
     since = shown[0][1].start if shown else None
     return Pack(
-        title=f"Referral pack: {i.patient.name}",
+        title=f"Referral pack: {printable(i.patient.name)}",
         who=who(i),
         sections=tuple(sections),
         charts=charts(i, shown),

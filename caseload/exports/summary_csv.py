@@ -9,8 +9,8 @@ from datetime import date, datetime
 from pathlib import Path
 
 from caseload.application.week.figures import WeeklySummary
-from caseload.exports.safe_text import spreadsheet_text
 from caseload.exports.summary_tables import Table, sections
+from caseload.presentation.safe_text import spreadsheet_text
 
 WEEK_FILE = "week.csv"
 

@@ -11,6 +11,7 @@ from jinja2 import Environment, PackageLoader, StrictUndefined
 
 from caseload.application.week.figures import WeeklySummary
 from caseload.exports.summary_tables import CHARTS, FLOAT, NONE, SHARE, bars, caption, sections
+from caseload.presentation.days import iso_day, iso_minute
 
 TEMPLATE = "summary.html.j2"
 BLANK = "–"
@@ -23,9 +24,9 @@ def cell(value, kind: str) -> str:
     if isinstance(value, str):
         return value
     if isinstance(value, datetime):
-        return value.strftime("%Y-%m-%d %H:%M")
+        return iso_minute(value)
     if isinstance(value, date):
-        return value.isoformat()
+        return iso_day(value)
     if kind == SHARE:
         return f"{value * 100:.1f}%"
     if kind == FLOAT:

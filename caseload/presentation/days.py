@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from datetime import date
+from datetime import date, datetime
 
 
 def short_day(day: date | None) -> str:
@@ -19,5 +19,14 @@ def day_span(pair: tuple[date, date] | None) -> str:
 
 
 def iso_day(day: date | None) -> str:
-    """A day for scripts and plain listings: YYYY-MM-DD, or '-' when there is none."""
+    """A day for scripts, plain listings and papers: YYYY-MM-DD, or '-' when there is none."""
     return "-" if day is None else day.isoformat()
+
+
+def iso_span(pair: tuple[date, date] | None) -> str:
+    return "-" if pair is None else f"{iso_day(pair[0])} to {iso_day(pair[1])}"
+
+
+def iso_minute(moment: datetime) -> str:
+    """A moment on paper: YYYY-MM-DD HH:MM, in the moment's own local time."""
+    return moment.strftime("%Y-%m-%d %H:%M")

@@ -13,6 +13,7 @@ from caseload.core.analysis import BLEEDING, LUTEAL, PRE_WINDOW, PREGNANT, UNKNO
 from caseload.application.recompute import Refreshed, RefreshReport
 from caseload.core import alerts
 from caseload.core.model import MUCUS_SCALE, Entry, Flow, Kind
+from caseload.core.pregnancy import NAEGELE, NAEGELE_ADJUSTED, OVULATION
 
 CAUTION = (
     "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
@@ -43,6 +44,19 @@ NEXT_EVENT_SHORT: dict[str, str] = {  # the same events in a narrow column
     "period": "period",
     "trigger size": "trigger",
     "pregnancy test": "hCG test",
+}
+
+OVULATION_METHOD_LABELS: dict[str, str] = {  # how a cycle's ovulation was dated
+    "lh": "LH test",
+    "shift": "temperature rise",
+    "change-point": "temperature level change",
+    "mucus": "mucus peak",
+}
+
+EDD_METHOD_LABELS: dict[str, str] = {  # the rule that gave a due date
+    NAEGELE: "Naegele's rule, LMP + 280 days",
+    NAEGELE_ADJUSTED: "Naegele's rule, LMP + 280 days, moved by the usual cycle's difference from 28 days",
+    OVULATION: "ovulation + 266 days",
 }
 
 ALERT_LABELS: dict[str, str] = {
@@ -99,6 +113,14 @@ def phase_label(phase: str | None) -> str:
 
 def next_event_short(event: str) -> str:
     return NEXT_EVENT_SHORT.get(event, event)
+
+
+def ovulation_method_label(method: str | None) -> str:
+    return "-" if method is None else OVULATION_METHOD_LABELS.get(method, method)
+
+
+def edd_method_label(method: str | None) -> str:
+    return "-" if method is None else EDD_METHOD_LABELS.get(method, method)
 
 
 def alert_label(kind: str) -> str:

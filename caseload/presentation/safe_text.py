@@ -2,7 +2,9 @@
 
 One rule for every front end (`caseload.core.parse.one_line`, without a length limit): characters
 that would act on a terminal are shown as escapes, letters and spaces of every kind as typed, so a
-name prints the same on the command line and in the interface.
+name prints the same on the command line and in the interface. A spreadsheet cell needs one thing
+more (`spreadsheet_text`): a cell that it would run as a formula gets a leading apostrophe, as the
+OWASP guidance on CSV injection advises.
 """
 
 from __future__ import annotations
@@ -18,3 +20,14 @@ def printable(text: object) -> str:
 def quoted(text: object, limit: int = 60) -> str:
     """User text inside a one-line message, in quotes and shortened when long."""
     return "'" + one_line("" if text is None else str(text), limit) + "'"
+
+
+# Tab and carriage return, also on OWASP's list, never reach this test: `printable` shows them as
+# escapes, and a formula sign after leading spaces is caught as well.
+FORMULA_STARTS = ("=", "+", "-", "@")
+
+
+def spreadsheet_text(text: str) -> str:
+    """An inert text cell that a spreadsheet shows as text, never runs as a formula."""
+    text = printable(text)
+    return "'" + text if text.lstrip(" ").startswith(FORMULA_STARTS) else text

@@ -8,12 +8,10 @@ from rich.text import Text
 from caseload.core.analysis import Analysis
 from caseload.core.cycles import cycle_day
 from caseload.application.caseload_view import PatientRecord
-from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, phase_label
+from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, ovulation_method_label, phase_label
 from caseload.presentation.days import day_span, short_day
 from caseload.tui.rich_text import literal
 
-METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
-                "mucus": "mucus peak"}
 EVIDENCE_WORDS = {
     "lh": "a positive LH test",
     "shift": "the temperature rise",
@@ -50,7 +48,7 @@ def cycle_rows(a: Analysis) -> list[list[str]]:
             "open" if c.length is None else str(c.length),
             str(c.bleed_days),
             ov_text,
-            METHOD_WORDS.get(c.markers.ovulation_method or "", "-"),
+            ovulation_method_label(c.markers.ovulation_method),
             "-" if c.luteal_length is None else str(c.luteal_length),
         ])
     return rows

@@ -25,9 +25,8 @@ from caseload.application.errors import Refused
 from caseload.application.weekly_summary import export_summary
 from caseload.cli import main
 from caseload.exports import summary_files as render
-from caseload.exports.safe_text import spreadsheet_text
 from caseload.exports.summary_files import write
-from caseload.presentation.safe_text import printable
+from caseload.presentation.safe_text import printable, spreadsheet_text
 from caseload.exports.summary_csv import _writer
 from caseload.store import Store, StoreError
 from tests.application.week.conftest import PATIENTS, TODAY, W43, Clock, build

@@ -126,3 +126,19 @@ def test_a_name_outside_the_pdf_font_is_flagged_not_dropped(ctx):
     p = replace(p, who=(("Patient", "Zhou 周"),) + p.who[1:])
     assert pack_pdf._fits(p) is False
     assert pack_pdf.render(p).startswith(b"%PDF-")
+
+
+def test_user_text_in_the_pack_is_made_inert_by_the_one_display_rule(ctx):
+    # A right-to-left override (Unicode Cf) would reverse what follows it on the page; the pack shows
+    # it as its escape, as every other screen does (caseload.presentation.safe_text).
+    from dataclasses import replace
+    record = show_patient(ctx, "P0001")
+    hostile = replace(record.patient, name="Ana\u202eLima")
+    p = pack.build(PackInput(
+        clinic="Test\x1b[31m Clinic", today=ctx.today, patient=hostile, analysis=record.analysis,
+        entries=record.entries, alerts=record.alerts, staff_names={}, cycles=1, prepared_by="Tester",
+        protocol=ctx.protocol,
+    ))
+    assert p.title == "Referral pack: Ana\\u202eLima"
+    assert dict(p.who)["Clinic"] == "Test\\x1b[31m Clinic"
+    assert "\u202e" not in pack.html(p)
