@@ -10,9 +10,8 @@ from caseload.core import alerts as rules
 from caseload.core.alerts.lifecycle import ALLOWED_FROM, effective, parse_future_day
 from caseload.core.model import Alert, AlertState
 from caseload.core.parse import InputError, one_line
-from caseload.application.context import Context
+from caseload.application.context import Context, allowed
 from caseload.application.errors import NotFound, Refused
-from caseload.application.permissions import allowed
 from caseload.application.staff import get_staff
 
 STATES = ("open", "all")

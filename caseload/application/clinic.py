@@ -26,12 +26,11 @@ from caseload.core.settings import Protocol
 from caseload.application import alert_handling, caseload_view, csv_import, entries, patients, protocol, staff
 from caseload.application import referral, store_care, weekly_summary
 from caseload.application.caseload_view import CaseloadLine, PatientRecord
-from caseload.application.context import Context
+from caseload.application.context import Context, allowed
 from caseload.application.csv_import import Imported
 from caseload.application.entries import Logged
 from caseload.application.errors import Refused
 from caseload.application.identity import not_mapped, os_account, resolve_actor
-from caseload.application.permissions import allowed
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.morning_refresh import run_morning_refresh
 from caseload.application.recompute import Progress, RefreshReport, refresh_all

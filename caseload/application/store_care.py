@@ -5,9 +5,8 @@ from __future__ import annotations
 from datetime import date
 from pathlib import Path
 
-from caseload.application.context import Context
+from caseload.application.context import Context, require
 from caseload.application.identity import resolve_actor
-from caseload.application.permissions import require
 from caseload.application.staff import clinic_today
 from caseload.store import Report, Store
 from caseload.store.backup_restore import Restored, check_file, replace_damaged, verified_copy

@@ -10,10 +10,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from caseload.core.analysis import BLEEDING, LUTEAL, PRE_WINDOW, PREGNANT, UNKNOWN, WINDOW
+from caseload.application.entries import Logged
 from caseload.application.recompute import Refreshed, RefreshReport
 from caseload.core import alerts
 from caseload.core.model import MUCUS_SCALE, Entry, Flow, Kind
 from caseload.core.pregnancy import NAEGELE, NAEGELE_ADJUSTED, OVULATION
+from caseload.presentation.safe_text import printable
 
 CAUTION = (
     "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
@@ -174,6 +176,23 @@ def refreshed_line(done: Refreshed) -> str:
     if done.raised:
         text += " Raised: " + "; ".join(f"{alert_label(a.kind)} ({a.severity.value})" for a in done.raised) + "."
     return text
+
+
+def _state_after(done: Logged) -> str:
+    return " " + refreshed_line(done.refreshed)
+
+
+def logged_summary(done: Logged) -> str:
+    """What a clerk reads after saving: the entry, the new cycle day, any alert it raised."""
+    e = done.entry
+    unit = " C" if e.kind is Kind.TEMP else ""
+    value = printable(e.value.display())
+    return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {value}{unit} on {e.day.isoformat()}." + _state_after(done)
+
+
+def voided_summary(done: Logged) -> str:
+    e = done.entry
+    return f"Voided #{e.id} for {e.patient_id} ({e.kind.value} on {e.day.isoformat()})." + _state_after(done)
 
 
 def refresh_line(done: RefreshReport) -> str:

@@ -2,12 +2,15 @@
 
 One rule for every front end (`caseload.core.parse.one_line`, without a length limit): characters
 that would act on a terminal are shown as escapes, letters and spaces of every kind as typed, so a
-name prints the same on the command line and in the interface. A spreadsheet cell needs one thing
-more (`spreadsheet_text`): a cell that it would run as a formula gets a leading apostrophe, as the
-OWASP guidance on CSV injection advises.
+name prints the same on the command line and in the interface (`literal` gives the interface a Rich
+Text that is never parsed as markup). A spreadsheet cell needs one thing more (`spreadsheet_text`):
+a cell that it would run as a formula gets a leading apostrophe, as the OWASP guidance on CSV
+injection advises.
 """
 
 from __future__ import annotations
+
+from rich.text import Text
 
 from caseload.core.parse import one_line
 
@@ -15,6 +18,11 @@ from caseload.core.parse import one_line
 def printable(text: object) -> str:
     """Any text (a name, a note, a refusal quoting what was typed) as one inert line."""
     return "" if text is None else one_line(str(text), limit=None)
+
+
+def literal(text: object, style: str = "") -> Text:
+    """User text as a Rich Text for the interface: never parsed as markup, so '[bold]' shows as typed."""
+    return Text(printable(text), style=style, no_wrap=True)
 
 
 def quoted(text: object, limit: int = 60) -> str:

@@ -17,7 +17,7 @@ from caseload.core.model import Actor, Patient, Staff
 from caseload.core.parse import ParsedEntry
 from caseload.store.db import Database, StoreError, append_audit, audit_values
 from caseload.store.entry_table import CURRENT_ROWS, IN_ORDER, entry_row
-from caseload.store.row_objects import patient_history_row, patient_to_row
+from caseload.store.patient_table import patient_history_row, patient_to_row
 from caseload.store.staff_table import staff_row
 
 ENTRY_BATCH = 20_000  # rows per transaction: large enough to be fast, small enough to keep the WAL short

@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import json
 from collections.abc import Iterator
+from datetime import date, datetime
+from functools import lru_cache
 from itertools import groupby
 from operator import itemgetter
 
-from caseload.core.model import Actor, Entry, Kind, Observation
+from caseload.core.model import Actor, Entry, Kind, Observation, Scan, Value
 from caseload.core.parse import ParsedEntry
 from caseload.store.db import Database
-from caseload.store.row_objects import entry_from_row, observation_from_row, value_columns
 
 _SELECT = (
     "SELECT e.*, s.id AS superseded_by FROM entry e LEFT JOIN entry s ON s.supersedes = e.id"
@@ -21,6 +23,63 @@ CURRENT_ROWS = (
 )
 # The order of core.model.observations: day, then reading time (untimed first), then id.
 IN_ORDER = " ORDER BY e.patient_id, e.day, coalesce(e.time, ''), e.id"
+_KINDS = {k.value: k for k in Kind}
+
+
+def value_columns(v: Value) -> dict:
+    scan = None
+    if v.scan is not None:
+        scan = json.dumps({"follicles_mm": list(v.scan.follicles_mm), "endometrium_mm": v.scan.endometrium_mm})
+    return {"number": v.number, "word": v.word, "scan": scan, "text": v.text}
+
+
+def value_from_row(row: dict) -> Value:
+    scan = None
+    if row["scan"]:
+        s = json.loads(row["scan"])
+        scan = Scan(tuple(s["follicles_mm"]), s["endometrium_mm"])
+    return Value(number=row["number"], word=row["word"], scan=scan, text=row["text"])
+
+
+def entry_from_row(row: dict) -> Entry:
+    return Entry(
+        id=row["id"],
+        patient_id=row["patient_id"],
+        day=date.fromisoformat(row["day"]),
+        kind=Kind(row["kind"]),
+        value=value_from_row(row),
+        raw=row["raw"],
+        time=row["time"],
+        flags=tuple(f for f in row["flags"].split(",") if f),
+        note=row["note"],
+        by=row["by_staff"],
+        at=datetime.fromisoformat(row["at"]),
+        supersedes=row["supersedes"],
+        voided_reason=row["voided_reason"],
+        superseded_by=row.get("superseded_by"),
+        amend_reason=row["amend_reason"],
+    )
+
+
+@lru_cache(maxsize=8192)
+def _plain_value(number: float | None, word: str | None, text: str | None) -> Value:
+    # Values repeat across a caseload (temperatures to 2 dp, flow and mucus words): frozen, so shared.
+    return Value(number=number, word=word, text=text)
+
+
+@lru_cache(maxsize=256)
+def _flags(text: str) -> tuple[str, ...]:
+    return tuple(f for f in text.split(",") if f)
+
+
+def observation_from_row(row: tuple) -> Observation:
+    """(patient_id, day, kind, number, word, scan, text, flags, time) as the cycle engine reads it."""
+    _, day, kind, number, word, scan, text, flags, time = row
+    if scan:
+        value = value_from_row({"number": number, "word": word, "scan": scan, "text": text})
+    else:
+        value = _plain_value(number, word, text)
+    return Observation(date.fromisoformat(day), _KINDS[kind], value, _flags(flags) if flags else (), time)
 
 
 def entry_row(

@@ -2,11 +2,46 @@
 
 from __future__ import annotations
 
-from caseload.core.model import Actor, Patient
+from datetime import date
+
+from caseload.core.model import Actor, Patient, PatientStatus, Plan
 from caseload.store.db import Database
-from caseload.store.row_objects import patient_from_row, patient_history_row, patient_to_row
 
 HISTORY_FIELDS = ("status", "plan", "nurse_id", "charting_temps")
+
+
+def patient_from_row(row: dict) -> Patient:
+    return Patient(
+        id=row["id"],
+        name=row["name"],
+        born=date.fromisoformat(row["born"]),
+        nurse_id=row["nurse_id"],
+        status=PatientStatus(row["status"]),
+        plan=Plan(row["plan"]),
+        created=date.fromisoformat(row["created"]),
+        charting_temps=bool(row["charting_temps"]),
+        status_since=date.fromisoformat(row["status_since"]) if row.get("status_since") else None,
+    )
+
+
+def patient_to_row(p: Patient) -> dict:
+    return {
+        "id": p.id,
+        "name": p.name,
+        "born": p.born.isoformat(),
+        "nurse_id": p.nurse_id,
+        "status": p.status.value,
+        "plan": p.plan.value,
+        "created": p.created.isoformat(),
+        "charting_temps": int(p.charting_temps),
+        "status_since": None if p.status_since is None else p.status_since.isoformat(),
+    }
+
+
+def patient_history_row(p: Patient, at: str, by_staff: str) -> dict:
+    """The version of a patient's care that takes effect at `at` (see the patient_history table)."""
+    return {"patient_id": p.id, "at": at, "status": p.status.value, "plan": p.plan.value, "nurse_id": p.nurse_id,
+            "charting_temps": int(p.charting_temps), "by_staff": by_staff}
 
 
 class PatientTable:

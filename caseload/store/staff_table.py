@@ -4,9 +4,12 @@ from __future__ import annotations
 
 from dataclasses import asdict
 
-from caseload.core.model import Actor, Staff
+from caseload.core.model import Actor, Role, Staff
 from caseload.store.db import Database
-from caseload.store.row_objects import staff_from_row
+
+
+def staff_from_row(row: dict) -> Staff:
+    return Staff(row["id"], row["name"], Role(row["role"]), bool(row["active"]), row["os_account"])
 
 
 def staff_row(staff: Staff, created_at: str) -> dict:

@@ -24,8 +24,7 @@ from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.sign_in import SignInScreen
 from caseload.tui.themes import DEFAULT_THEME, THEMES
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
-from caseload.tui.saving import Saved, StoreChanged
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork, Saved, StoreChanged
 
 REFRESH_SECONDS = 5.0
 

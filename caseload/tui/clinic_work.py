@@ -1,8 +1,16 @@
 """Calling the Clinic from the interface: every call runs in a Textual thread worker (`@work`), so the
-screen never waits on the store; a failed call becomes one notification, never a traceback."""
+screen never waits on the store; a failed call becomes one notification, never a traceback.
+
+A save runs in the app's worker (`CaseloadApp.save`); when it is done the app gets `Saved`, shows
+its summary, updates the one list row the save changed from the snapshot it returned, and sends
+`StoreChanged` to every open screen, which reads again what it shows.
+"""
 
 from __future__ import annotations
 
+from typing import Any
+
+from textual.message import Message
 from textual.worker import Worker, WorkerState
 
 from caseload.application.clinic import plain_reason
@@ -26,3 +34,20 @@ class ClinicWork:
 
     def work_failed(self, name: str, reason: str) -> None:
         """Override to react to a failed call (the notification is already shown)."""
+
+
+class Saved(Message):
+    """A change was saved; `summary` is the one line to show (None: the screen that saved shows it)."""
+
+    def __init__(self, summary: str | None, result: Any = None) -> None:
+        super().__init__()
+        self.summary = summary
+        self.result = result
+
+
+class StoreChanged(Message):
+    """The store changed; `row_updated` says the caseload list already holds the change."""
+
+    def __init__(self, row_updated: bool) -> None:
+        super().__init__()
+        self.row_updated = row_updated

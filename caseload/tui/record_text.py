@@ -10,7 +10,7 @@ from caseload.core.cycles import cycle_day
 from caseload.application.caseload_view import PatientRecord
 from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, ovulation_method_label, phase_label
 from caseload.presentation.days import day_span, short_day
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 EVIDENCE_WORDS = {
     "lh": "a positive LH test",

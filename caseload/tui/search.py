@@ -2,8 +2,15 @@
 
 from __future__ import annotations
 
+import unicodedata
+
 from caseload.core.model import Patient
-from caseload.tui.rich_text import folded
+
+
+def folded(text: str) -> str:
+    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês')."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    return "".join(ch for ch in decomposed if not unicodedata.combining(ch))
 
 
 def match_rank(patient: Patient, typed: str) -> int | None:

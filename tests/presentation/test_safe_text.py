@@ -14,9 +14,8 @@ from caseload.application.clinic import Clinic, Identity
 from caseload.application.identity import os_account
 from caseload.cli import main
 from caseload.core.parse import INERT_CATEGORIES
-from caseload.presentation.safe_text import printable, quoted
+from caseload.presentation.safe_text import literal, printable, quoted
 from caseload.tui.app import make_app
-from caseload.tui.rich_text import literal
 from tests.tui.conftest import settle
 
 REAL = date(2026, 12, 1)

@@ -19,14 +19,13 @@ from caseload.core.model import Actor, Role
 from caseload.application import store_care as maintenance
 from caseload.application.alert_handling import acknowledge, list_alerts
 from caseload.application.caseload_view import list_caseload, show_patient
-from caseload.application.context import Context
+from caseload.application.context import DOING, MATRIX, Context
 from caseload.application.recompute import refresh_all
 from caseload.application.entries import amend_entry, log_entry, patient_entries, void_entry
 from caseload.application.errors import Refused
 from caseload.application.identity import os_account, resolve_actor
 from caseload.application.csv_import import import_csv
 from caseload.application.patients import add_patient, update_patient
-from caseload.application.permissions import DOING, MATRIX
 from caseload.application.protocol import show_protocol, use_protocol
 from caseload.application.weekly_summary import export_summary
 from caseload.application.clinic import Clinic, Identity

@@ -11,10 +11,9 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import Footer, Static
 
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.core.model import Alert
 from caseload.tui.handle_alert import start_handling
-from caseload.tui.saving import StoreChanged
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel

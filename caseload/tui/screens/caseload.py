@@ -15,13 +15,12 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Input, Static
 
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.presentation.glossary import refresh_progress_line
 from caseload.application.caseload_view import CaseloadLine
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
-from caseload.tui.saving import StoreChanged
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters

@@ -15,10 +15,9 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry
 from caseload.core.parse import InputError, parse_value
-from caseload.presentation.glossary import kind_label
+from caseload.presentation.glossary import kind_label, logged_summary, voided_summary
 from caseload.presentation.days import short_day
-from caseload.tui.rich_text import literal
-from caseload.tui.saving import logged_summary, voided_summary
+from caseload.presentation.safe_text import literal
 
 
 @dataclass(frozen=True)

@@ -17,7 +17,7 @@ from caseload.core.model import Alert
 from caseload.core.alerts.lifecycle import parse_future_day
 from caseload.core.parse import InputError
 from caseload.presentation.glossary import alert_label
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 
 @dataclass(frozen=True)

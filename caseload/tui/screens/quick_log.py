@@ -20,7 +20,7 @@ from textual.screen import ModalScreen
 from textual.suggester import Suggester
 from textual.widgets import Footer, Input, Label, Static
 
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork, Saved
 from caseload.core.model import Kind
 from caseload.core.parse import FLAGS_BY_KIND, InputError, ParsedEntry, one_line, parse_entry
 from caseload.application.clinic import SameDayReading, SecondLook
@@ -29,11 +29,11 @@ from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
 from caseload.tui.widgets.type_ahead import TypeAheadInput
-from caseload.presentation.glossary import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, match_kind
+from caseload.presentation.glossary import (
+    KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, logged_summary, match_kind,
+)
 from caseload.presentation.days import long_day, short_day
-from caseload.presentation.safe_text import printable
-from caseload.tui.rich_text import literal
-from caseload.tui.saving import Saved, logged_summary
+from caseload.presentation.safe_text import literal, printable
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")

@@ -11,14 +11,13 @@ from textual.message import Message
 from textual.screen import Screen
 from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
 
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.application.caseload_view import PatientRecord
 from caseload.tui.handle_alert import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
 from caseload.tui.widgets.alert_list import AlertTable
-from caseload.tui.saving import StoreChanged
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel

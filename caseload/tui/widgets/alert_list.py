@@ -11,7 +11,7 @@ from caseload.core.model import Alert, Severity
 from caseload.tui.handle_alert import may_handle
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.days import short_day
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 GROUP = "group:"
 

@@ -10,7 +10,7 @@ from textual.widgets import DataTable
 from caseload.application.caseload_view import CaseloadLine
 from caseload.presentation.glossary import alert_label, next_event_short, phase_label
 from caseload.presentation.days import short_day
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 GAP_WARN_DAYS = 3  # days without an entry worth a glance (the logging-gap default)
 

@@ -14,7 +14,7 @@ from textual.widgets import DataTable
 from caseload.core.model import Entry, Kind
 from caseload.presentation.glossary import kind_label
 from caseload.presentation.days import short_day
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 COLUMNS = ("#", "Day", "Kind", "Value", "Status", "Time", "Flags", "By", "Note")
 VALUE_WIDTH = 18

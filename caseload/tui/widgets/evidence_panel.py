@@ -8,7 +8,7 @@ from textual.widgets import Static
 from caseload.core.model import Alert
 from caseload.presentation.glossary import ALERT_CAUTION, alert_label
 from caseload.presentation.days import long_day
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 
 

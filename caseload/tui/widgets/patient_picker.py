@@ -16,8 +16,7 @@ from caseload.application.caseload_view import CaseloadLine
 from caseload.tui.search import find_patients
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.presentation.glossary import phase_label
-from caseload.tui.rich_text import literal
-from caseload.presentation.safe_text import printable
+from caseload.presentation.safe_text import literal, printable
 
 SHOWN = 4
 

@@ -7,7 +7,7 @@ from textual.widgets import Static
 
 from caseload.core.model import Severity
 from caseload.application.caseload_view import CaseloadLine
-from caseload.tui.rich_text import literal
+from caseload.presentation.safe_text import literal
 
 
 def severity_counts(lines: tuple[CaseloadLine, ...]) -> dict[Severity, int]:
