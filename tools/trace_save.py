@@ -63,6 +63,8 @@ def main() -> None:
         with Clinic.open(path, Identity(ACCOUNTS["phil"]), date_of_record=TODAY) as clinic:
             calls, functions = asyncio.run(_save_and_trace(clinic))
     print(f"{len(calls)} caseload modules, {len(functions)} functions, {sum(calls.values())} calls")
+    layers = Counter(module.split(".")[1] if "." in module else module for module in calls)
+    print("by layer: " + ", ".join(f"{layer} {count}" for layer, count in sorted(layers.items())))
     for module, count in sorted(calls.items()):
         print(f"  {module:45} {count:6}")
 
