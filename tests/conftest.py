@@ -1,13 +1,19 @@
-"""Shared fixtures: a real store file in a temporary folder, staff of every role, a fixed day."""
+"""Shared fixtures: a real store file in a temporary folder, staff of every role, a fixed day, and the
+demo caseload built once per test process and copied for each module that reads it."""
 
 from __future__ import annotations
 
+import shutil
+from collections.abc import Iterator
+from dataclasses import replace
 from datetime import date
+from pathlib import Path
 
 import pytest
 
 from caseload.core.model import Actor, Role
 from caseload.application.context import Context
+from caseload.application.demo import Demo, build_demo
 from caseload.application.identity import os_account
 from caseload.application.patients import add_patient
 from caseload.application.staff import add_staff, init_store
@@ -22,6 +28,31 @@ def pytest_collection_modifyitems(items) -> None:
     for item in items:
         if item.path.relative_to(item.config.rootpath).parts[1:2] in [(name,) for name in END_TO_END]:
             item.add_marker(pytest.mark.slow)
+
+
+@pytest.fixture(scope="session")
+def demo_build(tmp_path_factory) -> Demo:
+    """The demo caseload as of TODAY, its admin mapped to the OS account 'tester': built once per test
+    process (it replays months of history); tests reach it through `demo`, never directly."""
+    built = build_demo(tmp_path_factory.mktemp("demo-build") / "demo.db", TODAY, "tester")
+    built.store.close()
+    return built
+
+
+def copy_store(source: Path, target: Path) -> Path:
+    """A store file copied with its write-ahead log, if one is left."""
+    for suffix in ("", "-wal"):
+        if Path(f"{source}{suffix}").exists():
+            shutil.copy2(f"{source}{suffix}", f"{target}{suffix}")
+    return target
+
+
+@pytest.fixture(scope="module")
+def demo(demo_build, tmp_path_factory) -> Iterator[Demo]:
+    """The demo caseload on a copy of its own for each test module, which may write to it."""
+    store = Store(copy_store(demo_build.store.path, tmp_path_factory.mktemp("demo") / "demo.db"))
+    yield replace(demo_build, store=store)
+    store.close()
 
 
 @pytest.fixture

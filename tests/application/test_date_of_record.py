@@ -142,14 +142,8 @@ def test_the_clinic_refuses_writes_under_a_view_and_never_plans_a_refresh_then(d
         assert clinic.morning_refresh_due(clinic.morning_list())  # snapshots are a day old
 
 
-def test_a_demo_store_records_a_day_on_every_audit_row(tmp_path):
-    from caseload.application.demo import build_demo
-
-    demo = build_demo(tmp_path / "demo.db", REAL, "demo-os")
-    try:
-        rows = demo.store.audit.rows()
-    finally:
-        demo.store.close()
+def test_a_demo_store_records_a_day_on_every_audit_row(demo):
+    rows = demo.store.audit.rows()
     assert all(r.day_of_record for r in rows)
     # the invented history is recorded as of the days it was logged, before the day it is built for
     assert max(r.day_of_record for r in rows if r.action == "entry.log") <= REAL.isoformat()

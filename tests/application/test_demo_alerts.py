@@ -11,7 +11,7 @@ import pytest
 
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import AlertState
-from caseload.application.demo import SEED_DIR, build_demo
+from caseload.application.demo import SEED_DIR
 from caseload.application.recompute import refresh_all
 from caseload.application.context import Context
 
@@ -22,13 +22,6 @@ BUILD_DAY = date(2026, 12, 1)
 def expected() -> dict[str, set[str]]:
     with PATIENTS_CSV.open(encoding="utf-8") as f:
         return {r["id"]: set(filter(None, r["expected_alerts"].split(";"))) for r in csv.DictReader(f)}
-
-
-@pytest.fixture(scope="module")
-def demo(tmp_path_factory):
-    built = build_demo(tmp_path_factory.mktemp("demo") / "demo.db", BUILD_DAY, "tester")
-    yield built
-    built.store.close()
 
 
 def raised(demo) -> dict[str, set[str]]:

@@ -27,13 +27,6 @@ def seed_rows() -> list[dict]:
         return list(csv.DictReader(f))
 
 
-@pytest.fixture(scope="module")
-def demo(tmp_path_factory):
-    built = build_demo(tmp_path_factory.mktemp("demo") / "demo.db", BUILD_DAY, "tester")
-    yield built
-    built.store.close()
-
-
 def test_demo_holds_every_seed_row_with_its_correction_and_void(demo):
     rows = seed_rows()
     store = demo.store

@@ -4,7 +4,6 @@ from __future__ import annotations
 
 from caseload.application.caseload_view import list_caseload
 from caseload.application.context import Context
-from caseload.application.demo import build_demo
 from caseload.application.clinic import Clinic, Identity
 from caseload.tui.app import make_app
 from caseload.tui.widgets.caseload_table import CaseloadTable
@@ -13,17 +12,13 @@ from tests.tui.fixture_store import TODAY
 
 
 
-async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(tmp_path):
-    demo = build_demo(tmp_path / "demo.db", TODAY, "demo-os")
-    try:
-        lines = list_caseload(Context(demo.store, demo.admin, TODAY))
-        app = make_app(Clinic(demo.store, Identity("demo-os"), date_of_record=TODAY))
-        async with app.run_test(size=(120, 40)) as pilot:
-            await settle(pilot)
-            table = app.screen.query_one(CaseloadTable)
-            assert [r.value for r in table.rows] == [line.patient.id for line in lines]
-            for line in lines:
-                shown = table.get_cell(line.patient.id, "cd").plain.strip()
-                assert shown == ("-" if line.cycle_day is None else str(line.cycle_day))
-    finally:
-        demo.store.close()
+async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(demo):
+    lines = list_caseload(Context(demo.store, demo.admin, TODAY))
+    app = make_app(Clinic(demo.store, Identity(demo.admin.os_account), date_of_record=TODAY))
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        table = app.screen.query_one(CaseloadTable)
+        assert [r.value for r in table.rows] == [line.patient.id for line in lines]
+        for line in lines:
+            shown = table.get_cell(line.patient.id, "cd").plain.strip()
+            assert shown == ("-" if line.cycle_day is None else str(line.cycle_day))

@@ -8,20 +8,12 @@ from datetime import date, timedelta
 import pytest
 
 from caseload.application.context import Context
-from caseload.application.demo import build_demo
 from caseload.application.protocol import load_protocol
 from caseload.application.weekly_summary import compute_summary, export_summary, last_complete_week
 from caseload.exports.summary_files import write
 
 BUILD_DAY = date(2026, 12, 1)  # a Tuesday: its week is in progress
 WEEKS = 8
-
-
-@pytest.fixture(scope="module")
-def demo(tmp_path_factory):
-    built = build_demo(tmp_path_factory.mktemp("demo") / "demo.db", BUILD_DAY, "tester")
-    yield built
-    built.store.close()
 
 
 def context(demo) -> Context:
