@@ -23,6 +23,13 @@ TODAY = date(2026, 12, 1)
 END_TO_END = ("tui", "robustness", "tools")  # folders whose tests drive the whole program; marked slow
 
 
+def pytest_xdist_auto_num_workers(config) -> int | None:
+    """`-n auto` (the default): a worker per core, but a run of single test files stays in one process,
+    where starting workers would cost more than it saves."""
+    named = [Path(str(arg).split("::")[0]) for arg in config.args]
+    return 0 if named and all(path.is_file() for path in named) else None
+
+
 def pytest_collection_modifyitems(items) -> None:
     """`-m "not slow"` runs the fast unit tests alone; CI runs everything."""
     for item in items:

@@ -12,6 +12,7 @@ from datetime import date, datetime
 from caseload.application.week.figures import Change, PatientRef, WeeklySummary
 from caseload.application.week.alert_counts import SEVERITIES
 from caseload.application.week.figures import TOTAL
+from caseload.presentation.days import iso_day
 from caseload.presentation.safe_text import printable
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
@@ -100,10 +101,10 @@ def bars(chart: Chart, section: Section) -> Bars:
 
 def caption(summary: WeeklySummary) -> str:
     w = summary.week
-    text = (f"{w.label}: Monday {w.first_day.isoformat()} to Sunday {w.last_day.isoformat()}, "
-            f"{w.timezone} ({w.hours} hours). Prepared on {summary.prepared_on.isoformat()}.")
+    text = (f"{w.label}: Monday {iso_day(w.first_day)} to Sunday {iso_day(w.last_day)}, "
+            f"{w.timezone} ({w.hours} hours). Prepared on {iso_day(summary.prepared_on)}.")
     if not summary.complete:
-        text += f" WEEK IN PROGRESS: figures up to {summary.prepared_on.isoformat()} only; the week is not over."
+        text += f" WEEK IN PROGRESS: figures up to {iso_day(summary.prepared_on)} only; the week is not over."
     if summary.deidentified:
         text += (" De-identified: patients appear as keyed pseudonyms, without names, birth dates or free text;"
                  " dates are days of the week, Monday = 1.")
