@@ -23,7 +23,9 @@ from caseload.core.settings import Protocol
 from caseload.application.referral import PackInput
 from caseload.exports import chart
 from caseload.presentation.days import iso_day, iso_minute, iso_span
-from caseload.presentation.glossary import edd_method_label, entry_history, kind_label, ovulation_method_label
+from caseload.presentation.glossary import (
+    edd_method_label, entry_history, evidence_key_label, kind_label, ovulation_method_label,
+)
 from caseload.presentation.safe_text import printable
 
 CAUTION = (
@@ -89,9 +91,6 @@ def who(i: PackInput) -> tuple[tuple[str, str], ...]:
     )
 
 
-EVIDENCE_KEYS = {"iu_l": "IU/L", "rise_48h": "rise per 48 h", "minimum_48h": "minimum per 48 h"}
-
-
 def _evidence(evidence: Mapping) -> str:
     """An alert's evidence as words: 'key: value' pairs, nested ones in brackets."""
     parts = []
@@ -102,7 +101,7 @@ def _evidence(evidence: Mapping) -> str:
             value = " to ".join(str(v) for v in value)
         elif value is None:
             value = "none"
-        parts.append(f"{EVIDENCE_KEYS.get(key, key.replace('_', ' '))}: {value}")
+        parts.append(f"{evidence_key_label(key)}: {value}")
     return "; ".join(parts)
 
 

@@ -15,6 +15,7 @@ from caseload.application.recompute import Refreshed, RefreshReport
 from caseload.core import alerts
 from caseload.core.model import MUCUS_SCALE, Entry, Flow, Kind
 from caseload.core.pregnancy import NAEGELE, NAEGELE_ADJUSTED, OVULATION
+from caseload.presentation.days import iso_day
 from caseload.presentation.safe_text import printable
 
 CAUTION = (
@@ -59,6 +60,12 @@ EDD_METHOD_LABELS: dict[str, str] = {  # the rule that gave a due date
     NAEGELE: "Naegele's rule, LMP + 280 days",
     NAEGELE_ADJUSTED: "Naegele's rule, LMP + 280 days, moved by the usual cycle's difference from 28 days",
     OVULATION: "ovulation + 266 days",
+}
+
+EVIDENCE_KEY_LABELS: dict[str, str] = {  # keys of an alert's evidence that read badly as they are
+    "iu_l": "IU/L",
+    "rise_48h": "rise per 48 h",
+    "minimum_48h": "minimum per 48 h",
 }
 
 ALERT_LABELS: dict[str, str] = {
@@ -125,6 +132,10 @@ def edd_method_label(method: str | None) -> str:
     return "-" if method is None else EDD_METHOD_LABELS.get(method, method)
 
 
+def evidence_key_label(key: str) -> str:
+    return EVIDENCE_KEY_LABELS.get(key, key.replace("_", " "))
+
+
 def alert_label(kind: str) -> str:
     return ALERT_LABELS.get(kind, kind)
 
@@ -187,12 +198,12 @@ def logged_summary(done: Logged) -> str:
     e = done.entry
     unit = " C" if e.kind is Kind.TEMP else ""
     value = printable(e.value.display())
-    return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {value}{unit} on {e.day.isoformat()}." + _state_after(done)
+    return f"Saved #{e.id} for {e.patient_id}: {e.kind.value} {value}{unit} on {iso_day(e.day)}." + _state_after(done)
 
 
 def voided_summary(done: Logged) -> str:
     e = done.entry
-    return f"Voided #{e.id} for {e.patient_id} ({e.kind.value} on {e.day.isoformat()})." + _state_after(done)
+    return f"Voided #{e.id} for {e.patient_id} ({e.kind.value} on {iso_day(e.day)})." + _state_after(done)
 
 
 def refresh_line(done: RefreshReport) -> str:
