@@ -6,8 +6,6 @@ import math
 from dataclasses import dataclass
 from datetime import date, datetime, time, timedelta
 
-import pendulum
-
 from caseload.core.cycles import Bleed
 from caseload.core.model import Kind, Observation, PatientStatus
 from caseload.core.settings import Protocol
@@ -95,8 +93,7 @@ def naegele(lmp: date) -> date:
     depending on the lengths of the months crossed (Feb and the leap day among them); the day
     count is the rule's intent, so it is used.
     """
-    due = pendulum.Date(lmp.year, lmp.month, lmp.day).add(days=LMP_TO_EDD_DAYS)
-    return date(due.year, due.month, due.day)
+    return lmp + timedelta(days=LMP_TO_EDD_DAYS)
 
 
 def due_date(lmp: date | None, ovulation: date | None, usual_cycle: int | None) -> tuple[date | None, str | None]:
@@ -113,8 +110,7 @@ def due_date(lmp: date | None, ovulation: date | None, usual_cycle: int | None) 
 
 
 def from_ovulation(ovulation: date) -> date:
-    due = pendulum.Date(ovulation.year, ovulation.month, ovulation.day).add(days=OVULATION_TO_EDD_DAYS)
-    return date(due.year, due.month, due.day)
+    return ovulation + timedelta(days=OVULATION_TO_EDD_DAYS)
 
 
 def weeks_days(days: int) -> str:
