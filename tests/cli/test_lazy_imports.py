@@ -12,9 +12,9 @@ import pytest
 
 from caseload.cli import COMMAND_MODULES, main
 
-# Libraries only the interface, the exports and the referral pack use (common practice: a scriptable
-# read should not pay for them).
-NOT_FOR_LIST = ("textual", "jinja2", "xlsxwriter", "fpdf", "caseload.tui", "caseload.exports",
+# Libraries only the interface, terminal tables, the exports, the weekly summary and the referral pack
+# use (common practice: a scriptable read should not pay for them).
+NOT_FOR_LIST = ("textual", "rich", "jinja2", "xlsxwriter", "fpdf", "pendulum", "caseload.tui", "caseload.exports",
                 "caseload.application.weekly_summary", "caseload.application.referral", "sqlite_utils")  # fmt: skip
 # Runs the command, then prints the names of the modules it loaded on stderr's last line.
 WRAPPER = (

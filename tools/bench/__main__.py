@@ -23,17 +23,15 @@ import sys
 import time
 from pathlib import Path
 
-import platformdirs
 from rich.console import Console
 
 from tools.bench.accuracy import ACCURACY_SEED, run_accuracy, shift_sweep
 from tools.bench.build import bench_store, parse_sizes
-from tools.bench.perf import growth, measure_size, targets
+from tools.bench.perf import CACHE, growth, measure_size, targets
 from tools.bench.report import headline_markdown, markdown, print_report, target_dicts
 
 DEFAULT_SIZES = "200x2,2000x2,10000x2"
 DEFAULT_HISTORY = "200x1,200x2,200x5"  # log cost as the history grows, the caseload's size aside
-CACHE = platformdirs.user_cache_path("caseload-bench")
 
 
 def _args(argv: list[str] | None) -> argparse.Namespace:

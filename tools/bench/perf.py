@@ -18,8 +18,12 @@ import time
 from dataclasses import dataclass
 from pathlib import Path
 
+import platformdirs
+
 from tools.bench.build import BenchStore, BenchSpec
 from tools.bench.measure import MEASURES, adopt
+
+CACHE = platformdirs.user_cache_path("caseload-bench")  # built stores and results, outside the repository
 
 # Goals at 2,000 patients x 2 years.
 LIST_JSON_TARGET_S = 0.4  # `caseload list --json` as a process
