@@ -18,25 +18,27 @@ import threading
 from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
 from caseload.core.model import Actor, Alert, Entry, Kind, Patient, Role, Staff
 from caseload.core.parse import InputError, parse_day, parse_entry
 from caseload.core.settings import Protocol
-from caseload.application import alert_handling, caseload_view, csv_import, entries, patients, protocol, staff
-from caseload.application import referral, store_care, weekly_summary
+from caseload.application import alert_handling, caseload_view, entries, patients, protocol, staff, store_care
 from caseload.application.caseload_view import CaseloadLine, PatientRecord
 from caseload.application.context import Context, allowed
-from caseload.application.csv_import import Imported
 from caseload.application.entries import Logged
 from caseload.application.errors import Refused
 from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.morning_refresh import run_morning_refresh
 from caseload.application.recompute import Progress, RefreshReport, refresh_all
-from caseload.application.week.figures import WeeklySummary
 from caseload.store import Report, Store, StoreError
 from caseload.store.backup_restore import Restored
+
+if TYPE_CHECKING:  # the modules themselves load in the methods that use them, see `caseload.cli`
+    from caseload.application import referral, weekly_summary
+    from caseload.application.csv_import import Imported
+    from caseload.application.week.figures import WeeklySummary
 
 
 @dataclass(frozen=True)
@@ -261,6 +263,8 @@ class Clinic:
         return self._read(entries.patient_entries, patient_id)
 
     def import_csv(self, data: bytes) -> Imported:
+        from caseload.application import csv_import
+
         return self._write("importing", csv_import.import_csv, data)
 
     # --- patients and staff
@@ -343,15 +347,21 @@ class Clinic:
 
     def last_complete_week(self) -> str:
         """The default week of the summary: the last one complete by the day under view."""
+        from caseload.application import weekly_summary
+
         return weekly_summary.last_complete_week(self.as_of)
 
     def weekly_summary(self, week: str) -> WeeklySummary:
+        from caseload.application import weekly_summary
+
         return self._read(weekly_summary.compute_summary, week)
 
     def export_summary(self, week: str, fmt: str, out: Path, deidentify: bool,
                        render: weekly_summary.Renderer, force: bool = False) -> Path:
         """Write one week's summary with `render` (the exports' writer for the format), audited. A view:
         allowed as of any day, its audit row recording the date of record."""
+        from caseload.application import weekly_summary
+
         return self._read(weekly_summary.export_summary, week, fmt, out, deidentify, render, force,
                           self.date_of_record)
 
@@ -361,12 +371,16 @@ class Clinic:
                       render: referral.PackRenderer) -> Path:
         """Write one patient's referral pack (PDF or HTML by the file's suffix) with `render`, audited.
         A view: allowed as of any day, its audit row recording the date of record."""
+        from caseload.application import referral
+
         return self._read(referral.make_pack, patient_id, out, cycles, paper, force, render, self.date_of_record)
 
     def fhir_export(self, patient_id: str | None, out: Path, since: str | None, deidentify: bool, force: bool,
                     write: referral.BundleWriter) -> tuple[Path, int]:
         """Write one patient (or every one, for None) as a FHIR R4 Bundle with `write`, audited; returns
         the path and how many resources it holds. A view, like the pack."""
+        from caseload.application import referral
+
         return self._read(referral.export_fhir, patient_id, out, since, deidentify, force, write,
                           self.date_of_record)
 

@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 import secrets
-from datetime import date
-
-import pendulum
+from datetime import date, datetime
+from zoneinfo import ZoneInfo
 
 from caseload.core.model import Actor, Role, Staff
 from caseload.core.parse import InputError, one_line, parse_choice, parse_id, parse_name
@@ -36,8 +35,12 @@ def init_store(
 
 def local_today(zone: str) -> date:
     """The calendar day it is now in a time zone: the clinic's date of record."""
-    local = pendulum.now(zone)
-    return date(local.year, local.month, local.day)
+    return datetime.now(clinic_zone(zone)).date()
+
+
+def clinic_zone(name: str) -> ZoneInfo:
+    """The IANA time zone `name` (and "UTC" in any letter case); raises for a name not known."""
+    return ZoneInfo("UTC" if name.lower() == "utc" else name)
 
 
 def clinic_today(store: Store) -> date:
@@ -49,8 +52,8 @@ def parse_timezone(text: str) -> str:
     """An IANA time zone name ('Europe/London'), or one line saying what is accepted."""
     name = (text or "").strip()
     try:
-        pendulum.timezone(name)
-    except Exception:  # pendulum raises its own not-found error, or ValueError for odd text
+        clinic_zone(name)
+    except Exception:  # ZoneInfoNotFoundError, or ValueError for text that is no key at all
         raise InputError(f"time zone '{one_line(name)}' not known: use an IANA name such as Europe/London") from None
     return name
 

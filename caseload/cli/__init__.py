@@ -1,25 +1,56 @@
 """The scriptable interface: `caseload [--db PATH] [--as STAFF] [--today DATE] COMMAND`.
 
 Exit codes: 0 done, 1 refused input or rule (one line on stderr, nothing written), 2 usage.
+
+Commands load lazily: each lives in a module of this package listed in `COMMAND_MODULES`, imported
+only when one of its commands runs (or for `--help`), so a command pays for the libraries it uses
+(exporters, Textual, jinja2, xlsxwriter, fpdf) and no other's. This is the one start-up mechanism:
+a module keeps its imports at the top, and a heavy library used by only some of a shared module's
+functions is imported inside those functions.
 """
 
 from __future__ import annotations
 
+import importlib
 import sys
 from datetime import date
 
 import click
 
-from caseload.cli import alert_commands, demo_command, entry_commands, host_commands, interface_command
-from caseload.cli import patient_commands, protocol_commands, referral_commands, staff_commands, store_commands
-from caseload.cli import summary_commands
+from caseload.cli import interface_command
 from caseload.cli.global_options import GlobalOptions, fail_cleanly
+
+# Each command's name and the module (in this package) whose COMMANDS holds it.
+COMMAND_MODULES = {
+    "init": "store_commands", "backup": "store_commands", "restore": "store_commands", "check": "store_commands",
+    "staff": "staff_commands",
+    "patient": "patient_commands", "show": "patient_commands", "list": "patient_commands",
+    "log": "entry_commands", "import": "entry_commands", "entries": "entry_commands", "amend": "entry_commands",
+    "void": "entry_commands",
+    "alerts": "alert_commands", "ack": "alert_commands", "snooze": "alert_commands", "resolve": "alert_commands",
+    "protocol": "protocol_commands",
+    "summary": "summary_commands",
+    "pack": "referral_commands", "fhir": "referral_commands",
+    "demo": "demo_command",
+    "host": "host_commands",
+}  # fmt: skip
 
 
 class CaseloadGroup(click.Group):
+    """The top-level group: refusals become one line, and each command's module loads when it is used."""
+
     def invoke(self, ctx: click.Context):
         with fail_cleanly():
             return super().invoke(ctx)
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(COMMAND_MODULES)
+
+    def get_command(self, ctx: click.Context, name: str) -> click.Command | None:
+        if name not in COMMAND_MODULES:
+            return None
+        module = importlib.import_module(f"{__name__}.{COMMAND_MODULES[name]}")
+        return next(command for command in module.COMMANDS if command.name == name)
 
 
 @click.group(cls=CaseloadGroup, invoke_without_command=True, context_settings={"help_option_names": ["-h", "--help"]})
@@ -40,12 +71,6 @@ def main(ctx: click.Context, db_path: str | None, as_staff: str | None, today: s
     if ctx.invoked_subcommand is None:
         interface_command.require_terminal()
         interface_command.open_interface(ctx.obj)
-
-
-for module in (store_commands, staff_commands, patient_commands, entry_commands, alert_commands, protocol_commands,
-               summary_commands, referral_commands, demo_command, host_commands):
-    for command in module.COMMANDS:
-        main.add_command(command)
 
 
 def run() -> None:

@@ -6,7 +6,6 @@ import click
 
 from caseload.application.clinic import Clinic
 from caseload.cli.global_options import echo_json, pass_clinic
-from caseload.cli.printing import list_table, record_text
 from caseload.presentation import json_shapes
 from caseload.presentation.safe_text import printable
 
@@ -54,6 +53,8 @@ def show(clinic: Clinic, patient_id: str, as_json: bool) -> None:
     if as_json:
         echo_json(json_shapes.patient_record(record))
     else:
+        from caseload.cli.printing import record_text  # rich loads only for a terminal's text
+
         record_text(record)
 
 
@@ -66,6 +67,8 @@ def list_(clinic: Clinic, as_json: bool) -> None:
     if as_json:
         echo_json([json_shapes.caseload_line(line) for line in lines])
     else:
+        from caseload.cli.printing import list_table  # rich loads only for a terminal's text
+
         list_table(lines)
 
 

@@ -9,18 +9,22 @@ are given by the caller, so each audit row can name its entry without reading it
 from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import date, datetime
 from itertools import islice
 
 from caseload.core.model import Actor, Patient, Staff
 from caseload.core.parse import ParsedEntry
-from caseload.store.db import Database, StoreError, append_audit, audit_values
+from caseload.store.db import Database, StoreError, append_audit, audit_json, audit_values
 from caseload.store.entry_table import CURRENT_ROWS, IN_ORDER, entry_row
 from caseload.store.patient_table import patient_history_row, patient_to_row
 from caseload.store.staff_table import staff_row
 
 ENTRY_BATCH = 20_000  # rows per transaction: large enough to be fast, small enough to keep the WAL short
+LOADED_TABLES = ("entry", "audit")  # their indexes and triggers are set aside while `loading`
+LOAD_CACHE_KIB = 256 * 1024  # page cache while loading: the rebuilt indexes sort in memory
+__all__ = ["BulkTable", "NewEntry", "PreparedEntries", "audit_json", "prepare_entries"]
 
 
 @dataclass(frozen=True)
@@ -98,6 +102,31 @@ class BulkTable:
         self.db.conn.executemany(f"INSERT INTO entry ({', '.join(prepared.columns)}) VALUES ({marks})", prepared.rows)
         append_audit(self.db.conn, prepared.audits)
         return len(prepared.rows)
+
+    @contextmanager
+    def loading(self) -> Iterator[None]:
+        """A bulk load of entries: the indexes and triggers of the entry and audit tables are set
+        aside and then made again from the very same SQL (so the schema `check` expects is unchanged),
+        and the load is not synced to disk batch by batch. For building a new file only: a crash part
+        way leaves a file to throw away, not a store."""
+        names = ", ".join("?" * len(LOADED_TABLES))
+        aside = self.db.conn.execute(
+            f"SELECT type, name, sql FROM sqlite_master WHERE type IN ('index', 'trigger') AND sql IS NOT NULL"
+            f" AND tbl_name IN ({names}) ORDER BY rowid", LOADED_TABLES).fetchall()  # fmt: skip
+        self.db.conn.execute("PRAGMA synchronous = OFF")
+        self.db.conn.execute(f"PRAGMA cache_size = -{LOAD_CACHE_KIB}")
+        with self.db.write():
+            for kind, name, _ in aside:
+                self.db.conn.execute(f"DROP {kind.upper()} {name}")
+        try:
+            yield
+        finally:
+            with self.db.write():
+                for _, _, sql in aside:
+                    self.db.conn.execute(sql)
+            self.db.conn.execute("PRAGMA cache_size = -2000")  # SQLite's default
+            self.db.conn.execute("PRAGMA synchronous = FULL")  # as Database opens every connection
+            self.db.conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
 
     def scan_current_entries(self) -> int:
         """Read the rows a whole-caseload refresh reads, in its order, building nothing; returns the count.

@@ -8,11 +8,10 @@ import sqlite3
 import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager, suppress
+from functools import cached_property
 from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import TypeVar
-
-import sqlite_utils
 
 from caseload.core.model import Actor
 from caseload.store import chain, migrations
@@ -59,7 +58,6 @@ class Database:
         except sqlite3.Error as err:
             raise StoreError(f"{self.path} cannot be opened: {err}") from None
         conn.isolation_level = None  # transactions are begun explicitly, see write()
-        self.db = sqlite_utils.Database(conn)
         self.conn = conn
         self.day_of_record: date | None = None  # set by the outermost atomic() for its audit rows
         self._savepoints = 0
@@ -76,6 +74,14 @@ class Database:
                 raise StoreError(f"{self.path} or its folder is read-only for this account: "
                                  "caseload needs to write there, ask an admin") from None
             raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
+
+    @cached_property
+    def db(self):
+        """sqlite-utils on this connection, for its table helpers. Imported on first use: it loads
+        plugins and optional libraries, which a command that only reads never needs."""
+        import sqlite_utils
+
+        return sqlite_utils.Database(self.conn)
 
     def _prepare(self, attempts: int = 6) -> None:
         """Check, set up and upgrade the file. While another process is creating the file or
@@ -259,7 +265,10 @@ class Database:
         )
 
     def query(self, sql: str, params=()) -> list[dict]:
-        return list(self.db.query(sql, params))
+        """The rows of a SELECT as dicts keyed by column name."""
+        cursor = self.conn.execute(sql, params)
+        names = [column[0] for column in cursor.description]
+        return [dict(zip(names, row)) for row in cursor]
 
     def meta(self, key: str) -> str | None:
         row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
@@ -293,8 +302,8 @@ def audit_values(
     at: str, actor: Actor, action: str, table: str, row_id, before=None, after=None, day_of_record: date | None = None
 ) -> tuple:
     """The values of one audit row: chain.COLUMNS after the id, which `append_audit` gives."""
-    return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), _json(before),
-            _json(after), None if day_of_record is None else day_of_record.isoformat())
+    return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), audit_json(before),
+            audit_json(after), None if day_of_record is None else day_of_record.isoformat())
 
 
 def _is_lock_error(err: sqlite3.OperationalError) -> bool:
@@ -302,5 +311,6 @@ def _is_lock_error(err: sqlite3.OperationalError) -> bool:
     return "locked" in text or "busy" in text
 
 
-def _json(value) -> str | None:
+def audit_json(value) -> str | None:
+    """A value as an audit row's `before` or `after` states it."""
     return None if value is None else json.dumps(value, sort_keys=True, default=str)

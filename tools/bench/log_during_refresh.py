@@ -31,6 +31,7 @@ from caseload.application import recompute
 from caseload.store import Store
 from tools.bench.build import bench_store, parse_sizes
 from tools.bench.measure import CLERK, SUPERVISOR, _context
+from tools.bench.perf import CACHE
 
 LOGS = 40
 INTERVAL_S = 0.05
@@ -115,7 +116,7 @@ def measure(path: Path, today: date) -> dict:
 def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(prog="python -m tools.bench.log_during_refresh", description=__doc__.splitlines()[0])
     parser.add_argument("--sizes", default="200x1,2000x2", help="PATIENTSxYEARS,... (default 200x1,2000x2)")
-    parser.add_argument("--folder", type=Path, default=Path("bench_out"), help="cache of built stores (default bench_out)")
+    parser.add_argument("--folder", type=Path, default=CACHE / "stores", help=f"cache of built stores (default {CACHE / 'stores'})")
     parser.add_argument("--out", type=Path, help="results JSON (default FOLDER/log_during_refresh.json)")
     parser.add_argument("--refresh-only", nargs=2, metavar=("STORE", "DAY"), help=argparse.SUPPRESS)
     args = parser.parse_args(argv)

@@ -16,6 +16,74 @@ def _fmt(value, unit: str = "") -> str:
     return f"{value}{unit}"
 
 
+def _ratio(value: float | None, floor: float | None) -> str:
+    return "-" if not value or not floor else f"{value / floor:.2f}x"
+
+
+def _spread(m: dict, unit: str, scale: float = 1.0) -> str:
+    """'median / p95 unit' of a figure measured in seconds."""
+    return f"{_fmt(m['median_s'] * scale)} / {_fmt(m['p95_s'] * scale)} {unit}"
+
+
+def headline_rows(size: dict) -> list[tuple[str, str, str, str]]:
+    """(figure, value, floor, ratio) rows of one bench size: each figure beside what it is measured against."""
+    f, rows = size["figures"], []
+    r = f.get("refresh", {})
+    if "median_s" in r:
+        rows.append(("morning refresh, in-process (median)", _fmt(r["median_s"], " s"),
+                     f"bare read of all {r['rows']:,} entry rows, same runs: {_fmt(r['read_median_s'], ' s')}",
+                     f"{r['ratio']:.2f}x"))  # fmt: skip
+    lj, py = f.get("list-json", {}), f.get("python", {})
+    if "median_s" in lj and "median_s" in py:
+        rows.append(("`caseload list --json`, whole process (median / p95)", _spread(lj, "s"),
+                     f"Python start alone: {_spread(py, 's')}", _ratio(lj["median_s"], py["median_s"])))  # fmt: skip
+    li = f.get("list", {})
+    if "median_s" in li:
+        rows.append(("morning list, in-process (store open to sorted list)", _fmt(li["median_s"], " s"), "-", "-"))
+    la, bare = f.get("launch", {}), f.get("launch-floor", {})
+    if "median_s" in la and "median_s" in bare:
+        rows.append((f"interface launch to first drawn list of {la['rows']:,}, whole process (median / p95)",
+                     _spread(la, "s"), f"bare Textual app drawing {bare['rows']:,} rows: {_spread(bare, 's')}",
+                     _ratio(la["median_s"], bare["median_s"])))  # fmt: skip
+        rows.append(("interface launch, in-process (app built to list drawn)", _fmt(la["in_process_median_s"], " s"),
+                     f"bare app: {_fmt(bare['in_process_median_s'], ' s')}",
+                     _ratio(la["in_process_median_s"], bare["in_process_median_s"])))  # fmt: skip
+    lo = f.get("log", {})
+    if "median_ms" in lo:
+        rows.append(log_row(f"log one entry ({size['years']} y of history), median / p95", lo))
+    idle = f.get("idle", {})
+    if "pct_of_core" in idle:
+        rows.append((f"idle interface CPU over {idle['seconds']:g} s", f"{idle['pct_of_core']:.2f}% of a core", "0", "-"))
+    peaks = [m["peak_mb"] for m in f.values() if isinstance(m, dict) and "peak_mb" in m]
+    if peaks:
+        rows.append(("peak memory (largest of the runs, ru_maxrss)", _fmt(max(peaks), " MB"),
+                     f"bare Textual app: {_fmt(bare.get('peak_mb'), ' MB')}", _ratio(max(peaks), bare.get("peak_mb"))))
+    return rows
+
+
+def log_row(label: str, m: dict) -> tuple[str, str, str, str]:
+    floor = f"insert + audit + commit: {_fmt(m.get('floor_median_ms'))} / {_fmt(m.get('floor_p95_ms'))} ms"
+    return (label, f"{_fmt(m['median_ms'])} / {_fmt(m['p95_ms'])} ms", floor, _ratio(m["median_ms"], m.get("floor_median_ms")))
+
+
+def headline_markdown(result: dict) -> list[str]:
+    """The figures beside their floors, one table per size, and log cost by length of history."""
+    lines = []
+    for size in result.get("sizes", []):
+        if "list" not in size["figures"]:
+            continue
+        lines += [f"**{size['patients']:,} patients x {size['years']} y** ({size['entries']:,} entries, "
+                  f"built in {_fmt(size['build']['load_s'] + size['build']['first_refresh_s'], ' s')})", "",
+                  "| figure | value | floor | ratio |", "|---|---|---|---|"]  # fmt: skip
+        lines += [f"| {a} | {b} | {c} | {d} |" for a, b, c, d in headline_rows(size)] + [""]
+    history = [s for s in result.get("sizes", []) if "list" not in s["figures"] and "log" in s["figures"]]
+    if history:
+        lines += ["**Log one entry by length of history**", "", "| figure | value | floor | ratio |", "|---|---|---|---|"]
+        lines += ["| {} | {} | {} | {} |".format(*log_row(f"{s['patients']:,} patients x {s['years']} y, median / p95",
+                                                           s["figures"]["log"])) for s in history] + [""]  # fmt: skip
+    return lines
+
+
 def size_rows(size: dict) -> list[tuple[str, str, str]]:
     """(figure, median, detail) rows of one bench size."""
     f, b = size["figures"], size["build"]
@@ -46,6 +114,8 @@ def size_rows(size: dict) -> list[tuple[str, str, str]]:
 
 def print_report(console: Console, result: dict) -> None:
     for size in result.get("sizes", []):
+        if "list" not in size["figures"]:
+            continue
         table = Table(title=f"{size['size']}: {size['patients']} patients, {size['years']} year(s), "
                             f"{size['entries']:,} entries (median of {result['runs']} runs)")  # fmt: skip
         for column in ("figure", "median", "detail"):
@@ -120,9 +190,12 @@ def _pct(share: float | None) -> str:
 
 
 def markdown(result: dict) -> str:
-    """The figures as markdown tables, for the README."""
-    lines = ["## Benchmarks", "", f"Measured with `{result['command']}` on {result['machine']}.", ""]
+    """The figures as markdown tables: the headline tables for the README first, then the detail."""
+    lines = [f"Benchmark figures, measured with `{result['command']}` on {result['machine']}, {result['date']}.", ""]
+    lines += headline_markdown(result) + ["<details><summary>Detail</summary>", ""]
     for size in result.get("sizes", []):
+        if "list" not in size["figures"]:
+            continue
         lines += [f"### {size['size']}: {size['patients']:,} patients, {size['years']} year(s), {size['entries']:,} entries",
                   "", "| figure | median | detail |", "|---|---|---|"]  # fmt: skip
         lines += [f"| {a} | {b} | {c} |" for a, b, c in size_rows(size)] + [""]
@@ -158,6 +231,7 @@ def markdown(result: dict) -> str:
                       "cell): sensitivity on ovulatory charts / false confirmation on flat ones.", "",
                       f"| noise SD (C) | {' | '.join(names)} |", "|---|" + "---|" * len(names)]  # fmt: skip
             lines += [f"| {' | '.join(row)} |" for row in sweep_rows(sweep)]
+    lines += ["", "</details>"]
     return "\n".join(lines) + "\n"
 
 

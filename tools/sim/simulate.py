@@ -52,20 +52,27 @@ def simulate_caseload(
     if n_patients < 0:
         raise ValueError(f"n_patients is {n_patients}; give zero or more")
     for i in range(n_patients):
-        rng = random.Random(seed * 1_000_003 + i)
-        profile = caseload_profile(rng)
-        chart = simulate_patient(rng, profile, start, end)
-        pregnant = bool(chart.truth) and chart.truth[-1].conceived
-        yield (
-            Patient(
-                id=f"P{i + 1:05d}",
-                name=f"Simulated patient {i + 1}",
-                born=start - timedelta(days=rng.randint(24 * 365, 43 * 365)),
-                nurse_id=nurses[i % len(nurses)] if nurses else None,
-                status=PatientStatus.PREGNANT if pregnant else PatientStatus.ACTIVE,
-                plan=profile.plan,
-                created=start - timedelta(days=rng.randint(0, 30)),
-                charting_temps=profile.charting_temps,
-            ),
-            chart,
-        )
+        yield simulate_caseload_patient(seed, i, start, end, nurses)
+
+
+def simulate_caseload_patient(
+    seed: int, i: int, start: date, end: date, nurses: Sequence[str] = ()
+) -> tuple[Patient, SimChart]:
+    """Patient number `i` (from 0) of `simulate_caseload`'s caseload, simulated alone."""
+    rng = random.Random(seed * 1_000_003 + i)
+    profile = caseload_profile(rng)
+    chart = simulate_patient(rng, profile, start, end)
+    pregnant = bool(chart.truth) and chart.truth[-1].conceived
+    return (
+        Patient(
+            id=f"P{i + 1:05d}",
+            name=f"Simulated patient {i + 1}",
+            born=start - timedelta(days=rng.randint(24 * 365, 43 * 365)),
+            nurse_id=nurses[i % len(nurses)] if nurses else None,
+            status=PatientStatus.PREGNANT if pregnant else PatientStatus.ACTIVE,
+            plan=profile.plan,
+            created=start - timedelta(days=rng.randint(0, 30)),
+            charting_temps=profile.charting_temps,
+        ),
+        chart,
+    )

@@ -37,16 +37,18 @@ def test_a_failed_run_marks_the_figure_missing():
 
 def _size(name: str, patients: int, entries: int, list_s: float, peak: float) -> dict:
     return {"size": name, "patients": patients, "entries": entries,
-            "figures": {"list": {"median_s": list_s, "peak_mb": peak}, "log": {"median_ms": 20.0, "peak_mb": peak}}}  # fmt: skip
+            "figures": {"list": {"median_s": list_s, "peak_mb": peak}, "log": {"median_ms": 8.0, "p95_ms": 25.0, "peak_mb": peak},
+                        "list-json": {"median_s": 0.4 + list_s}}}  # fmt: skip
 
 
 def test_targets_are_read_at_two_thousand_patients_and_memory_everywhere():
     sizes = [_size("200x1", 200, 10**5, 0.05, 90.0), _size("2000x2", 2000, 2 * 10**6, 0.6, 120.0),
              _size("10000x1", 10000, 5 * 10**6, 2.0, 320.0)]  # fmt: skip
     found = {(t.what, t.size): t for t in targets(sizes)}
-    assert not found[("morning list", "2000x2")].met and found[("log one entry (median)", "2000x2")].met
+    assert not found[("`caseload list --json` as a process", "2000x2")].met
+    assert found[("log one entry, median", "2000x2")].met and not found[("log one entry, p95", "2000x2")].met
     assert found[("peak memory", "200x1")].met and not found[("peak memory", "10000x1")].met
-    assert ("morning list", "200x1") not in found
+    assert ("`caseload list --json` as a process", "200x1") not in found
 
 
 def test_growth_is_linear_when_the_cost_per_patient_stays_flat():
