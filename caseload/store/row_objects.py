@@ -3,8 +3,13 @@
 from __future__ import annotations
 
 import json
+from collections.abc import Callable
+from dataclasses import fields, is_dataclass
 from datetime import date, datetime
+from enum import Enum
 from functools import lru_cache
+from types import NoneType, UnionType
+from typing import Any, get_args, get_origin, get_type_hints
 
 from caseload.core.model import Entry, Kind, Observation, Patient, PatientStatus, Plan, Role, Scan, Staff, Value
 
@@ -103,3 +108,50 @@ def observation_from_row(row: tuple) -> Observation:
     else:
         value = _plain_value(number, word, text)
     return Observation(date.fromisoformat(day), _KINDS[kind], value, _flags(flags) if flags else (), time)
+
+
+def plain(value: Any) -> Any:
+    """A frozen record as JSON-ready lists (fields in order), days as ISO text, enums as their value.
+    Numbers keep their type, so `restored(type, plain(x)) == x` and prints alike."""
+    if is_dataclass(value):
+        return [plain(getattr(value, f.name)) for f in fields(value)]
+    if isinstance(value, tuple):
+        return [plain(v) for v in value]
+    if isinstance(value, Enum):
+        return value.value
+    if isinstance(value, date):
+        return value.isoformat()
+    return value
+
+
+def restored(kind: type, data: Any) -> Any:
+    """The record of type `kind` that `plain` turned into `data`."""
+    return _restorer(kind)(data)
+
+
+@lru_cache(maxsize=None)
+def _restorer(kind: Any) -> Callable[[Any], Any]:
+    """A function rebuilding values of `kind` (a dataclass, tuple, optional, day, enum or JSON
+    scalar), made once per type from its annotations."""
+    args = get_args(kind)
+    if isinstance(kind, UnionType):
+        (inner,) = [a for a in args if a is not NoneType]
+        one = _restorer(inner)
+        return lambda v: None if v is None else one(v)
+    if get_origin(kind) is tuple:
+        if len(args) == 2 and args[1] is Ellipsis:
+            each = _restorer(args[0])
+            return lambda v: tuple(each(x) for x in v)
+        parts = [_restorer(a) for a in args]
+        return lambda v: tuple(part(x) for part, x in zip(parts, v))
+    if is_dataclass(kind):
+        hints = get_type_hints(kind)
+        parts = [_restorer(hints[f.name]) for f in fields(kind)]
+        return lambda v: kind(*[part(x) for part, x in zip(parts, v)])
+    if kind is date:
+        return date.fromisoformat
+    if isinstance(kind, type) and issubclass(kind, Enum):
+        return kind
+    if kind in (int, float, str, bool):
+        return lambda v: v
+    raise TypeError(f"no JSON form for {kind!r}")
