@@ -321,7 +321,7 @@ def _closed_cycles(conn: sqlite3.Connection) -> None:
             kept_key TEXT NOT NULL,
             result TEXT NOT NULL,
             PRIMARY KEY (patient_id, cycle_start)
-        ) WITHOUT ROWID;
+        );
         CREATE INDEX entry_patient_order ON entry(patient_id, day, coalesce(time, ''));
         CREATE INDEX entry_voided ON entry(patient_id, day) WHERE voided_reason IS NOT NULL;
         CREATE INDEX entry_amends ON entry(patient_id) WHERE supersedes IS NOT NULL;
