@@ -12,6 +12,7 @@ import pytest
 from tests.application.test_alert_lifecycle import history_csv
 from tests.cli.conftest import DATE_OF_RECORD
 
+
 def counts(db: str) -> tuple[int, int, int]:
     conn = sqlite3.connect(db)
     try:
