@@ -16,7 +16,7 @@ nothing (`check_mass_resolve`).
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 
 from caseload.core.alerts.lifecycle import SyncPlan
@@ -111,7 +111,8 @@ def compute(ctx: Context, patient: Patient) -> Computed:
         if analysis is not None:
             return Computed(analysis, rule_observations(kept, open_obs),
                             closed_cycles(analysis, open_obs, kept, ctx.protocol), replace=False)  # fmt: skip
-    return compute_whole(ctx, patient, ctx.store.entries.observations_for(patient.id), replace=kept is None or bool(kept))
+    # Kept cycles that are stale (None) or cannot be resumed from are replaced in the same write.
+    return compute_whole(ctx, patient, ctx.store.entries.observations_for(patient.id), replace=kept != ())
 
 
 def compute_whole(ctx: Context, patient: Patient, seen: list[Observation], replace: bool = True) -> Computed:
@@ -162,7 +163,7 @@ def _compute_again(ctx: Context, patient_id: str) -> PatientWork:
 
 
 def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
-    """Every patient as of ctx.today, computed in one pass over the entries; writes nothing.
+    """Every patient as of ctx.today, each from her kept cycles and open cycle (`compute`); writes nothing.
     Refused when it would auto-resolve too many alerts at once (see `check_mass_resolve`)."""
     ctx.require("alert.refresh")
     # Marks first: whatever changes after this read is seen as changed at write time.
@@ -260,16 +261,26 @@ def recompute_everything(ctx: Context, progress: Progress | None = None) -> Reco
     entry, keeping the cycles afresh. Nothing differs unless the kept cycles were wrong."""
     ctx.require("store.check")
     ctx.require("alert.refresh")
+    patients = {p.id: p for p in ctx.store.patients.all()}
     differences = []
-    patients = ctx.store.patients.all()
-    for patient in patients:
-        kept = _compute(ctx, patient, None)
-        whole = compute_whole(ctx, patient, ctx.store.entries.observations_for(patient.id))
-        differing = _differing(ctx, patient, kept, whole)
+    for patient_id, seen in _every_chart(ctx, set(patients)):
+        patient = patients[patient_id]
+        differing = _differing(ctx, patient, _compute(ctx, patient, None), compute_whole(ctx, patient, seen))
         if differing:
-            differences.append(f"{patient.id}: {', '.join(differing)}")
+            differences.append(f"{patient_id}: {', '.join(differing)}")
     dropped = ctx.store.transact(ctx.store.closed_cycles.drop, ctx.today)
     return Recomputed(len(patients), dropped, tuple(differences), refresh_all(ctx, progress))
+
+
+def _every_chart(ctx: Context, unseen: set[str]) -> Iterator[tuple[str, list[Observation]]]:
+    """The observations of each of these patients, streamed in one pass over the entries; [] for
+    those without any. A patient registered after the list was read waits for the next run."""
+    for patient_id, seen in ctx.store.entries.observations_by_patient():
+        if patient_id in unseen:
+            unseen.discard(patient_id)
+            yield patient_id, seen
+    for patient_id in sorted(unseen):
+        yield patient_id, []
 
 
 def _differing(ctx: Context, patient: Patient, kept: PatientWork, whole: Computed) -> list[str]:
