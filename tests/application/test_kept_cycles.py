@@ -7,9 +7,10 @@ cycles were kept."""
 
 from __future__ import annotations
 
+import json
 import random
 import sqlite3
-from dataclasses import replace
+from dataclasses import fields, replace
 from datetime import UTC, date, datetime, time, timedelta
 from pathlib import Path
 
@@ -17,6 +18,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from caseload.core.analysis import CycleRecord
 from caseload.core.closed_cycles import kept_key
 from caseload.core.model import Actor, Kind, Patient, Plan
 from caseload.core.parse import InputError
@@ -277,3 +279,25 @@ def test_a_simulated_caseload_recomputed_from_every_entry_differs_in_nothing(tmp
         done = recompute_everything(ctx)
     assert (done.patients, done.differences) == (12, ())
     assert done.kept_dropped == kept_rows(built.path)  # thrown away, then kept again
+
+
+BLEED_DAYS = [f.name for f in fields(CycleRecord)].index("bleed_days")  # its place in a kept record
+
+
+def test_recompute_names_a_patient_whose_kept_cycle_was_wrong_and_puts_it_right(twins):
+    with sqlite3.connect(twins.kept_path) as conn:
+        start, result = conn.execute(
+            "SELECT cycle_start, result FROM closed_cycle WHERE patient_id = 'P0002' ORDER BY cycle_start DESC"
+        ).fetchone()
+        wrong = json.loads(result)
+        wrong[0][BLEED_DAYS] += 3  # her bleed said to last three days longer
+        conn.execute("UPDATE closed_cycle SET result = ? WHERE patient_id = 'P0002' AND cycle_start = ?",
+                     (json.dumps(wrong), start))  # fmt: skip
+    ctx = twins.contexts("admin1")[0]
+    # Trusted as kept, since its entries' counts are unchanged:
+    assert twins.kept_cycles("P0002")[-1].record.bleed_days == json.loads(result)[0][BLEED_DAYS] + 3
+    done = recompute_everything(ctx)
+    (named,) = done.differences
+    assert named.startswith("P0002: the analysis")
+    assert twins.kept_cycles("P0002")[-1].record.bleed_days == json.loads(result)[0][BLEED_DAYS]
+    assert recompute_everything(ctx).differences == ()
