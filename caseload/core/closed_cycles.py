@@ -12,7 +12,9 @@ one is its own alert episode), the bleeding on its last day (whether she bleeds 
 new cycle begins), the bleeds between periods that began in it, and the state at its end that
 decides how the next cycle reads (the last mid-cycle bleeding day, the pregnancies begun so far).
 Bleeds in pregnancy are not kept: only those of the latest pregnancy are read, and a pregnancy
-begun before the open cycle is never the latest one while that cycle is open (`assemble`).
+begun before the open cycle is never the latest one while that cycle is open (`assemble`). Nor
+are follicle scans, serum values for the trend, LH tests or mucus: the analysis reads those of the
+open cycle only, and of a completed one only through its record.
 """
 
 from __future__ import annotations
