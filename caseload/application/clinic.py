@@ -31,7 +31,7 @@ from caseload.application.errors import Refused
 from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.morning_refresh import run_morning_refresh
-from caseload.application.recompute import Progress, RefreshReport, refresh_all
+from caseload.application.recompute import Progress, Recomputed, RefreshReport, recompute_everything, refresh_all
 from caseload.store import Report, Store, StoreError
 from caseload.store.backup_restore import Restored
 
@@ -397,6 +397,11 @@ class Clinic:
 
     def check(self) -> Report:
         return self._read(store_care.check)
+
+    def recompute(self) -> Recomputed:
+        """Throw the kept completed cycles away and recompute every patient from every entry,
+        saying whose kept cycles had given another result (none, unless they were wrong)."""
+        return self._write_in_batches("the recompute", recompute_everything)
 
     @staticmethod
     def restore_damaged(path: str | Path, source: str, identity: Identity,

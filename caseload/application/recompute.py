@@ -1,5 +1,9 @@
 """Recomputing a patient's derived state and alerts: after each write, and for the whole caseload.
 
+A patient is analysed from her kept completed cycles and the open cycle's entries alone while the
+kept cycles are current (`core.closed_cycles`, `store.closed_cycle_table`), else from every entry;
+either way the cycles completed since are kept in the same write as her snapshot.
+
 The whole-caseload refresh computes outside any write transaction, then writes a few patients per
 short transaction, so a clerk's log never waits long behind it. Each patient's snapshot and alerts
 are written together: a refresh killed half way leaves every patient refreshed or as she was. A
@@ -12,11 +16,12 @@ nothing (`check_mass_resolve`).
 from __future__ import annotations
 
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 
 from caseload.core.alerts.lifecycle import SyncPlan
 from caseload.core.analysis import Analysis, analyse
+from caseload.core.closed_cycles import ClosedCycle, closed_cycles, kept_key, resume, rule_observations
 from caseload.core.model import Alert, Entry, Observation, Patient, observations
 from caseload.core.snapshot import Snapshot, snapshot_of
 from caseload.application.alert_sync import apply_plan, plan_alerts, sync_alerts
@@ -53,6 +58,21 @@ class RefreshReport:
 
 
 @dataclass(frozen=True)
+class Computed:
+    """A patient's analysis, the observations the alert rules read with it, and the completed
+    cycles to keep: after those kept (`replace` False), or instead of them."""
+
+    analysis: Analysis
+    rule_obs: list[Observation]
+    keep: tuple[ClosedCycle, ...]
+    replace: bool
+
+    @property
+    def writes_kept(self) -> bool:
+        return bool(self.keep) or self.replace
+
+
+@dataclass(frozen=True)
 class PatientWork:
     """One patient's refresh as computed outside the write, with the change mark it was computed at."""
 
@@ -60,6 +80,7 @@ class PatientWork:
     mark: str | None
     snapshot: Snapshot
     plan: SyncPlan
+    computed: Computed
 
 
 @dataclass(frozen=True)
@@ -80,62 +101,84 @@ def analyse_patient(ctx: Context, patient: Patient, entries: list[Entry] | None 
     return analyse(patient, observations(entries), ctx.today, ctx.protocol)
 
 
-def _recompute(ctx: Context, patient: Patient, seen: list[Observation]) -> tuple[Snapshot, list[Alert], int]:
+def compute(ctx: Context, patient: Patient) -> Computed:
+    """The patient as of ctx.today: resumed from her kept cycles and the open cycle's entries when
+    they are current and the chart allows it, else from every entry."""
+    kept = ctx.store.closed_cycles.current(patient.id, kept_key(ctx.protocol))
+    if kept:
+        open_obs = ctx.store.entries.observations_from(patient.id, kept[-1].next_start)
+        analysis = resume(patient, kept, open_obs, ctx.today, ctx.protocol)
+        if analysis is not None:
+            return Computed(analysis, rule_observations(kept, open_obs),
+                            closed_cycles(analysis, open_obs, kept, ctx.protocol), replace=False)  # fmt: skip
+    # Kept cycles that are stale (None) or cannot be resumed from are replaced in the same write.
+    return compute_whole(ctx, patient, ctx.store.entries.observations_for(patient.id), replace=kept != ())
+
+
+def compute_whole(ctx: Context, patient: Patient, seen: list[Observation], replace: bool = True) -> Computed:
+    """The patient from every observation (`seen`); `replace` drops what was kept of her before."""
     analysis = analyse(patient, seen, ctx.today, ctx.protocol)
-    snap = snapshot_of(analysis)
+    return Computed(analysis, seen, closed_cycles(analysis, seen, (), ctx.protocol), replace)
+
+
+def _keep(ctx: Context, patient_id: str, done: Computed) -> None:
+    """Inside the caller's write: her completed cycles as computed (from the entries as they are)."""
+    if done.replace:
+        ctx.store.closed_cycles.drop(patient_id)
+    ctx.store.closed_cycles.keep(patient_id, done.keep, kept_key(ctx.protocol))
+
+
+def _recompute(ctx: Context, patient: Patient, done: Computed) -> tuple[Snapshot, list[Alert], int]:
+    snap = snapshot_of(done.analysis)
     ctx.store.state.put(snap)
-    raised, resolved = sync_alerts(ctx, patient, analysis, seen)
+    if done.writes_kept:
+        _keep(ctx, patient.id, done)
+    raised, resolved = sync_alerts(ctx, patient, done.analysis, done.rule_obs)
     return snap, raised, resolved
 
 
 def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     """Inside the caller's write transaction: the patient's snapshot and alerts, brought up to date."""
-    return refresh_from(ctx, patient, ctx.store.entries.observations_for(patient.id))
+    snap, raised, _ = _recompute(ctx, patient, compute(ctx, patient))
+    return Refreshed(snap, tuple(raised))
 
 
 def refresh_from(ctx: Context, patient: Patient, seen: list[Observation]) -> Refreshed:
     """As `refresh_patient`, from her current observations as the caller already holds them."""
-    snap, raised, _ = _recompute(ctx, patient, seen)
+    snap, raised, _ = _recompute(ctx, patient, compute_whole(ctx, patient, seen))
     return Refreshed(snap, tuple(raised))
 
 
-def _compute(ctx: Context, patient: Patient, seen: list[Observation], mark: str | None) -> PatientWork:
-    """Outside any write: the patient's snapshot and alert plan, with the mark read before `seen`."""
-    analysis = analyse(patient, seen, ctx.today, ctx.protocol)
-    return PatientWork(patient, mark, snapshot_of(analysis), plan_alerts(ctx, patient, analysis, seen))
+def _compute(ctx: Context, patient: Patient, mark: str | None) -> PatientWork:
+    """Outside any write: the patient's snapshot and alert plan, with the mark read before her entries."""
+    done = compute(ctx, patient)
+    plan = plan_alerts(ctx, patient, done.analysis, done.rule_obs)
+    return PatientWork(patient, mark, snapshot_of(done.analysis), plan, done)
 
 
 def _compute_again(ctx: Context, patient_id: str) -> PatientWork:
     """A patient who changed after her compute, computed afresh (mark first, as in the whole pass)."""
     mark = ctx.store.patients.change_marks(patient_id).get(patient_id)
-    return _compute(ctx, ctx.store.patients.get(patient_id), ctx.store.entries.observations_for(patient_id), mark)
+    return _compute(ctx, ctx.store.patients.get(patient_id), mark)
 
 
 def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
-    """Every patient as of ctx.today, computed in one pass over the entries; writes nothing.
+    """Every patient as of ctx.today, each from her kept cycles and open cycle (`compute`); writes nothing.
     Refused when it would auto-resolve too many alerts at once (see `check_mass_resolve`)."""
     ctx.require("alert.refresh")
     # Marks first: whatever changes after this read is seen as changed at write time.
     marks = ctx.store.patients.change_marks()
-    patients = {p.id: p for p in ctx.store.patients.all()}
+    patients = ctx.store.patients.all()
     stored = ctx.store.state.all()
     work: list[PatientWork] = []
-
-    def compute(patient: Patient, seen: list[Observation]) -> None:
-        done = _compute(ctx, patient, seen, marks.get(patient.id))
+    for number, patient in enumerate(patients, start=1):
+        done = _compute(ctx, patient, marks.get(patient.id))
         before = stored.get(patient.id)
-        if not done.plan.empty or before is None or before.to_dict() != done.snapshot.to_dict():
+        changed = before is None or before.to_dict() != done.snapshot.to_dict()
+        if not done.plan.empty or changed or done.computed.writes_kept:
             work.append(done)
         if progress is not None:
-            progress("computed", len(patients) - len(unseen), len(patients))
-
-    unseen = dict(patients)
-    # Streamed patient by patient: the caseload's entries are never all in memory at once.
-    for patient_id, seen in ctx.store.entries.observations_by_patient():
-        if patient_id in unseen:  # a patient added after the list was read waits for the next refresh
-            compute(unseen.pop(patient_id), seen)
-    for patient_id in list(unseen):
-        compute(unseen.pop(patient_id), [])
+            progress("computed", number, len(patients))
     found = RefreshPlan(len(patients), tuple(work))
     check_mass_resolve(ctx, found.vanishing)
     return found
@@ -163,9 +206,12 @@ def _write_patient(ctx: Context, w: PatientWork, last_try: bool) -> tuple[int, i
     if ctx.store.patients.change_marks(pid).get(pid) != w.mark:
         if not last_try:
             return None
-        _, raised, resolved = _recompute(ctx, ctx.store.patients.get(pid), ctx.store.entries.observations_for(pid))
+        patient = ctx.store.patients.get(pid)
+        _, raised, resolved = _recompute(ctx, patient, compute(ctx, patient))
         return len(raised), resolved
     ctx.store.state.put(w.snapshot)
+    if w.computed.writes_kept:
+        _keep(ctx, pid, w.computed)
     return len(apply_plan(ctx, w.plan)), len(w.plan.resolutions)
 
 
@@ -196,3 +242,54 @@ def refresh_all(ctx: Context, progress: Progress | None = None) -> RefreshReport
     """Every patient as of ctx.today: computed outside any write, then written in short
     transactions. Idempotent; safe to run twice at once and to interrupt."""
     return write_refresh(ctx, plan_refresh(ctx, progress), progress)
+
+
+@dataclass(frozen=True)
+class Recomputed:
+    """`check --recompute`: the kept cycles thrown away and every patient recomputed from every
+    entry; `differences` names each patient whose kept cycles had given another result."""
+
+    patients: int
+    kept_dropped: int
+    differences: tuple[str, ...]
+    report: RefreshReport
+
+
+def recompute_everything(ctx: Context, progress: Progress | None = None) -> Recomputed:
+    """Compare, patient by patient, what the kept cycles give with what every entry gives (the
+    analysis, the snapshot, the alert plan), then forget the kept cycles and refresh from every
+    entry, keeping the cycles afresh. Nothing differs unless the kept cycles were wrong."""
+    ctx.require("store.check")
+    ctx.require("alert.refresh")
+    patients = {p.id: p for p in ctx.store.patients.all()}
+    differences = []
+    for patient_id, seen in _every_chart(ctx, set(patients)):
+        patient = patients[patient_id]
+        differing = _differing(ctx, patient, _compute(ctx, patient, None), compute_whole(ctx, patient, seen))
+        if differing:
+            differences.append(f"{patient_id}: {', '.join(differing)}")
+    dropped = ctx.store.transact(ctx.store.closed_cycles.drop, ctx.today)
+    return Recomputed(len(patients), dropped, tuple(differences), refresh_all(ctx, progress))
+
+
+def _every_chart(ctx: Context, unseen: set[str]) -> Iterator[tuple[str, list[Observation]]]:
+    """The observations of each of these patients, streamed in one pass over the entries; [] for
+    those without any. A patient registered after the list was read waits for the next run."""
+    for patient_id, seen in ctx.store.entries.observations_by_patient():
+        if patient_id in unseen:
+            unseen.discard(patient_id)
+            yield patient_id, seen
+    for patient_id in sorted(unseen):
+        yield patient_id, []
+
+
+def _differing(ctx: Context, patient: Patient, kept: PatientWork, whole: Computed) -> list[str]:
+    """What the kept path (`kept`) gives differently from every entry (`whole`)."""
+    found = []
+    if kept.computed.analysis != whole.analysis:
+        found.append("the analysis")
+    if kept.snapshot != snapshot_of(whole.analysis):
+        found.append("the snapshot")
+    if kept.plan != plan_alerts(ctx, patient, whole.analysis, whole.rule_obs):
+        found.append("the alerts")
+    return found

@@ -103,6 +103,7 @@ class Analysis:
     episode: Episode | None = None  # the latest pregnancy while no period has followed it
     pregnancy_bleeds: tuple[cy.Bleed, ...] = ()  # bleeds during `episode`
     hcg_discounted: tuple[Discounted, ...] = ()  # positive urine tests taken as a trigger's hCG
+    episodes: tuple[Episode, ...] = ()  # every pregnancy of the chart, oldest first
 
 
 def _record(
@@ -135,17 +136,51 @@ def analyse(
     """Everything the core can say about one patient as of `today`."""
     seen = sorted((o for o in observations if o.day <= today), key=lambda o: o.day)
     found, discounted = episodes(seen, patient.status, patient.status_since, protocol)
-    lochia = timedelta(days=protocol.lochia_days)
-    bleeding = cy.sort_bleeding(seen, protocol, tuple((e.start, e.end and e.end + lochia) for e in found))
+    bleeding = cy.sort_bleeding(seen, protocol, no_new_cycles(found, protocol))
     spans = cy.cycle_spans(list(bleeding.menstrual))
     groups = cy.group_by_cycle(seen, spans)
-    records = tuple(_record(span, group, today, protocol, found) for span, group in zip(spans, groups))
+    records = cycle_records(spans, groups, today, protocol, found)
+    return assemble(
+        patient, Chart(records, groups[-1] if groups else seen, bleeding, found, discounted),
+        seen[-1].day if seen else None, today, protocol,
+    )
+
+
+def no_new_cycles(found: tuple[Episode, ...], protocol: Protocol) -> tuple[tuple[date, date | None], ...]:
+    """The days in which a bleed starts no cycle: each pregnancy, with the lochia after it."""
+    lochia = timedelta(days=protocol.lochia_days)
+    return tuple((e.start, e.end and e.end + lochia) for e in found)
+
+
+def cycle_records(
+    spans: list[cy.CycleSpan], groups: list[list[Observation]], today: date, protocol: Protocol, found: tuple[Episode, ...]
+) -> tuple[CycleRecord, ...]:
+    """One record per cycle span, from the observations of that cycle."""
+    return tuple(_record(span, group, today, protocol, found) for span, group in zip(spans, groups))
+
+
+@dataclass(frozen=True)
+class Chart:
+    """What `assemble` reads of a chart: every cycle's record, the open cycle's observations (all of
+    them when no cycle has begun) and what spans the whole chart (bleeds between periods or in
+    pregnancy, the pregnancies and the positive tests discounted as a trigger's)."""
+
+    records: tuple[CycleRecord, ...]
+    current_obs: list[Observation]
+    bleeding: cy.Bleeding
+    found: tuple[Episode, ...]
+    discounted: tuple[Discounted, ...]
+
+
+def assemble(patient: Patient, chart: Chart, last_entry: date | None, today: date, protocol: Protocol) -> Analysis:
+    """The analysis from a chart's cycles: shared by the whole-chart path (`analyse`) and the one
+    that resumes from kept completed cycles (`closed_cycles.resume`)."""
+    records, current_obs, bleeding, found = chart.records, chart.current_obs, chart.bleeding, chart.found
     last = records[-1] if records else None
     # The latest pregnancy counts until a period follows it: cycles restart with that period.
     episode = found[-1] if found and (last is None or last.start <= found[-1].start) else None
     ended = episode is not None and episode.end is not None
     current = None if ended else last
-    current_obs = groups[-1] if groups else seen
     complete = [r for r in records if not r.is_open and not r.pregnancy][-protocol.stats_cycles :]
     stats = cycle_stats([r.length for r in complete], [r.bleed_days for r in complete])
     age = age_on(patient.born, today)
@@ -189,12 +224,13 @@ def analyse(
         phase=phase,
         next_event=_next_event(phase, forecast, scans, today),
         last_bleed_day=last_bleed,
-        last_entry_day=seen[-1].day if seen else None,
+        last_entry_day=last_entry,
         age_years=age,
         intermenstrual=bleeding.intermenstrual,
         episode=episode,
         pregnancy_bleeds=during,
-        hcg_discounted=discounted,
+        hcg_discounted=chart.discounted,
+        episodes=found,
     )
 
 

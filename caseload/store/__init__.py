@@ -11,6 +11,7 @@ from caseload.store import backup_restore as maintenance
 from caseload.store.alert_table import AlertTable
 from caseload.store.audit_table import AuditTable
 from caseload.store.bulk_load import BulkTable
+from caseload.store.closed_cycle_table import ClosedCycleTable
 from caseload.store.db import Database, StoreDamaged, StoreError, utc_now
 from caseload.store.entry_table import EntryTable
 from caseload.store.patient_table import PatientTable
@@ -32,6 +33,7 @@ class Store:
         self.audit = AuditTable(self.db)
         self.alerts = AlertTable(self.db)
         self.state = StateTable(self.db)
+        self.closed_cycles = ClosedCycleTable(self.db)
         self.bulk = BulkTable(self.db)
         self.protocol = ProtocolTable(self.db)
 

@@ -16,12 +16,14 @@ from caseload.store.db import Database
 _SELECT = (
     "SELECT e.*, s.id AS superseded_by FROM entry e LEFT JOIN entry s ON s.supersedes = e.id"
 )
-# The columns the cycle engine reads, of the entries that count (neither voided nor superseded).
+# The columns the cycle engine reads, of the entries that count (neither voided nor superseded): a
+# join on the unique index of `supersedes`, not a subquery per row.
 CURRENT_ROWS = (
     "SELECT e.patient_id, e.day, e.kind, e.number, e.word, e.scan, e.text, e.flags, e.time FROM entry e"
-    " WHERE e.voided_reason IS NULL AND NOT EXISTS (SELECT 1 FROM entry s WHERE s.supersedes = e.id)"
+    " LEFT JOIN entry s ON s.supersedes = e.id WHERE e.voided_reason IS NULL AND s.supersedes IS NULL"
 )
-# The order of core.model.observations: day, then reading time (untimed first), then id.
+# The order of core.model.observations: day, then reading time (untimed first), then id; the
+# index entry_patient_order holds the entries in it, so no read sorts.
 IN_ORDER = " ORDER BY e.patient_id, e.day, coalesce(e.time, ''), e.id"
 _KINDS = {k.value: k for k in Kind}
 
@@ -153,6 +155,13 @@ class EntryTable:
     def observations_for(self, patient_id: str) -> list[Observation]:
         """The patient's current entries as observations: `model.observations(for_patient(...))`, read lean."""
         rows = self.db.conn.execute(f"{CURRENT_ROWS} AND e.patient_id = ?{IN_ORDER}", (patient_id,))
+        return [observation_from_row(r) for r in rows]
+
+    def observations_from(self, patient_id: str, first_day: date) -> list[Observation]:
+        """As `observations_for`, of the entries dated `first_day` or later (an open cycle's)."""
+        rows = self.db.conn.execute(
+            f"{CURRENT_ROWS} AND e.patient_id = ? AND e.day >= ?{IN_ORDER}", (patient_id, first_day.isoformat())
+        )
         return [observation_from_row(r) for r in rows]
 
     def observations_by_patient(self) -> Iterator[tuple[str, list[Observation]]]:

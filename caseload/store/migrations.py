@@ -301,8 +301,37 @@ def _named_or_current(field: str) -> str:
             f"ELSE json_extract(a.after, '$.{field}') END")
 
 
+def _closed_cycles(conn: sqlite3.Connection) -> None:
+    """Each patient's completed cycles as last computed, so a refresh reads only the open cycle's
+    entries (derived state like patient_state: dropped and rebuilt from the entries at will); the
+    counts beside each say which entries it came from. Entries get the indexes the lean reads use:
+    one in the cycle engine's order (day, reading time, id), and small ones of the voided and the
+    amending rows, which those counts read."""
+    run_script(
+        conn,
+        """
+        CREATE TABLE closed_cycle (
+            patient_id TEXT NOT NULL REFERENCES patient(id),
+            cycle_start TEXT NOT NULL,
+            next_start TEXT NOT NULL,
+            entries_from TEXT,
+            entries INTEGER NOT NULL,
+            voided INTEGER NOT NULL,
+            superseded INTEGER NOT NULL,
+            kept_key TEXT NOT NULL,
+            result TEXT NOT NULL,
+            PRIMARY KEY (patient_id, cycle_start)
+        );
+        CREATE INDEX entry_patient_order ON entry(patient_id, day, coalesce(time, ''));
+        CREATE INDEX entry_voided ON entry(patient_id, day) WHERE voided_reason IS NOT NULL;
+        CREATE INDEX entry_amends ON entry(patient_id) WHERE supersedes IS NOT NULL;
+        """,
+    )
+
+
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
     _v1, _audit_day_of_record, _status_since, _patient_history, _audit_chain, _alert_episodes, _protocol_versions,
+    _closed_cycles,
 ]
 LATEST = len(MIGRATIONS)
 

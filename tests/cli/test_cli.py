@@ -4,9 +4,13 @@ from __future__ import annotations
 
 import json
 import sqlite3
+from datetime import timedelta
 from pathlib import Path
 
 import pytest
+
+from tests.application.test_alert_lifecycle import history_csv
+from tests.cli.conftest import DATE_OF_RECORD
 
 
 def counts(db: str) -> tuple[int, int, int]:
@@ -141,3 +145,16 @@ def test_init_refuses_an_unknown_time_zone(run, zone):
 def test_init_accepts_a_known_time_zone(run):
     # IANA time zone database (tzdata): America/New_York is a zone.
     assert run("init", "--admin", "ada", "--name", "Ada Admin", "--timezone", "America/New_York").exit_code == 0
+
+
+def test_check_recompute_throws_the_kept_cycles_away_and_finds_no_difference(clinic, tmp_path):
+    history = tmp_path / "history.csv"
+    history.write_bytes(history_csv("P0001", DATE_OF_RECORD - timedelta(days=5), 5))
+    assert clinic("import", str(history)).exit_code == 0
+    with sqlite3.connect(clinic.db) as conn:
+        kept = conn.execute("SELECT count(*) FROM closed_cycle").fetchone()[0]
+    assert kept == 6  # six 28-day cycles before the open one
+    assert clinic("patient", "add", "P0002", "--name", "No Entries", "--born", "1990-01-01").exit_code == 0
+    done = clinic("check", "--recompute")
+    assert done.exit_code == 0 and "integrity: ok" in done.output
+    assert "recomputed from every entry: 2 patients, 6 kept cycles replaced; differences: none" in done.output

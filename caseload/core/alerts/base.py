@@ -62,6 +62,8 @@ class Facts:
 
     patient: Patient
     analysis: Analysis
+    # The chart's observations; after an analysis resumed from kept cycles, the open cycle's and
+    # what completed cycles keep for the rules (`closed_cycles.rule_observations`).
     observations: list[Observation]
     today: date
     protocol: Protocol
