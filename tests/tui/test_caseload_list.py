@@ -12,7 +12,7 @@ from tests.tui.fixture_store import ODD_NAME
 
 def shown_rows(app) -> list[str]:
     table = app.screen.query_one(CaseloadTable)
-    return [row.value for row in table.rows]
+    return table.patient_ids
 
 
 def cell(app, patient_id: str, column: str) -> str:
