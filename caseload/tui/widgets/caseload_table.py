@@ -8,7 +8,9 @@ until it is on screen.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
+from rich.cells import cell_len
 from rich.style import Style
 from rich.text import Text
 from textual import events
@@ -21,6 +23,7 @@ from textual.strip import Strip
 from caseload.application.caseload_view import CaseloadLine
 from caseload.presentation.glossary import alert_label, next_event_short, phase_label
 from caseload.presentation.days import short_day
+from caseload.presentation.safe_text import printable
 from caseload.tui.rich_text import literal
 
 GAP_WARN_DAYS = 3  # days without an entry worth a glance (the logging-gap default)
@@ -57,6 +60,17 @@ def patient_cell(line: CaseloadLine) -> Text:
     text = Text(line.patient.id + " ", style="bold", no_wrap=True)
     text.append_text(literal(line.patient.name))
     return text
+
+
+def patient_room(line: CaseloadLine) -> int:
+    """The width the patient cell needs, with its blank after (what `patient_cell` draws, measured
+    without building it: a large caseload measures every line on each redraw)."""
+    return len(line.patient.id) + 1 + _name_width(line.patient.name) + 1
+
+
+@lru_cache(maxsize=65536)
+def _name_width(name: str) -> int:
+    return cell_len(printable(name))
 
 
 def alert_cell(line: CaseloadLine, tone) -> Text:
@@ -183,7 +197,7 @@ class CaseloadTable(ScrollView, can_focus=True):
         """Show `lines`; the cursor stays on its patient while she is among them."""
         keep = self.current_patient_id()
         self._lines = lines
-        self._patient_room = max((len(line.patient.id) + len(line.patient.name) + 2 for line in lines), default=0)
+        self._patient_room = max((patient_room(line) for line in lines), default=0)
         ids = {line.patient.id: i for i, line in enumerate(lines)} if keep is not None else {}
         self._cursor = ids.get(keep, min(self._cursor, max(len(lines) - 1, 0)))
         self.virtual_size = Size(self._width(), len(lines) + 1)
