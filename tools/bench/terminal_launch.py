@@ -3,9 +3,11 @@
 The interface runs in a pseudo-terminal of a given size on a copy of a bench store, signed in as
 its supervisor (who sees every patient); "first drawn" is the moment the first row's patient id
 reaches the terminal. Idle CPU is the process's own CPU time (all threads) over a quiet stretch
-after the list is drawn, as a share of one core.
+after the list is drawn, as a share of one core. Beside them, in this process: the interface from
+its start to the first list drawn (no imports, no store opening), and the store's own check on
+opening (SQLite's quick_check, which reads the whole file), the floor every launch pays.
 
-    python -m tools.bench.launch STORE --today 2026-11-30 [--runs 5] [--idle 30] [--size 80x24]
+    python -m tools.bench.terminal_launch STORE --today 2026-11-30 [--runs 5] [--idle 30] [--size 80x24]
 """
 
 from __future__ import annotations
@@ -89,8 +91,39 @@ def one_launch(copy: Path, first: str, today: date, size: tuple[int, int], idle:
         os.close(fd)
 
 
+def in_process(copy: Path, today: date, size: tuple[int, int]) -> float:
+    """Seconds from the app's start to the first list drawn, the store already open."""
+    import asyncio
+
+    from caseload.tui.app import make_app
+    from caseload.tui.widgets.caseload_table import CaseloadTable
+
+    async def run() -> float:
+        with Clinic.open(copy, Identity(getpass.getuser()), as_of=today) as clinic:
+            app = make_app(clinic)
+            began = time.perf_counter()
+            async with app.run_test(size=size) as pilot:
+                while not (app.screen.query(CaseloadTable) and app.screen.query_one(CaseloadTable).row_count):
+                    await asyncio.sleep(0.002)
+                await pilot.pause()  # the frame with the rows in it
+                return time.perf_counter() - began
+
+    return asyncio.run(run())
+
+
+def open_check_seconds(copy: Path) -> float:
+    """SQLite's quick_check of the whole file, as the store runs it on every opening."""
+    import sqlite3
+
+    conn = sqlite3.connect(copy)
+    began = time.perf_counter()
+    conn.execute("PRAGMA quick_check(1)").fetchone()
+    conn.close()
+    return time.perf_counter() - began
+
+
 def main(argv: list[str] | None = None) -> None:
-    parser = argparse.ArgumentParser(prog="python -m tools.bench.launch", description=__doc__.splitlines()[0])
+    parser = argparse.ArgumentParser(prog="python -m tools.bench.terminal_launch", description=__doc__.splitlines()[0])
     parser.add_argument("store", type=Path)
     parser.add_argument("--today", type=date.fromisoformat, required=True, help="the bench store's day")
     parser.add_argument("--runs", type=int, default=5)
@@ -101,9 +134,13 @@ def main(argv: list[str] | None = None) -> None:
     with tempfile.TemporaryDirectory() as folder:
         copy, first = prepared_copy(args.store, Path(folder), args.today)
         runs = [one_launch(copy, first, args.today, size, args.idle if i == args.runs - 1 else 0) for i in range(args.runs)]
+        inside = [in_process(copy, args.today, size) for _ in range(args.runs)]
+        check = [open_check_seconds(copy) for _ in range(args.runs)]
     drawn = [r["first_drawn_s"] for r in runs if r["first_drawn_s"] is not None]
     print(json.dumps({"store": args.store.name, "size": args.size, "runs": runs,
                       "first_drawn_median_s": round(statistics.median(drawn), 3) if drawn else None,
+                      "in_process_median_s": round(statistics.median(inside), 3),
+                      "open_check_median_s": round(statistics.median(check), 3),
                       "idle_cpu_pct": runs[-1].get("idle_cpu_pct")}, indent=2))
 
 
