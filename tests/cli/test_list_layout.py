@@ -6,14 +6,10 @@ import re
 
 from rich.cells import cell_len
 
-CHART = """patient,day,kind,value,time
-P0001,2026-10-01,bleed,moderate,
-P0001,2026-10-02,bleed,moderate,
-P0001,2026-10-03,bleed,light,
-P0001,2026-10-30,hcg,positive,
-P0001,2026-10-31,hcg,120,09:00
-P0001,2026-11-02,hcg,150,09:00
-P0002,2026-11-20,bleed,heavy,
+from tests.cli.test_pregnancy_cli import CHART as PREGNANCY
+
+# The early pregnancy with a slow hCG rise (urgent), and a patient with a fever today (today).
+CHART = PREGNANCY + """P0002,2026-11-20,bleed,heavy,
 P0002,2026-11-21,bleed,heavy,
 P0002,2026-12-01,temp,38.6,
 """
