@@ -218,8 +218,10 @@ class CaseloadScreen(ClinicWork, Screen):
 
     def _show(self) -> None:
         filters = self.query_one(FilterBar).filters
-        lines = visible(self.app.roster, filters, self.app.clinic.actor.id)
-        self.query_one(CaseloadTable).show(lines)
+        me = self.app.clinic.actor.id
+        lines = visible(self.app.roster, filters, me)
+        # The names of the whole scope set the patient column, so it stays put as a search narrows it.
+        self.query_one(CaseloadTable).show(lines, fit=visible(self.app.roster, Filters(filters.scope), me))
         total = len(self.app.roster)
         note = f"{len(lines)} of {total} patients"
         if filters.search.strip():

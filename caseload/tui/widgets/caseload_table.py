@@ -40,9 +40,9 @@ PATIENT = Column("patient", "Patient", 0)
 COLUMNS = (
     PATIENT,
     Column("cd", " CD", 4),
-    Column("phase", "Phase", 14),
+    Column("phase", "Phase", 13),
     Column("alert", "Most urgent alert", 0),
-    Column("next", "Next", 14),
+    Column("next", "Next", 15),
     Column("last", "Last", 5),
     Column("plan", "Plan", 20),
     Column("nurse", "Nurse", 10),
@@ -174,6 +174,7 @@ class CaseloadTable(ScrollView, can_focus=True):
         self._lines: tuple[CaseloadLine, ...] = ()
         self._cursor = 0
         self._patient_room = MIN_PATIENT_WIDTH
+        self._fitted: tuple[CaseloadLine, ...] | None = None  # the lines the patient column was fitted to
 
     # --- what it shows
 
@@ -193,11 +194,16 @@ class CaseloadTable(ScrollView, can_focus=True):
     def cursor_row(self) -> int:
         return self._cursor
 
-    def show(self, lines: tuple[CaseloadLine, ...]) -> None:
-        """Show `lines`; the cursor stays on its patient while she is among them."""
+    def show(self, lines: tuple[CaseloadLine, ...], fit: tuple[CaseloadLine, ...] | None = None) -> None:
+        """Show `lines`; the cursor stays on its patient while she is among them. The patient column
+        fits the names of `fit` (by default `lines`): given the whole caseload, the columns stay put
+        while a search or a filter narrows it."""
         keep = self.current_patient_id()
         self._lines = lines
-        self._patient_room = max((patient_room(line) for line in lines), default=0)
+        fit = lines if fit is None else fit
+        if fit is not self._fitted:
+            self._fitted = fit
+            self._patient_room = max((patient_room(line) for line in fit), default=0)
         ids = {line.patient.id: i for i, line in enumerate(lines)} if keep is not None else {}
         self._cursor = ids.get(keep, min(self._cursor, max(len(lines) - 1, 0)))
         self.virtual_size = Size(self._width(), len(lines) + 1)
