@@ -6,16 +6,20 @@ import asyncio
 from dataclasses import replace
 
 from caseload.application.caseload_view import list_caseload
+from caseload.application.clinic import Clinic, Identity
+from caseload.application.staff import init_store
 from caseload.application.entries import log_entry
 from caseload.application.patients import add_patient
 from caseload.core.model import Severity
+from caseload.store import Store
+from caseload.tui.app import make_app
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets import caseload_table
 from caseload.tui.widgets.caseload_table import CaseloadTable, row_cells
 from caseload.tui.widgets.filter_bar import FilterBar, Scope
 from caseload.tui.widgets.status_line import StatusLine
 from tests.tui.conftest import settle
-from tests.tui.fixture_store import ODD_NAME
+from tests.tui.fixture_store import ODD_NAME, TODAY
 
 
 def shown_rows(app) -> list[str]:
@@ -215,3 +219,12 @@ async def test_a_large_caseload_draws_only_the_rows_in_view(app_as, monkeypatch)
         await pilot.pause()
         assert table.current_patient_id() == many[-1].patient.id
         assert many[-1] in drawn and len(drawn) <= 2 * table.size.height
+
+
+async def test_an_empty_caseload_says_so_once_read(tmp_path):
+    with Store(tmp_path / "empty.db") as store:
+        init_store(store, "ada", "Ada Admin", "ada-os")
+        app = make_app(Clinic(store, Identity("ada-os"), date_of_record=TODAY), refresh_seconds=60)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await settle(pilot)
+            assert app.screen.query_one("#list-note").render().plain == "0 of 0 patients"

@@ -186,7 +186,7 @@ class CaseloadScreen(ClinicWork, Screen):
             self._read_list(always=True)  # a save changed the roster meanwhile: merge into it instead
             return
         self._mark, self._version = message.read.mark, message.version
-        if message.read.lines is not self.app.roster:
+        if message.read.lines is not self.app.roster or not self._refresh_checked:  # the first read always shows
             self.app.roster = message.read.lines
             self._show()
         if not self._refresh_checked:
@@ -217,6 +217,8 @@ class CaseloadScreen(ClinicWork, Screen):
         self.reload()
 
     def _show(self) -> None:
+        if self._mark is None:
+            return  # not read yet: filters set meanwhile apply when it is
         filters = self.query_one(FilterBar).filters
         me = self.app.clinic.actor.id
         lines = visible(self.app.roster, filters, me)
