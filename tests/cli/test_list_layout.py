@@ -39,7 +39,8 @@ def test_at_80_columns_cycle_day_and_days_quiet_stay_and_names_are_whole(clinic,
     plain = ESCAPE.sub("", out)
     assert all(cell_len(line) <= 80 for line in plain.splitlines())
     assert "Siobhan Keane" in plain and "Pia Test" in plain
-    # P0002's cycle started with the heavy flow on 20 Nov: 1 Dec is cycle day 12 (day 1 = first day of flow, common practice).
+    # P0002's cycle started with the heavy flow on 20 Nov: 1 Dec is cycle day 12
+    # (day 1 = the first day of flow, common practice).
     row = next(line for line in plain.splitlines() if line.startswith("P0002"))
     assert " 12 " in row
 

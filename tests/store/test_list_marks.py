@@ -46,7 +46,8 @@ def test_the_commit_counter_moves_only_for_other_connections(store, as_role, pat
 def test_an_older_store_gets_a_mark_for_every_patient_when_upgraded(store, as_role, patient):
     add_patient(as_role(Role.NURSE), "P0002", "Other Patient", "1990-01-01")
     conn = store.db.conn
-    for (trigger,) in conn.execute("SELECT name FROM sqlite_master WHERE type = 'trigger' AND name LIKE 'list_mark%'").fetchall():
+    marks = "SELECT name FROM sqlite_master WHERE type = 'trigger' AND name LIKE 'list_mark%'"
+    for (trigger,) in conn.execute(marks).fetchall():
         conn.execute(f"DROP TRIGGER {trigger}")
     conn.execute("DROP TABLE list_mark")
     before_marks = migrations.MIGRATIONS.index(migrations._list_marks)  # the version just before them

@@ -69,7 +69,8 @@ def one_launch(copy: Path, first: str, today: date, size: tuple[int, int], idle:
     pid, fd = pty.fork()
     if pid == 0:
         env = {**os.environ, "TERM": "xterm-256color"}
-        os.execve(sys.executable, [sys.executable, "-m", "caseload", "--db", str(copy), "--today", today.isoformat()], env)
+        command = [sys.executable, "-m", "caseload", "--db", str(copy), "--today", today.isoformat()]
+        os.execve(sys.executable, command, env)
     fcntl.ioctl(fd, termios.TIOCSWINSZ, struct.pack("HHHH", size[1], size[0], 0, 0))
     seen, drawn = b"", None
     try:
@@ -133,7 +134,8 @@ def main(argv: list[str] | None = None) -> None:
     size = tuple(int(n) for n in args.size.split("x"))
     with tempfile.TemporaryDirectory() as folder:
         copy, first = prepared_copy(args.store, Path(folder), args.today)
-        runs = [one_launch(copy, first, args.today, size, args.idle if i == args.runs - 1 else 0) for i in range(args.runs)]
+        runs = [one_launch(copy, first, args.today, size, args.idle if i == args.runs - 1 else 0)
+                for i in range(args.runs)]
         inside = [in_process(copy, args.today, size) for _ in range(args.runs)]
         check = [open_check_seconds(copy) for _ in range(args.runs)]
     drawn = [r["first_drawn_s"] for r in runs if r["first_drawn_s"] is not None]

@@ -137,28 +137,6 @@ class CaseloadTable(ScrollView, can_focus=True):
     """Rows keyed by patient id, a header that stays put, a cursor that stays on its patient
     when the lines change under it."""
 
-    DEFAULT_CSS = """
-    CaseloadTable {
-        background: $surface;
-        color: $foreground;
-        overflow-x: hidden;
-        scrollbar-size-vertical: 1;
-        &:focus { background-tint: $foreground 5%; }
-        & > .caseload-table--header { text-style: bold; background: $panel; color: $foreground; }
-        & > .caseload-table--even-row { background: $surface-lighten-1 50%; }
-        &:dark > .caseload-table--even-row { background: $surface-darken-1 40%; }
-        & > .caseload-table--cursor {
-            background: $block-cursor-blurred-background;
-            color: $block-cursor-blurred-foreground;
-            text-style: $block-cursor-blurred-text-style;
-        }
-        &:focus > .caseload-table--cursor {
-            background: $block-cursor-background;
-            color: $block-cursor-foreground;
-            text-style: $block-cursor-text-style;
-        }
-    }
-    """
     COMPONENT_CLASSES = {"caseload-table--header", "caseload-table--even-row", "caseload-table--cursor"}
     BINDINGS = [Binding("enter", "select_cursor", "Open", id="caseload.open")]
 
