@@ -49,24 +49,59 @@ def list_caseload(ctx: Context) -> list[CaseloadLine]:
     ctx.require("caseload.view")
     under_care = [p for p in ctx.store.patients.all() if p.status is not PatientStatus.DISCHARGED]
     states = ctx.store.state.all()
-    open_by_patient: dict[str, list[Alert]] = {}
+    unresolved: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
-        a = effective(stored, ctx.today)  # a snooze whose day has come counts, even before a refresh
-        if a.state is AlertState.OPEN:
-            open_by_patient.setdefault(a.patient_id, []).append(a)
-    lines = []
-    for p in under_care:
-        snap = states.get(p.id)
-        lines.append(
-            CaseloadLine(
-                patient=p,
-                snapshot=snap,
-                cycle_day=snap.cycle_day(ctx.today) if snap else None,
-                alerts=pressing_first(open_by_patient.get(p.id, [])),
-                days_since_entry=snap.days_since_entry(ctx.today) if snap else None,
-            )
-        )
+        unresolved.setdefault(stored.patient_id, []).append(stored)
+    lines = [caseload_line(p, states.get(p.id), unresolved.get(p.id, []), ctx.today) for p in under_care]
     return sorted(lines, key=CaseloadLine.sort_key)
+
+
+def caseload_line(patient: Patient, snap: Snapshot | None, unresolved: list[Alert], today: date) -> CaseloadLine:
+    """One patient's row as of `today`, from her record, snapshot and unresolved alerts."""
+    # A snooze whose day has come counts, even before a refresh.
+    alerts = [a for a in (effective(stored, today) for stored in unresolved) if a.state is AlertState.OPEN]
+    return CaseloadLine(
+        patient=patient,
+        snapshot=snap,
+        cycle_day=snap.cycle_day(today) if snap else None,
+        alerts=pressing_first(alerts),
+        days_since_entry=snap.days_since_entry(today) if snap else None,
+    )
+
+
+@dataclass(frozen=True)
+class CaseloadRead:
+    """The morning list and the store's list mark it is current to (see `caseload_since`)."""
+
+    mark: int
+    lines: tuple[CaseloadLine, ...]
+
+
+REREAD_ALL_SHARE = 0.25  # past this share of the list changed, one read of everything is cheaper
+
+
+def read_caseload(ctx: Context) -> CaseloadRead:
+    mark = ctx.store.list_marks.latest()  # taken first: a change made during the read is read again next time
+    return CaseloadRead(mark, tuple(list_caseload(ctx)))
+
+
+def caseload_since(ctx: Context, mark: int, lines: tuple[CaseloadLine, ...]) -> CaseloadRead:
+    """`lines` (the list as read at `mark`) brought up to date by reading again only the patients
+    marked as changed since; the same tuple when none is."""
+    ctx.require("caseload.view")
+    latest, changed = ctx.store.list_marks.since(mark)
+    if not changed:
+        return CaseloadRead(mark, lines)
+    if len(changed) > REREAD_ALL_SHARE * max(len(lines), 1):
+        return read_caseload(ctx)
+    fresh = []
+    for patient_id in set(changed):
+        patient = ctx.store.patients.get(patient_id)
+        if patient is not None and patient.status is not PatientStatus.DISCHARGED:
+            unresolved = [a for a in ctx.store.alerts.for_patient(patient_id) if a.state is not AlertState.RESOLVED]
+            fresh.append(caseload_line(patient, ctx.store.state.get(patient_id), unresolved, ctx.today))
+    kept = [line for line in lines if line.patient.id not in set(changed)]
+    return CaseloadRead(latest, tuple(sorted(kept + fresh, key=CaseloadLine.sort_key)))
 
 
 @dataclass(frozen=True)

@@ -24,7 +24,7 @@ from caseload.core.model import Actor, Alert, Entry, Kind, Patient, Role, Staff
 from caseload.core.parse import InputError, parse_day, parse_entry
 from caseload.core.settings import Protocol
 from caseload.application import alert_handling, caseload_view, entries, patients, protocol, staff, store_care
-from caseload.application.caseload_view import CaseloadLine, PatientRecord
+from caseload.application.caseload_view import CaseloadLine, CaseloadRead, PatientRecord
 from caseload.application.context import Context, allowed
 from caseload.application.entries import Logged
 from caseload.application.errors import Refused
@@ -332,6 +332,20 @@ class Clinic:
 
     def morning_list(self) -> list[CaseloadLine]:
         return self._read(caseload_view.list_caseload)
+
+    def caseload_read(self) -> CaseloadRead:
+        """The morning list with the store's list mark it is current to."""
+        return self._read(caseload_view.read_caseload)
+
+    def caseload_since(self, mark: int, lines: tuple[CaseloadLine, ...]) -> CaseloadRead:
+        """The list read at `mark` brought up to date: only the patients changed since are read again."""
+        return self._read(caseload_view.caseload_since, mark, lines)
+
+    def store_version(self) -> int:
+        """A number that moves whenever another connection commits to the store (not this one's own
+        writes): asking costs no table read, so an idle screen can ask often."""
+        with self.lock:
+            return self.store.data_version()
 
     def list_after(self, lines: tuple[CaseloadLine, ...], done: Logged) -> tuple[CaseloadLine, ...]:
         """The morning list after a save, with the saved patient's row rebuilt from what the save

@@ -5,8 +5,9 @@ from __future__ import annotations
 from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
+from rich.text import Text
 
-from caseload.core.model import Entry
+from caseload.core.model import Entry, Severity
 from caseload.presentation.days import iso_day, short_day
 from caseload.presentation.glossary import CAUTION, alert_label, entry_history, next_event_short, phase_label
 from caseload.presentation.safe_text import printable
@@ -41,20 +42,79 @@ def entries_table(entries: list[Entry]) -> None:
     print_table(["id", "day", "time", "kind", "value", "flags", "by", "correction", "note"], rows)
 
 
+# Severity in the caseload list: under NO_COLOR the colour goes and bold and reverse stay, so
+# "urgent" and "today" still stand out from ordinary text.
+SEVERITY_STYLES = {Severity.URGENT: "bold reverse red", Severity.TODAY: "bold yellow"}
+LIST_GAP = 1  # blank columns between two columns
+LIST_WIDE = 120  # plan and nurse from this many columns
+LIST_WIDEST = 140  # the window and shift days from this many
+LIST_SHRINKABLE = ("name", "phase", "alert")  # cut (with an ellipsis) when the terminal is narrow, alert first
+
+
+def list_cells(line) -> dict[str, Text]:
+    """One caseload line as the CLI list's cells, by column."""
+    s, top = line.snapshot, line.top_alert
+    alert = Text()
+    if top is not None:
+        alert.append(top.severity.value, style=SEVERITY_STYLES.get(top.severity, ""))
+        alert.append(f" {alert_label(top.kind)}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else ""))
+    window = f"{short_day(s.fertile_window[0])}-{short_day(s.fertile_window[1])}" if s and s.fertile_window else ""
+    return {
+        "patient": Text(printable(line.patient.id)),
+        "name": Text(printable(line.patient.name)),
+        "day": Text("" if line.cycle_day is None else str(line.cycle_day)),
+        "phase": Text(phase_label(s.phase) if s else ""),
+        "window": Text(window),
+        "shift": Text(short_day(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""),
+        "alert": alert,
+        "next": Text(f"{next_event_short(s.next_event)} {short_day(s.next_event_day)}" if s and s.next_event else ""),
+        "quiet": Text("" if line.days_since_entry is None else str(line.days_since_entry)),
+        "plan": Text(line.patient.plan.value),
+        "nurse": Text(printable(line.patient.nurse_id or "-")),
+    }
+
+
+def list_columns(width: int) -> list[str]:
+    """The list's columns for a terminal `width` wide: cycle day and days quiet always."""
+    columns = ["patient", "name", "day", "phase"]
+    if width >= LIST_WIDEST:
+        columns += ["window", "shift"]
+    columns += ["alert", "next", "quiet"]
+    if width >= LIST_WIDE:
+        columns += ["plan", "nurse"]
+    return columns
+
+
+def list_widths(columns: list[str], rows: list[dict[str, Text]], width: int) -> dict[str, int]:
+    """Each column as wide as its widest cell or heading; past the terminal's width the shrinkable
+    ones give up room (alert first, then phase, then name), never below their heading."""
+    widths = {c: max([len(c)] + [r[c].cell_len for r in rows]) for c in columns}
+    excess = sum(widths.values()) + LIST_GAP * (len(columns) - 1) - width
+    for column in reversed(LIST_SHRINKABLE):
+        if excess <= 0:
+            break
+        give = min(excess, widths[column] - len(column))
+        widths[column] -= give
+        excess -= give
+    return widths
+
+
 def list_table(lines) -> None:
-    """The caseload in triage order, narrow enough for an 80-column terminal."""
-    rows = []
-    for line in lines:
-        s, top = line.snapshot, line.top_alert
-        alert = "" if top is None else f"{top.severity.value} {alert_label(top.kind)}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
-        window = f"{short_day(s.fertile_window[0])}-{short_day(s.fertile_window[1])}" if s and s.fertile_window else ""
-        shift = short_day(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""
-        nxt = f"{next_event_short(s.next_event)} {short_day(s.next_event_day)}" if s and s.next_event else ""
-        since = "" if line.days_since_entry is None else str(line.days_since_entry)
-        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", phase_label(s.phase) if s else "", window, shift, alert, nxt, since])
-    print_table(["patient", "name", "day", "phase", "window", "shift", "alert", "next", "quiet"], rows,
-                title=f"Caseload: {len(lines)} patients (day = cycle day, quiet = days since last entry)")
-    console().print(CAUTION, style="dim")
+    """The caseload in triage order, fitted to the terminal: at 80 columns every column but plan,
+    nurse, window and shift, with alerts, phases and names cut in that order when room runs out."""
+    out = console()
+    columns = list_columns(out.width)
+    rows = [list_cells(line) for line in lines]
+    widths = list_widths(columns, rows, out.width)
+    table = Table(title=f"Caseload: {len(lines)} patients (day = cycle day, quiet = days since last entry)",
+                  header_style="bold", box=None, pad_edge=False, padding=(0, LIST_GAP, 0, 0), collapse_padding=True)
+    for c in columns:
+        table.add_column(c, no_wrap=True, overflow="ellipsis", width=widths[c],
+                         justify="right" if c in ("day", "quiet") else "left")
+    for row in rows:
+        table.add_row(*(row[c] for c in columns))
+    out.print(table)
+    out.print(CAUTION, style="dim")
 
 
 def record_text(record) -> None:

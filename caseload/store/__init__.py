@@ -14,6 +14,7 @@ from caseload.store.bulk_load import BulkTable
 from caseload.store.closed_cycle_table import ClosedCycleTable
 from caseload.store.db import Database, StoreDamaged, StoreError, utc_now
 from caseload.store.entry_table import EntryTable
+from caseload.store.list_mark_table import ListMarkTable
 from caseload.store.patient_table import PatientTable
 from caseload.store.protocol_table import ProtocolTable
 from caseload.store.snapshot_table import StateTable
@@ -36,6 +37,7 @@ class Store:
         self.closed_cycles = ClosedCycleTable(self.db)
         self.bulk = BulkTable(self.db)
         self.protocol = ProtocolTable(self.db)
+        self.list_marks = ListMarkTable(self.db)
 
     @property
     def path(self) -> Path:
@@ -51,6 +53,11 @@ class Store:
     def transact(self, work, day_of_record: date | None = None):
         """Run `work()` as one transaction, rerun whole while another writer holds the lock."""
         return self.db.transact(work, day_of_record)
+
+    def data_version(self) -> int:
+        """SQLite's count of commits made by other connections to the file: unchanged means nothing
+        another process wrote can be missing from what this one read."""
+        return self.db.conn.execute("PRAGMA data_version").fetchone()[0]
 
     def meta(self, key: str) -> str | None:
         """A store-wide setting (time zone, clinic name, pseudonym secret, protocol file)."""

@@ -329,9 +329,33 @@ def _closed_cycles(conn: sqlite3.Connection) -> None:
     )
 
 
+LIST_MARK = """
+CREATE TRIGGER list_mark_{table}_{event} AFTER {event} ON {table}
+BEGIN INSERT OR REPLACE INTO list_mark (patient_id, seq)
+      VALUES (NEW.{patient}, (SELECT coalesce(max(seq), 0) + 1 FROM list_mark)); END;
+"""
+
+
+def _list_marks(conn: sqlite3.Connection) -> None:
+    """A store-wide counter, stamped on a patient whenever what her list row shows may change (her
+    record, her alerts, her snapshot), so an interface re-reads only the rows that moved since it
+    last looked. Kept by triggers, so every writer stamps it, whatever path it writes by."""
+    run_script(
+        conn,
+        """
+        CREATE TABLE list_mark (patient_id TEXT PRIMARY KEY, seq INTEGER NOT NULL);
+        CREATE INDEX list_mark_seq ON list_mark(seq);
+        INSERT INTO list_mark (patient_id, seq) SELECT id, row_number() OVER (ORDER BY id) FROM patient;
+        """,
+    )
+    for table, patient in (("patient", "id"), ("alert", "patient_id"), ("patient_state", "patient_id")):
+        for event in ("INSERT", "UPDATE"):
+            run_script(conn, LIST_MARK.format(table=table, event=event, patient=patient))
+
+
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
     _v1, _audit_day_of_record, _status_since, _patient_history, _audit_chain, _alert_episodes, _protocol_versions,
-    _closed_cycles,
+    _closed_cycles, _list_marks,
 ]
 LATEST = len(MIGRATIONS)
 

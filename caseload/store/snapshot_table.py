@@ -22,3 +22,7 @@ class StateTable:
         """Every patient's snapshot, by patient id."""
         rows = self.db.conn.execute("SELECT patient_id, state FROM patient_state")
         return {pid: Snapshot.from_dict(json.loads(state)) for pid, state in rows}
+
+    def get(self, patient_id: str) -> Snapshot | None:
+        row = self.db.conn.execute("SELECT state FROM patient_state WHERE patient_id = ?", (patient_id,)).fetchone()
+        return Snapshot.from_dict(json.loads(row[0])) if row else None

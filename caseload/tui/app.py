@@ -27,6 +27,7 @@ from caseload.tui.themes import DEFAULT_THEME, THEMES
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, Saved, StoreChanged
 
 REFRESH_SECONDS = 5.0
+NO_COLOUR_TONES = {Severity.URGENT: "bold reverse", Severity.TODAY: "bold", Severity.SOON: "", Severity.INFO: "dim"}
 
 
 class CaseloadApp(ClinicWork, App):
@@ -37,7 +38,7 @@ class CaseloadApp(ClinicWork, App):
     BINDINGS = [
         # A priority binding, so the keys typed straight after it already go to the quick log; it
         # stands aside (check_action) wherever text is being typed.
-        Binding("l", "quick_log", "Log call", id="app.quick_log", priority=True),
+        Binding("l", "quick_log", "Log", id="app.quick_log", priority=True),
         Binding("q", "quit", "Quit", id="app.quit"),
     ]
 
@@ -77,7 +78,11 @@ class CaseloadApp(ClinicWork, App):
         return tuple(line for line in self.roster if line.patient.nurse_id == me)
 
     def tone(self, severity: Severity) -> str:
-        """A Rich style for a severity, from the current theme (so it reads in dark and light)."""
+        """A Rich style for a severity, from the current theme (so it reads in dark and light). Under
+        NO_COLOR the theme's colours turn to greys, some dimmer than plain text: "urgent" is then
+        reversed and "today" bold, so both still stand out."""
+        if self.no_color:
+            return NO_COLOUR_TONES[severity]
         colours = self.theme_variables
         return {
             Severity.URGENT: f"bold {colours['error']}",

@@ -18,7 +18,7 @@ async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(demo):
     async with app.run_test(size=(120, 40)) as pilot:
         await settle(pilot)
         table = app.screen.query_one(CaseloadTable)
-        assert [r.value for r in table.rows] == [line.patient.id for line in lines]
+        assert table.patient_ids == [line.patient.id for line in lines]
         for line in lines:
             shown = table.get_cell(line.patient.id, "cd").plain.strip()
             assert shown == ("-" if line.cycle_day is None else str(line.cycle_day))

@@ -1,4 +1,4 @@
-"""Pictures of the main screens at 80x24 on the fixed day: a change in layout shows up here."""
+"""Pictures of the main screens at 80x24 (and the list at 120x40) on the fixed day: a change in layout shows up here."""
 
 from __future__ import annotations
 
@@ -20,6 +20,11 @@ def _keys_then_settle(*keys: str):
 
 def test_home_list(app_as, snap_compare):
     assert snap_compare(app_as("nell"), terminal_size=(80, 24), run_before=_loaded)
+
+
+def test_home_list_wide(app_as, snap_compare):
+    """From 120 columns the list adds each patient's plan and nurse."""
+    assert snap_compare(app_as("ada"), terminal_size=(120, 40), run_before=_loaded)
 
 
 def test_record_chart(app_as, snap_compare):

@@ -1,8 +1,10 @@
 """The home screen: every patient under care in triage order, with search and filters.
 
-The list is read from the stored snapshots (cheap) every few seconds, so another terminal's
-changes appear without a restart. On the first open of the day, if the snapshots are older than
-today, the morning refresh runs in a worker and the list is read again after it.
+The list is read once from the stored snapshots; after that, every few seconds, one cheap question
+to the store (has another connection committed anything?) and, only when it has, the rows of the
+patients marked as changed since the last read are read again, so another terminal's changes appear
+without a restart and an idle list costs next to nothing. On the first open of the day, if the
+snapshots are older than today, the morning refresh runs in a worker and the list catches up after it.
 """
 
 from __future__ import annotations
@@ -13,17 +15,17 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Input, Static
+from textual.widgets import Footer, Input, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.presentation.glossary import refresh_progress_line
-from caseload.application.caseload_view import CaseloadLine
+from caseload.application.caseload_view import CaseloadLine, CaseloadRead
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
-from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters
+from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters, Scope
 from caseload.tui.widgets.status_line import StatusLine
 
 
@@ -31,7 +33,9 @@ def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple
     """The lines the filters let through; a search keeps the triage order (it narrows, not re-sorts)."""
     out = []
     for line in lines:
-        if filters.mine and line.patient.nurse_id != me:
+        if filters.scope is Scope.MINE and line.patient.nurse_id != me:
+            continue
+        if filters.scope is Scope.UNASSIGNED and line.patient.nurse_id is not None:
             continue
         if filters.plan != ANY and line.patient.plan.value != filters.plan:
             continue
@@ -50,8 +54,9 @@ class CaseloadScreen(ClinicWork, Screen):
     AUTO_FOCUS = "CaseloadTable"
     BINDINGS = [
         Binding("slash", "search", "Find", id="caseload.search"),
-        Binding("m", "toggle_mine", "Mine/all", id="caseload.mine"),
-        Binding("k", "pick_kind", "Alert kind", id="caseload.kind"),
+        Binding("m", "toggle_mine", "Mine", id="caseload.mine"),
+        Binding("u", "toggle_unassigned", "Unassigned", id="caseload.unassigned"),
+        Binding("k", "pick_kind", "Kind", id="caseload.kind"),
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
@@ -59,9 +64,17 @@ class CaseloadScreen(ClinicWork, Screen):
     ]
 
     class Loaded(Message):
-        def __init__(self, lines: list[CaseloadLine]) -> None:
+        """The list as read (`read`), the store's commit count before the read, and the roster the
+        read started from (a save that landed meanwhile makes the read stale)."""
+
+        def __init__(self, read: CaseloadRead, version: int, base: tuple[CaseloadLine, ...] | None) -> None:
             super().__init__()
-            self.lines = tuple(lines)
+            self.read = read
+            self.version = version
+            self.base = base
+
+    class Unchanged(Message):
+        pass
 
     class LoadFailed(Message):
         def __init__(self, reason: str) -> None:
@@ -76,20 +89,23 @@ class CaseloadScreen(ClinicWork, Screen):
     def __init__(self) -> None:
         super().__init__()
         self._loading = False
+        self._again = False  # a change was reported while a read was under way
         self._refresh_checked = False
+        self._mark: int | None = None  # the store's list mark the roster is current to
+        self._version: int | None = None  # the store's commit count when the roster was read
 
     def compose(self) -> ComposeResult:
         yield StatusLine(id="status")
         yield FilterBar(mine=self.app.mine, id="filters")
         yield CaseloadTable(id="caseload")
         yield Static("", id="list-note")
-        yield Footer(compact=True)
+        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
 
     def on_mount(self) -> None:
         self.query_one("#list-note", Static).update("Reading the caseload…")
         self.watch(self.app, "mine", self._mine_changed, init=False)
         self.reload()
-        self.set_interval(self.app.refresh_seconds, self.reload, name="caseload-poll")
+        self.set_interval(self.app.refresh_seconds, self._poll, name="caseload-poll")
 
     @property
     def patient_id(self) -> str | None:
@@ -99,14 +115,39 @@ class CaseloadScreen(ClinicWork, Screen):
     # --- reading
 
     def reload(self) -> None:
+        """Bring the list up to date with the store: the changed rows only, once it has been read."""
+        self._read_list(always=True)
+
+    def _poll(self) -> None:
+        self._read_list(always=False)
+
+    def _read_list(self, always: bool) -> None:
         if self._loading:
+            self._again = self._again or always
             return
         self._loading = True
-        self._load()
+        if self._mark is None:
+            self._load()
+        else:
+            self._catch_up(always)
 
     @work(**STORE_WORK, name="load")
     def _load(self) -> None:
-        self.post_message(self.Loaded(self.app.clinic.morning_list()))
+        clinic = self.app.clinic
+        version = clinic.store_version()
+        self.post_message(self.Loaded(clinic.caseload_read(), version, None))
+
+    @work(**STORE_WORK, name="load")
+    def _catch_up(self, always: bool) -> None:
+        """Unless `always`, first ask whether another connection committed anything since the last
+        read. (The roster is taken here, not passed in: a worker's arguments are spelt out in its
+        description, which for a large caseload costs more than the whole check.)"""
+        clinic, mark, roster = self.app.clinic, self._mark, self.app.roster
+        version = clinic.store_version()
+        if not always and version == self._version:
+            self.post_message(self.Unchanged())
+            return
+        self.post_message(self.Loaded(clinic.caseload_since(mark, roster), version, roster))
 
     class RefreshProgress(Message):
         def __init__(self, note: str) -> None:
@@ -140,19 +181,30 @@ class CaseloadScreen(ClinicWork, Screen):
 
     def on_caseload_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
-        if message.lines != self.app.roster:
-            self.app.roster = message.lines
-            self._show()
-        elif not self._refresh_checked:
+        if message.base is not None and message.base is not self.app.roster:
+            self._read_list(always=True)  # a save changed the roster meanwhile: merge into it instead
+            return
+        self._mark, self._version = message.read.mark, message.version
+        if message.read.lines is not self.app.roster or not self._refresh_checked:  # the first read always shows
+            self.app.roster = message.read.lines
             self._show()
         if not self._refresh_checked:
             self._refresh_checked = True
-            if self.app.clinic.morning_refresh_due(message.lines):
+            if self.app.clinic.morning_refresh_due(message.read.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
                 self._morning_refresh()
+        if self._again:
+            self._again = False
+            self._read_list(always=True)
+
+    def on_caseload_screen_unchanged(self) -> None:
+        self._loading = False
+        if self._again:
+            self._again = False
+            self._read_list(always=True)
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
-        self._loading = False
+        self._loading = self._again = False
         self.query_one("#list-note", Static).update(Text(f"Could not read the caseload: {message.reason}"))
 
     def on_caseload_screen_refresh_progress(self, message: RefreshProgress) -> None:
@@ -164,9 +216,13 @@ class CaseloadScreen(ClinicWork, Screen):
         self.reload()
 
     def _show(self) -> None:
+        if self._mark is None:
+            return  # not read yet: filters set meanwhile apply when it is
         filters = self.query_one(FilterBar).filters
-        lines = visible(self.app.roster, filters, self.app.clinic.actor.id)
-        self.query_one(CaseloadTable).show(lines)
+        me = self.app.clinic.actor.id
+        lines = visible(self.app.roster, filters, me)
+        # The names of the whole scope set the patient column, so it stays put as a search narrows it.
+        self.query_one(CaseloadTable).show(lines, fit=visible(self.app.roster, Filters(filters.scope), me))
         total = len(self.app.roster)
         note = f"{len(lines)} of {total} patients"
         if filters.search.strip():
@@ -187,9 +243,9 @@ class CaseloadScreen(ClinicWork, Screen):
 
     # --- acting
 
-    @on(DataTable.RowSelected, "#caseload")
-    def _row_chosen(self, event: DataTable.RowSelected) -> None:
-        self._open(event.row_key.value)
+    @on(CaseloadTable.RowSelected)
+    def _row_chosen(self, event: CaseloadTable.RowSelected) -> None:
+        self._open(event.patient_id)
 
     @on(Input.Submitted, "#search")
     def _search_done(self) -> None:
@@ -210,7 +266,10 @@ class CaseloadScreen(ClinicWork, Screen):
         self.query_one(CaseloadTable).focus()
 
     def action_toggle_mine(self) -> None:
-        self.query_one(FilterBar).toggle_mine()
+        self.query_one(FilterBar).toggle(Scope.MINE)
+
+    def action_toggle_unassigned(self) -> None:
+        self.query_one(FilterBar).toggle(Scope.UNASSIGNED)
 
     def action_pick_kind(self) -> None:
         self.query_one("#alert-kind").action_show_overlay()

@@ -1,16 +1,29 @@
-"""The morning list: one row per patient under care, in the triage order the Clinic gives."""
+"""The morning list: one row per patient under care, in the triage order the Clinic gives.
+
+A virtual table: it holds the lines and draws only the rows in view (Textual's line API), so a
+caseload of 10,000 costs no more to show, scroll or filter than a screenful; nothing is built per row
+until it is on screen.
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
+
+from rich.cells import cell_len
+from rich.style import Style
 from rich.text import Text
+from textual import events
 from textual.binding import Binding
-from textual.widgets import DataTable
+from textual.geometry import Size
+from textual.message import Message
+from textual.scroll_view import ScrollView
+from textual.strip import Strip
 
 from caseload.application.caseload_view import CaseloadLine
 from caseload.presentation.glossary import alert_label, next_event_short, phase_label
 from caseload.presentation.days import short_day
-from caseload.presentation.safe_text import literal
+from caseload.presentation.safe_text import literal, printable
 
 GAP_WARN_DAYS = 3  # days without an entry worth a glance (the logging-gap default)
 
@@ -22,27 +35,41 @@ class Column:
     width: int  # 0: takes the room the others leave
 
 
+PATIENT = Column("patient", "Patient", 0)
 COLUMNS = (
-    Column("patient", "Patient", 0),
+    PATIENT,
     Column("cd", " CD", 4),
-    Column("where", "Where", 13),
-    Column("alert", "Most urgent alert", 25),
+    Column("phase", "Phase", 13),
+    Column("alert", "Most urgent alert", 0),
     Column("next", "Next", 15),
     Column("last", "Last", 5),
     Column("plan", "Plan", 20),
-    Column("nurse", "Nurse", 12),
+    Column("nurse", "Nurse", 10),
 )
-# The last columns are for wide terminals; at 80 columns they are off to the right.
-NARROW_COLUMNS = 6
+WIDE_KEYS = ("plan", "nurse")  # from WIDE_FROM columns; a narrower terminal leaves them out
+WIDE_FROM = 120
+MIN_ALERT_WIDTH = 17
+MAX_ALERT_WIDTH = 36
 MIN_PATIENT_WIDTH = 16
-WIDE_PATIENT_WIDTH = 30
 MAX_PATIENT_WIDTH = 40
+SCROLLBAR = 1
 
 
 def patient_cell(line: CaseloadLine) -> Text:
     text = Text(line.patient.id + " ", style="bold", no_wrap=True)
     text.append_text(literal(line.patient.name))
     return text
+
+
+def patient_room(line: CaseloadLine) -> int:
+    """The width the patient cell needs, with its blank after (what `patient_cell` draws, measured
+    without building it: a large caseload measures every line on each redraw)."""
+    return len(line.patient.id) + 1 + _name_width(line.patient.name) + 1
+
+
+@lru_cache(maxsize=65536)
+def _name_width(name: str) -> int:
+    return cell_len(printable(name))
 
 
 def alert_cell(line: CaseloadLine, tone) -> Text:
@@ -70,90 +97,202 @@ def last_cell(line: CaseloadLine) -> Text:
     return Text(f"{days}d", style="bold" if days >= GAP_WARN_DAYS else "")
 
 
-def row_cells(line: CaseloadLine, tone) -> list[Text]:
+def row_cells(line: CaseloadLine, tone) -> dict[str, Text]:
     s = line.snapshot
-    return [
-        patient_cell(line),
-        Text(f"{'-' if line.cycle_day is None else line.cycle_day:>3}"),
-        Text(phase_label(s.phase if s else None)),
-        alert_cell(line, tone),
-        next_cell(line),
-        last_cell(line),
-        Text(line.patient.plan.value),
-        literal(line.patient.nurse_id or "-"),
-    ]
+    return {
+        "patient": patient_cell(line),
+        "cd": Text(f"{'-' if line.cycle_day is None else line.cycle_day:>3}"),
+        "phase": Text(phase_label(s.phase if s else None)),
+        "alert": alert_cell(line, tone),
+        "next": next_cell(line),
+        "last": last_cell(line),
+        "plan": Text(line.patient.plan.value),
+        "nurse": literal(line.patient.nurse_id or "-"),
+    }
 
 
 def fitted(cell: Text, width: int) -> Text:
     """The cell cut to its column with one blank column after it (the table has no padding)."""
     cell = cell.copy()
-    cell.truncate(width - 1, overflow="ellipsis")
+    cell.truncate(width - 1, overflow="ellipsis", pad=True)
+    cell.pad_right(1)
     cell.no_wrap = True
     return cell
 
 
-class CaseloadTable(DataTable):
-    """Rows keyed by patient id. Redraws keep the cursor on the same patient."""
+def layout(width: int, patient_room: int) -> list[tuple[Column, int]]:
+    """The columns for a table `width` cells wide, with their widths. The patient column gets the
+    room its longest id and name need (within limits) before the alert column takes the rest; plan
+    and nurse come in from WIDE_FROM columns."""
+    columns = [c for c in COLUMNS if width >= WIDE_FROM or c.key not in WIDE_KEYS]
+    room = width - SCROLLBAR - sum(c.width for c in columns)
+    patient = max(MIN_PATIENT_WIDTH, min(patient_room, MAX_PATIENT_WIDTH, room - MIN_ALERT_WIDTH))
+    alert = max(MIN_ALERT_WIDTH, min(room - patient, MAX_ALERT_WIDTH))
+    sizes = {PATIENT.key: patient, "alert": alert}
+    return [(c, sizes.get(c.key, c.width)) for c in columns]
 
+
+class CaseloadTable(ScrollView, can_focus=True):
+    """Rows keyed by patient id, a header that stays put, a cursor that stays on its patient
+    when the lines change under it."""
+
+    COMPONENT_CLASSES = {"caseload-table--header", "caseload-table--even-row", "caseload-table--cursor"}
     BINDINGS = [Binding("enter", "select_cursor", "Open", id="caseload.open")]
 
+    class RowSelected(Message):
+        """Enter (or a click) on a row: open that patient."""
+
+        def __init__(self, patient_id: str) -> None:
+            super().__init__()
+            self.patient_id = patient_id
+
     def __init__(self, **kwargs):
-        super().__init__(cursor_type="row", zebra_stripes=True, cell_padding=0, **kwargs)
+        super().__init__(**kwargs)
         self._lines: tuple[CaseloadLine, ...] = ()
-        self._drawn_width = 0
+        self._cursor = 0
+        self._patient_room = MIN_PATIENT_WIDTH
+        self._fitted: tuple[CaseloadLine, ...] | None = None  # the lines the patient column was fitted to
+
+    # --- what it shows
 
     @property
     def lines(self) -> tuple[CaseloadLine, ...]:
         return self._lines
 
-    def show(self, lines: tuple[CaseloadLine, ...]) -> None:
-        """Same patients in the same order: only the changed rows are redrawn (a full redraw of a
-        large caseload takes long enough to feel); anything else redraws the table."""
-        before, self._lines = self._lines, lines
-        same_rows = [b.patient.id for b in before] == [line.patient.id for line in lines]
-        if same_rows and self.row_count == len(lines) and self._drawn_width == self.size.width:
-            self._update_rows(before, lines)
-        else:
-            self._redraw()
+    @property
+    def row_count(self) -> int:
+        return len(self._lines)
+
+    @property
+    def patient_ids(self) -> list[str]:
+        return [line.patient.id for line in self._lines]
+
+    @property
+    def cursor_row(self) -> int:
+        return self._cursor
+
+    def show(self, lines: tuple[CaseloadLine, ...], fit: tuple[CaseloadLine, ...] | None = None) -> None:
+        """Show `lines`; the cursor stays on its patient while she is among them. The patient column
+        fits the names of `fit` (by default `lines`): given the whole caseload, the columns stay put
+        while a search or a filter narrows it."""
+        keep = self.current_patient_id()
+        self._lines = lines
+        fit = lines if fit is None else fit
+        if fit is not self._fitted:
+            self._fitted = fit
+            self._patient_room = max((patient_room(line) for line in fit), default=0)
+        ids = {line.patient.id: i for i, line in enumerate(lines)} if keep is not None else {}
+        self._cursor = ids.get(keep, min(self._cursor, max(len(lines) - 1, 0)))
+        self.virtual_size = Size(self._width(), len(lines) + 1)
+        self._scroll_to_cursor()
+        self.refresh()
 
     def current_patient_id(self) -> str | None:
-        if not self.row_count:
-            return None
-        return self.coordinate_to_cell_key(self.cursor_coordinate).row_key.value
+        return self._lines[self._cursor].patient.id if self._lines else None
+
+    def get_cell(self, patient_id: str, column: str) -> Text:
+        """The text of one cell as drawn at the current width, without the blanks that pad it."""
+        (line,) = [line for line in self._lines if line.patient.id == patient_id]
+        width = dict((c.key, w) for c, w in self._layout())[column]
+        cell = fitted(row_cells(line, self.app.tone)[column], width)
+        cell.rstrip()
+        return cell
+
+    def get_row_index(self, patient_id: str) -> int:
+        """Where a patient's row is among the lines shown."""
+        return self.patient_ids.index(patient_id)
+
+    def column_keys(self) -> list[str]:
+        return [c.key for c, _ in self._layout()]
+
+    def move_cursor(self, row: int) -> None:
+        if self._lines:
+            self._cursor = max(0, min(row, len(self._lines) - 1))
+            self._scroll_to_cursor()
+            self.refresh()
+
+    # --- keys and mouse: the scrolling keys a ScrollView binds move the cursor here (the wheel still scrolls)
+
+    def action_scroll_up(self) -> None:
+        self.move_cursor(self._cursor - 1)
+
+    def action_scroll_down(self) -> None:
+        self.move_cursor(self._cursor + 1)
+
+    def action_page_up(self) -> None:
+        self.move_cursor(self._cursor - max(1, self._rows_in_view() - 1))
+
+    def action_page_down(self) -> None:
+        self.move_cursor(self._cursor + max(1, self._rows_in_view() - 1))
+
+    def action_scroll_home(self) -> None:
+        self.move_cursor(0)
+
+    def action_scroll_end(self) -> None:
+        self.move_cursor(len(self._lines) - 1)
+
+    def action_select_cursor(self) -> None:
+        if self._lines:
+            self.post_message(self.RowSelected(self._lines[self._cursor].patient.id))
+
+    def on_click(self, event: events.Click) -> None:
+        row = int(self.scroll_offset.y) + event.y - 1
+        if event.y >= 1 and 0 <= row < len(self._lines):
+            self.move_cursor(row)
+            self.action_select_cursor()
 
     def on_resize(self) -> None:
-        if self.size.width != self._drawn_width:
-            self._redraw()
+        self.virtual_size = Size(self._width(), len(self._lines) + 1)
+        self._scroll_to_cursor()
+        self.refresh()
+
+    def on_focus(self) -> None:
+        self.refresh()
+
+    def on_blur(self) -> None:
+        self.refresh()
+
+    # --- drawing
+
+    def _width(self) -> int:
+        return max(self.size.width - SCROLLBAR, 0)
 
     def _layout(self) -> list[tuple[Column, int]]:
-        """The columns that fit, with widths: the patient column takes the room the others leave,
-        and the wide-terminal columns come in once it can still be WIDE_PATIENT_WIDTH."""
-        columns = COLUMNS
-        room = self.size.width - 1 - sum(c.width for c in COLUMNS[1:])
-        if room < WIDE_PATIENT_WIDTH:
-            columns = COLUMNS[:NARROW_COLUMNS]
-            room = max(MIN_PATIENT_WIDTH, self.size.width - 1 - sum(c.width for c in columns[1:]))
-        room = min(room, MAX_PATIENT_WIDTH)
-        return [(c, room if c.width == 0 else c.width) for c in columns]
+        return layout(self.size.width, self._patient_room)
 
-    def _update_rows(self, before: tuple[CaseloadLine, ...], after: tuple[CaseloadLine, ...]) -> None:
-        layout = self._layout()
-        for old, new in zip(before, after):
-            if old == new:
-                continue
-            for cell, (column, width) in zip(row_cells(new, self.app.tone), layout):
-                self.update_cell(new.patient.id, column.key, fitted(cell, width))
+    def _rows_in_view(self) -> int:
+        return max(self.size.height - 1, 1)  # the header takes the first line
 
-    def _redraw(self) -> None:
-        keep = self.current_patient_id()
-        self._drawn_width = self.size.width
-        layout = self._layout()
-        self.clear(columns=True)
-        for column, width in layout:
-            self.add_column(Text(column.label, style="bold"), width=width, key=column.key)
-        tone = self.app.tone
-        for line in self._lines:
-            cells = [fitted(c, w) for c, (_, w) in zip(row_cells(line, tone), layout)]
-            self.add_row(*cells, key=line.patient.id)
-        if keep is not None and keep in {line.patient.id for line in self._lines}:
-            self.move_cursor(row=self.get_row_index(keep), animate=False)
+    def _scroll_to_cursor(self) -> None:
+        top, view = int(self.scroll_offset.y), self._rows_in_view()
+        if self._cursor < top:
+            self.scroll_to(y=self._cursor, animate=False, immediate=True)
+        elif self._cursor >= top + view:
+            self.scroll_to(y=self._cursor - view + 1, animate=False, immediate=True)
+
+    def render_line(self, y: int) -> Strip:
+        width = self._width()
+        if y == 0:
+            style = self.get_component_rich_style("caseload-table--header")
+            text = Text(no_wrap=True, end="")
+            for column, size in self._layout():
+                text.append_text(fitted(Text(column.label), size))
+            return self._strip(text, width, style)
+        index = int(self.scroll_offset.y) + y - 1
+        if index >= len(self._lines):
+            return Strip.blank(width, self.rich_style)
+        if index == self._cursor:
+            style = self.get_component_rich_style("caseload-table--cursor")
+        elif index % 2:
+            style = self.get_component_rich_style("caseload-table--even-row")
+        else:
+            style = self.rich_style
+        cells = row_cells(self._lines[index], self.app.tone)
+        text = Text(no_wrap=True, end="")
+        for column, size in self._layout():
+            text.append_text(fitted(cells[column.key], size))
+        return self._strip(text, width, style)
+
+    def _strip(self, text: Text, width: int, style: Style) -> Strip:
+        """The row's text over the row's style (a cell's own style wins), filling `width`."""
+        return Strip(text.render(self.app.console)).adjust_cell_length(width).apply_style(style)

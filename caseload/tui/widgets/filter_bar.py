@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from enum import StrEnum
 
 from rich.text import Text
 from textual import on
@@ -18,32 +19,45 @@ from caseload.presentation.glossary import ALERT_LABELS
 ANY = "any"
 
 
+class Scope(StrEnum):
+    """Whose patients the list shows: the acting nurse's, everyone's, or those no nurse has yet."""
+
+    MINE = "my patients"
+    ALL = "all patients"
+    UNASSIGNED = "unassigned"
+
+
 @dataclass(frozen=True)
 class Filters:
-    """What the list shows: my patients or all, one alert kind or any, one plan or any, a search."""
+    """What the list shows: a scope, one alert kind or any, one plan or any, a search."""
 
-    mine: bool
+    scope: Scope
     alert_kind: str = ANY
     plan: str = ANY
     search: str = ""
 
+    @property
+    def mine(self) -> bool:
+        return self.scope is Scope.MINE
+
 
 class ScopeToggle(Static):
-    """My patients or all; a click or `m` flips it. Says the scope in words, so it reads without colour."""
+    """The scope in words (so it reads without colour); a click moves it on to the next one."""
 
-    mine: reactive[bool] = reactive(False)
+    scope: reactive[Scope] = reactive(Scope.ALL)
 
     class Changed(Message):
         pass
 
     def render(self) -> Text:
-        return Text("[my patients]" if self.mine else "[all patients]")
+        return Text(f"[{self.scope.value}]")
 
-    def watch_mine(self) -> None:
+    def watch_scope(self) -> None:
         self.post_message(self.Changed())
 
     def on_click(self) -> None:
-        self.mine = not self.mine
+        order = list(Scope)
+        self.scope = order[(order.index(self.scope) + 1) % len(order)]
 
 
 class FilterBar(Horizontal):
@@ -63,24 +77,27 @@ class FilterBar(Horizontal):
         plans = [("plan: any", ANY)] + [(f"plan: {p.value}", p.value) for p in Plan]
         yield Select(plans, value=ANY, allow_blank=False, id="plan", compact=True)
         toggle = ScopeToggle(id="mine")
-        toggle.set_reactive(ScopeToggle.mine, self._mine)
+        toggle.set_reactive(ScopeToggle.scope, Scope.MINE if self._mine else Scope.ALL)
         yield toggle
 
     @property
     def filters(self) -> Filters:
         return Filters(
-            mine=self.query_one(ScopeToggle).mine,
+            scope=self.query_one(ScopeToggle).scope,
             alert_kind=str(self.query_one("#alert-kind", Select).value),
             plan=str(self.query_one("#plan", Select).value),
             search=self.query_one("#search", Input).value,
         )
 
-    def toggle_mine(self) -> None:
+    def toggle(self, scope: Scope) -> None:
+        """`scope`, or all patients when the list shows `scope` already."""
         toggle = self.query_one(ScopeToggle)
-        toggle.mine = not toggle.mine
+        toggle.scope = Scope.ALL if toggle.scope is scope else scope
 
     def set_mine(self, mine: bool) -> None:
-        self.query_one(ScopeToggle).mine = mine
+        toggle = self.query_one(ScopeToggle)
+        if mine or toggle.scope is Scope.MINE:
+            toggle.scope = Scope.MINE if mine else Scope.ALL
 
     def clear_search(self) -> None:
         self.query_one("#search", Input).value = ""
