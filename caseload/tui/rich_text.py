@@ -14,7 +14,11 @@ def literal(text: object, style: str = "") -> Text:
     return Text(printable(text), style=style, no_wrap=True)
 
 
+# Letters that carry their mark inside them, so that no Unicode decomposition takes it off.
+UNMARKED = str.maketrans({"ł": "l", "ø": "o", "đ": "d", "ð": "d", "ħ": "h", "ı": "i", "æ": "ae", "œ": "oe", "þ": "th"})
+
+
 def folded(text: str) -> str:
-    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês')."""
-    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês', 'lukasz' finds 'Łukasz')."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold()).translate(UNMARKED)
     return "".join(ch for ch in decomposed if not unicodedata.combining(ch))

@@ -1,24 +1,31 @@
-"""Finding a patient by what a caller says: an id, part of it, or any part of the name."""
+"""Finding a patient by what a caller says: an id, part of it, or the name's words in any order."""
 
 from __future__ import annotations
+
+import re
 
 from caseload.core.model import Patient
 from caseload.tui.rich_text import folded
 
+WORD = re.compile(r"\w+")
+
 
 def match_rank(patient: Patient, typed: str) -> int | None:
-    """0 exact id, 1 id prefix, 2 a name word starts with it, 3 found anywhere; None for no match."""
-    query = folded(typed.strip())
-    if not query:
+    """0 exact id, 1 id prefix, 2 every typed word starts a word of the name (in any order, so
+    "nowak katarzyna" finds Katarzyna Nowak), 3 every typed word found anywhere; None for no match.
+    Case and accents never matter ("ines" finds Inês)."""
+    words = WORD.findall(folded(typed))
+    if not words:
         return 3
-    pid, name = folded(patient.id), folded(patient.name)
+    query, pid, name = " ".join(words), folded(patient.id), folded(patient.name)
     if pid == query:
         return 0
     if pid.startswith(query):
         return 1
-    if any(word.startswith(query) for word in name.split()) or name.startswith(query):
+    name_words = WORD.findall(name)
+    if all(any(w.startswith(q) for w in name_words) for q in words):
         return 2
-    if query in name or query in pid:
+    if all(q in name for q in words) or query in pid:
         return 3
     return None
 
