@@ -8,7 +8,8 @@ from rich.table import Table
 
 from caseload.core.model import Entry
 from caseload.presentation.days import iso_day, short_day
-from caseload.presentation.glossary import CAUTION, alert_label, entry_history, next_event_short, phase_label
+from caseload.presentation.glossary import (CAUTION, alert_label, alert_short, entry_history, more_alerts,
+                                            next_event_short, phase_label, phase_short)
 from caseload.presentation.safe_text import printable
 
 
@@ -46,12 +47,12 @@ def list_table(lines) -> None:
     rows = []
     for line in lines:
         s, top = line.snapshot, line.top_alert
-        alert = "" if top is None else f"{top.severity.value} {alert_label(top.kind)}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else "")
+        alert = "" if top is None else f"{top.severity.value} {alert_short(top.kind)} {more_alerts(len(line.alerts) - 1)}".rstrip()
         window = f"{short_day(s.fertile_window[0])}-{short_day(s.fertile_window[1])}" if s and s.fertile_window else ""
         shift = short_day(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""
         nxt = f"{next_event_short(s.next_event)} {short_day(s.next_event_day)}" if s and s.next_event else ""
         since = "" if line.days_since_entry is None else str(line.days_since_entry)
-        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", phase_label(s.phase) if s else "", window, shift, alert, nxt, since])
+        rows.append([line.patient.id, line.patient.name, line.cycle_day or "", phase_short(s.phase) if s else "", window, shift, alert, nxt, since])
     print_table(["patient", "name", "day", "phase", "window", "shift", "alert", "next", "quiet"], rows,
                 title=f"Caseload: {len(lines)} patients (day = cycle day, quiet = days since last entry)")
     console().print(CAUTION, style="dim")

@@ -22,15 +22,13 @@ from caseload.core.pregnancy import hcg_trend
 from caseload.core.settings import Protocol
 from caseload.application.referral import PackInput
 from caseload.exports import chart
-from caseload.presentation.glossary import entry_history
+from caseload.presentation.glossary import OVULATION_METHOD_LABELS, alert_label, entry_history
 
 CAUTION = (
     "Predictions in this pack are estimates from the patient's own records and published population figures; "
     "they are not contraception advice. Alerts point to records worth a clinician's look: they defer to the "
     "clinic's protocols and to licensed clinical judgement, and do not replace either."
 )
-OVULATION_METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
-                          "mucus": "mucus peak"}
 UNITS = {Kind.HCG: "IU/L", Kind.LH: "IU/L"}
 
 
@@ -114,7 +112,7 @@ def why(alerts: Sequence[Alert]) -> Section:
     if not alerts:
         return Section("Why: open alerts", ("No alert is open for this patient.",))
     paragraphs = tuple(
-        f"{a.kind} ({a.severity.value}, {a.state.value}, raised {a.raised_on.isoformat()}): {a.message} "
+        f"{alert_label(a.kind)} ({a.severity.value}, {a.state.value}, raised {a.raised_on.isoformat()}): {a.message} "
         f"Evidence: {_evidence(a.evidence)}. Rule: {a.rule}. Source: {a.source}."
         for a in alerts
     )
@@ -150,7 +148,7 @@ def cycle_summary(i: PackInput) -> Section:
                   f"next period about {pr.next_period.isoformat()} (90% range {_span(pr.next_period_range)}).",)
     rows = tuple(
         Row((str(n), c.start.isoformat(), "open" if c.length is None else str(c.length), str(c.bleed_days),
-             _day(c.markers.ovulation), OVULATION_METHOD_WORDS.get(c.markers.ovulation_method or "", "-"),
+             _day(c.markers.ovulation), OVULATION_METHOD_LABELS.get(c.markers.ovulation_method or "", "-"),
              "-" if c.luteal_length is None else str(c.luteal_length)))
         for n, c in reversed(list(enumerate(a.cycles, start=1)))
     )

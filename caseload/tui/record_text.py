@@ -8,12 +8,10 @@ from rich.text import Text
 from caseload.core.analysis import Analysis
 from caseload.core.cycles import cycle_day
 from caseload.application.caseload_view import PatientRecord
-from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, phase_label
+from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, OVULATION_METHOD_LABELS, phase_label
 from caseload.presentation.days import day_span, short_day
 from caseload.tui.rich_text import literal
 
-METHOD_WORDS = {"lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change",
-                "mucus": "mucus peak"}
 EVIDENCE_WORDS = {
     "lh": "a positive LH test",
     "shift": "the temperature rise",
@@ -28,7 +26,7 @@ def title_text(record: PatientRecord) -> Text:
     p, a = record.patient, record.analysis
     text = Text(p.id + " ", style="bold").append_text(literal(p.name, style="bold"))
     if a.cycle_day is not None:
-        text.append(f"  CD {a.cycle_day}", style="bold")
+        text.append(f"  cycle day {a.cycle_day}", style="bold")
         text.append(f" {phase_label(a.phase)} (from {short_day(a.cycle_start)})")
     else:
         text.append(f"  {phase_label(a.phase)}")
@@ -50,7 +48,7 @@ def cycle_rows(a: Analysis) -> list[list[str]]:
             "open" if c.length is None else str(c.length),
             str(c.bleed_days),
             ov_text,
-            METHOD_WORDS.get(c.markers.ovulation_method or "", "-"),
+            OVULATION_METHOD_LABELS.get(c.markers.ovulation_method or "", "-"),
             "-" if c.luteal_length is None else str(c.luteal_length),
         ])
     return rows
@@ -109,7 +107,7 @@ def outlook_text(record: PatientRecord) -> Text:
     _outlook_prediction(a, text)
     if a.current is not None:
         sh = a.current.shift
-        text.append("Temperature rise ", style="bold")
+        text.append("Thermal shift ", style="bold")
         state = f"confirmed {short_day(sh.confirmed_on)}" if sh.confirmed else "not confirmed"
         text.append(f"{state}; coverline {_num(sh.coverline, 2)} C; three-over-six and change point: {sh.agreement}; "
                     f"{sh.readings} readings\n")

@@ -42,7 +42,7 @@ async def test_top_alert_and_count_of_more(app_as, service_ctx):
         await settle(pilot)
         text = cell(app, "P0002", "alert")
         assert text.startswith(line.top_alert.severity.value)
-        assert text.endswith("+1")
+        assert text.endswith("+1 more")
 
 
 async def test_header_counts_open_alerts_by_severity(app_as, service_ctx):

@@ -8,7 +8,7 @@ from textual.binding import Binding
 from textual.widgets import DataTable
 
 from caseload.application.caseload_view import CaseloadLine
-from caseload.presentation.glossary import alert_label, next_event_short, phase_label
+from caseload.presentation.glossary import alert_short, more_alerts, next_event_short, phase_short
 from caseload.presentation.days import short_day
 from caseload.tui.rich_text import literal
 
@@ -25,7 +25,7 @@ class Column:
 COLUMNS = (
     Column("patient", "Patient", 0),
     Column("cd", " CD", 4),
-    Column("where", "Where", 13),
+    Column("where", "Phase", 13),
     Column("alert", "Most urgent alert", 25),
     Column("next", "Next", 15),
     Column("last", "Last", 5),
@@ -46,14 +46,16 @@ def patient_cell(line: CaseloadLine) -> Text:
 
 
 def alert_cell(line: CaseloadLine, tone) -> Text:
+    """Severity, the most pressing alert and how many more: a long label is cut, never the count."""
     top = line.top_alert
     if top is None:
         return Text("-", style="dim")
-    text = Text(f"{top.severity.value} ", style=tone(top.severity))
-    text.append(alert_label(top.kind))
-    if len(line.alerts) > 1:
-        text.append(f" +{len(line.alerts) - 1}", style="dim")
-    return text
+    more = f" {more_alerts(len(line.alerts) - 1)}" if len(line.alerts) > 1 else ""
+    severity = f"{top.severity.value} "
+    room = next(c.width for c in COLUMNS if c.key == "alert") - 1 - len(severity) - len(more)
+    label = Text(alert_short(top.kind))
+    label.truncate(room, overflow="ellipsis")
+    return Text(severity, style=tone(top.severity)).append_text(label).append(more, style="dim")
 
 
 def next_cell(line: CaseloadLine) -> Text:
@@ -75,7 +77,7 @@ def row_cells(line: CaseloadLine, tone) -> list[Text]:
     return [
         patient_cell(line),
         Text(f"{'-' if line.cycle_day is None else line.cycle_day:>3}"),
-        Text(phase_label(s.phase if s else None)),
+        Text(phase_short(s.phase if s else None)),
         alert_cell(line, tone),
         next_cell(line),
         last_cell(line),
