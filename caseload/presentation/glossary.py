@@ -32,8 +32,8 @@ class Term:
 
 
 # Where each group of words is read; the README's glossary table says so.
-PHASES_SHOWN = "list and `caseload list` (short), record title, quick log, `caseload show`"
-ALERTS_SHOWN = "list and `caseload list` (short), alert queue, record, `caseload alerts`, referral pack, weekly summary"
+PHASES_SHOWN = "list and `caseload list` (short), record, quick log, `caseload show`"
+ALERTS_SHOWN = "list and `caseload list` (short), alert queue, record, `caseload alerts`, exports"
 
 # The phase of the cycle she is in today, in the words a nurse writes in a chart (the stored phase
 # words stay the contract).
