@@ -70,3 +70,20 @@ async def test_phases_and_cycle_day_in_the_trade_words(app_as):
         await settle(pilot)
         title = str(app.screen.query_one("#record-title").render())
         assert "cycle day 18 luteal phase" in title and "CD" not in title
+
+
+async def test_mucus_shows_by_its_description_on_the_chart(app_as, service_ctx):
+    from caseload.application.entries import log_entry
+
+    log_entry(service_ctx("nell"), "P0001", "mucus", "stretchy")  # today, her cycle day 18
+    log_entry(service_ctx("nell"), "P0001", "mucus", "creamy", on="yesterday")
+    app = app_as("ada")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        app.screen.query_one(CaseloadTable).move_cursor(row=rows(app).index("P0001"))
+        await pilot.press("enter")
+        await settle(pilot)
+        strip = app.screen.query_one("MarkerStrip")
+        assert strip.get_cell("mucus", "18").plain == "st" and strip.get_cell("mucus", "17").plain == "cr"
+        legend = str(app.screen.query_one("#strip-legend").render())
+        assert legend.startswith("mucus dr dry · da damp · sk sticky · cr creamy · wa watery · st stretchy")
