@@ -30,23 +30,27 @@ def demo(options: GlobalOptions, no_ui: bool, fresh: bool) -> None:
         require_terminal()
     path = Path(options.db_path) if options.db_path else demo_store_path()
     if is_demo_store(path) and not fresh:
-        click.echo(f"Opening the demo as you left it ({path}); 'caseload demo --fresh' rebuilds it dated from today.")
+        done = f"Opening the demo as you left it ({path}); 'caseload demo --fresh' rebuilds it dated from today."
+        click.echo(done)
     else:
-        _build(path, options, rebuilt=fresh and path.exists())
+        done = _build(path, options, rebuilt=fresh and path.exists())
     on_demo = replace(options, db_path=str(path), clinic=None)
     if no_ui:
         list_table(on_demo.open_clinic().morning_list())
     else:
-        open_interface(on_demo)
+        open_interface(on_demo, notice=done)
 
 
-def _build(path: Path, options: GlobalOptions, rebuilt: bool) -> None:
+def _build(path: Path, options: GlobalOptions, rebuilt: bool) -> str:
+    """Build the demo and print what was built; returns the line that says so."""
     built = build_demo(path, options.date_of_record or local_today(clinic_timezone()), os_account())
     built.store.close()
-    done = "Rebuilt the demo caseload from the start" if rebuilt else "Built the demo caseload"
-    click.echo(f"{done} of {built.clinic}: {built.patients} patients, {built.entries} entries, store {path}")
+    what = "Rebuilt the demo caseload from the start" if rebuilt else "Built the demo caseload"
+    done = f"{what} of {built.clinic}: {built.patients} patients, {built.entries} entries, store {path}"
+    click.echo(done)
     click.echo(f"Your OS account is mapped to the admin {built.admin.id}; try any role with --as:")
     print_table(["staff", "name", "role"], [[s.id, s.name, s.role.value] for s in built.staff])
+    return done
 
 
 COMMANDS = [demo]
