@@ -86,7 +86,7 @@ ALERT_TERMS: dict[str, Term] = {
     "sustained-high-temps": Term("sustained high BBT", "high BBT",
                                  "basal temperature above the coverline for 18 days or more"),
     "amenorrhoea": Term("amenorrhoea", "amenorrhoea", "90 days or more with no menses, not pregnant"),
-    "hcg-rise-low": Term("suboptimal hCG rise", "low hCG rise",
+    "hcg-rise-low": Term("suboptimal hCG rise", "slow hCG",
                          "serum hCG rising less than the protocol minimum per 48 h, or falling"),
     "multiple-follicles": Term("multiple follicles", "multifollicular",
                                "more mature follicles on a scan than the protocol allows"),
@@ -94,7 +94,7 @@ ALERT_TERMS: dict[str, Term] = {
     "fever": Term("fever", "fever", "a temperature of 38.0 C or more"),
     "intermenstrual-bleeding": Term("intermenstrual bleeding", "IMB",
                                     "bleeding between menses, marked mid-cycle (FIGO 2018 symptom)"),
-    "bleeding-in-pregnancy": Term("bleeding in pregnancy", "preg. bleed",
+    "bleeding-in-pregnancy": Term("bleeding in pregnancy", "PV bleed",
                                   "a bleed after a positive hCG; not taken as menses"),
 }
 PHASE_LABELS: dict[str, str] = {phase: term.label for phase, term in PHASE_TERMS.items()}
