@@ -27,7 +27,7 @@ def title_text(record: PatientRecord) -> Text:
     text = Text(p.id + " ", style="bold").append_text(literal(p.name, style="bold"))
     if a.cycle_day is not None:
         text.append(f"  cycle day {a.cycle_day}", style="bold")
-        text.append(f" {phase_label(a.phase)} (from {short_day(a.cycle_start)})")
+        text.append(f" (from {short_day(a.cycle_start)}) · {phase_label(a.phase)}")
     else:
         text.append(f"  {phase_label(a.phase)}")
     status = "" if p.status.value == "active" else f" · {p.status.value}"

@@ -69,7 +69,7 @@ async def test_phases_and_cycle_day_in_the_trade_words(app_as):
         await pilot.press("enter")
         await settle(pilot)
         title = str(app.screen.query_one("#record-title").render())
-        assert "cycle day 18 luteal phase" in title and "CD" not in title
+        assert "cycle day 18 (from 14 Nov) · luteal phase" in title and "CD" not in title
 
 
 async def test_mucus_shows_by_its_description_on_the_chart(app_as, service_ctx):
