@@ -3,6 +3,8 @@ accents, fast, and one Enter to move on."""
 
 from __future__ import annotations
 
+from contextlib import asynccontextmanager
+
 import pytest
 from textual.widgets import OptionList
 
@@ -30,18 +32,25 @@ def callers(service_ctx):
     return service_ctx("ada")
 
 
+@asynccontextmanager
+async def phil_typed(app_as, *keys: str):
+    """The phone clerk's interface after these keys, typed with no pause."""
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press(*keys)
+        await settle(pilot)
+        yield app, pilot
+
+
 def match_lines(app) -> list[str]:
     options = app.screen.query_one("#matches", OptionList)
     return [str(options.get_option_at_index(i).prompt) for i in range(options.option_count)]
 
 
 async def test_surname_first_finds_her_and_one_enter_moves_on_to_the_kind(app_as, callers):
-    app = app_as("phil")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        # Typed ahead with no pause: l, the name as the caller says it, Enter, t, Enter, the reading, Enter.
-        await pilot.press("l", *"nowak katarzyna", "enter", "t", "enter", *"36.61", "enter")
-        await settle(pilot)
+    # Typed ahead with no pause: l, the name as the caller says it, Enter, t, Enter, the reading, Enter.
+    async with phil_typed(app_as, "l", *"nowak katarzyna", "enter", "t", "enter", *"36.61", "enter") as (app, _):
         assert isinstance(app.screen, QuickLogScreen)
         [temp] = [e for e in patient_entries(callers, "P0101") if e.kind is Kind.TEMP]
         assert (temp.day, temp.value.number) == (TODAY, 36.61)
@@ -49,11 +58,7 @@ async def test_surname_first_finds_her_and_one_enter_moves_on_to_the_kind(app_as
 
 
 async def test_two_of_the_same_name_show_their_dates_of_birth(app_as, callers):
-    app = app_as("phil")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        await pilot.press("l", *"katarzyna nowak")
-        await settle(pilot)
+    async with phil_typed(app_as, "l", *"katarzyna nowak") as (app, pilot):
         lines = match_lines(app)
         assert len(lines) == 2
         assert "P0101 Katarzyna Nowak  born 1990-03-02" in lines[0]
@@ -72,20 +77,12 @@ async def test_two_of_the_same_name_show_their_dates_of_birth(app_as, callers):
     ("WRÓBEL", "P0103"),
 ])
 async def test_accents_typed_without_accents_and_any_case_find_her(app_as, callers, typed, found):
-    app = app_as("phil")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        await pilot.press("l", *typed, "enter")
-        await settle(pilot)
+    async with phil_typed(app_as, "l", *typed, "enter") as (app, _):
         assert app.screen.query_one("PatientPicker").patient.id == found
 
 
 async def test_up_to_eight_matches_are_listed(app_as, callers):
-    app = app_as("phil")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        await pilot.press("l", *"anna")
-        await settle(pilot)
+    async with phil_typed(app_as, "l", *"anna") as (app, _):
         lines = match_lines(app)
         assert len(lines) == 8 and all("Anna Test" in line and "born 1991-01-01" in line for line in lines)
         assert app.screen.query_one("#matches").region.height == 8  # every one of them on the screen
