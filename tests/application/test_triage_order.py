@@ -80,3 +80,24 @@ def test_the_command_line_lists_the_same_order_and_words(triage, store):
     text = runner.invoke(main, [*args, "list"], obj=TODAY, terminal_width=160).output
     assert "today long bleed +1 more" in text
     assert text.index("P0018") < text.index("P0002")
+
+
+def test_a_save_that_raises_a_timing_alert_keeps_the_row_on_the_risk(as_role, patient, store):
+    """The row rebuilt after a save (no store read) follows the same rule: the newest alert does not
+    take the row from a more pressing one."""
+    from dataclasses import replace
+
+    from caseload.application.caseload_view import row_after
+    from caseload.application.entries import log_entry
+
+    phone = as_role(Role.PHONE)
+    log_entry(phone, patient.id, "temp", "38.4", on="yesterday", at="06:40")  # a fever: 38.0 C or more
+    [line] = [x for x in list_caseload(as_role(Role.NURSE)) if x.patient.id == patient.id]
+    assert line.top_alert.kind == "fever"
+    done = log_entry(phone, patient.id, "lh", "positive")
+    with store.atomic(TODAY):  # the window this save opened, raised after the fever
+        window = store.alerts.raise_alert(phone.actor, Candidate(
+            patient.id, "window-open", f"{patient.id}:window-open:c1", Severity.TODAY, YESTERDAY, "open", {}, "r", "s"),
+            TODAY)  # due a day earlier than the fever: timing still comes after the risk
+    after = row_after(line, replace(done.refreshed, raised=(window,)), TODAY)
+    assert [a.kind for a in after.alerts] == ["fever", "window-open"]
