@@ -84,5 +84,8 @@ def test_the_installed_wheel_runs_from_its_own_environment(installed, tmp_path):
 def test_the_installed_wheel_builds_and_lists_the_demo(installed, tmp_path):
     demo = run_installed(installed, "demo", "--no-ui", home=tmp_path)
     assert demo.returncode == 0, demo.stderr
-    assert "Demo caseload of" in demo.stdout
+    assert "Built the demo caseload of" in demo.stdout
     assert (tmp_path / "data" / "caseload" / "demo.db").is_file()
+    again = run_installed(installed, "demo", "--no-ui", home=tmp_path)  # the README's first command, run twice
+    assert again.returncode == 0, again.stderr
+    assert again.stdout.startswith("Opening the demo as you left it (")

@@ -24,7 +24,7 @@ def is_clinical(kind: str) -> bool:
 
 
 def _order(a: Alert) -> tuple:
-    return (a.state is AlertState.RESOLVED, a.severity.rank, a.due, a.id)
+    return (a.state is AlertState.RESOLVED, *rules.triage_key(a))
 
 
 def list_alerts(ctx: Context, state: str = "open", kind: str | None = None, nurse: str | None = None) -> list[Alert]:

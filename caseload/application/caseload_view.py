@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from datetime import date
 
+from caseload.core.alerts import risk_rank, triage_key
 from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
@@ -23,7 +24,7 @@ class CaseloadLine:
     patient: Patient
     snapshot: Snapshot | None
     cycle_day: int | None
-    alerts: tuple[Alert, ...]  # open alerts, most pressing first
+    alerts: tuple[Alert, ...]  # open alerts, most pressing first (the first is the row's)
     days_since_entry: int | None
 
     @property
@@ -34,6 +35,7 @@ class CaseloadLine:
         top = self.top_alert
         return (
             top.severity.rank if top else NO_ALERT_RANK,
+            risk_rank(top.kind) if top else NO_ALERT_RANK,
             top.due if top else date.max,
             self.cycle_day if self.cycle_day is not None else 10**6,
             self.patient.id,
@@ -41,11 +43,13 @@ class CaseloadLine:
 
 
 def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
-    return tuple(sorted(alerts, key=lambda a: (a.severity.rank, a.due, a.id)))
+    """Most severe first, and within a severity the most clinical risk first (never the most recent)."""
+    return tuple(sorted(alerts, key=triage_key))
 
 
 def list_caseload(ctx: Context) -> list[CaseloadLine]:
-    """Every patient under care (not discharged), most pressing first: alert severity, due day, cycle day."""
+    """Every patient under care (not discharged), most pressing first: her top alert's severity and
+    clinical risk, its due day, then cycle day."""
     ctx.require("caseload.view")
     under_care = [p for p in ctx.store.patients.all() if p.status is not PatientStatus.DISCHARGED]
     states = ctx.store.state.all()

@@ -291,16 +291,20 @@ class _Replay:
         self.store.alerts.handle(self._handler(alert), alert, target, notes[target], until)
 
 
-def _refuse_real_store(path: Path) -> None:
-    """Only a demo store is rebuilt: any other file at `path` is kept (it may be a clinic's store)."""
+def is_demo_store(path: Path) -> bool:
+    """Whether `path` holds a demo store that opens (one built by `build_demo`)."""
     if not path.exists():
-        return
+        return False
     try:
         with Store(path) as existing:
-            is_demo = existing.meta("clinic") is not None
+            return existing.meta("clinic") is not None
     except StoreError:
-        is_demo = False
-    if not is_demo:
+        return False
+
+
+def _refuse_real_store(path: Path) -> None:
+    """Only a demo store is rebuilt: any other file at `path` is kept (it may be a clinic's store)."""
+    if path.exists() and not is_demo_store(path):
         raise Refused(f"{path} exists and is not a demo store: the demo never replaces it, give another --db")
 
 

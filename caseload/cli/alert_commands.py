@@ -12,7 +12,7 @@ from caseload.cli.printing import console, safe
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import Alert
 from caseload.presentation import json_shapes
-from caseload.presentation.glossary import ALERT_CAUTION, refresh_line
+from caseload.presentation.glossary import ALERT_CAUTION, alert_label, refresh_line
 
 
 def _handled(a: Alert) -> str:
@@ -30,7 +30,7 @@ def _handled(a: Alert) -> str:
 @click.option("--refresh", is_flag=True, help="Bring every patient's alerts up to date first.")
 @pass_clinic
 def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool) -> None:
-    """The alert queue, most pressing first (severity, then due day)."""
+    """The alert queue, most pressing first (severity, then clinical risk, then due day)."""
     if refresh:
         click.echo(refresh_line(clinic.refresh()), err=as_json)
     found = clinic.alerts(state, kind, nurse)
@@ -44,12 +44,12 @@ def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: s
 def _alert_table(found: list[Alert], title: str) -> None:
     """The identifying columns never wrap; the message and the handling wrap to the terminal."""
     table = Table(title=title, header_style="bold", box=None, pad_edge=False)
-    for header in ("id", "patient", "severity", "kind", "state", "due"):
+    for header in ("id", "patient", "severity", "kind", "alert", "state", "due"):
         table.add_column(header, no_wrap=True)
     table.add_column("message", ratio=3)
     table.add_column("handled", ratio=1)
     for a in found:
-        table.add_row(*(safe(c) for c in (a.id, a.patient_id, a.severity.value, a.kind, a.state.value,
+        table.add_row(*(safe(c) for c in (a.id, a.patient_id, a.severity.value, a.kind, alert_label(a.kind), a.state.value,
                                           a.due.isoformat(), a.message, _handled(a))))
     console().print(table)
 

@@ -9,11 +9,12 @@ import click
 from caseload.cli.global_options import GlobalOptions
 
 
-def open_interface(options: GlobalOptions) -> None:
-    """Build the interface on the options' Clinic and run it until the user quits."""
+def open_interface(options: GlobalOptions, notice: str | None = None) -> None:
+    """Build the interface on the options' Clinic and run it until the user quits; `notice` is
+    shown on opening (what the command did before it)."""
     from caseload.tui.app import make_app  # Textual loads only when the interface opens
 
-    make_app(options.open_clinic()).run()
+    make_app(options.open_clinic(), notice=notice).run()
 
 
 def require_terminal() -> None:

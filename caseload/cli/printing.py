@@ -9,7 +9,8 @@ from rich.text import Text
 
 from caseload.core.model import Entry, Severity
 from caseload.presentation.days import iso_day, short_day
-from caseload.presentation.glossary import CAUTION, alert_label, entry_history, next_event_short, phase_label
+from caseload.presentation.glossary import (CAUTION, alert_label, alert_short, entry_history, more_alerts,
+                                            next_event_short, phase_label, phase_short)
 from caseload.presentation.safe_text import printable
 
 
@@ -57,13 +58,13 @@ def list_cells(line) -> dict[str, Text]:
     alert = Text()
     if top is not None:
         alert.append(top.severity.value, style=SEVERITY_STYLES.get(top.severity, ""))
-        alert.append(f" {alert_label(top.kind)}" + (f" +{len(line.alerts) - 1}" if len(line.alerts) > 1 else ""))
+        alert.append(f" {alert_short(top.kind)} {more_alerts(len(line.alerts) - 1)}".rstrip())
     window = f"{short_day(s.fertile_window[0])}-{short_day(s.fertile_window[1])}" if s and s.fertile_window else ""
     return {
         "patient": Text(printable(line.patient.id)),
         "name": Text(printable(line.patient.name)),
         "day": Text("" if line.cycle_day is None else str(line.cycle_day)),
-        "phase": Text(phase_label(s.phase) if s else ""),
+        "phase": Text(phase_short(s.phase) if s else ""),
         "window": Text(window),
         "shift": Text(short_day(s.shift_confirmed_on) if s and s.shift_confirmed_on else ""),
         "alert": alert,

@@ -79,7 +79,7 @@ class Protocol:
     intermenstrual_heavy_days: int = setting(1, "common practice", 1, 14, "heavy days of bleeding between periods in a cycle that alert")
     mature_follicle_mm: float = setting(14.0, "Evans 2020", 10, 20, "follicle diameter (mm) counted as mature")
     max_mature_follicles: int = setting(2, "Evans 2020 (under 40 years)", 1, 5, "mature follicles allowed before the multiple-follicles alert")
-    multiple_follicle_rule: int = setting(1, "Evans 2020; Thessaloniki 2008 (from memory)", 1, 2, "too many follicles: 1 Evans, 2 Thessaloniki (>2 at 16 mm)")
+    multiple_follicle_rule: int = setting(1, "Evans 2020; Thessaloniki 2008 (from memory)", 1, 2, "multiple follicles rule: 1 Evans, 2 Thessaloniki (>2 at 16 mm)")
     cyst_mm: float = setting(25.0, "from memory", 20, 40, "unchanged on two scans, this size (mm) is a possible cyst")
     trigger_follicle_mm: float = setting(18.0, "common practice", 14, 25, "lead follicle diameter (mm) at which a trigger is planned")
     logging_gap_days: int = setting(3, "common practice", 1, 14, "days with no entry that make a logging gap")

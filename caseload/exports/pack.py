@@ -24,7 +24,7 @@ from caseload.application.referral import PackInput
 from caseload.exports import chart
 from caseload.presentation.days import iso_day, iso_minute, iso_span
 from caseload.presentation.glossary import (
-    edd_method_label, entry_history, evidence_key_label, kind_label, ovulation_method_label,
+    alert_label, edd_method_label, entry_history, evidence_key_label, kind_label, ovulation_method_label,
 )
 from caseload.presentation.safe_text import printable
 
@@ -109,7 +109,7 @@ def why(alerts: Sequence[Alert]) -> Section:
     if not alerts:
         return Section("Why: open alerts", ("No alert is open for this patient.",))
     paragraphs = tuple(
-        f"{a.kind} ({a.severity.value}, {a.state.value}, raised {iso_day(a.raised_on)}): {a.message} "
+        f"{alert_label(a.kind)} ({a.severity.value}, {a.state.value}, raised {iso_day(a.raised_on)}): {a.message} "
         f"Evidence: {_evidence(a.evidence)}. Rule: {a.rule}. Source: {a.source}."
         for a in alerts
     )

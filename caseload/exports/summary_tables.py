@@ -13,6 +13,7 @@ from caseload.application.week.figures import Change, PatientRef, WeeklySummary
 from caseload.application.week.alert_counts import SEVERITIES
 from caseload.application.week.figures import TOTAL
 from caseload.presentation.days import iso_day
+from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import printable
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
@@ -64,7 +65,7 @@ class Chart:
 CHARTS = (
     Chart("census-by-nurse", "Active patients by nurse", "census", "by_nurse", "nurse", ("at_start", "at_end"),
           "patients"),
-    Chart("alerts-by-kind", "Alerts raised by kind", "alerts", "raised", "kind", ("total",), "alerts"),
+    Chart("alerts-by-kind", "Alerts raised by kind", "alerts", "raised", "alert", ("total",), "alerts"),
     Chart("hours-to-acknowledge", "Hours from raised to first acknowledged", "alerts", "ack_time", "severity",
           ("median_hours", "p90_hours"), "hours"),
 )
@@ -143,6 +144,9 @@ def _census(s: WeeklySummary) -> Section:
     ))
 
 
+ALERT_COLUMN = Column("alert", "Alert", TEXT)  # the kind in the trade's words, beside its identifier
+
+
 def _alerts(s: WeeklySummary) -> Section:
     a, deid = s.alerts, s.deidentified
     people = _patient_columns(deid)
@@ -151,9 +155,9 @@ def _alerts(s: WeeklySummary) -> Section:
              Column("p90_hours", "90th percentile hours", FLOAT))
     return Section("alerts", "Alerts", (
         Table("raised", "Alerts raised by kind and severity",
-              (Column("kind", "Kind", TEXT), *by_severity, Column("total", "Total")),
-              tuple((r.kind, *r.by_severity, r.total) for r in a.raised),
-              (TOTAL, *a.raised_total.by_severity, a.raised_total.total)),
+              (Column("kind", "Kind", TEXT), ALERT_COLUMN, *by_severity, Column("total", "Total")),
+              tuple((r.kind, alert_label(r.kind), *r.by_severity, r.total) for r in a.raised),
+              (TOTAL, "", *a.raised_total.by_severity, a.raised_total.total)),
         Table("actions", "Alert transitions in the week", (Column("event", "Event", TEXT), Column("count", "Count")),
               tuple((r.event, r.count) for r in a.actions)),
         Table("ack_time", "Hours from raised to first acknowledged, by severity then",
@@ -167,15 +171,15 @@ def _alerts(s: WeeklySummary) -> Section:
               (TOTAL, a.week_end_total.open, a.week_end_total.past_due, a.week_end_total.acknowledged,
                a.week_end_total.snoozed)),
         Table("open_at_end", "Urgent and today alerts not resolved at week end, by nurse",
-              (Column("nurse", "Nurse", TEXT), *people, Column("kind", "Kind", TEXT),
+              (Column("nurse", "Nurse", TEXT), *people, Column("kind", "Kind", TEXT), ALERT_COLUMN,
                Column("severity", "Severity", TEXT), Column("state", "State", TEXT),
                Column("raised_on", "Raised on", DATE), Column("age_days", "Age (days)")),
-              tuple((o.nurse, *_patient(o.patient, deid), o.kind, o.severity, o.state, o.raised_on, o.age_days)
+              tuple((o.nurse, *_patient(o.patient, deid), o.kind, alert_label(o.kind), o.severity, o.state, o.raised_on, o.age_days)
                     for o in a.open_at_end)),
         Table("urgent_notes", "Notes on urgent alerts acknowledged or resolved",
-              (*people, Column("kind", "Kind", TEXT), Column("action", "Action", TEXT), Column("by", "By", TEXT),
+              (*people, Column("kind", "Kind", TEXT), ALERT_COLUMN, Column("action", "Action", TEXT), Column("by", "By", TEXT),
                Column("at", "When", DATETIME), Column("note", "Note", TEXT)),
-              tuple((*_patient(n.patient, deid), n.kind, n.action, n.by_staff, n.at, n.note) for n in a.urgent_notes)),
+              tuple((*_patient(n.patient, deid), n.kind, alert_label(n.kind), n.action, n.by_staff, n.at, n.note) for n in a.urgent_notes)),
     ))
 
 

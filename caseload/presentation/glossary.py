@@ -26,20 +26,38 @@ CAUTION = (
 ALERT_CAUTION = alerts.CAUTION
 """Shown with every alert (and carried in `alerts --json`)."""
 
-PHASE_LABELS: dict[str, str] = {
-    BLEEDING: "flow days",
-    PRE_WINDOW: "window ahead",
-    WINDOW: "fertile days",
-    LUTEAL: "second half",
-    PREGNANT: "pregnancy",
-    UNKNOWN: "not clear",
+@dataclass(frozen=True)
+class Term:
+    """One word of the glossary: the label, the short form a narrow column has room for, what it means."""
+
+    label: str
+    short: str
+    meaning: str
+
+
+# Where each group of words is read; the README's glossary table says so.
+PHASES_SHOWN = "list and `caseload list` (short), record, quick log, `caseload show`"
+ALERTS_SHOWN = "list and `caseload list` (short), alert queue, record, `caseload alerts`, exports"
+
+# The phase of the cycle she is in today, in the words a nurse writes in a chart (the stored phase
+# words stay the contract).
+PHASE_TERMS: dict[str, Term] = {
+    BLEEDING: Term("menses", "menses", "bleeding of light flow or more, from cycle day 1 to the day after the last"),
+    PRE_WINDOW: Term("follicular phase", "follicular", "after the menses, before the fertile window is expected"),
+    WINDOW: Term("fertile window", "fertile", "the six days ending on the most likely ovulation day (Wilcox 1995), "
+                 "or an LH surge or mucus peak with no confirmed thermal shift yet"),
+    LUTEAL: Term("luteal phase", "luteal", "post-ovulatory: from ovulation (a confirmed thermal shift or a dated "
+                 "marker) to the next menses"),
+    PREGNANT: Term("pregnancy", "pregnancy", "a positive hCG this cycle, or recorded pregnant"),
+    UNKNOWN: Term("phase undetermined", "undetermined", "no cycle start yet, or past the expected window with no "
+                  "sign of ovulation (possibly an anovulatory cycle)"),
 }
 
 NEXT_EVENT_LABELS: dict[str, str] = {
-    "window start": "window opens",
-    "period": "period due",
-    "trigger size": "trigger size",
-    "pregnancy test": "pregnancy test",
+    "window start": "fertile window opens",
+    "period": "next period due",
+    "trigger size": "lead follicle at trigger size",
+    "pregnancy test": "pregnancy test due",
 }
 
 NEXT_EVENT_SHORT: dict[str, str] = {  # the same events in a narrow column
@@ -49,12 +67,9 @@ NEXT_EVENT_SHORT: dict[str, str] = {  # the same events in a narrow column
     "pregnancy test": "hCG test",
 }
 
-OVULATION_METHOD_LABELS: dict[str, str] = {  # how a cycle's ovulation was dated
-    "lh": "LH test",
-    "shift": "temperature rise",
-    "change-point": "temperature level change",
-    "mucus": "mucus peak",
-}
+# How a cycle's ovulation was dated (the stored method words stay the contract).
+OVULATION_METHOD_LABELS: dict[str, str] = {"lh": "LH test", "shift": "thermal shift",
+                                           "change-point": "temperature level change", "mucus": "mucus peak"}
 
 EDD_METHOD_LABELS: dict[str, str] = {  # the rule that gave a due date
     NAEGELE: "Naegele's rule, LMP + 280 days",
@@ -68,24 +83,69 @@ EVIDENCE_KEY_LABELS: dict[str, str] = {  # keys of an alert's evidence that read
     "minimum_48h": "minimum per 48 h",
 }
 
-ALERT_LABELS: dict[str, str] = {
-    "window-approaching": "window near",
-    "window-open": "window open",
-    "no-thermal-shift": "no rise yet",
-    "monophasic-cycle": "flat cycle",
-    "irregular-cycles": "irregular",
-    "short-luteal-phase": "short luteal",
-    "prolonged-bleeding": "long bleed",
-    "period-overdue": "period late",
-    "sustained-high-temps": "long high temps",
-    "amenorrhoea": "no bleed 90d",
-    "hcg-rise-low": "hCG rise low",
-    "multiple-follicles": "many follicles",
-    "logging-gap": "no entries",
-    "fever": "fever",
-    "intermenstrual-bleeding": "midcycle bleed",
-    "bleeding-in-pregnancy": "bleed in pregnancy",
+# Each alert kind (the identifiers stay the contract) in the words a nurse writes in a chart; the
+# short form fits the list's alert column beside the severity and the count of more.
+ALERT_TERMS: dict[str, Term] = {
+    "window-approaching": Term("fertile window soon", "window soon",
+                               "P(fertile) reaches 20% within the next 3 days"),
+    "window-open": Term("fertile window open", "window open",
+                        "P(fertile) today at least 50%, or an LH surge with no thermal shift yet"),
+    "no-thermal-shift": Term("no thermal shift", "no shift",
+                             "well past the expected ovulation with no thermal shift confirmed"),
+    "monophasic-cycle": Term("monophasic cycle", "monophasic",
+                             "a charted cycle that ended with no thermal shift: possibly anovulatory"),
+    "irregular-cycles": Term("irregular cycles", "irregular",
+                             "cycle frequency or regularity outside the FIGO 2018 normal limits"),
+    "short-luteal-phase": Term("short luteal phase", "short luteal", "a luteal phase of 10 days or fewer"),
+    "prolonged-bleeding": Term("prolonged bleeding", "long bleed", "menses longer than 8 days (FIGO 2018)"),
+    "period-overdue": Term("period overdue", "overdue", "no menses past the latest expected day: pregnancy test"),
+    "sustained-high-temps": Term("sustained high BBT", "high BBT",
+                                 "basal temperature above the coverline for 18 days or more"),
+    "amenorrhoea": Term("amenorrhoea", "amenorrhoea", "90 days or more with no menses, not pregnant"),
+    "hcg-rise-low": Term("suboptimal hCG rise", "slow hCG",
+                         "serum hCG rising less than the protocol minimum per 48 h, or falling"),
+    "multiple-follicles": Term("multiple follicles", "multifollicular",
+                               "more mature follicles on a scan than the protocol allows"),
+    "logging-gap": Term("charting gap", "charting gap", "no entry for 3 days mid-cycle"),
+    "fever": Term("fever", "fever", "a temperature of 38.0 C or more"),
+    "intermenstrual-bleeding": Term("intermenstrual bleeding", "IMB",
+                                    "bleeding between menses, marked mid-cycle (FIGO 2018 symptom)"),
+    "bleeding-in-pregnancy": Term("bleeding in pregnancy", "PV bleed",
+                                  "a bleed after a positive hCG; not taken as menses"),
 }
+PHASE_LABELS: dict[str, str] = {phase: term.label for phase, term in PHASE_TERMS.items()}
+ALERT_LABELS: dict[str, str] = {kind: term.label for kind, term in ALERT_TERMS.items()}
+
+# Mucus by its description (the stored words), with the two-letter mark the chart's strip has room for.
+MUCUS_MARKS: dict[str, str] = {"dry": "dr", "damp": "da", "sticky": "sk", "creamy": "cr", "watery": "wa",
+                               "stretchy": "st"}
+MUCUS_LEGEND = "mucus " + " · ".join(f"{mark} {word}" for word, mark in MUCUS_MARKS.items())
+
+# Other words a person reads, kept here so that each is said one way everywhere.
+OTHER_TERMS: tuple[tuple[Term, str], ...] = (
+    (Term("cycle day", "CD", "days from the first day of the menses, that day being 1"),
+     "list (CD), record, quick log, `caseload list` (day), exports"),
+    (Term("P(fertile)", "P(fertile)", "the chance that a day is in the fertile window, as a percentage"),
+     "record outlook, chart, alerts"),
+    (Term("thermal shift", "shift", "the BBT rise after ovulation, confirmed by the three-over-six rule"),
+     "record, chart, alerts, `caseload list` and `show`"),
+    (Term("coverline", "coverline", "the line the three-over-six rule draws over the six readings before the rise"),
+     "chart, record, referral pack"),
+    (Term("mucus", MUCUS_LEGEND.removeprefix("mucus "), "as she describes it: " + ", ".join(MUCUS_MARKS)
+          + " (least to most fertile)"), "quick log, entries, chart strip (two letters)"),
+)
+
+
+def glossary_rows() -> list[tuple[str, str, str, str]]:
+    """(term, short form, meaning, where it shows) for every word above: the README's table."""
+    rows = [(t.label, t.short, t.meaning, PHASES_SHOWN) for t in PHASE_TERMS.values()]
+    rows += [(t.label, t.short, t.meaning, ALERTS_SHOWN) for t in ALERT_TERMS.values()]
+    return rows + [(t.label, t.short, t.meaning, shown) for t, shown in OTHER_TERMS]
+
+
+def more_alerts(count: int) -> str:
+    """After the row's most pressing alert: how many more the record lists."""
+    return f"+{count} more" if count > 0 else ""
 
 
 @dataclass(frozen=True)
@@ -120,6 +180,16 @@ def phase_label(phase: str | None) -> str:
     return PHASE_LABELS.get(phase or UNKNOWN, phase or "")
 
 
+def phase_short(phase: str | None) -> str:
+    """The phase in a narrow column."""
+    term = PHASE_TERMS.get(phase or UNKNOWN)
+    return term.short if term else phase or ""
+
+
+def mucus_mark(word: str) -> str:
+    return MUCUS_MARKS.get(word, word[:2])
+
+
 def next_event_short(event: str) -> str:
     return NEXT_EVENT_SHORT.get(event, event)
 
@@ -138,6 +208,12 @@ def evidence_key_label(key: str) -> str:
 
 def alert_label(kind: str) -> str:
     return ALERT_LABELS.get(kind, kind)
+
+
+def alert_short(kind: str) -> str:
+    """The alert in a narrow column."""
+    term = ALERT_TERMS.get(kind)
+    return term.short if term else kind
 
 
 def kind_label(kind: Kind) -> str:

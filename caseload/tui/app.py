@@ -47,10 +47,11 @@ class CaseloadApp(ClinicWork, App):
     mine: reactive[bool] = reactive(False)
     """Whether the list and the header counts are limited to the acting nurse's patients."""
 
-    def __init__(self, clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS):
+    def __init__(self, clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS, notice: str | None = None):
         super().__init__()
         self.clinic = clinic
         self.refresh_seconds = refresh_seconds
+        self.notice = notice  # one line from the command that opened the interface, shown on opening
 
     def on_mount(self) -> None:
         for theme in THEMES:
@@ -60,6 +61,8 @@ class CaseloadApp(ClinicWork, App):
             self.push_screen(SignInScreen())
         else:
             self.open_home()
+        if self.notice:
+            self.notify(self.notice, markup=False, timeout=10)
 
     def open_home(self) -> None:
         self.mine = self.clinic.actor.role is Role.NURSE
@@ -119,6 +122,6 @@ class CaseloadApp(ClinicWork, App):
         self.push_screen(QuickLogScreen(patient_id, settled=getattr(self.screen, "patient_settled", False)))
 
 
-def make_app(clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS) -> CaseloadApp:
+def make_app(clinic: Clinic, refresh_seconds: float = REFRESH_SECONDS, notice: str | None = None) -> CaseloadApp:
     """The interface over `clinic`; an OS account mapped to no one gets the sign-in screen first."""
-    return CaseloadApp(clinic, refresh_seconds)
+    return CaseloadApp(clinic, refresh_seconds, notice)

@@ -12,6 +12,7 @@ from caseload.core.analysis import CycleRecord
 from caseload.core.cycles import cycle_day
 from caseload.core.model import MUCUS_SCALE, Entry, Kind
 from caseload.application.caseload_view import PatientRecord
+from caseload.presentation.glossary import mucus_mark
 
 STRIP_ROWS = ("flow", "mucus", "LH", "hCG", "scan")
 FLOW_MARKS = {"spotting": "▁", "light": "▃", "moderate": "▅", "heavy": "▇"}
@@ -56,7 +57,7 @@ def _strip_mark(entry: Entry) -> tuple[str, str] | None:
     if entry.kind is Kind.BLEED:
         return "flow", FLOW_MARKS.get(v.word or "", "?")
     if entry.kind is Kind.MUCUS and v.word in MUCUS_SCALE:
-        return "mucus", str(MUCUS_SCALE.index(v.word))
+        return "mucus", mucus_mark(v.word)
     if entry.kind in (Kind.LH, Kind.HCG):
         row = "LH" if entry.kind is Kind.LH else "hCG"
         if v.word:

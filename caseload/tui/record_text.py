@@ -26,8 +26,8 @@ def title_text(record: PatientRecord) -> Text:
     p, a = record.patient, record.analysis
     text = Text(p.id + " ", style="bold").append_text(literal(p.name, style="bold"))
     if a.cycle_day is not None:
-        text.append(f"  CD {a.cycle_day}", style="bold")
-        text.append(f" {phase_label(a.phase)} (from {short_day(a.cycle_start)})")
+        text.append(f"  cycle day {a.cycle_day}", style="bold")
+        text.append(f" (from {short_day(a.cycle_start)}) · {phase_label(a.phase)}")
     else:
         text.append(f"  {phase_label(a.phase)}")
     status = "" if p.status.value == "active" else f" · {p.status.value}"
@@ -107,7 +107,7 @@ def outlook_text(record: PatientRecord) -> Text:
     _outlook_prediction(a, text)
     if a.current is not None:
         sh = a.current.shift
-        text.append("Temperature rise ", style="bold")
+        text.append("Thermal shift ", style="bold")
         state = f"confirmed {short_day(sh.confirmed_on)}" if sh.confirmed else "not confirmed"
         text.append(f"{state}; coverline {_num(sh.coverline, 2)} C; three-over-six and change point: {sh.agreement}; "
                     f"{sh.readings} readings\n")

@@ -1,31 +1,39 @@
-"""Finding a patient by what a caller says: an id, part of it, or any part of the name."""
+"""Finding a patient by what a caller says: an id, part of it, or the name's words in any order."""
 
 from __future__ import annotations
 
+import re
 import unicodedata
 
 from caseload.core.model import Patient
 
+# Letters that carry their mark inside them, so that no Unicode decomposition takes it off.
+UNMARKED = str.maketrans({"ł": "l", "ø": "o", "đ": "d", "ð": "d", "ħ": "h", "ı": "i", "æ": "ae", "œ": "oe", "þ": "th"})
+WORD = re.compile(r"\w+")
+
 
 def folded(text: str) -> str:
-    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês')."""
-    decomposed = unicodedata.normalize("NFKD", text.casefold())
+    """Case- and accent-insensitive form for searching ('Ines' finds 'Inês', 'lukasz' finds 'Łukasz')."""
+    decomposed = unicodedata.normalize("NFKD", text.casefold()).translate(UNMARKED)
     return "".join(ch for ch in decomposed if not unicodedata.combining(ch))
 
 
 def match_rank(patient: Patient, typed: str) -> int | None:
-    """0 exact id, 1 id prefix, 2 a name word starts with it, 3 found anywhere; None for no match."""
-    query = folded(typed.strip())
-    if not query:
+    """0 exact id, 1 id prefix, 2 every typed word starts a word of the name (in any order, so
+    "nowak katarzyna" finds Katarzyna Nowak), 3 every typed word found anywhere; None for no match.
+    Case and accents never matter ("ines" finds Inês)."""
+    words = WORD.findall(folded(typed))
+    if not words:
         return 3
-    pid, name = folded(patient.id), folded(patient.name)
+    query, pid, name = " ".join(words), folded(patient.id), folded(patient.name)
     if pid == query:
         return 0
     if pid.startswith(query):
         return 1
-    if any(word.startswith(query) for word in name.split()) or name.startswith(query):
+    name_words = WORD.findall(name)
+    if all(any(w.startswith(q) for w in name_words) for q in words):
         return 2
-    if query in name or query in pid:
+    if all(q in name for q in words) or query in pid:
         return 3
     return None
 

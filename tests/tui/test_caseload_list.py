@@ -54,7 +54,7 @@ async def test_top_alert_and_count_of_more(app_as, service_ctx):
         await settle(pilot)
         text = cell(app, "P0002", "alert")
         assert text.startswith(line.top_alert.severity.value)
-        assert text.endswith("+1")
+        assert text.endswith("+1 more")
 
 
 async def test_header_counts_open_alerts_by_severity(app_as, service_ctx):
@@ -210,7 +210,7 @@ async def test_a_large_caseload_draws_only_the_rows_in_view(app_as, monkeypatch)
         many = tuple(replace(line, patient=replace(line.patient, id=f"X{i:05d}"))
                      for i in range(2500) for line in app.roster)  # 10,000 rows
         drawn = []
-        monkeypatch.setattr(caseload_table, "row_cells", lambda line, tone: drawn.append(line) or row_cells(line, tone))
+        monkeypatch.setattr(caseload_table, "row_cells", lambda line, *how: drawn.append(line) or row_cells(line, *how))
         table.show(many)
         await pilot.pause()
         assert 0 < len(drawn) <= 2 * table.size.height

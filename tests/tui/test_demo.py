@@ -22,3 +22,14 @@ async def test_demo_list_shows_every_demo_patient_with_its_cycle_day(demo):
         for line in lines:
             shown = table.get_cell(line.patient.id, "cd").plain.strip()
             assert shown == ("-" if line.cycle_day is None else str(line.cycle_day))
+
+
+async def test_the_demo_command_says_on_opening_that_it_kept_what_was_done(opened):
+    """`caseload demo` run again opens the store as it was left; the interface says so in one line."""
+    from tests.tui.fixture_store import ACCOUNTS
+
+    said = "Opening the demo as you left it (demo.db); 'caseload demo --fresh' rebuilds it dated from today."
+    app = make_app(Clinic(opened(), Identity(ACCOUNTS["ada"]), date_of_record=TODAY), notice=said)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        assert [n.message for n in app._notifications] == [said]

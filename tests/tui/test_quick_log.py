@@ -58,7 +58,7 @@ async def test_a_bleed_after_the_temperature_in_the_same_call(app_as, service_ct
         await pilot.press("enter")
         await settle(pilot)
         result = app.screen.query_one("#result").render().plain
-        assert "bleed heavy on 2026-11-30" in result and "Cycle day 2 (flow days)" in result
+        assert "bleed heavy on 2026-11-30" in result and "Cycle day 2 (menses)" in result
         bleeds = [e for e in patient_entries(check, "P0004") if e.kind is Kind.BLEED and e.current]
         assert bleeds[-1].day.isoformat() == "2026-11-30"
         # 98.1 F is (98.1 - 32) x 5/9 = 36.72 C (NIST SP 811 conversion).

@@ -38,3 +38,8 @@ def test_quick_log_ready_to_save(app_as, snap_compare):
 
 def test_alert_queue(app_as, snap_compare):
     assert snap_compare(app_as("ada"), terminal_size=(100, 30), run_before=_keys_then_settle("a"))
+
+
+def test_record_outlook_wide(app_as, snap_compare):
+    """The outlook in the trade's words: phase, thermal shift, P(fertile) as percentages."""
+    assert snap_compare(app_as("ada"), terminal_size=(120, 40), run_before=_keys_then_settle("down", "enter", "3"))

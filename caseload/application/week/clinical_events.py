@@ -35,7 +35,7 @@ CLINICAL_EVENTS: tuple[tuple[str, str, tuple[str, ...]], ...] = (
     ("irregular-cycles", "Referred for irregular cycles", ("irregular-cycles",)),
     ("short-luteal-phase", "Short luteal phase", ("short-luteal-phase",)),
     (HCG_POSITIVE, "Positive hCG result", ()),
-    ("hcg-rise-low", "Low hCG rise", ("hcg-rise-low",)),
+    ("hcg-rise-low", "Suboptimal hCG rise", ("hcg-rise-low",)),
 )
 EVENT_ALERT_KINDS = frozenset(k for _, _, kinds in CLINICAL_EVENTS for k in kinds)
 

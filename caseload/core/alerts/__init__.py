@@ -21,7 +21,9 @@ from caseload.core.alerts.base import (
     Facts,
     Scope,
     is_clinical,
+    risk_rank,
     skip_reason,
+    triage_key,
 )
 from caseload.core.alerts.cycle import (
     amenorrhoea,
@@ -84,5 +86,5 @@ def evaluate(
 
 __all__ = [
     "ALERT_KINDS", "CAUTION", "CLINICAL_KINDS", "ROUTINE_KINDS", "RULES", "AlertKind", "Candidate", "Facts",
-    "evaluate", "is_clinical", "scope_of",
+    "evaluate", "is_clinical", "risk_rank", "scope_of", "triage_key",
 ]  # fmt: skip

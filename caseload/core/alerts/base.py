@@ -12,7 +12,7 @@ from datetime import date
 from enum import StrEnum
 
 from caseload.core.analysis import Analysis
-from caseload.core.model import Observation, Patient, PatientStatus, Plan, Severity
+from caseload.core.model import Alert, Observation, Patient, PatientStatus, Plan, Severity
 from caseload.core.settings import Protocol
 
 CAUTION = "Supports, does not replace, clinical judgement and the clinic's protocols."
@@ -44,6 +44,41 @@ ALERT_KINDS: tuple[str, ...] = tuple(k.value for k in AlertKind)
 # nurses and up handle it, and say what was done.
 ROUTINE_KINDS: frozenset[str] = frozenset({AlertKind.LOGGING_GAP.value})
 CLINICAL_KINDS: frozenset[str] = frozenset(ALERT_KINDS) - ROUTINE_KINDS
+
+
+# Within one severity, the kinds in order of clinical risk (common practice): what may harm her
+# now (bleeding in pregnancy, hCG not rising, over-response, fever, heavy or long bleeding) first,
+# then a missed period and the findings of her chart, and the timing of her fertile window and a
+# gap in her charting last. The morning list, its rows and the alert queue all sort by it.
+RISK_ORDER: tuple[AlertKind, ...] = (
+    AlertKind.BLEEDING_IN_PREGNANCY,
+    AlertKind.HCG_RISE_LOW,
+    AlertKind.MULTIPLE_FOLLICLES,
+    AlertKind.FEVER,
+    AlertKind.PROLONGED_BLEEDING,
+    AlertKind.PERIOD_OVERDUE,
+    AlertKind.SUSTAINED_HIGH_TEMPS,
+    AlertKind.INTERMENSTRUAL_BLEEDING,
+    AlertKind.AMENORRHOEA,
+    AlertKind.SHORT_LUTEAL_PHASE,
+    AlertKind.MONOPHASIC_CYCLE,
+    AlertKind.IRREGULAR_CYCLES,
+    AlertKind.NO_THERMAL_SHIFT,
+    AlertKind.WINDOW_OPEN,
+    AlertKind.WINDOW_APPROACHING,
+    AlertKind.LOGGING_GAP,
+)
+_RISK_RANK: dict[str, int] = {kind.value: rank for rank, kind in enumerate(RISK_ORDER)}
+
+
+def risk_rank(kind: str) -> int:
+    """0 for the kind of most clinical risk; an unknown kind ranks first, the safer reading."""
+    return _RISK_RANK.get(kind, -1)
+
+
+def triage_key(alert: Alert) -> tuple:
+    """The order alerts are looked at in: severity, then clinical risk, then the day due."""
+    return (alert.severity.rank, risk_rank(alert.kind), alert.due, alert.id)
 
 
 def is_clinical(kind: str) -> bool:

@@ -136,7 +136,7 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
     if kind in windows and analysis.prediction is not None:
         chance = p_today(analysis.prediction)
         opened = kind is AlertKind.WINDOW_APPROACHING and chance >= open_threshold(analysis.prediction, facts.protocol)
-        return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.2f})"
+        return f"the window {'opened' if opened else 'has passed'} (P(fertile) today {chance:.0%})"
     if kind is AlertKind.IRREGULAR_CYCLES:
         c = analysis.classification
         if c.frequency in ("frequent", "infrequent") or c.regularity == "irregular":

@@ -72,7 +72,7 @@ def window_open(f: Facts) -> list[Candidate]:
             signs.append(f"mucus peak on {current.markers.mucus_peak.isoformat()}")
         message = f"Fertile window open: {' and '.join(signs)}, no shift yet (cycle day {cd}); {action}."
     else:
-        message = f"Fertile window open: P(fertile) today {chance:.2f} (cycle day {cd}); {action}."
+        message = f"Fertile window open: P(fertile) today {chance:.0%} (cycle day {cd}); {action}."
     window = forecast.fertile_window
     return [
         f.candidate(
@@ -118,7 +118,7 @@ def window_approaching(f: Facts) -> list[Candidate]:
             AlertKind.WINDOW_APPROACHING,
             current.start.isoformat(),
             Severity.SOON,
-            f"Fertile window approaching: P(fertile) reaches {first.p_fertile:.2f} on {first.day.isoformat()} "
+            f"Fertile window approaching: P(fertile) reaches {first.p_fertile:.0%} on {first.day.isoformat()} "
             f"(cycle day {cd}); {APPROACHING_ACTION[f.patient.plan]}.",
             {
                 "cycle_start": current.start.isoformat(),

@@ -7,6 +7,7 @@ from textual.binding import Binding
 from textual.message import Message
 from textual.widgets import DataTable
 
+from caseload.core.alerts import triage_key
 from caseload.core.model import Alert, Severity
 from caseload.tui.handle_alert import may_handle
 from caseload.presentation.glossary import alert_label
@@ -57,7 +58,7 @@ class AlertTable(DataTable):
             self.add_column(Text(label, style="bold"), key=label)
         tone = self.app.tone
         for severity in Severity:
-            group = sorted((a for a in alerts if a.severity is severity), key=lambda a: (a.due, a.id))
+            group = sorted((a for a in alerts if a.severity is severity), key=triage_key)
             if not group:
                 continue
             heading = Text(f"{severity.value} ({len(group)})", style=tone(severity))

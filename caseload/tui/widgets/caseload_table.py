@@ -21,7 +21,7 @@ from textual.scroll_view import ScrollView
 from textual.strip import Strip
 
 from caseload.application.caseload_view import CaseloadLine
-from caseload.presentation.glossary import alert_label, next_event_short, phase_label
+from caseload.presentation.glossary import alert_short, more_alerts, next_event_short, phase_short
 from caseload.presentation.days import short_day
 from caseload.presentation.safe_text import literal, printable
 
@@ -72,15 +72,18 @@ def _name_width(name: str) -> int:
     return cell_len(printable(name))
 
 
-def alert_cell(line: CaseloadLine, tone) -> Text:
+def alert_cell(line: CaseloadLine, tone, width: int) -> Text:
+    """Severity, the most pressing alert and how many more, in a column `width` wide: a long label
+    is cut, never the count."""
     top = line.top_alert
     if top is None:
         return Text("-", style="dim")
-    text = Text(f"{top.severity.value} ", style=tone(top.severity))
-    text.append(alert_label(top.kind))
-    if len(line.alerts) > 1:
-        text.append(f" +{len(line.alerts) - 1}", style="dim")
-    return text
+    more = f" {more_alerts(len(line.alerts) - 1)}" if len(line.alerts) > 1 else ""
+    severity = f"{top.severity.value} "
+    room = width - 1 - len(severity) - len(more)
+    label = Text(alert_short(top.kind))
+    label.truncate(room, overflow="ellipsis")
+    return Text(severity, style=tone(top.severity)).append_text(label).append(more, style="dim")
 
 
 def next_cell(line: CaseloadLine) -> Text:
@@ -97,13 +100,13 @@ def last_cell(line: CaseloadLine) -> Text:
     return Text(f"{days}d", style="bold" if days >= GAP_WARN_DAYS else "")
 
 
-def row_cells(line: CaseloadLine, tone) -> dict[str, Text]:
+def row_cells(line: CaseloadLine, tone, alert_width: int) -> dict[str, Text]:
     s = line.snapshot
     return {
         "patient": patient_cell(line),
         "cd": Text(f"{'-' if line.cycle_day is None else line.cycle_day:>3}"),
-        "phase": Text(phase_label(s.phase if s else None)),
-        "alert": alert_cell(line, tone),
+        "phase": Text(phase_short(s.phase if s else None)),
+        "alert": alert_cell(line, tone, alert_width),
         "next": next_cell(line),
         "last": last_cell(line),
         "plan": Text(line.patient.plan.value),
@@ -193,8 +196,8 @@ class CaseloadTable(ScrollView, can_focus=True):
     def get_cell(self, patient_id: str, column: str) -> Text:
         """The text of one cell as drawn at the current width, without the blanks that pad it."""
         (line,) = [line for line in self._lines if line.patient.id == patient_id]
-        width = dict((c.key, w) for c, w in self._layout())[column]
-        cell = fitted(row_cells(line, self.app.tone)[column], width)
+        widths = {c.key: w for c, w in self._layout()}
+        cell = fitted(row_cells(line, self.app.tone, widths["alert"])[column], widths[column])
         cell.rstrip()
         return cell
 
@@ -287,9 +290,10 @@ class CaseloadTable(ScrollView, can_focus=True):
             style = self.get_component_rich_style("caseload-table--even-row")
         else:
             style = self.rich_style
-        cells = row_cells(self._lines[index], self.app.tone)
+        columns = self._layout()
+        cells = row_cells(self._lines[index], self.app.tone, next(w for c, w in columns if c.key == "alert"))
         text = Text(no_wrap=True, end="")
-        for column, size in self._layout():
+        for column, size in columns:
             text.append_text(fitted(cells[column.key], size))
         return self._strip(text, width, style)
 

@@ -1,6 +1,6 @@
 """The temperature chart of one cycle, with the coverline, the confirmation day and P(fertile) bars.
 
-Temperatures use the left scale (C); the chance of a fertile day uses the right scale (0-1), drawn
+Temperatures use the left scale (C); the chance of a fertile day uses the right scale (0-100%), drawn
 as bars under the readings from today on. The only upright line is the day the rise was confirmed
 (today is marked in the strip below). The colours come from the current theme.
 """
@@ -71,5 +71,5 @@ class CycleChart(PlotextPlot):
         plt.xlim(0.5, view.last_day + 0.5)
         plt.xticks(tick_days(view.last_day))
         plt.yfrequency(4, yside="left")
-        plt.yfrequency(3, yside="right")
+        plt.yticks([0, 0.5, 1], ["0%", "50%", "100%"], yside="right")  # P(fertile) as a percentage
         self.refresh()

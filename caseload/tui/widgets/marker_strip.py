@@ -9,12 +9,13 @@ from __future__ import annotations
 from rich.text import Text
 from textual.widgets import DataTable
 
+from caseload.presentation.glossary import MUCUS_LEGEND
 from caseload.tui.cycle_view import STRIP_ROWS, CycleView
 
 LEFT_SCALE = 6  # the chart's temperature labels and frame: "36.60┤"
 RIGHT_SCALE = 5  # the chart's probability labels: "├1.00"
 MIN_DAY_WIDTH = 2
-LEGEND = "flow ▁▃▅▇ spotting to heavy · mucus 0 dry to 5 stretchy · LH, hCG + - or level · scan: lead mm"
+LEGEND = f"{MUCUS_LEGEND} · flow ▁▃▅▇ spotting to heavy · LH, hCG + - or level · scan: lead mm"
 
 
 def day_widths(total: int, days: int) -> list[int]:

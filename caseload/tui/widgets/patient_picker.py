@@ -1,4 +1,5 @@
-"""Picking a patient by typing an id or a name: matches listed as you type, Enter takes the top one."""
+"""Picking a patient by typing an id or a name: up to 8 matches listed as you type, each with her date
+of birth (two callers may share a name); Enter takes the highlighted one, and typing goes on in the next field."""
 
 from __future__ import annotations
 
@@ -18,7 +19,7 @@ from caseload.tui.widgets.type_ahead import TypeAheadInput
 from caseload.presentation.glossary import phase_label
 from caseload.presentation.safe_text import literal, printable
 
-SHOWN = 4
+SHOWN = 8
 
 
 def typed_form(patient: Patient) -> str:
@@ -28,6 +29,7 @@ def typed_form(patient: Patient) -> str:
 def picked_label(line: CaseloadLine) -> Text:
     p = line.patient
     text = Text(p.id + " ", style="bold").append_text(literal(p.name))
+    text.append(f"  born {p.born.isoformat()}")
     if line.cycle_day is not None:
         text.append(f"  · cycle day {line.cycle_day}", style="dim")
     if line.snapshot is not None:

@@ -47,13 +47,22 @@ def w43(ids: Mapping[str, int]) -> dict[tuple[str, str], tuple[list[tuple], tupl
         # info; A8 monophasic soon; A16 sustained-high today. A9 (Sunday 22:30 UTC) and A13 (Monday 26,
         # 00:30 GMT) fall outside.
         ("alerts", "raised"): ([
-            ("window-approaching", 0, 0, 3, 0, 3), ("window-open", 0, 1, 0, 0, 1), ("no-thermal-shift", 0, 0, 1, 0, 1),
-            ("monophasic-cycle", 0, 0, 1, 0, 1), ("irregular-cycles", 0, 0, 1, 0, 1),
-            ("short-luteal-phase", 0, 0, 1, 0, 1), ("prolonged-bleeding", 0, 0, 0, 0, 0),
-            ("period-overdue", 0, 0, 0, 0, 0), ("sustained-high-temps", 0, 1, 0, 0, 1), ("amenorrhoea", 0, 0, 0, 0, 0),
-            ("hcg-rise-low", 1, 0, 0, 0, 1), ("multiple-follicles", 0, 0, 0, 0, 0), ("logging-gap", 0, 0, 0, 1, 1),
-            ("fever", 0, 0, 0, 0, 0), ("intermenstrual-bleeding", 0, 0, 0, 0, 0),
-            ("bleeding-in-pregnancy", 0, 0, 0, 0, 0)], ("total", 1, 2, 7, 1, 11)),
+            ("window-approaching", "fertile window soon", 0, 0, 3, 0, 3),
+            ("window-open", "fertile window open", 0, 1, 0, 0, 1),
+            ("no-thermal-shift", "no thermal shift", 0, 0, 1, 0, 1),
+            ("monophasic-cycle", "monophasic cycle", 0, 0, 1, 0, 1),
+            ("irregular-cycles", "irregular cycles", 0, 0, 1, 0, 1),
+            ("short-luteal-phase", "short luteal phase", 0, 0, 1, 0, 1),
+            ("prolonged-bleeding", "prolonged bleeding", 0, 0, 0, 0, 0),
+            ("period-overdue", "period overdue", 0, 0, 0, 0, 0),
+            ("sustained-high-temps", "sustained high BBT", 0, 1, 0, 0, 1),
+            ("amenorrhoea", "amenorrhoea", 0, 0, 0, 0, 0),
+            ("hcg-rise-low", "suboptimal hCG rise", 1, 0, 0, 0, 1),
+            ("multiple-follicles", "multiple follicles", 0, 0, 0, 0, 0),
+            ("logging-gap", "charting gap", 0, 0, 0, 1, 1),
+            ("fever", "fever", 0, 0, 0, 0, 0),
+            ("intermenstrual-bleeding", "intermenstrual bleeding", 0, 0, 0, 0, 0),
+            ("bleeding-in-pregnancy", "bleeding in pregnancy", 0, 0, 0, 0, 0)], ("total", "", 1, 2, 7, 1, 11)),
         # Acks: A1 A3 A5 A6 A7 A14 A15; snoozes A2 A16; resolves A5 A9 A12; auto A1; escalate A6;
         # reopen A12 (its snooze until 20 Oct came).
         ("alerts", "actions"): ([("raised", 11), ("acknowledged", 7), ("snoozed", 2), ("resolved", 3),
@@ -74,19 +83,19 @@ def w43(ids: Mapping[str, int]) -> dict[tuple[str, str], tuple[list[tuple], tupl
         # Of those, urgent and today ones by the patient's nurse at the end (P7 moved to nurse2 on Saturday),
         # urgent first, then the oldest; age is days from raising to Sunday 25 Oct.
         ("alerts", "open_at_end"): ([
-            ("nurse1", "P2", name("P2"), "prolonged-bleeding", "today", "acknowledged", d("2026-10-01"), 24),
-            ("nurse2", "P3", name("P3"), "hcg-rise-low", "urgent", "acknowledged", d("2026-10-24"), 1),
-            ("nurse2", "P7", name("P7"), "no-thermal-shift", "today", "acknowledged", d("2026-10-21"), 4),
-            ("nurse2", "P7", name("P7"), "sustained-high-temps", "today", "open", d("2026-10-23"), 2)], None),
+            ("nurse1", "P2", name("P2"), "prolonged-bleeding", "prolonged bleeding", "today", "acknowledged", d("2026-10-01"), 24),
+            ("nurse2", "P3", name("P3"), "hcg-rise-low", "suboptimal hCG rise", "urgent", "acknowledged", d("2026-10-24"), 1),
+            ("nurse2", "P7", name("P7"), "no-thermal-shift", "no thermal shift", "today", "acknowledged", d("2026-10-21"), 4),
+            ("nurse2", "P7", name("P7"), "sustained-high-temps", "sustained high BBT", "today", "open", d("2026-10-23"), 2)], None),
         # The one urgent alert handled in the week: A3, acknowledged Saturday 12:00 BST.
         ("alerts", "urgent_notes"): ([
-            ("P3", name("P3"), "hcg-rise-low", "acknowledged", "nurse2", london("2026-10-24 12:00"), "seen")], None),
+            ("P3", name("P3"), "hcg-rise-low", "suboptimal hCG rise", "acknowledged", "nurse2", london("2026-10-24 12:00"), "seen")], None),
         ("clinical", "counts"): ([
             ("entered-window", "Entered a predicted fertile window (window-approaching or window-open raised)", 4),
             ("shift-confirmed", "Thermal shift confirmed (three-over-six rule)", 1),
             ("no-thermal-shift", "No thermal shift flagged", 1), ("monophasic-cycle", "Monophasic cycle flagged", 1),
             ("irregular-cycles", "Referred for irregular cycles", 1), ("short-luteal-phase", "Short luteal phase", 1),
-            ("hcg-positive", "Positive hCG result", 1), ("hcg-rise-low", "Low hCG rise", 1)], None),
+            ("hcg-positive", "Positive hCG result", 1), ("hcg-rise-low", "Suboptimal hCG rise", 1)], None),
         # P1's shift: six lows of 36.40 (14-19 Oct), first high 36.70 on Tue 20 Oct, coverline 36.50,
         # third reading above it on Thu 22 Oct. P7's shift was confirmed on 13 Oct, before the week.
         ("clinical", "events"): ([
