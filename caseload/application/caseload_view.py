@@ -7,7 +7,7 @@ from datetime import date
 
 from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
-from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
+from caseload.core.model import Alert, AlertState, AlertStep, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, analyse_patient
@@ -75,8 +75,13 @@ class PatientRecord:
 
     patient: Patient
     analysis: Analysis
-    alerts: tuple[Alert, ...]
+    alerts: tuple[Alert, ...]  # not resolved, most pressing first
     entries: tuple[Entry, ...]
+    resolved: tuple[Alert, ...] = ()  # the history: resolved alerts, the latest raised first
+    steps: tuple[AlertStep, ...] = ()  # what happened to each of the patient's alerts, oldest first
+
+    def steps_of(self, alert_id: int) -> tuple[AlertStep, ...]:
+        return tuple(s for s in self.steps if s.alert_id == alert_id)
 
 
 def row_after(line: CaseloadLine, done: Refreshed, today: date) -> CaseloadLine:
@@ -91,5 +96,8 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     ctx.require("patient.show")
     patient = get_patient(ctx, patient_id)
     entries = ctx.store.entries.for_patient(patient.id)
-    alerts = [effective(a, ctx.today) for a in ctx.store.alerts.for_patient(patient.id) if a.state is not AlertState.RESOLVED]
-    return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries))
+    stored = ctx.store.alerts.for_patient(patient.id)
+    alerts = [effective(a, ctx.today) for a in stored if a.state is not AlertState.RESOLVED]
+    resolved = [a for a in reversed(stored) if a.state is AlertState.RESOLVED]
+    return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries),
+                         tuple(resolved), tuple(ctx.store.alerts.steps_for_patient(patient.id)))

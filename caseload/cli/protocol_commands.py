@@ -8,7 +8,7 @@ from caseload.application.clinic import Clinic
 from caseload.application.protocol import check_protocol_file
 from caseload.cli.global_options import pass_clinic
 from caseload.cli.printing import console, print_table, safe
-from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows
+from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows, value_text
 from caseload.presentation.glossary import refresh_line
 
 
@@ -26,7 +26,7 @@ def protocol_show(clinic: Clinic) -> None:
     out.print(f"Protocol version {in_use.version}, set by {safe(in_use.set_by)} at {safe(in_use.set_at)} "
               f"({safe(in_use.source)}): {len(in_use.overrides())} settings differ from the defaults.")  # fmt: skip
     rows = [
-        [r.name, f"{r.value:g}" + (" *" if r.overridden else ""), f"{r.default:g}", f"{r.lo:g}-{r.hi:g}", r.source, r.doc]
+        [r.name, value_text(r.value) + (" *" if r.overridden else ""), value_text(r.default), r.accepted, r.source, r.doc]
         for r in setting_rows(in_use.protocol)
     ]
     print_table(["setting", "in use", "default", "accepted", "source", "meaning"], rows)
@@ -38,7 +38,7 @@ def protocol_show(clinic: Clinic) -> None:
 def protocol_check(file: str) -> None:
     """Check a protocol file without using it."""
     changed = overrides_of(check_protocol_file(file))
-    listed = ", ".join(f"{k} = {v:g}" for k, v in changed.items()) or "none: every setting at its default"
+    listed = ", ".join(f"{k} = {value_text(v)}" for k, v in changed.items()) or "none: every setting at its default"
     click.echo(f"{file}: valid; overrides {listed}.")
 
 
