@@ -12,6 +12,9 @@ from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows, valu
 from caseload.presentation.glossary import refresh_line
 
 
+TEXT_COLUMN = 4  # as narrow as the column headings: the words are printed in full below
+
+
 @click.group("protocol")
 def protocol_group() -> None:
     """The clinic protocol: every threshold the alert rules use."""
@@ -26,10 +29,14 @@ def protocol_show(clinic: Clinic) -> None:
     out.print(f"Protocol version {in_use.version}, set by {safe(in_use.set_by)} at {safe(in_use.set_at)} "
               f"({safe(in_use.source)}): {len(in_use.overrides())} settings differ from the defaults.")  # fmt: skip
     rows = [
-        [r.name, value_text(r.value) + (" *" if r.overridden else ""), value_text(r.default), r.accepted, r.source, r.doc]
+        [r.name, value_text(r.value, TEXT_COLUMN) + (" *" if r.overridden else ""), value_text(r.default, TEXT_COLUMN),
+         r.accepted, r.source, r.doc]
         for r in setting_rows(in_use.protocol)
     ]
     print_table(["setting", "in use", "default", "accepted", "source", "meaning"], rows)
+    for r in setting_rows(in_use.protocol):
+        if isinstance(r.value, str):  # words are cut in the table: in full below it
+            out.print(f"{r.name} in use: {value_text(r.value)}", markup=False)
     out.print(f"* set by the clinic. Files for 'protocol use': {LAYOUT}; unknown names are refused.", style="dim")
 
 

@@ -45,12 +45,13 @@ class SettingRow:
 
     @property
     def accepted(self) -> str:
-        return "one line of text" if self.lo is None else f"{self.lo:g}-{self.hi:g}"
+        return "text" if self.lo is None else f"{self.lo:g}-{self.hi:g}"
 
 
-def value_text(value: float | int | str) -> str:
-    """A setting's value as `protocol show` and `protocol check` print it: numbers short, words quoted."""
-    return _shown(value) if isinstance(value, str) else f"{value:g}"
+def value_text(value: float | int | str, limit: int | None = None) -> str:
+    """A setting's value as `protocol show` and `protocol check` print it: numbers short, words quoted
+    (cut to `limit` characters in a table column)."""
+    return f'"{one_line(value, limit)}"' if isinstance(value, str) else f"{value:g}"
 
 
 def _shown(value) -> str:

@@ -96,8 +96,7 @@ class Protocol:
     # --- what phone staff say
     caller_message: str = setting(
         "Your nurse has been told and will call you back; if you feel unwell, call the clinic or your usual "
-        "emergency number.", "common practice", doc="what phone staff tell a caller whose chart has a clinical "
-        f"alert open (one line of up to {CALLER_MESSAGE_MAX} characters): they see no clinical evidence")
+        "emergency number.", "common practice", doc="what phone staff tell a caller with a clinical alert open")
 
     # Which stored version of the clinic's protocol this is; None when not read from a store. Not a setting.
     version: int | None = field(default=None, compare=False, metadata={"setting": False})
