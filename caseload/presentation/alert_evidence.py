@@ -1,4 +1,5 @@
-"""An alert's evidence as sentences a nurse reads: the numbers with their units, the days as dates.
+"""An alert's evidence as sentences a nurse reads: the numbers with their units, the days as dates;
+and what happened to the alert since, one line a step.
 
 One function per alert kind turns the evidence dict its rule stored (`caseload.core.alerts`) into
 sentences; the interface's evidence panel and the command line's `alerts --why` both use
@@ -11,6 +12,7 @@ from collections.abc import Callable
 from datetime import date, datetime
 
 from caseload.core.cycles import cycle_day
+from caseload.core.model import AlertStep
 from caseload.presentation.days import short_day
 
 OVULATION_METHODS = {
@@ -257,3 +259,30 @@ def evidence_sentences(kind: str, evidence: dict) -> list[str]:
     if version is not None:
         lines.append(f"Found under clinic protocol version {version}.")
     return lines
+
+
+STEP_WORDS = {
+    "raise": "raised",
+    "escalate": "raised again, more severe",
+    "ack": "acknowledged",
+    "snooze": "snoozed",
+    "reopen": "back on the queue: the snooze ended",
+    "resolve": "resolved",
+    "auto-resolve": "resolved automatically",
+}
+
+
+def step_sentence(step: AlertStep) -> str:
+    """One step of an alert's history: when, what, who, and the note or reason (user text left to
+    the front end's sanitiser)."""
+    at = step.at.astimezone()  # stored in UTC; read in the terminal's local time
+    line = f"{short_day(at.date())} {at:%H:%M} {STEP_WORDS.get(step.action, step.action)}"
+    if step.action in ("ack", "snooze", "resolve"):
+        line += f" by {step.by}"
+    if step.snooze_until is not None:
+        line += f" until {short_day(step.snooze_until)}"
+    if step.reason:
+        line += f": {step.reason.removeprefix('auto: ')}"
+    if step.note:
+        line += f": {step.note}"
+    return line

@@ -53,7 +53,8 @@ class NoteDialog(ModalScreen[HandleNote | None]):
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.query_one("#note", Input).focus()
+        # Fields in the order they are shown: a snooze asks until when first, then Tab goes on to the note.
+        self.query_one("#until" if self.verb == "snooze" else "#note", Input).focus()
         self._check()
 
     def _until(self) -> date | None:
@@ -77,7 +78,11 @@ class NoteDialog(ModalScreen[HandleNote | None]):
         check.set_class(problem is not None, "refused")
         check.update(Text(problem or "Enter saves."))
 
-    @on(Input.Submitted)
+    @on(Input.Submitted, "#until")
+    def _until_done(self) -> None:
+        self.query_one("#note", Input).focus()
+
+    @on(Input.Submitted, "#note")
     def _submit(self) -> None:
         if self._problem() is None:
             self.dismiss(HandleNote(self.query_one("#note", Input).value.strip(), self._until()))
