@@ -5,6 +5,8 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from datetime import date
 
+import pendulum
+
 from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, AlertStep, Entry, Patient, PatientStatus
@@ -12,6 +14,7 @@ from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
+from caseload.application.staff import DEFAULT_TIMEZONE
 
 NO_ALERT_RANK = 9
 
@@ -99,5 +102,7 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     stored = ctx.store.alerts.for_patient(patient.id)
     alerts = [effective(a, ctx.today) for a in stored if a.state is not AlertState.RESOLVED]
     resolved = [a for a in reversed(stored) if a.state is AlertState.RESOLVED]
+    zone = pendulum.timezone(ctx.store.meta("timezone") or DEFAULT_TIMEZONE)  # steps read in the clinic's time
+    steps = tuple(replace(s, at=s.at.astimezone(zone)) for s in ctx.store.alerts.steps_for_patient(patient.id))
     return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries),
-                         tuple(resolved), tuple(ctx.store.alerts.steps_for_patient(patient.id)))
+                         tuple(resolved), steps)

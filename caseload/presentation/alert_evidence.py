@@ -275,8 +275,7 @@ STEP_WORDS = {
 def step_sentence(step: AlertStep) -> str:
     """One step of an alert's history: when, what, who, and the note or reason (user text left to
     the front end's sanitiser)."""
-    at = step.at.astimezone()  # stored in UTC; read in the terminal's local time
-    line = f"{short_day(at.date())} {at:%H:%M} {STEP_WORDS.get(step.action, step.action)}"
+    line = f"{short_day(step.at.date())} {step.at:%H:%M} {STEP_WORDS.get(step.action, step.action)}"
     if step.action in ("ack", "snooze", "resolve"):
         line += f" by {step.by}"
     if step.snooze_until is not None:

@@ -43,7 +43,6 @@ def test_an_alert_resolved_automatically_says_why(as_role, patient):
 def test_each_step_reads_as_one_line():
     at = datetime(2026, 12, 1, 9, 30, tzinfo=timezone.utc)
     snoozed = AlertStep(7, "snooze", "nurse1", at, "recheck", datetime(2026, 12, 3).date())
-    line = step_sentence(snoozed)
-    assert line.startswith("1 Dec ") and line.endswith(" snoozed by nurse1 until 3 Dec: recheck")
+    assert step_sentence(snoozed) == "1 Dec 09:30 snoozed by nurse1 until 3 Dec: recheck"
     auto = AlertStep(7, "auto-resolve", "phone1", at, reason="auto: a period started")
-    assert step_sentence(auto).endswith(" resolved automatically: a period started")
+    assert step_sentence(auto) == "1 Dec 09:30 resolved automatically: a period started"

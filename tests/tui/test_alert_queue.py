@@ -180,7 +180,7 @@ async def test_a_record_lists_its_resolved_alerts_with_who_handled_them_and_how(
         assert table.current_alert().id == fever.id
         assert table.get_cell(str(fever.id), "State").plain == "resolved"
         evidence = app.screen.query_one("#evidence").render().plain
-        assert "History:" in evidence and "raised" in evidence
+        assert "What was done:" in evidence
         assert "resolved by ada: flu, reading flagged as illness" in evidence
         assert not {"Acknowledge", "Snooze", "Resolve"} & shown_keys(app)
         await pilot.press("r")  # nothing left to do: one line says so

@@ -40,9 +40,10 @@ def evidence_text(alert: Alert, steps: tuple[AlertStep, ...] = ()) -> Text:
     text.append_text(literal(alert.rule or "-"))
     text.append("  Source: ", style="bold")
     text.append_text(literal(alert.source or "-"))
-    if steps:
-        text.append("\nHistory:", style="bold")
-        for step in steps:
+    handled = [s for s in steps if s.action != "raise"]  # the heading says when it was raised
+    if handled:
+        text.append("\nWhat was done:", style="bold")
+        for step in handled:
             text.append("\n  ")
             text.append_text(literal(step_sentence(step)))
     elif alert.handled_by:
