@@ -7,6 +7,9 @@ from __future__ import annotations
 
 from datetime import timedelta
 
+from textual import events
+from textual.keys import _character_to_key
+
 from caseload.application.alert_handling import list_alerts, resolve
 from caseload.core.model import AlertState
 from caseload.tui.screens.alert_queue import AlertQueueScreen
@@ -38,6 +41,16 @@ async def highlight(pilot, alert_id: int) -> AlertTable:
     return table
 
 
+async def burst(pilot, *keys: str) -> None:
+    """Keys as a fast typist or an SSH link delivers them: all sent before the app reads the first."""
+    for key in keys:
+        name = _character_to_key(key) if len(key) == 1 and not key.isalnum() else key
+        event = events.Key(name, key if len(key) == 1 else None)
+        event.set_sender(pilot.app)
+        pilot.app._driver.send_message(event)
+    await settle(pilot)
+
+
 def shown_keys(app) -> set[str]:
     return {b.binding.description for b in app.active_bindings.values() if b.binding.show and b.enabled}
 
@@ -52,7 +65,7 @@ async def test_a_tab_typed_straight_after_enter_is_kept_and_1_leaves_the_alerts_
     async with app.run_test(size=(80, 24)) as pilot:
         await open_queue(pilot)
         await highlight(pilot, fever.id)
-        await pilot.press("enter", "2")  # open the record and go to its cycles at once
+        await burst(pilot, "enter", "2")  # open the record and go to its cycles, in one burst
         await settle(pilot)
         await pilot.pause(1.5)  # a second later it is still where she chose
         record = app.screen
@@ -230,3 +243,30 @@ async def test_a_phone_clerk_reads_the_clinics_own_words(app_as, service_ctx, tm
         await settle(pilot)
         await highlight(pilot, fever.id)
         assert f"Tell the caller: {words}" in app.screen.query_one("#evidence").render().plain
+
+
+async def test_a_note_typed_in_one_burst_after_the_key_goes_into_the_dialog(app_as, service_ctx):
+    check = service_ctx("ada")
+    fever = alert_of(check, "fever")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_queue(pilot)
+        await highlight(pilot, fever.id)
+        await burst(pilot, "a", *"called her, quiet day", "enter")  # its l, q and r act on nothing behind
+        assert isinstance(app.screen, AlertQueueScreen)
+    stored = check.store.alerts.get(fever.id)
+    assert (stored.state, stored.note) == (AlertState.ACKNOWLEDGED, "called her, quiet day")
+
+
+async def test_a_snooze_typed_in_one_burst_keeps_the_day_and_the_note_apart(app_as, service_ctx):
+    check = service_ctx("ada")
+    window = alert_of(check, "window-approaching")
+    app = app_as("nora")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_queue(pilot)
+        await highlight(pilot, window.id)
+        await burst(pilot, "z", *"+3", "enter", *"ring monday", "enter")
+        assert isinstance(app.screen, AlertQueueScreen)
+    stored = check.store.alerts.get(window.id)
+    assert stored.state is AlertState.SNOOZED and stored.snooze_until == TODAY + timedelta(days=3)
+    assert stored.note == "ring monday"

@@ -31,15 +31,17 @@ def state_text(a: Alert) -> str:
 class AlertTable(DataTable):
     """Rows keyed by alert id; a heading row before each group, which the cursor steps over."""
 
+    # Priority bindings (while the list has the focus): the note dialog opens before the next key is
+    # read, so a note typed straight after the key goes into it and never acts on the screen behind.
     BINDINGS = [
-        Binding("a", "handle('acknowledge')", "Acknowledge", id="alerts.acknowledge"),
-        Binding("z", "handle('snooze')", "Snooze", id="alerts.snooze"),
-        Binding("r", "handle('resolve')", "Resolve", id="alerts.resolve"),
+        Binding("a", "handle('acknowledge')", "Acknowledge", id="alerts.acknowledge", priority=True),
+        Binding("z", "handle('snooze')", "Snooze", id="alerts.snooze", priority=True),
+        Binding("r", "handle('resolve')", "Resolve", id="alerts.resolve", priority=True),
         # The same keys where they cannot act (no alert, a resolved one, a role that may not):
         # never in the footer, and one line saying why when pressed.
-        Binding("a", "refuse('acknowledge')", "Acknowledge", show=False, id="alerts.refuse_acknowledge"),
-        Binding("z", "refuse('snooze')", "Snooze", show=False, id="alerts.refuse_snooze"),
-        Binding("r", "refuse('resolve')", "Resolve", show=False, id="alerts.refuse_resolve"),
+        Binding("a", "refuse('acknowledge')", "Acknowledge", show=False, id="alerts.refuse_acknowledge", priority=True),
+        Binding("z", "refuse('snooze')", "Snooze", show=False, id="alerts.refuse_snooze", priority=True),
+        Binding("r", "refuse('resolve')", "Resolve", show=False, id="alerts.refuse_resolve", priority=True),
     ]
 
     class Opened(Message):
