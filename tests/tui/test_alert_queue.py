@@ -270,3 +270,15 @@ async def test_a_snooze_typed_in_one_burst_keeps_the_day_and_the_note_apart(app_
     stored = check.store.alerts.get(window.id)
     assert stored.state is AlertState.SNOOZED and stored.snooze_until == TODAY + timedelta(days=3)
     assert stored.note == "ring monday"
+
+
+async def test_the_outlook_says_when_there_is_no_coverline_yet(app_as):
+    app = app_as("nora")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        app.push_screen(RecordScreen("P0003"))  # cycle day 5: too early for a coverline (three-over-six needs 6 lows)
+        await settle(pilot)
+        await pilot.press("3")
+        await settle(pilot)
+        outlook = app.screen.query_one("#outlook-text").render().plain
+        assert "no coverline yet" in outlook and "coverline - C" not in outlook
