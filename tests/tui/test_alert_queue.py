@@ -7,6 +7,7 @@ from __future__ import annotations
 
 from datetime import timedelta
 
+import pytest
 from textual import events
 from textual.keys import _character_to_key
 
@@ -17,13 +18,10 @@ from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_list import GROUP, AlertTable
 from tests.tui.conftest import settle
+from tests.tui.test_alerts_and_roles import alert_of, highlight
 from tests.tui.fixture_store import TODAY
 
 FEVER_WORDS = "38.30 °C on 30 Nov, at or above the fever threshold of 38.00 °C."  # 38.0 C: common practice
-
-
-def alert_of(ctx, kind: str):
-    return next(a for a in list_alerts(ctx) if a.kind == kind)
 
 
 async def open_queue(pilot):
@@ -34,11 +32,10 @@ async def open_queue(pilot):
     return pilot.app.screen.query_one(AlertTable)
 
 
-async def highlight(pilot, alert_id: int) -> AlertTable:
-    table = pilot.app.screen.query_one(AlertTable)
-    table.move_cursor(row=table.get_row_index(str(alert_id)))
-    await pilot.pause()
-    return table
+async def queue_at(pilot, alert_id: int) -> AlertTable:
+    """The alert queue open with the cursor on one alert."""
+    await open_queue(pilot)
+    return await highlight(pilot, alert_id)
 
 
 async def burst(pilot, *keys: str) -> None:
@@ -63,8 +60,7 @@ async def test_a_tab_typed_straight_after_enter_is_kept_and_1_leaves_the_alerts_
     fever = alert_of(service_ctx("ada"), "fever")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, fever.id)
+        await queue_at(pilot, fever.id)
         await burst(pilot, "enter", "2")  # open the record and go to its cycles, in one burst
         await settle(pilot)
         await pilot.pause(1.5)  # a second later it is still where she chose
@@ -83,8 +79,7 @@ async def test_opened_from_the_queue_the_record_shows_the_alert_and_its_evidence
     fever = alert_of(service_ctx("ada"), "fever")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, fever.id)
+        await queue_at(pilot, fever.id)
         evidence = app.screen.query_one("#evidence").render().plain
         assert FEVER_WORDS in evidence and "celsius" not in evidence and "{" not in evidence
         await pilot.press("enter")
@@ -143,38 +138,27 @@ async def test_focus_shows_on_the_alert_list_and_moves_visibly_to_the_evidence(a
         assert app.focused is table and table.get_component_rich_style("datatable--header") == focused_header
 
 
-async def test_snooze_asks_until_first_and_tab_goes_on_to_the_note(app_as, service_ctx):
+@pytest.mark.parametrize("keys, at_once, days, note", [
+    (("z", *"+3", "tab", *"call on the day", "enter"), False, 3, "call on the day"),
+    (("z", "enter", *"back Friday", "enter"), False, 1, "back Friday"),  # Enter keeps "tomorrow", then the note
+    (("z", *"+3", "enter", *"ring monday", "enter"), True, 3, "ring monday"),  # in one burst
+])
+async def test_snooze_asks_until_when_first_then_the_note(app_as, service_ctx, keys, at_once, days, note):
     check = service_ctx("ada")
     window = alert_of(check, "window-approaching")
     app = app_as("nora")
     async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, window.id)
-        await pilot.press("z")
-        await pilot.pause()
-        dialog = app.screen
-        assert app.focused is dialog.query_one("#until")
-        await pilot.press(*"+3", "tab", *"call on the day", "enter")
+        await queue_at(pilot, window.id)
+        if not at_once:
+            await pilot.press("z")
+            assert isinstance(app.screen, NoteDialog) and app.focused is app.screen.query_one("#until")
+            await pilot.press("escape")
+        await (burst(pilot, *keys) if at_once else pilot.press(*keys))
         await settle(pilot)
+        assert isinstance(app.screen, AlertQueueScreen)
     stored = check.store.alerts.get(window.id)
-    assert stored.state is AlertState.SNOOZED and stored.snooze_until == TODAY + timedelta(days=3)
-    assert stored.note == "call on the day"
-
-
-async def test_enter_in_until_moves_on_to_the_note_and_saves_nothing_yet(app_as, service_ctx):
-    check = service_ctx("ada")
-    window = alert_of(check, "window-approaching")
-    app = app_as("nora")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, window.id)
-        await pilot.press("z", "enter")
-        await pilot.pause()
-        assert isinstance(app.screen, NoteDialog) and app.focused is app.screen.query_one("#note")
-        await pilot.press(*"back Friday", "enter")
-        await settle(pilot)
-    stored = check.store.alerts.get(window.id)
-    assert stored.snooze_until == TODAY + timedelta(days=1) and stored.note == "back Friday"  # "tomorrow"
+    assert stored.state is AlertState.SNOOZED and stored.snooze_until == TODAY + timedelta(days=days)
+    assert stored.note == note
 
 
 async def test_a_record_lists_its_resolved_alerts_with_who_handled_them_and_how(app_as, service_ctx):
@@ -208,8 +192,7 @@ async def test_a_phone_clerk_sees_what_to_tell_the_caller_and_no_clinical_keys(a
     caller = app_as("phil").clinic.protocol.caller_message
     app = app_as("phil")
     async with app.run_test(size=(120, 40)) as pilot:
-        table = await open_queue(pilot)
-        await highlight(pilot, fever.id)
+        table = await queue_at(pilot, fever.id)
         evidence = app.screen.query_one("#evidence").render().plain
         assert f"Tell the caller: {caller}" in evidence
         assert "38.3" not in evidence and fever.message not in evidence and "Source" not in evidence
@@ -250,26 +233,11 @@ async def test_a_note_typed_in_one_burst_after_the_key_goes_into_the_dialog(app_
     fever = alert_of(check, "fever")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, fever.id)
+        await queue_at(pilot, fever.id)
         await burst(pilot, "a", *"called her, quiet day", "enter")  # its l, q and r act on nothing behind
         assert isinstance(app.screen, AlertQueueScreen)
     stored = check.store.alerts.get(fever.id)
     assert (stored.state, stored.note) == (AlertState.ACKNOWLEDGED, "called her, quiet day")
-
-
-async def test_a_snooze_typed_in_one_burst_keeps_the_day_and_the_note_apart(app_as, service_ctx):
-    check = service_ctx("ada")
-    window = alert_of(check, "window-approaching")
-    app = app_as("nora")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await open_queue(pilot)
-        await highlight(pilot, window.id)
-        await burst(pilot, "z", *"+3", "enter", *"ring monday", "enter")
-        assert isinstance(app.screen, AlertQueueScreen)
-    stored = check.store.alerts.get(window.id)
-    assert stored.state is AlertState.SNOOZED and stored.snooze_until == TODAY + timedelta(days=3)
-    assert stored.note == "ring monday"
 
 
 async def test_the_outlook_says_when_there_is_no_coverline_yet(app_as):
