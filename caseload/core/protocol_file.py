@@ -137,7 +137,7 @@ def overrides_of(protocol: Protocol) -> dict[str, float | int | str]:
 def protocol_text(protocol: Protocol, header: str) -> str:
     """The protocol as a file `parse_protocol` reads back: a comment, then one line per override."""
     lines = [f"# {one_line(header)}"]
-    # A JSON string is a TOML basic string: the words are written back with their quotes escaped.
-    lines += [f"{name} = {json.dumps(value) if isinstance(value, str) else repr(value)}"
+    # A JSON string (letters kept as they are) is a TOML basic string: quotes and backslashes escaped.
+    lines += [f"{name} = {json.dumps(value, ensure_ascii=False) if isinstance(value, str) else repr(value)}"
               for name, value in overrides_of(protocol).items()]
     return "\n".join(lines) + "\n"

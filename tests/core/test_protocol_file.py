@@ -114,3 +114,8 @@ def test_the_caller_message_is_one_printable_line(text, why):
 def test_the_caller_message_keeps_its_words_with_runs_of_spaces_made_one():
     protocol = parse_protocol('caller_message = "A nurse   will call you."\n', "protocol.toml")
     assert protocol.caller_message == "A nurse will call you."
+
+
+def test_a_caller_message_beyond_the_basic_plane_is_exported_as_valid_toml():
+    protocol = protocol_from_values({"caller_message": 'Na\u00efve "quotes" \\ and 𐀀 stay'}, "generated")
+    assert parse_protocol(protocol_text(protocol, "exported"), "exported.toml") == protocol
