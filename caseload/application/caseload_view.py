@@ -8,11 +8,12 @@ from datetime import date
 from caseload.core.alerts import risk_rank, triage_key
 from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
-from caseload.core.model import Alert, AlertState, Entry, Patient, PatientStatus
+from caseload.core.model import Alert, AlertState, AlertStep, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
+from caseload.application.staff import DEFAULT_TIMEZONE, clinic_zone
 
 NO_ALERT_RANK = 9
 
@@ -114,8 +115,13 @@ class PatientRecord:
 
     patient: Patient
     analysis: Analysis
-    alerts: tuple[Alert, ...]
+    alerts: tuple[Alert, ...]  # not resolved, most pressing first
     entries: tuple[Entry, ...]
+    resolved: tuple[Alert, ...] = ()  # the history: resolved alerts, the latest raised first
+    steps: tuple[AlertStep, ...] = ()  # what happened to each of the patient's alerts, oldest first
+
+    def steps_of(self, alert_id: int) -> tuple[AlertStep, ...]:
+        return tuple(s for s in self.steps if s.alert_id == alert_id)
 
 
 def row_after(line: CaseloadLine, done: Refreshed, today: date) -> CaseloadLine:
@@ -130,5 +136,10 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     ctx.require("patient.show")
     patient = get_patient(ctx, patient_id)
     entries = ctx.store.entries.for_patient(patient.id)
-    alerts = [effective(a, ctx.today) for a in ctx.store.alerts.for_patient(patient.id) if a.state is not AlertState.RESOLVED]
-    return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries))
+    stored = ctx.store.alerts.for_patient(patient.id)
+    alerts = [effective(a, ctx.today) for a in stored if a.state is not AlertState.RESOLVED]
+    resolved = [a for a in reversed(stored) if a.state is AlertState.RESOLVED]
+    zone = clinic_zone(ctx.store.meta("timezone") or DEFAULT_TIMEZONE)  # steps read in the clinic's time
+    steps = tuple(replace(s, at=s.at.astimezone(zone)) for s in ctx.store.alerts.steps_for_patient(patient.id))
+    return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries),
+                         tuple(resolved), steps)

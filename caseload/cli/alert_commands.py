@@ -12,7 +12,9 @@ from caseload.cli.printing import console, safe
 from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import Alert
 from caseload.presentation import json_shapes
+from caseload.presentation.alert_evidence import evidence_sentences
 from caseload.presentation.glossary import ALERT_CAUTION, alert_label, refresh_line
+from caseload.presentation.safe_text import printable
 
 
 def _handled(a: Alert) -> str:
@@ -28,8 +30,10 @@ def _handled(a: Alert) -> str:
 @click.option("--kind", type=click.Choice(ALERT_KINDS), help="Only alerts of this kind.")
 @click.option("--nurse", metavar="STAFF", help="Only the patients of this nurse.")
 @click.option("--refresh", is_flag=True, help="Bring every patient's alerts up to date first.")
+@click.option("--why", is_flag=True, help="Each alert's evidence in sentences, under the table.")
 @pass_clinic
-def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool) -> None:
+def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool,
+           why: bool) -> None:
     """The alert queue, most pressing first (severity, then clinical risk, then due day)."""
     if refresh:
         click.echo(refresh_line(clinic.refresh()), err=as_json)
@@ -38,6 +42,11 @@ def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: s
         echo_json([json_shapes.alert(a) for a in found])
         return
     _alert_table(found, f"Alerts ({state}): {len(found)}")
+    if why:
+        for a in found:
+            click.echo(f"\n{a.id} {a.patient_id} {a.kind}:")
+            for line in evidence_sentences(a.kind, a.evidence):
+                click.echo(f"  {printable(line)}")
     console().print(ALERT_CAUTION, style="dim")
 
 

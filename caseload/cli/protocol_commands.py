@@ -8,8 +8,11 @@ from caseload.application.clinic import Clinic
 from caseload.application.protocol import check_protocol_file
 from caseload.cli.global_options import pass_clinic
 from caseload.cli.printing import console, print_table, safe
-from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows
+from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows, value_text
 from caseload.presentation.glossary import refresh_line
+
+
+TEXT_COLUMN = 4  # as narrow as the column headings: the words are printed in full below
 
 
 @click.group("protocol")
@@ -26,10 +29,14 @@ def protocol_show(clinic: Clinic) -> None:
     out.print(f"Protocol version {in_use.version}, set by {safe(in_use.set_by)} at {safe(in_use.set_at)} "
               f"({safe(in_use.source)}): {len(in_use.overrides())} settings differ from the defaults.")  # fmt: skip
     rows = [
-        [r.name, f"{r.value:g}" + (" *" if r.overridden else ""), f"{r.default:g}", f"{r.lo:g}-{r.hi:g}", r.source, r.doc]
+        [r.name, value_text(r.value, TEXT_COLUMN) + (" *" if r.overridden else ""), value_text(r.default, TEXT_COLUMN),
+         r.accepted, r.source, r.doc]
         for r in setting_rows(in_use.protocol)
     ]
     print_table(["setting", "in use", "default", "accepted", "source", "meaning"], rows)
+    for r in setting_rows(in_use.protocol):
+        if isinstance(r.value, str):  # words are cut in the table: in full below it
+            out.print(f"{r.name} in use: {value_text(r.value)}", markup=False)
     out.print(f"* set by the clinic. Files for 'protocol use': {LAYOUT}; unknown names are refused.", style="dim")
 
 
@@ -38,7 +45,7 @@ def protocol_show(clinic: Clinic) -> None:
 def protocol_check(file: str) -> None:
     """Check a protocol file without using it."""
     changed = overrides_of(check_protocol_file(file))
-    listed = ", ".join(f"{k} = {v:g}" for k, v in changed.items()) or "none: every setting at its default"
+    listed = ", ".join(f"{k} = {value_text(v)}" for k, v in changed.items()) or "none: every setting at its default"
     click.echo(f"{file}: valid; overrides {listed}.")
 
 

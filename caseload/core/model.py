@@ -233,3 +233,17 @@ class Alert:
     note: str | None = None
     snooze_until: date | None = None
     resolved_reason: str | None = None
+
+
+@dataclass(frozen=True)
+class AlertStep:
+    """One thing that happened to an alert, as its audit row recorded it: raised, escalated,
+    acknowledged, snoozed, reopened, resolved by a person or resolved automatically."""
+
+    alert_id: int
+    action: str  # the audit action without its "alert." prefix: raise, ack, snooze, resolve, auto-resolve, ...
+    by: str
+    at: datetime
+    note: str | None = None
+    snooze_until: date | None = None
+    reason: str | None = None  # why it was resolved automatically

@@ -6,11 +6,12 @@ default. Every refusal is one line naming the file, the setting, the value and w
 
 from __future__ import annotations
 
+import json
 import tomllib
 from dataclasses import dataclass, replace
 
 from caseload.core.parse import InputError, one_line
-from caseload.core.settings import DEFAULT_PROTOCOL, SETTINGS, Protocol
+from caseload.core.settings import CALLER_MESSAGE_MAX, DEFAULT_PROTOCOL, SETTINGS, Protocol
 
 LAYOUT = "flat 'name = value' lines, one per setting to override (e.g. fever_c = 38.0); '#' starts a comment"
 # (lower, upper): settings that must not cross, or a rule could never fire or fires for everyone.
@@ -31,16 +32,26 @@ class SettingRow:
     """One setting as `protocol show` lists it."""
 
     name: str
-    value: float | int
-    default: float | int
-    lo: float
-    hi: float
+    value: float | int | str
+    default: float | int | str
+    lo: float | None
+    hi: float | None
     source: str
     doc: str
 
     @property
     def overridden(self) -> bool:
         return self.value != self.default
+
+    @property
+    def accepted(self) -> str:
+        return "text" if self.lo is None else f"{self.lo:g}-{self.hi:g}"
+
+
+def value_text(value: float | int | str, limit: int | None = None) -> str:
+    """A setting's value as `protocol show` and `protocol check` print it: numbers short, words quoted
+    (cut to `limit` characters in a table column)."""
+    return f'"{one_line(value, limit)}"' if isinstance(value, str) else f"{value:g}"
 
 
 def _shown(value) -> str:
@@ -51,8 +62,21 @@ def _shown(value) -> str:
     return one_line(str(value).lower() if isinstance(value, bool) else str(value))
 
 
-def _checked(name: str, key: str, value) -> float | int:
+def _checked_words(name: str, key: str, value) -> str:
+    """A setting that is words a person reads out: one line of printable text, not empty, not too long."""
+    accepted = f"one line of text of up to {CALLER_MESSAGE_MAX} characters"
+    if not isinstance(value, str):
+        raise InputError(f"{name}: {key} = {_shown(value)} is not text: use {accepted} in quotes")
+    words = " ".join(value.split())
+    if not words or len(words) > CALLER_MESSAGE_MAX or one_line(words, None) != words:
+        raise InputError(f"{name}: {key} = {_shown(value)} is not {accepted} (no control characters)")
+    return words
+
+
+def _checked(name: str, key: str, value) -> float | int | str:
     field = FIELDS[key]
+    if isinstance(field.default, str):
+        return _checked_words(name, key, value)
     lo, hi = field.metadata["lo"], field.metadata["hi"]
     accepted = f"{lo:g}-{hi:g}"
     whole = isinstance(field.default, int)
@@ -105,7 +129,7 @@ def setting_rows(protocol: Protocol) -> list[SettingRow]:
     ]  # fmt: skip
 
 
-def overrides_of(protocol: Protocol) -> dict[str, float | int]:
+def overrides_of(protocol: Protocol) -> dict[str, float | int | str]:
     """The settings that differ from the defaults, by name: what a protocol file writes."""
     return {r.name: r.value for r in setting_rows(protocol) if r.overridden}
 
@@ -113,5 +137,7 @@ def overrides_of(protocol: Protocol) -> dict[str, float | int]:
 def protocol_text(protocol: Protocol, header: str) -> str:
     """The protocol as a file `parse_protocol` reads back: a comment, then one line per override."""
     lines = [f"# {one_line(header)}"]
-    lines += [f"{name} = {value!r}" for name, value in overrides_of(protocol).items()]
+    # A JSON string (letters kept as they are) is a TOML basic string: quotes and backslashes escaped.
+    lines += [f"{name} = {json.dumps(value, ensure_ascii=False) if isinstance(value, str) else repr(value)}"
+              for name, value in overrides_of(protocol).items()]
     return "\n".join(lines) + "\n"

@@ -9,6 +9,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field, fields
 
 
+CALLER_MESSAGE_MAX = 200
+
+
 def setting(default, source: str, lo: float | None = None, hi: float | None = None, doc: str = ""):
     """A protocol field with its documentation, its source and the accepted range."""
     return field(default=default, metadata={"source": source, "lo": lo, "hi": hi, "doc": doc})
@@ -89,6 +92,11 @@ class Protocol:
     alert_lookback_days: int = setting(14, "common practice", 1, 90, "days back a fever reading is still raised when first seen")
     mass_resolve_share: float = setting(0.5, "common practice", 0.1, 1.0, "share of the unresolved alerts above which one refresh's auto-resolutions stop it")
     mass_resolve_min: int = setting(5, "common practice", 1, 1000, "auto-resolutions one refresh may always make, whatever the share")
+
+    # --- what phone staff say
+    caller_message: str = setting(
+        "Your nurse has been told and will call you back; if you feel unwell, call the clinic or your usual "
+        "emergency number.", "common practice", doc="what phone staff tell a caller with a clinical alert open")
 
     # Which stored version of the clinic's protocol this is; None when not read from a store. Not a setting.
     version: int | None = field(default=None, compare=False, metadata={"setting": False})

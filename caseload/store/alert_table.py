@@ -11,7 +11,7 @@ from dataclasses import asdict
 from datetime import date, datetime
 
 from caseload.core.alerts import Candidate
-from caseload.core.model import Actor, Alert, AlertState, Severity
+from caseload.core.model import Actor, Alert, AlertState, AlertStep, Severity
 from caseload.store.db import Database
 
 
@@ -40,6 +40,20 @@ def alert_from_row(row: dict) -> Alert:
     )
 
 
+def step_from_row(row: dict) -> AlertStep:
+    after = json.loads(row["after"] or "{}")
+    until = after.get("snooze_until") if row["action"] == "alert.snooze" else None
+    return AlertStep(
+        alert_id=int(row["row_id"]),
+        action=row["action"].removeprefix("alert."),
+        by=row["by_staff"],
+        at=datetime.fromisoformat(row["at"]),
+        note=after.get("note") if row["action"] in HANDLING.values() else None,
+        snooze_until=date.fromisoformat(until) if until else None,
+        reason=after.get("resolved_reason") if row["action"] == "alert.auto-resolve" else None,
+    )
+
+
 def audit_view(a: Alert) -> dict:
     """The alert as its audit rows record it (patient, kind and severity among the keys)."""
     return {k: v.value if isinstance(v, Severity | AlertState) else v for k, v in asdict(a).items()}
@@ -56,6 +70,15 @@ class AlertTable:
     def for_patient(self, patient_id: str) -> list[Alert]:
         rows = self.db.query("SELECT * FROM alert WHERE patient_id = ? ORDER BY id", (patient_id,))
         return [alert_from_row(r) for r in rows]
+
+    def steps_for_patient(self, patient_id: str) -> list[AlertStep]:
+        """Everything that happened to the patient's alerts, oldest first, from the audit trail."""
+        rows = self.db.query(
+            "SELECT id, at, by_staff, action, row_id, after FROM audit WHERE tbl = 'alert' AND row_id IN"
+            " (SELECT CAST(id AS TEXT) FROM alert WHERE patient_id = ?) ORDER BY id",
+            (patient_id,),
+        )
+        return [step_from_row(r) for r in rows]
 
     def unresolved(self) -> list[Alert]:
         """Open, acknowledged and snoozed alerts of the whole caseload."""

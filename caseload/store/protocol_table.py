@@ -20,7 +20,7 @@ class StoredProtocol:
     set_at: str
     set_by: str
     source: str
-    overrides: dict[str, float | int]
+    overrides: dict[str, float | int | str]
 
 
 class ProtocolTable:
@@ -37,7 +37,7 @@ class ProtocolTable:
         ).fetchall()
         return StoredProtocol(*row, overrides=dict(settings))
 
-    def add(self, actor: Actor, source: str, overrides: dict[str, float | int]) -> StoredProtocol:
+    def add(self, actor: Actor, source: str, overrides: dict[str, float | int | str]) -> StoredProtocol:
         """A new version in force; inside the caller's transaction, with its audit row."""
         before = self.current()
         version = before.version + 1

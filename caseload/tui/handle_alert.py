@@ -7,16 +7,39 @@ from textual.screen import Screen
 
 from caseload.application.alert_handling import is_clinical
 from caseload.application.clinic import Clinic
-from caseload.core.model import Alert
+from caseload.core.model import Alert, AlertState
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
 from caseload.presentation.glossary import alert_label
 
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
 
 
+def sees_clinical(clinic: Clinic) -> bool:
+    """Whether the acting staff member sees an alert's clinical side: its message, evidence and
+    handling notes. Phone staff see what they may tell a caller instead."""
+    return clinic.may("alert.handle")
+
+
+def shown_to_caller(clinic: Clinic, alert: Alert) -> bool:
+    """The alert is one whose clinical side the acting staff member does not see."""
+    return is_clinical(alert.kind) and not sees_clinical(clinic)
+
+
 def may_handle(clinic: Clinic, alert: Alert) -> bool:
-    """Clinical alerts need a clinical role; routine ones anyone may handle."""
+    """Clinical alerts need a clinical role; routine ones anyone may handle; a resolved one nobody."""
+    if alert.state is AlertState.RESOLVED:
+        return False
     return clinic.may("alert.handle" if is_clinical(alert.kind) else "alert.handle-routine")
+
+
+def refusal(clinic: Clinic, alert: Alert | None, verb: str) -> str:
+    """The one line for a handling key pressed where it does nothing."""
+    if alert is None:
+        return f"No alert picked: move to an alert to {verb} it."
+    if alert.state is AlertState.RESOLVED:
+        return f"Alert #{alert.id} is resolved: nothing left to {verb}."
+    role = clinic.actor.role.value
+    return f"A nurse handles {alert_label(alert.kind)} alerts: {role} staff may not {verb} them."
 
 
 def note_required(alert: Alert) -> bool:

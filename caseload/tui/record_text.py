@@ -109,7 +109,8 @@ def outlook_text(record: PatientRecord) -> Text:
         sh = a.current.shift
         text.append("Thermal shift ", style="bold")
         state = f"confirmed {short_day(sh.confirmed_on)}" if sh.confirmed else "not confirmed"
-        text.append(f"{state}; coverline {_num(sh.coverline, 2)} C; three-over-six and change point: {sh.agreement}; "
+        coverline = "no coverline yet" if sh.coverline is None else f"coverline {sh.coverline:.2f} °C"
+        text.append(f"{state}; {coverline}; three-over-six and change point: {sh.agreement}; "
                     f"{sh.readings} readings\n")
     if a.pregnancy is not None:
         pg = a.pregnancy

@@ -135,3 +135,16 @@ def test_an_upgraded_store_whose_file_is_unreadable_records_why_it_has_the_defau
         in_use = protocol_in_use(old)
     assert in_use.version == 1 and in_use.protocol == replace(DEFAULT_PROTOCOL)
     assert in_use.source.startswith("defaults: the earlier protocol file could not be imported (")
+
+
+def test_the_clinic_words_what_phone_staff_tell_a_caller_and_older_versions_keep_the_default(as_role, store, tmp_path):
+    ctx = as_role(Role.ADMIN)
+    use_protocol(ctx, str(clinic_file(tmp_path, "fever_c = 37.8\n")))  # version 2: written before the setting mattered
+    assert load_protocol(store).caller_message == DEFAULT_PROTOCOL.caller_message
+    words = 'Nurse Ward\'s team will ring you today; say "urgent" if you are bleeding heavily.'
+    (tmp_path / "words.toml").write_text(f"caller_message = '''{words}'''\n", encoding="utf-8")
+    in_use, _ = use_protocol(ctx, str(tmp_path / "words.toml"))
+    assert (in_use.version, load_protocol(store).caller_message) == (3, words)
+    out = tmp_path / "exported.toml"
+    export_protocol(ctx, str(out))
+    assert check_protocol_file(str(out)).caller_message == words  # quotes survive the way out and back in

@@ -40,6 +40,14 @@ def test_alerts_table_and_filters(clinic):
     assert clinic("alerts", "--kind", "fevers").exit_code == 2
 
 
+def test_alerts_why_words_each_alerts_evidence(clinic):
+    shown = clinic("alerts", "--why")
+    # 38.0 C and above is a fever (common practice); the reading was 38.4 C on 30 Nov.
+    assert shown.exit_code == 0 and "1 P0001 fever:" in shown.output
+    assert "  38.40 °C on 30 Nov, at or above the fever threshold of 38.00 °C." in shown.output
+    assert "celsius" not in shown.output and "threshold_c" not in shown.output
+
+
 def test_refresh_prints_what_it_did(clinic):
     result = clinic("alerts", "--refresh")
     assert result.exit_code == 0 and "Refreshed 1 patients: 0 alerts raised or escalated, 0 auto-resolved." in result.output

@@ -73,6 +73,9 @@ def test_broken_toml_syntax_is_refused_with_its_position():
 
 def _setting_value(default, meta: dict):
     lo, hi = meta["lo"], meta["hi"]
+    if isinstance(default, str):  # words read to a caller: one line, quotes and accents included
+        return st.text(st.characters(categories=("L", "N", "P", "Zs")), min_size=1, max_size=60).map(
+            lambda t: " ".join(t.split()) or "x")
     if isinstance(default, int):
         return st.integers(int(lo), int(hi))
     return st.floats(lo, hi, allow_nan=False)
@@ -94,3 +97,25 @@ def test_an_exported_protocol_reads_back_as_the_same_settings(overrides):
     text = protocol_text(protocol, "exported\nwith a two-line header")
     assert parse_protocol(text, "exported.toml") == protocol
     assert overrides_of(parse_protocol(text, "exported.toml")) == overrides_of(protocol)
+
+
+@pytest.mark.parametrize("text, why", [
+    ("caller_message = 3\n", "caller_message = 3 is not text: use one line of text of up to 200 characters in quotes"),
+    ('caller_message = ""\n', 'caller_message = "" is not one line of text of up to 200 characters'),
+    (f'caller_message = "{"x" * 201}"\n', "is not one line of text of up to 200 characters"),
+    ('caller_message = "call \\u001b[31m now"\n', "(no control characters)"),
+])
+def test_the_caller_message_is_one_printable_line(text, why):
+    with pytest.raises(InputError) as err:
+        parse_protocol(text, "protocol.toml")
+    assert why in str(err.value) and "\n" not in str(err.value)
+
+
+def test_the_caller_message_keeps_its_words_with_runs_of_spaces_made_one():
+    protocol = parse_protocol('caller_message = "A nurse   will call you."\n', "protocol.toml")
+    assert protocol.caller_message == "A nurse will call you."
+
+
+def test_a_caller_message_beyond_the_basic_plane_is_exported_as_valid_toml():
+    protocol = protocol_from_values({"caller_message": 'Na\u00efve "quotes" \\ and 𐀀 stay'}, "generated")
+    assert parse_protocol(protocol_text(protocol, "exported"), "exported.toml") == protocol

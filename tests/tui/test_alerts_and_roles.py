@@ -165,23 +165,3 @@ async def test_a_supervisor_exports_the_week_de_identified(app_as, service_ctx, 
     text = out.read_text(encoding="utf-8")
     assert "px-" in text and "Pia Test" not in text  # keyed pseudonyms, no names
     assert service_ctx("ada").store.audit.rows("summary.export")[-1].by_staff == "sue"
-
-
-async def test_snooze_asks_until_when_and_takes_the_alert_off_until_then(app_as, service_ctx):
-    check = service_ctx("ada")
-    window = alert_of(check, "window-approaching")
-    app = app_as("nora")
-    async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        await pilot.press("a")
-        await settle(pilot)
-        await highlight(pilot, window.id)
-        await pilot.press("z")
-        await pilot.pause()
-        app.screen.query_one("#until").value = "+3"
-        await fill(pilot, "will call on the day")
-        await pilot.press("enter")
-        await settle(pilot)
-        assert window.id not in queue_ids(app)
-    stored = check.store.alerts.get(window.id)
-    assert stored.state is AlertState.SNOOZED and stored.snooze_until.isoformat() == "2026-12-04"

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+from datetime import datetime, timezone
+
+from caseload.application.alert_handling import acknowledge, list_alerts, resolve
 from tests.tui.conftest import settle
 
 
@@ -37,7 +40,25 @@ def test_quick_log_ready_to_save(app_as, snap_compare):
 
 
 def test_alert_queue(app_as, snap_compare):
-    assert snap_compare(app_as("ada"), terminal_size=(100, 30), run_before=_keys_then_settle("a"))
+    assert snap_compare(app_as("ada"), terminal_size=(80, 24), run_before=_keys_then_settle("a"))
+
+
+def test_alert_queue_wide(app_as, snap_compare):
+    assert snap_compare(app_as("ada"), terminal_size=(120, 40), run_before=_keys_then_settle("a"))
+
+
+def test_alert_queue_as_a_phone_clerk(app_as, snap_compare):
+    assert snap_compare(app_as("phil"), terminal_size=(80, 24), run_before=_keys_then_settle("a", "down"))
+
+
+def test_record_alerts_with_their_history(app_as, service_ctx, snap_compare):
+    ctx = service_ctx("nell")
+    fever = next(a for a in list_alerts(ctx) if a.kind == "fever")
+    with ctx.store.clock_at(datetime(2026, 12, 1, 9, 30, tzinfo=timezone.utc)):
+        acknowledge(ctx, fever.id, "called: flu since Sunday")
+        resolve(ctx, fever.id, "recovered; reading flagged as illness")
+    keys = ("a", "enter", "down", "down", "down")  # the queue, the record's alerts, down to the resolved fever
+    assert snap_compare(app_as("nell"), terminal_size=(120, 40), run_before=_keys_then_settle(*keys))
 
 
 def test_record_outlook_wide(app_as, snap_compare):

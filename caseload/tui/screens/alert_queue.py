@@ -27,7 +27,9 @@ class AlertQueueScreen(ClinicWork, Screen):
     AUTO_FOCUS = "AlertTable"
     BINDINGS = [
         Binding("escape", "app.pop_screen", "Back", id="queue.back"),
-        Binding("enter", "open", "Open record", id="queue.open"),
+        # A priority binding: the record opens before the next key is read, so a tab key typed
+        # straight after Enter reaches the record.
+        Binding("enter", "open", "Open record", id="queue.open", priority=True),
         Binding("m", "toggle_mine", "Mine/all", id="queue.mine"),
     ]
 
@@ -97,15 +99,17 @@ class AlertQueueScreen(ClinicWork, Screen):
 
     @on(AlertTable.Highlighted)
     def _highlighted(self, message: AlertTable.Highlighted) -> None:
-        self.query_one(EvidencePanel).show(message.alert)
+        self.query_one(EvidencePanel).show(message.alert, message.steps)
 
     @on(AlertTable.Opened)
     def _opened(self, message: AlertTable.Opened) -> None:
+        """A row clicked with the mouse."""
         self.app.push_screen(RecordScreen(message.alert.patient_id, alert_id=message.alert.id))
 
-    @on(AlertTable.HandleAsked)
-    def _handle(self, message: AlertTable.HandleAsked) -> None:
-        start_handling(self, message.alert, message.verb)
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if action == "open":
+            return self.query_one(AlertTable).current_alert() is not None
+        return True
 
     def action_open(self) -> None:
         alert = self.query_one(AlertTable).current_alert()

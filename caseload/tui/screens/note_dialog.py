@@ -6,7 +6,7 @@ from dataclasses import dataclass
 from datetime import date
 
 from rich.text import Text
-from textual import on
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -18,6 +18,9 @@ from caseload.core.alerts.lifecycle import parse_future_day
 from caseload.core.parse import InputError
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import literal
+from caseload.tui.widgets.type_ahead import TypeAheadInput
+
+UNTIL_DEFAULT = "tomorrow"
 
 
 @dataclass(frozen=True)
@@ -46,20 +49,32 @@ class NoteDialog(ModalScreen[HandleNote | None]):
             yield Static(line.append_text(literal(self.alert.message)))
             if self.verb == "snooze":
                 yield Label("Until (YYYY-MM-DD, tomorrow or +N days)")
-                yield Input("tomorrow", id="until", compact=True)
+                yield TypeAheadInput(placeholder=f"{UNTIL_DEFAULT} (Enter keeps it)", id="until", compact=True)
             yield Label("Note" + (" (needed for a clinical alert)" if self.note_required else " (optional)"))
-            yield Input(placeholder="what was done or decided", id="note", compact=True)
+            yield TypeAheadInput(placeholder="what was done or decided", id="note", compact=True)
             yield Static("", id="check", classes="check")
         yield Footer(compact=True)
 
+    def _first_field(self) -> TypeAheadInput:
+        # Fields in the order they are shown: a snooze asks until when first, then goes on to the note.
+        return self.query_one("#until" if self.verb == "snooze" else "#note", TypeAheadInput)
+
     def on_mount(self) -> None:
-        self.query_one("#note", Input).focus()
+        self._first_field().focus()
         self._check()
+
+    def on_key(self, event: events.Key) -> None:
+        """Keys typed straight after a, z or r, before a field has the focus, go to the field getting it
+        (in order: the field holds what follows an Enter or a Tab until the focus has moved on)."""
+        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
+            event.stop()
+            event.prevent_default()
+            self._first_field().post_message(events.Key(event.key, event.character))
 
     def _until(self) -> date | None:
         if self.verb != "snooze":
             return None
-        return parse_future_day(self.query_one("#until", Input).value, self.today)
+        return parse_future_day(self.query_one("#until", Input).value.strip() or UNTIL_DEFAULT, self.today)
 
     def _problem(self) -> str | None:
         try:
@@ -77,7 +92,16 @@ class NoteDialog(ModalScreen[HandleNote | None]):
         check.set_class(problem is not None, "refused")
         check.update(Text(problem or "Enter saves."))
 
-    @on(Input.Submitted)
-    def _submit(self) -> None:
+    @on(Input.Submitted, "#until")
+    def _until_done(self, event: Input.Submitted) -> None:
+        note = self.query_one("#note", TypeAheadInput)
+        note.focus()
+        event.input.pass_on(note)
+
+    @on(Input.Submitted, "#note")
+    def _submit(self, event: Input.Submitted) -> None:
         if self._problem() is None:
+            event.input.drop_held()
             self.dismiss(HandleNote(self.query_one("#note", Input).value.strip(), self._until()))
+        else:
+            event.input.keep_typing()

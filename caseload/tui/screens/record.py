@@ -9,11 +9,10 @@ from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane
+from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane, Tabs
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.application.caseload_view import PatientRecord
-from caseload.tui.handle_alert import start_handling
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
@@ -155,8 +154,8 @@ class RecordScreen(ClinicWork, Screen):
             self.query_one("#outlook-text", Static).update(outlook_text(record))
         elif tab == "alerts":
             alerts = self.query_one(AlertTable)
-            alerts.show(list(record.alerts), focus_id=self._alert_id)
-            self.query_one(EvidencePanel).show(alerts.current_alert())
+            alerts.show(list(record.alerts), focus_id=self._alert_id, resolved=record.resolved, steps=record.steps)
+            self.query_one(EvidencePanel).show(alerts.current_alert(), alerts.current_steps())
             if self._alert_id is not None:
                 alerts.focus()
                 self._alert_id = None
@@ -179,6 +178,9 @@ class RecordScreen(ClinicWork, Screen):
     # --- actions
 
     def action_tab(self, tab: str) -> None:
+        if tab not in TAB_FOCUS:
+            # Nothing of its own to focus: a focus left in the pane being hidden would take its tab back.
+            self.query_one(Tabs).focus()
         self.query_one(TabbedContent).active = tab
         if tab in TAB_FOCUS:
             self.query_one(TAB_FOCUS[tab]).focus()
@@ -206,15 +208,7 @@ class RecordScreen(ClinicWork, Screen):
 
     @on(AlertTable.Highlighted)
     def _alert_highlighted(self, message: AlertTable.Highlighted) -> None:
-        self.query_one(EvidencePanel).show(message.alert)
-
-    @on(AlertTable.Opened)
-    def _alert_opened(self, message: AlertTable.Opened) -> None:
-        self.query_one(EvidencePanel).show(message.alert)
-
-    @on(AlertTable.HandleAsked)
-    def _alert_handle(self, message: AlertTable.HandleAsked) -> None:
-        start_handling(self, message.alert, message.verb)
+        self.query_one(EvidencePanel).show(message.alert, message.steps)
 
     @on(EntriesTable.AmendAsked)
     def _amend(self, message: EntriesTable.AmendAsked) -> None:

@@ -1,44 +1,52 @@
-"""The why of one alert: its message, the numbers and dates behind it, the rule and its source."""
+"""The why of one alert: its message, its evidence in sentences, the rule and its source, and what
+was done about it. Phone staff see instead what they may tell a caller."""
 
 from __future__ import annotations
 
 from rich.text import Text
 from textual.widgets import Static
 
-from caseload.core.model import Alert
+from caseload.core.model import Alert, AlertStep
+from caseload.presentation.alert_evidence import evidence_sentences, step_sentence
 from caseload.presentation.glossary import ALERT_CAUTION, alert_label
 from caseload.presentation.days import long_day
+from caseload.tui.handle_alert import shown_to_caller
 from caseload.presentation.safe_text import literal
 
 
-
-def evidence_value(value: object) -> str:
-    """Evidence values as a person reads them: lists joined, nothing as a dash."""
-    if value is None or value == "":
-        return "-"
-    if isinstance(value, (list, tuple)):
-        return ", ".join(evidence_value(v) for v in value)
-    if isinstance(value, float):
-        return f"{value:g}"
-    return str(value)
-
-
-def evidence_text(alert: Alert | None) -> Text:
-    if alert is None:
-        return Text("Pick an alert to see its evidence.", style="dim")
+def _heading(alert: Alert) -> Text:
     text = Text(f"{alert.severity.value} · {alert_label(alert.kind)} ({alert.kind})", style="bold")
-    text.append(f"  raised {long_day(alert.raised_on)}, due {long_day(alert.due)}\n")
+    return text.append(f"  raised {long_day(alert.raised_on)}, due {long_day(alert.due)}\n")
+
+
+def caller_text(alert: Alert, caller_message: str) -> Text:
+    """What phone staff see of a clinical alert: its kind, and the clinic's words for the caller."""
+    text = _heading(alert)
+    text.append("Tell the caller: ", style="bold")
+    text.append_text(literal(caller_message))
+    text.append("\nA nurse handles this alert; its clinical details are for clinical staff.", style="dim")
+    return text
+
+
+def evidence_text(alert: Alert, steps: tuple[AlertStep, ...] = ()) -> Text:
+    text = _heading(alert)
     text.append_text(literal(alert.message))
     text.append("\n")
-    for key, value in alert.evidence.items():
-        text.append(f"  {key}: ", style="bold")
-        text.append_text(literal(evidence_value(value)))
+    for line in evidence_sentences(alert.kind, alert.evidence):
+        text.append("  ")
+        text.append_text(literal(line))
         text.append("\n")
     text.append("Rule: ", style="bold")
     text.append_text(literal(alert.rule or "-"))
     text.append("  Source: ", style="bold")
     text.append_text(literal(alert.source or "-"))
-    if alert.handled_by:
+    handled = [s for s in steps if s.action != "raise"]  # the heading says when it was raised
+    if handled:
+        text.append("\nWhat was done:", style="bold")
+        for step in handled:
+            text.append("\n  ")
+            text.append_text(literal(step_sentence(step)))
+    elif alert.handled_by:
         text.append(f"\n{alert.state.value} by ", style="dim")
         text.append_text(literal(alert.handled_by))
         if alert.note:
@@ -49,5 +57,14 @@ def evidence_text(alert: Alert | None) -> Text:
 
 
 class EvidencePanel(Static):
-    def show(self, alert: Alert | None) -> None:
-        self.update(evidence_text(alert))
+    """Shows the highlighted alert as the acting staff member may see it."""
+
+    def show(self, alert: Alert | None, steps: tuple[AlertStep, ...] = ()) -> None:
+        if alert is None:
+            self.update(Text("Pick an alert to see its evidence.", style="dim"))
+        elif shown_to_caller(self.app.clinic, alert):
+            self.update(caller_text(alert, self.app.clinic.protocol.caller_message))
+        else:
+            self.update(evidence_text(alert, steps))
+        if self.parent is not None:
+            self.parent.scroll_home(animate=False)  # a new alert is read from its top
