@@ -2,7 +2,8 @@
 
 from __future__ import annotations
 
-from datetime import date
+from datetime import date, datetime
+from zoneinfo import ZoneInfo
 
 
 def short_day(day: date | None) -> str:
@@ -21,3 +22,11 @@ def day_span(pair: tuple[date, date] | None) -> str:
 def iso_day(day: date | None) -> str:
     """A day for scripts and plain listings: YYYY-MM-DD, or '-' when there is none."""
     return "-" if day is None else day.isoformat()
+
+
+def logged_at(at: datetime | None, zone: str) -> str:
+    """When something was recorded, in the clinic's time zone: '1 Dec 09:14'."""
+    if at is None:
+        return "-"
+    local = at.astimezone(ZoneInfo(zone)) if at.tzinfo else at
+    return f"{short_day(local.date())} {local.strftime('%H:%M')}"

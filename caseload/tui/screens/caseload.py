@@ -21,6 +21,7 @@ from caseload.application.caseload_view import CaseloadLine
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.screens.register import RegisterDialog
 from caseload.tui.saving import StoreChanged
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
@@ -56,6 +57,7 @@ class CaseloadScreen(ClinicWork, Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
+        Binding("n", "register", "New caller", id="caseload.register"),
         Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
 
@@ -227,7 +229,12 @@ class CaseloadScreen(ClinicWork, Screen):
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
             return self.app.clinic.may("summary.export")
+        if action == "register":
+            return self.app.clinic.may("patient.add")
         return True
+
+    def action_register(self) -> None:
+        self.app.push_screen(RegisterDialog())
 
     def action_export(self) -> None:
         # Loaded on demand: the report writers cost a fifth of a second at start-up, and most never export.

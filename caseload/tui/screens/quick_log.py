@@ -11,7 +11,7 @@ other. Opened from a record, it logs for that patient until the patient field is
 from __future__ import annotations
 
 from rich.text import Text
-from textual import events, on, work
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -28,7 +28,7 @@ from caseload.core.second_look import meant_celsius
 from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
-from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
 from caseload.presentation.glossary import KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, match_kind
 from caseload.presentation.days import long_day, short_day
 from caseload.presentation.safe_text import printable
@@ -46,7 +46,7 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-class QuickLogScreen(ClinicWork, ModalScreen[None]):
+class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
     """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
 
     CSS_PATH = "quick_log.tcss"
@@ -100,7 +100,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
             yield Static("", id="result")
         yield Footer(compact=True)
 
-    def _first_field(self) -> TypeAheadInput:
+    def first_field(self) -> TypeAheadInput:
         # From the list the highlighted patient is offered selected: Enter keeps it, typing replaces it.
         picker = self.query_one(PatientPicker)
         return self.query_one("#kind" if picker.patient and self._settled else "#patient", TypeAheadInput)
@@ -108,7 +108,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
     def on_mount(self) -> None:
         if self._settled and self.query_one(PatientPicker).patient is not None:
             self.query_one("#patient", Input).disabled = True  # changing patient is an explicit act
-        self._first_field().focus()
+        self.first_field().focus()
         self._check()
 
     def action_change_patient(self) -> None:
@@ -118,13 +118,6 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         field.focus()
         field.select_all()
         self._show_whose()
-
-    def on_key(self, event: events.Key) -> None:
-        """Keys typed right after `l`, before a field has the focus, go to the field that is getting it."""
-        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
-            event.stop()
-            event.prevent_default()
-            self._first_field().post_message(events.Key(event.key, event.character))
 
     def _text(self, field: str) -> str:
         return self.query_one(f"#{field}", Input).value

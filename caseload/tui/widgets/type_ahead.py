@@ -68,3 +68,17 @@ class TypeAheadInput(Input):
         self._forward_to = None
         self._held = None
         super()._on_blur(event)
+
+
+class EarlyKeys:
+    """Mixed into a dialog opened by a key: the keys typed straight after that key, before a field
+    has the focus, go to the field that is getting it (`first_field`), not to the screen behind."""
+
+    def first_field(self) -> Widget:
+        raise NotImplementedError
+
+    def on_key(self, event: events.Key) -> None:
+        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
+            event.stop()
+            event.prevent_default()
+            self.first_field().post_message(events.Key(event.key, event.character))
