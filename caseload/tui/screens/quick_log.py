@@ -259,16 +259,17 @@ class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
     def work_failed(self, name: str, reason: str) -> None:
         self.post_message(self.Refused(reason))
 
-    def _finish_typing(self, next_field: str | None) -> None:
-        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped."""
+    def _finish_typing(self, next_field: str | None) -> int:
+        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped
+        (the number of keys dropped)."""
         field, self._typed_from = self._typed_from, None
         if next_field is None:
-            if field is not None:
-                field.drop_held()
-        elif field is not None:
+            return field.drop_held() if field is not None else 0
+        if field is not None:
             self._move_on(field, next_field)
         else:
             self.query_one(f"#{next_field}", Input).focus()
+        return 0
 
     def on_quick_log_screen_refused(self, message: Refused) -> None:
         self._saving = False
@@ -279,8 +280,9 @@ class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
         self._saving = False
         outcome = message.outcome
         if isinstance(outcome, SameDayReading):
-            self._finish_typing(None)
-            self._same_day(outcome)
+            # Keys typed after Enter were meant for the next entry, not as an answer to a question
+            # they were typed before: they are dropped, and the question says so.
+            self._same_day(outcome, self._finish_typing(None))
             return
         if isinstance(outcome, SecondLook):
             # Keys typed ahead are dropped: the next Enter must be a decision taken after reading this.
@@ -296,7 +298,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
         self._finish_typing("kind")
         self.app.post_message(Saved(None, outcome))
 
-    def _same_day(self, found: SameDayReading) -> None:
+    def _same_day(self, found: SameDayReading, set_aside: int) -> None:
         e = found.existing
         line = f"{e.patient_id} already has {e.value.display()} C on {short_day(e.day)} (entry #{e.id})"
         if not self.app.clinic.may("entry.amend"):
@@ -310,5 +312,6 @@ class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
             self._saving = True
             self._amend(e.id, correction.value, correction.reason)
 
-        dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?")
+        dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?", asked=True,
+                                    set_aside=set_aside)
         self.app.push_screen(dialog, replace)

@@ -58,10 +58,12 @@ class TypeAheadInput(Input):
         """Enter led nowhere (nothing to pick, nothing saved): the held keys go back into this field."""
         self.pass_on(self)
 
-    def drop_held(self) -> None:
-        """Enter opened something that needs a look first: what was typed ahead is discarded."""
+    def drop_held(self) -> int:
+        """Enter opened something that needs a look first: what was typed ahead is discarded (how many keys)."""
+        dropped = len(self._held or ())
         self._held = None
         self._forward_to = None
+        return dropped
 
     def _on_blur(self, event: events.Blur) -> None:
         # Keys routed here before the focus moved have been passed on; later ones go to the new field.
