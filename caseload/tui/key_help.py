@@ -10,6 +10,7 @@ SENTENCES: dict[str, str] = {
     "app.quick_log": "Log a caller's reading (temperature, bleed, LH, mucus...) for the highlighted or open patient.",
     "app.quit": "Leave caseload; everything saved stays in the store.",
     "app.help": "Show this list of keys (F1 works inside a text field, where ? is typed as text).",
+    "dialog.help": "Show the keys of this dialog (F1 inside a text field, where ? is typed as text).",
     "caseload.search": "Find a patient by id or name; Enter picks the top match, Esc clears.",
     "caseload.mine": "Switch between your own patients and the whole caseload.",
     "caseload.kind": "Show only patients with one kind of alert.",

@@ -7,15 +7,15 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Kind
 from caseload.core.parse import TEXT_MAX, InputError, parse_value
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
+from caseload.tui.screens.dialog import Dialog
 
 
-class AddNoteDialog(EarlyKeys, ModalScreen[str | None]):
+class AddNoteDialog(EarlyKeys, Dialog[str | None]):
     """Opened with `n` on a record; Enter saves the note when it is valid, Esc leaves the record as it is."""
 
     CSS_PATH = "dialogs.tcss"

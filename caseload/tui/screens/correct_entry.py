@@ -10,7 +10,7 @@ from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen, Screen
+from textual.screen import Screen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry
@@ -19,6 +19,7 @@ from caseload.presentation.glossary import kind_label
 from caseload.presentation.days import short_day
 from caseload.tui.rich_text import literal
 from caseload.tui.saving import logged_summary, voided_summary
+from caseload.tui.screens.dialog import Dialog
 
 
 @dataclass(frozen=True)
@@ -37,7 +38,7 @@ def _entry_line(entry: Entry) -> Text:
 QUIET_SECONDS = 0.5
 
 
-class CorrectEntryDialog(ModalScreen[Correction | None]):
+class CorrectEntryDialog(Dialog[Correction | None]):
     """Enter in either field saves when both are valid; Esc leaves the entry as it is.
 
     Opened by a key (amend, void), it takes the keys typed after that key. Opened as a question

@@ -6,7 +6,6 @@ from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Label, Static
 
 from caseload.core.model import Entry, Kind
@@ -14,6 +13,7 @@ from caseload.presentation.days import logged_at, long_day
 from caseload.presentation.glossary import kind_label
 from caseload.presentation.safe_text import printable
 from caseload.tui.widgets.entries_table import status_cell
+from caseload.tui.screens.dialog import Dialog
 
 
 def entry_text(entry: Entry, by_id: dict[int, Entry], zone: str) -> Text:
@@ -42,7 +42,7 @@ def entry_text(entry: Entry, by_id: dict[int, Entry], zone: str) -> Text:
     return text
 
 
-class EntryDialog(ModalScreen[None]):
+class EntryDialog(Dialog[None]):
     """Opened with Enter on the record's entries table; Esc or Enter closes it."""
 
     CSS_PATH = "dialogs.tcss"

@@ -8,7 +8,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from rich.table import Table
 from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -49,14 +48,16 @@ def screen_name(screen) -> str:
     return f"'{titles.first().render()}'" if titles else "this screen"
 
 
-def help_table(lines: tuple[KeyLine, ...]) -> Table:
-    table = Table.grid(padding=(0, 1))
-    table.add_column(style="bold", no_wrap=True)
-    table.add_column(no_wrap=True)
-    table.add_column(ratio=1)
+def help_text(lines: tuple[KeyLine, ...]) -> Text:
+    """A line per key (the key and its footer words), its sentence under it."""
+    width = max((len(line.keys) for line in lines), default=0)
+    text = Text()
     for line in lines:
-        table.add_row(line.keys, line.words, Text(line.sentence, style="dim" if line.sentence == line.words else ""))
-    return table
+        text.append(line.keys.ljust(width), style="bold").append(f"  {line.words}\n", style="bold")
+        if line.sentence != line.words:
+            text.append(f"{' ' * (width + 2)}{line.sentence}\n")
+    text.rstrip()
+    return text
 
 
 class HelpScreen(ModalScreen[None]):
@@ -74,7 +75,7 @@ class HelpScreen(ModalScreen[None]):
         with Vertical(classes="dialog", id="help"):
             yield Label(f"Keys on {self.where}", classes="dialog-title")
             with VerticalScroll(id="help-scroll"):
-                yield Static(help_table(self.lines), id="help-keys")
+                yield Static(help_text(self.lines), id="help-keys")
                 yield Static(Text("Arrow keys move in lists and tables; Tab moves between fields; "
                                   "Enter in a field moves on or saves.", style="dim"))
         yield Footer(compact=True)

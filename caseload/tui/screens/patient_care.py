@@ -13,7 +13,6 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Patient, PatientStatus, Plan, Staff
@@ -24,13 +23,14 @@ from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.saving import Saved
 from caseload.tui.screens.register import nurses_line
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
+from caseload.tui.screens.dialog import Dialog
 
 
 def care_summary(patient: Patient) -> str:
     return f"{patient.id}: plan {patient.plan.value}, status {patient.status.value}, nurse {patient.nurse_id or '-'}."
 
 
-class PatientDialog(EarlyKeys, ClinicWork, ModalScreen[None]):
+class PatientDialog(EarlyKeys, ClinicWork, Dialog[None]):
     """Opened with `c` on a record; only the fields that differ from the record are sent."""
 
     CSS_PATH = "dialogs.tcss"

@@ -16,7 +16,6 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
-from textual.screen import ModalScreen
 from textual.suggester import Suggester
 from textual.widgets import Footer, Input, Label, Static
 
@@ -34,6 +33,7 @@ from caseload.presentation.days import long_day, short_day
 from caseload.presentation.safe_text import printable
 from caseload.tui.rich_text import literal
 from caseload.tui.saving import Saved, logged_summary
+from caseload.tui.screens.dialog import Dialog
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
@@ -46,7 +46,7 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-class QuickLogScreen(EarlyKeys, ClinicWork, ModalScreen[None]):
+class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
     """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
 
     CSS_PATH = "quick_log.tcss"

@@ -14,7 +14,6 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Patient, Staff
@@ -24,6 +23,7 @@ from caseload.tui.choices import active_nurses, pick_nurse
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.saving import Saved
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
+from caseload.tui.screens.dialog import Dialog
 
 FIELDS = ("name", "born", "nurse", "patient-id")
 
@@ -40,7 +40,7 @@ def registered_summary(patient: Patient) -> str:
     return f"Registered {patient.id} ({printable(patient.name)}), born {patient.born.isoformat()}, {nurse}."
 
 
-class RegisterDialog(EarlyKeys, ClinicWork, ModalScreen[None]):
+class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
     """Opened with `n` on the caseload list; the new patient's id is proposed, name and birth date needed."""
 
     CSS_PATH = "dialogs.tcss"
