@@ -16,6 +16,7 @@ from caseload.tui.widgets.entries_table import EntriesTable
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 from tests.tui.test_bindings import interface_classes
+from tests.tui.test_forms import burst
 
 LONG_NOTE = ("Called back at lunch: taking the new tablets with food since Monday, sleeping badly, "
              "partner away until the 14th so no insemination this cycle; will ring if the bleed starts early. "
@@ -24,6 +25,11 @@ LONG_NOTE = ("Called back at lunch: taking the new tablets with food since Monda
 
 def shown(app, selector: str) -> str:
     return app.screen.query_one(selector).render().plain
+
+
+def help_listed(app) -> str:
+    """The help's lines as one text: each key, its words and its sentence."""
+    return " ".join(w.render().plain for w in app.screen.query("#help-keys Label, #help-keys Static"))
 
 
 async def open_record(app, pilot, patient_id: str) -> RecordScreen:
@@ -101,15 +107,15 @@ async def test_help_lists_the_keys_of_the_screen_it_is_opened_on(app_as):
         await pilot.press("?")
         await settle(pilot)
         assert isinstance(app.screen, HelpScreen)
-        listed = shown(app, "#help-keys")
-        assert SENTENCES["caseload.register"] in " ".join(listed.split())
+        listed = help_listed(app)
+        assert SENTENCES["caseload.register"] in listed
         assert "Export" not in listed  # phone staff cannot export: the key is not offered, nor listed
         await pilot.press("escape")
         await settle(pilot)
         await open_record(app, pilot, "P0004")
         await pilot.press("5", "?")
         await settle(pilot)
-        listed = " ".join(shown(app, "#help-keys").split())
+        listed = help_listed(app)
         assert "Add note" in listed and "Details" in listed and "New caller" not in listed
         assert "Amend" not in listed  # phone staff do not correct entries
         assert "record" in shown(app, ".dialog-title")
@@ -122,8 +128,19 @@ async def test_help_opens_in_a_dialog_with_f1_and_question_mark_stays_text(app_a
         await pilot.press("l", *"pia", "enter", "?", "f1")
         await settle(pilot)
         assert isinstance(app.screen, HelpScreen)
-        listed = " ".join(shown(app, "#help-keys").split())
+        listed = help_listed(app)
         assert SENTENCES["quick_log.save"] in listed and "Log a call" in shown(app, ".dialog-title")
         await pilot.press("escape")
         await settle(pilot)
         assert isinstance(app.screen, QuickLogScreen) and app.focused.value == "?"
+
+
+async def test_a_note_typed_in_one_burst_after_n_lands_in_the_note(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0003")
+        burst(app, "nrang back, no answer\r")
+        await settle(pilot)
+    notes = [e.value.text for e in patient_entries(check, "P0003") if e.kind is Kind.NOTE]
+    assert notes == ["rang back, no answer"]

@@ -7,6 +7,8 @@ The forms go through the Clinic's use cases, so they refuse as `caseload patient
 
 from __future__ import annotations
 
+from textual import events
+
 from caseload.core.model import PatientStatus, Plan
 from caseload.tui.screens.patient_care import PatientDialog
 from caseload.tui.screens.record import RecordScreen
@@ -149,3 +151,38 @@ async def test_phone_staff_are_not_offered_the_change_and_the_clinic_refuses_it(
         assert shown(app, "#check") == (
             "Not saved: phone staff may not change a patient's plan, status or nurse: it needs nurse or supervisor or admin")
     assert patient_rows(check) == before
+
+
+def burst(app, keys: str) -> None:
+    """Keys as a terminal delivers a fast typist's burst: all queued before the first is handled."""
+    for ch in keys:
+        app.post_message(events.Key({"\t": "tab", "\r": "enter"}.get(ch, ch), None if ch in "\t\r" else ch))
+
+
+async def test_a_burst_after_c_goes_into_the_form_not_the_record_behind(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        app.push_screen(RecordScreen("P0001"))
+        await settle(pilot)
+        burst(app, "cnora\ttim\r")
+        await settle(pilot)
+        assert isinstance(app.screen, RecordScreen)
+    patient = check.store.patients.get("P0001")
+    assert (patient.nurse_id, patient.plan) == ("nora", Plan.TIMED)
+
+
+async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        burst(app, "nAnn Lee\r1979-02-28\r\r")
+        await settle(pilot)
+        assert check.store.patients.get("P0006").name == "Ann Lee"
+        await pilot.press("slash")
+        await settle(pilot)
+        burst(app, "nora")
+        await settle(pilot)
+        assert not isinstance(app.screen, RegisterDialog) and app.focused.value == "nora"

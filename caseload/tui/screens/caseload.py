@@ -57,7 +57,9 @@ class CaseloadScreen(ClinicWork, Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
-        Binding("n", "register", "New caller", id="caseload.register"),
+        # A priority binding, so the keys typed straight after it reach the form; it stands aside
+        # (check_action) while the search field has the focus.
+        Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
 
@@ -230,7 +232,7 @@ class CaseloadScreen(ClinicWork, Screen):
         if action == "export":
             return self.app.clinic.may("summary.export")
         if action == "register":
-            return self.app.clinic.may("patient.add")
+            return not isinstance(self.focused, Input) and self.app.clinic.may("patient.add")
         return True
 
     def action_register(self) -> None:

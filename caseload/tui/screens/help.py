@@ -11,7 +11,7 @@ from dataclasses import dataclass
 from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Vertical, VerticalScroll
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Footer, Label, Static
 
@@ -48,16 +48,10 @@ def screen_name(screen) -> str:
     return f"'{titles.first().render()}'" if titles else "this screen"
 
 
-def help_text(lines: tuple[KeyLine, ...]) -> Text:
-    """A line per key (the key and its footer words), its sentence under it."""
-    width = max((len(line.keys) for line in lines), default=0)
-    text = Text()
-    for line in lines:
-        text.append(line.keys.ljust(width), style="bold").append(f"  {line.words}\n", style="bold")
-        if line.sentence != line.words:
-            text.append(f"{' ' * (width + 2)}{line.sentence}\n")
-    text.rstrip()
-    return text
+def key_words(line: KeyLine) -> Text:
+    """The footer's words, then the sentence (when it says more)."""
+    text = Text(line.words, style="bold")
+    return text.append(f": {line.sentence}") if line.sentence != line.words else text
 
 
 class HelpScreen(ModalScreen[None]):
@@ -74,8 +68,11 @@ class HelpScreen(ModalScreen[None]):
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="help"):
             yield Label(f"Keys on {self.where}", classes="dialog-title")
-            with VerticalScroll(id="help-scroll"):
-                yield Static(help_text(self.lines), id="help-keys")
+            with VerticalScroll(id="help-keys"):
+                for line in self.lines:
+                    with Horizontal(classes="help-line"):
+                        yield Label(line.keys, classes="help-key")
+                        yield Static(key_words(line), classes="help-words")
                 yield Static(Text("Arrow keys move in lists and tables; Tab moves between fields; "
                                   "Enter in a field moves on or saves.", style="dim"))
         yield Footer(compact=True)

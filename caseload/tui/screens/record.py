@@ -51,8 +51,10 @@ class RecordScreen(ClinicWork, Screen):
         Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
         Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
         Binding("p", "referral", "Pack/FHIR", id="record.referral"),
-        Binding("c", "care", "Nurse/plan/status", id="record.care"),
-        Binding("n", "add_note", "Add note", id="record.add_note"),
+        # Priority bindings open their dialog before the keys typed after them are routed, so those
+        # keys reach the dialog and not this screen (the record has no text field to stand aside for).
+        Binding("c", "care", "Nurse/plan/status", id="record.care", priority=True),
+        Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
     ]
 
     class Loaded(Message):
