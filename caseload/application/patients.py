@@ -32,14 +32,8 @@ def proposed_id(taken: list[str]) -> str:
     if not numbered:
         return FIRST_ID
     top = max(numbered, key=lambda m: (int(m["number"]), m["prefix"]))
-    number = int(top["number"]) + 1
-    candidate = f"{top['prefix']}{number:0{len(top['number'])}d}"
-    # Ids are compared as typed; a case-variant of a taken id would only confuse staff.
-    lowered = {t.lower() for t in taken}
-    while candidate.lower() in lowered:
-        number += 1
-        candidate = f"{top['prefix']}{number:0{len(top['number'])}d}"
-    return candidate
+    # Higher than every numbered id, so it is free whatever their prefixes or letter case.
+    return f"{top['prefix']}{int(top['number']) + 1:0{len(top['number'])}d}"
 
 
 def next_patient_id(ctx: Context) -> str:
