@@ -135,12 +135,13 @@ async def test_help_opens_in_a_dialog_with_f1_and_question_mark_stays_text(app_a
         assert isinstance(app.screen, QuickLogScreen) and app.focused.value == "?"
 
 
-async def test_a_note_typed_in_one_burst_after_n_lands_in_the_note(app_as, service_ctx):
+async def test_a_note_typed_in_one_burst_lands_in_the_note_and_the_next_key_on_the_record(app_as, service_ctx):
     check = service_ctx("ada")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0003")
-        burst(app, "nrang back, no answer\r")
+        burst(app, "nrang back, no answer\r5")  # and on to the entries, without a pause
         await settle(pilot)
+        assert app.screen.query_one("TabbedContent").active == "entries"
     notes = [e.value.text for e in patient_entries(check, "P0003") if e.kind is Kind.NOTE]
     assert notes == ["rang back, no answer"]

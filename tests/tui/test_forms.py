@@ -10,6 +10,7 @@ from __future__ import annotations
 from textual import events
 
 from caseload.core.model import PatientStatus, Plan
+from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.patient_care import PatientDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.screens.register import RegisterDialog
@@ -178,9 +179,11 @@ async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search
     app = app_as("phil")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        burst(app, "nAnn Lee\r1979-02-28\r\r")
+        burst(app, "nAnn Lee\r1979-02-28\r\ra")  # `a`, typed on after the form, opens the alert queue
         await settle(pilot)
         assert check.store.patients.get("P0006").name == "Ann Lee"
+        assert isinstance(app.screen, AlertQueueScreen)
+        await pilot.press("escape")
         await pilot.press("slash")
         await settle(pilot)
         burst(app, "nora")

@@ -11,7 +11,7 @@ from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Kind
 from caseload.core.parse import TEXT_MAX, InputError, parse_value
-from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
 from caseload.tui.screens.dialog import Dialog
 
 
@@ -58,5 +58,6 @@ class AddNoteDialog(EarlyKeys, Dialog[str | None]):
         if self._problem() is not None:
             event.input.keep_typing()
             return
-        event.input.drop_held()
+        typed_on = event.input.take_held()
         self.dismiss(event.value)
+        replay(self.app, typed_on)

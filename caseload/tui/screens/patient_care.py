@@ -12,25 +12,22 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.message import Message
 from textual.widgets import Footer, Input, Label, Static
 
-from caseload.core.model import Patient, PatientStatus, Plan, Staff
+from caseload.core.model import Patient, PatientStatus, Plan
 from caseload.core.parse import InputError, accepted
 from caseload.presentation.safe_text import printable
 from caseload.tui.choices import active_nurses, pick_nurse, pick_word
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
-from caseload.tui.saving import Saved
-from caseload.tui.screens.register import nurses_line
-from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
-from caseload.tui.screens.dialog import Dialog
+from caseload.tui.clinic_work import STORE_WORK
+from caseload.tui.screens.form_dialog import FormDialog, nurses_line
+from caseload.tui.widgets.type_ahead import TypeAheadInput
 
 
 def care_summary(patient: Patient) -> str:
     return f"{patient.id}: plan {patient.plan.value}, status {patient.status.value}, nurse {patient.nurse_id or '-'}."
 
 
-class PatientDialog(EarlyKeys, ClinicWork, Dialog[None]):
+class PatientDialog(FormDialog):
     """Opened with `c` on a record; only the fields that differ from the record are sent."""
 
     CSS_PATH = "dialogs.tcss"
@@ -39,26 +36,9 @@ class PatientDialog(EarlyKeys, ClinicWork, Dialog[None]):
         Binding("ctrl+s", "save", "Save", id="care.save"),
     ]
 
-    class Ready(Message):
-        def __init__(self, nurses: tuple[Staff, ...]) -> None:
-            super().__init__()
-            self.nurses = nurses
-
-    class Done(Message):
-        def __init__(self, patient: Patient) -> None:
-            super().__init__()
-            self.patient = patient
-
-    class Refused(Message):
-        def __init__(self, reason: str) -> None:
-            super().__init__()
-            self.reason = reason
-
     def __init__(self, patient: Patient) -> None:
         super().__init__()
         self.patient = patient
-        self._nurses: tuple[Staff, ...] | None = None
-        self._saving = False
 
     def compose(self) -> ComposeResult:
         p = self.patient
@@ -90,15 +70,12 @@ class PatientDialog(EarlyKeys, ClinicWork, Dialog[None]):
 
     @work(**STORE_WORK, name="read")
     def _read(self) -> None:
-        self.post_message(self.Ready(active_nurses(self.app.clinic.staff_list())))
+        self.post_message(self.NursesRead(active_nurses(self.app.clinic.staff_list())))
 
-    def on_patient_dialog_ready(self, message: Ready) -> None:
+    def on_form_dialog_nurses_read(self, message: FormDialog.NursesRead) -> None:
         self._nurses = message.nurses
         self.query_one("#nurses", Static).update(nurses_line(message.nurses))
         self._check()
-
-    def work_failed(self, name: str, reason: str) -> None:
-        self.post_message(self.Refused(reason if name == "save" else f"could not read the nurses ({reason})"))
 
     def _changes(self) -> dict[str, str]:
         """The fields that differ from the record, as the use case takes them; InputError for a bad one."""
@@ -142,31 +119,27 @@ class PatientDialog(EarlyKeys, ClinicWork, Dialog[None]):
         except InputError:
             event.input.keep_typing()  # the check line says why
             return
-        event.input.drop_held()
         if changes:
-            self.action_save()
+            self._save(event.input)
+        else:
+            event.input.drop_held()
 
     def action_save(self) -> None:
+        self._save(None)
+
+    def _save(self, field: TypeAheadInput | None) -> None:
         try:
             changes = self._changes()
         except InputError:
-            return
+            changes = {}
         if self._saving or not changes:
+            if field is not None:
+                field.drop_held()
             return
-        self._saving = True
-        self.query_one("#check", Static).update(Text("Saving…", style="dim"))
+        self.start_saving(field, "Saving…")
         self._set(changes)
 
     @work(**STORE_WORK, name="save")
     def _set(self, changes: dict[str, str]) -> None:
-        self.post_message(self.Done(self.app.clinic.set_patient(self.patient.id, **changes)))
-
-    def on_patient_dialog_done(self, message: Done) -> None:
-        self.app.post_message(Saved(care_summary(message.patient), message.patient))
-        self.dismiss()
-
-    def on_patient_dialog_refused(self, message: Refused) -> None:
-        self._saving = False
-        check = self.query_one("#check", Static)
-        check.set_class(True, "refused")
-        check.update(Text(f"Not saved: {message.reason}"))
+        patient = self.app.clinic.set_patient(self.patient.id, **changes)
+        self.post_message(self.Done(care_summary(patient), patient))

@@ -13,26 +13,17 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.message import Message
 from textual.widgets import Footer, Input, Label, Static
 
-from caseload.core.model import Patient, Staff
+from caseload.core.model import Patient
 from caseload.core.parse import InputError, parse_birth_date, parse_id, parse_name
 from caseload.presentation.safe_text import printable
 from caseload.tui.choices import active_nurses, pick_nurse
-from caseload.tui.clinic_work import STORE_WORK, ClinicWork
-from caseload.tui.saving import Saved
-from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
-from caseload.tui.screens.dialog import Dialog
+from caseload.tui.clinic_work import STORE_WORK
+from caseload.tui.screens.form_dialog import FormDialog, nurses_line
+from caseload.tui.widgets.type_ahead import TypeAheadInput
 
 FIELDS = ("name", "born", "nurse", "patient-id")
-
-
-def nurses_line(nurses: tuple[Staff, ...]) -> Text:
-    text = Text("Nurses: ", style="dim")
-    for n in nurses:
-        text.append(n.id, style="bold").append(f" {printable(n.name)}  ")
-    return text.append("(blank: no nurse yet)", style="dim")
 
 
 def registered_summary(patient: Patient) -> str:
@@ -40,7 +31,7 @@ def registered_summary(patient: Patient) -> str:
     return f"Registered {patient.id} ({printable(patient.name)}), born {patient.born.isoformat()}, {nurse}."
 
 
-class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
+class RegisterDialog(FormDialog):
     """Opened with `n` on the caseload list; the new patient's id is proposed, name and birth date needed."""
 
     CSS_PATH = "dialogs.tcss"
@@ -49,26 +40,7 @@ class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
         Binding("ctrl+s", "save", "Register", id="register.save"),
     ]
 
-    class Ready(Message):
-        def __init__(self, proposed_id: str, nurses: tuple[Staff, ...]) -> None:
-            super().__init__()
-            self.proposed_id = proposed_id
-            self.nurses = nurses
-
-    class Done(Message):
-        def __init__(self, patient: Patient) -> None:
-            super().__init__()
-            self.patient = patient
-
-    class Refused(Message):
-        def __init__(self, reason: str) -> None:
-            super().__init__()
-            self.reason = reason
-
-    def __init__(self) -> None:
-        super().__init__()
-        self._nurses: tuple[Staff, ...] | None = None  # None until read
-        self._saving = False
+    REFUSED = "Not registered"
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog", id="register"):
@@ -93,18 +65,15 @@ class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
     @work(**STORE_WORK, name="read")
     def _read(self) -> None:
         clinic = self.app.clinic
-        self.post_message(self.Ready(clinic.next_patient_id(), active_nurses(clinic.staff_list())))
+        self.post_message(self.NursesRead(active_nurses(clinic.staff_list()), clinic.next_patient_id()))
 
-    def on_register_dialog_ready(self, message: Ready) -> None:
+    def on_form_dialog_nurses_read(self, message: FormDialog.NursesRead) -> None:
         self._nurses = message.nurses
         self.query_one("#nurses", Static).update(nurses_line(message.nurses))
         field = self.query_one("#patient-id", Input)
         if not field.value:  # never over what was typed
             field.value = message.proposed_id
         self._check()
-
-    def work_failed(self, name: str, reason: str) -> None:
-        self.post_message(self.Refused(reason if name == "save" else f"could not read the nurses ({reason})"))
 
     def _problems(self) -> dict[str, str]:
         """What is wrong with each field, in the CLI's words; a field not yet read says so."""
@@ -149,18 +118,20 @@ class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
             target.focus()
             field.pass_on(target)
             return
-        field.drop_held()
-        self.action_save()
+        self._save(field)
 
     def action_save(self) -> None:
+        self._save(None)
+
+    def _save(self, field: TypeAheadInput | None) -> None:
         problems = self._problems()
         if self._saving or problems:
             if problems:
-                field = next(f for f in FIELDS if f in problems)
-                self.query_one(f"#{field}", Input).focus()
+                self.query_one(f"#{next(f for f in FIELDS if f in problems)}", Input).focus()
+            if field is not None:
+                field.drop_held()
             return
-        self._saving = True
-        self.query_one("#check", Static).update(Text("Registering…", style="dim"))
+        self.start_saving(field, "Registering…")
         nurse = pick_nurse(self._nurses or (), self.query_one("#nurse", Input).value)
         values = [self.query_one(f"#{f}", Input).value for f in ("patient-id", "name", "born")]
         self._register(*values, nurse.id if nurse else None)
@@ -168,14 +139,4 @@ class RegisterDialog(EarlyKeys, ClinicWork, Dialog[None]):
     @work(**STORE_WORK, name="save")
     def _register(self, patient_id: str, name: str, born: str, nurse: str | None) -> None:
         patient = self.app.clinic.register_patient(patient_id, name, born, nurse)
-        self.post_message(self.Done(patient))
-
-    def on_register_dialog_done(self, message: Done) -> None:
-        self.app.post_message(Saved(registered_summary(message.patient), message.patient))
-        self.dismiss()
-
-    def on_register_dialog_refused(self, message: Refused) -> None:
-        self._saving = False
-        check = self.query_one("#check", Static)
-        check.set_class(True, "refused")
-        check.update(Text(f"Not registered: {message.reason}"))
+        self.post_message(self.Done(registered_summary(patient), patient))

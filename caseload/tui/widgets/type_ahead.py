@@ -58,6 +58,11 @@ class TypeAheadInput(Input):
         """Enter led nowhere (nothing to pick, nothing saved): the held keys go back into this field."""
         self.pass_on(self)
 
+    def take_held(self) -> list[events.Key]:
+        """Enter finished the form: the keys typed after it, for the screen behind (see `replay`)."""
+        held, self._held, self._forward_to = self._held or [], None, None
+        return held
+
     def drop_held(self) -> int:
         """Enter opened something that needs a look first: what was typed ahead is discarded (how many keys)."""
         dropped = len(self._held or ())
@@ -70,6 +75,12 @@ class TypeAheadInput(Input):
         self._forward_to = None
         self._held = None
         super()._on_blur(event)
+
+
+def replay(app, keys: list[events.Key]) -> None:
+    """Keys typed after a form's last Enter, sent on once it has closed: they were meant for what is behind."""
+    for key in keys:
+        app.post_message(events.Key(key.key, key.character))
 
 
 class EarlyKeys:
