@@ -16,7 +16,7 @@ from caseload.tui.widgets.entries_table import EntriesTable
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 from tests.tui.test_bindings import interface_classes
-from tests.tui.test_forms import burst
+from tests.tui.test_forms import burst, open_record
 
 LONG_NOTE = ("Called back at lunch: taking the new tablets with food since Monday, sleeping badly, "
              "partner away until the 14th so no insemination this cycle; will ring if the bleed starts early. "
@@ -30,13 +30,6 @@ def shown(app, selector: str) -> str:
 def help_listed(app) -> str:
     """The help's lines as one text: each key, its words and its sentence."""
     return " ".join(w.render().plain for w in app.screen.query("#help-keys Label, #help-keys Static"))
-
-
-async def open_record(app, pilot, patient_id: str) -> RecordScreen:
-    await settle(pilot)
-    app.push_screen(RecordScreen(patient_id))
-    await settle(pilot)
-    return app.screen
 
 
 async def test_entries_say_who_logged_them_and_when_they_were_recorded(app_as, service_ctx):

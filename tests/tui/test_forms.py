@@ -31,6 +31,13 @@ async def press_and_settle(pilot, *keys: str) -> None:
     await settle(pilot)
 
 
+async def open_record(app, pilot, patient_id: str) -> RecordScreen:
+    await settle(pilot)
+    app.push_screen(RecordScreen(patient_id))
+    await settle(pilot)
+    return app.screen
+
+
 async def test_a_clerk_registers_a_caller_typed_ahead(app_as, service_ctx):
     check = service_ctx("ada")
     app = app_as("phil")
@@ -96,9 +103,7 @@ async def test_a_nurse_changes_nurse_plan_and_status_from_the_record(app_as, ser
     check = service_ctx("ada")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        app.push_screen(RecordScreen("P0001"))
-        await settle(pilot)
+        await open_record(app, pilot, "P0001")
         await press_and_settle(pilot, "c", *"nora", "tab", *"ovu", "tab", *"pa", "enter")
         assert isinstance(app.screen, RecordScreen)
     patient = check.store.patients.get("P0001")
@@ -112,9 +117,7 @@ async def test_a_refused_plan_shows_one_line_and_writes_nothing(app_as, service_
     before = patient_rows(check)
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        app.push_screen(RecordScreen("P0002"))
-        await settle(pilot)
+        await open_record(app, pilot, "P0002")
         await press_and_settle(pilot, "c", "tab", *"ivf", "enter")
         assert isinstance(app.screen, PatientDialog)
         assert shown(app, "#check") == (
@@ -127,9 +130,7 @@ async def test_a_nurse_takes_the_nurse_off_a_patient(app_as, service_ctx):
     check = service_ctx("ada")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        app.push_screen(RecordScreen("P0002"))
-        await settle(pilot)
+        await open_record(app, pilot, "P0002")
         await press_and_settle(pilot, "c", "backspace", "enter")
     assert check.store.patients.get("P0002").nurse_id is None
 
@@ -139,9 +140,7 @@ async def test_phone_staff_are_not_offered_the_change_and_the_clinic_refuses_it(
     before = patient_rows(check)
     app = app_as("phil")
     async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        app.push_screen(RecordScreen("P0001"))
-        await settle(pilot)
+        await open_record(app, pilot, "P0001")
         await press_and_settle(pilot, "c")
         assert isinstance(app.screen, RecordScreen)
         assert app.screen.check_action("care", ()) is False  # not in the footer either
@@ -164,9 +163,7 @@ async def test_a_burst_after_c_goes_into_the_form_not_the_record_behind(app_as, 
     check = service_ctx("ada")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        await settle(pilot)
-        app.push_screen(RecordScreen("P0001"))
-        await settle(pilot)
+        await open_record(app, pilot, "P0001")
         burst(app, "cnora\ttim\r")
         await settle(pilot)
         assert isinstance(app.screen, RecordScreen)

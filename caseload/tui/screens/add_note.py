@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
@@ -12,7 +11,7 @@ from textual.widgets import Footer, Input, Label, Static
 from caseload.core.model import Kind
 from caseload.core.parse import TEXT_MAX, InputError, parse_value
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
-from caseload.tui.screens.dialog import Dialog
+from caseload.tui.screens.dialog import Dialog, show_check
 
 
 class AddNoteDialog(EarlyKeys, Dialog[str | None]):
@@ -48,10 +47,7 @@ class AddNoteDialog(EarlyKeys, Dialog[str | None]):
 
     @on(Input.Changed)
     def _check(self) -> None:
-        problem = self._problem()
-        check = self.query_one("#check", Static)
-        check.set_class(problem is not None, "refused")
-        check.update(Text(problem or "Enter saves the note.", no_wrap=False))
+        show_check(self.query_one("#check", Static), self._problem(), "Enter saves the note.")
 
     @on(Input.Submitted)
     def _submit(self, event: Input.Submitted) -> None:

@@ -19,7 +19,7 @@ from caseload.presentation.glossary import kind_label
 from caseload.presentation.days import short_day
 from caseload.tui.rich_text import literal
 from caseload.tui.saving import logged_summary, voided_summary
-from caseload.tui.screens.dialog import Dialog
+from caseload.tui.screens.dialog import Dialog, show_check
 
 
 @dataclass(frozen=True)
@@ -115,10 +115,7 @@ class CorrectEntryDialog(Dialog[Correction | None]):
 
     @on(Input.Changed)
     def _check(self) -> None:
-        problem = self._problem()
-        check = self.query_one("#check", Static)
-        check.set_class(problem is not None, "refused")
-        check.update(Text(problem or "Enter saves.", no_wrap=False))
+        show_check(self.query_one("#check", Static), self._problem(), "Enter saves.")
 
     @on(Input.Submitted)
     def _submit(self, event: Input.Submitted) -> None:

@@ -7,12 +7,14 @@ from __future__ import annotations
 from typing import Any
 
 from rich.text import Text
+from textual import work
 from textual.message import Message
 from textual.widgets import Static
 
 from caseload.core.model import Staff
 from caseload.presentation.safe_text import printable
-from caseload.tui.clinic_work import ClinicWork
+from caseload.tui.choices import active_nurses
+from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.saving import Saved
 from caseload.tui.screens.dialog import Dialog
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
@@ -27,8 +29,8 @@ def nurses_line(nurses: tuple[Staff, ...]) -> Text:
 
 
 class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
-    """A subclass reads in its `read` worker (posting `NursesRead`) and saves in its `save` worker
-    (posting `Done`); a failure of either is shown in the `#check` line."""
+    """The clinic's nurses are read on opening (with the subclass's `proposal`); a subclass saves in
+    its `save` worker, posting `Done`; a failure of either is shown in the `#check` line."""
 
     REFUSED = "Not saved"
 
@@ -54,6 +56,33 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
         self._nurses: tuple[Staff, ...] | None = None  # None until read
         self._saving = False
         self._typed_from: TypeAheadInput | None = None  # the field whose Enter saved: it holds what follows
+
+    def on_mount(self) -> None:
+        self.first_field().focus()
+        self._read()
+        self._check()
+
+    @work(**STORE_WORK, name="read")
+    def _read(self) -> None:
+        clinic = self.app.clinic
+        self.post_message(self.NursesRead(active_nurses(clinic.staff_list()), self.proposal(clinic)))
+
+    def proposal(self, clinic) -> str:
+        """What the form offers once read, besides the nurses (the registration's next id)."""
+        return ""
+
+    def offer(self, proposal: str) -> None:
+        """Put the proposal read on opening into the form."""
+
+    def _check(self) -> None:
+        """Say in the `#check` line what is wrong or ready (on each change)."""
+        raise NotImplementedError
+
+    def on_form_dialog_nurses_read(self, message: NursesRead) -> None:
+        self._nurses = message.nurses
+        self.query_one("#nurses", Static).update(nurses_line(message.nurses))
+        self.offer(message.proposed_id)
+        self._check()
 
     def start_saving(self, field: TypeAheadInput | None, doing: str) -> None:
         self._saving = True

@@ -17,9 +17,9 @@ from textual.widgets import Footer, Input, Label, Static
 from caseload.core.model import Patient, PatientStatus, Plan
 from caseload.core.parse import InputError, accepted
 from caseload.presentation.safe_text import printable
-from caseload.tui.choices import active_nurses, pick_nurse, pick_word
+from caseload.tui.choices import pick_nurse, pick_word
 from caseload.tui.clinic_work import STORE_WORK
-from caseload.tui.screens.form_dialog import FormDialog, nurses_line
+from caseload.tui.screens.form_dialog import FormDialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 
 
@@ -62,20 +62,6 @@ class PatientDialog(FormDialog):
 
     def first_field(self) -> TypeAheadInput:
         return self.query_one("#nurse", TypeAheadInput)
-
-    def on_mount(self) -> None:
-        self.first_field().focus()
-        self._read()
-        self._check()
-
-    @work(**STORE_WORK, name="read")
-    def _read(self) -> None:
-        self.post_message(self.NursesRead(active_nurses(self.app.clinic.staff_list())))
-
-    def on_form_dialog_nurses_read(self, message: FormDialog.NursesRead) -> None:
-        self._nurses = message.nurses
-        self.query_one("#nurses", Static).update(nurses_line(message.nurses))
-        self._check()
 
     def _changes(self) -> dict[str, str]:
         """The fields that differ from the record, as the use case takes them; InputError for a bad one."""

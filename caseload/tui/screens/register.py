@@ -18,9 +18,9 @@ from textual.widgets import Footer, Input, Label, Static
 from caseload.core.model import Patient
 from caseload.core.parse import InputError, parse_birth_date, parse_id, parse_name
 from caseload.presentation.safe_text import printable
-from caseload.tui.choices import active_nurses, pick_nurse
+from caseload.tui.choices import pick_nurse
 from caseload.tui.clinic_work import STORE_WORK
-from caseload.tui.screens.form_dialog import FormDialog, nurses_line
+from caseload.tui.screens.form_dialog import FormDialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 
 FIELDS = ("name", "born", "nurse", "patient-id")
@@ -57,23 +57,13 @@ class RegisterDialog(FormDialog):
     def first_field(self) -> TypeAheadInput:
         return self.query_one("#name", TypeAheadInput)
 
-    def on_mount(self) -> None:
-        self.first_field().focus()
-        self._read()
-        self._check()
+    def proposal(self, clinic) -> str:
+        return clinic.next_patient_id()
 
-    @work(**STORE_WORK, name="read")
-    def _read(self) -> None:
-        clinic = self.app.clinic
-        self.post_message(self.NursesRead(active_nurses(clinic.staff_list()), clinic.next_patient_id()))
-
-    def on_form_dialog_nurses_read(self, message: FormDialog.NursesRead) -> None:
-        self._nurses = message.nurses
-        self.query_one("#nurses", Static).update(nurses_line(message.nurses))
+    def offer(self, proposal: str) -> None:
         field = self.query_one("#patient-id", Input)
         if not field.value:  # never over what was typed
-            field.value = message.proposed_id
-        self._check()
+            field.value = proposal
 
     def _problems(self) -> dict[str, str]:
         """What is wrong with each field, in the CLI's words; a field not yet read says so."""
