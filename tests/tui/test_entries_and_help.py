@@ -16,7 +16,8 @@ from caseload.tui.widgets.entries_table import EntriesTable
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 from tests.tui.test_bindings import interface_classes
-from tests.tui.test_forms import burst, open_record
+from tests.tui.test_forms import burst
+from tests.tui.test_quick_log_safety import open_record
 
 LONG_NOTE = ("Called back at lunch: taking the new tablets with food since Monday, sleeping badly, "
              "partner away until the 14th so no insemination this cycle; will ring if the bleed starts early. "
@@ -37,9 +38,9 @@ async def test_entries_say_who_logged_them_and_when_they_were_recorded(app_as, s
     corrected = next(e for e in patient_entries(check, "P0002") if e.amend_reason)
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
-        screen = await open_record(app, pilot, "P0002")
+        await open_record(app, pilot, "P0002")
         await pilot.press("5")
-        table = screen.query_one(EntriesTable)
+        table = app.screen.query_one(EntriesTable)
         # Recorded-at is the store's UTC time shown in the clinic's zone (the fixture's Europe/London,
         # from the IANA tz database): not the day of the reading, which here is yesterday.
         local = corrected.at.astimezone(ZoneInfo("Europe/London"))

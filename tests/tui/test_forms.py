@@ -16,6 +16,7 @@ from caseload.tui.screens.record import RecordScreen
 from caseload.tui.screens.register import RegisterDialog
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from tests.tui.conftest import fill, settle
+from tests.tui.test_quick_log_safety import open_record, press_and_settle
 
 
 def shown(app, selector: str) -> str:
@@ -24,18 +25,6 @@ def shown(app, selector: str) -> str:
 
 def patient_rows(ctx) -> tuple[int, int]:
     return len(ctx.store.patients.all()), ctx.store.audit.count()
-
-
-async def press_and_settle(pilot, *keys: str) -> None:
-    await pilot.press(*keys)
-    await settle(pilot)
-
-
-async def open_record(app, pilot, patient_id: str) -> RecordScreen:
-    await settle(pilot)
-    app.push_screen(RecordScreen(patient_id))
-    await settle(pilot)
-    return app.screen
 
 
 async def test_a_clerk_registers_a_caller_typed_ahead(app_as, service_ctx):
