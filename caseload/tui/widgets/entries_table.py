@@ -16,7 +16,9 @@ from caseload.presentation.glossary import kind_label
 from caseload.presentation.days import logged_at, short_day
 from caseload.tui.rich_text import literal
 
-COLUMNS = ("#", "Day", "Kind", "Value", "Status", "Time", "Flags", "By", "Logged", "Note")
+# Who logged an entry and when it was recorded come before the often empty status and flags, so
+# they are in view at 80 columns.
+COLUMNS = ("#", "Day", "Kind", "Value", "Time", "By", "Logged", "Status", "Flags", "Note")
 VALUE_WIDTH = 18
 NOTE_WIDTH = 40
 
@@ -48,11 +50,11 @@ def entry_cells(entry: Entry, by_id: dict[int, Entry], zone: str) -> list[Text]:
     for cell in cells:
         cell.stylize(gone)
     return cells + [
-        status_cell(entry, by_id),
         Text(entry.time or ""),
-        Text(",".join(entry.flags)),
         literal(entry.by),
         Text(logged_at(entry.at, zone)),
+        status_cell(entry, by_id),
+        Text(",".join(entry.flags)),
         clipped(literal(entry.note), NOTE_WIDTH),
     ]
 
