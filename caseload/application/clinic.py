@@ -100,6 +100,7 @@ class Clinic:
         self.store = store
         self.identity = identity
         self.real_date = date_of_record or staff.clinic_today(store)
+        self.timezone = staff.clinic_timezone(store)
         self._actor = None if store.staff.by_os_account(identity.account) is None else resolve_actor(
             store, identity.account, identity.as_staff
         )
@@ -273,6 +274,10 @@ class Clinic:
                          plan: str = "natural", charting_temps: bool = True) -> Patient:
         return self._write("registering a patient", patients.add_patient, patient_id, name, born, nurse, plan,
                            charting_temps)
+
+    def next_patient_id(self) -> str:
+        """The id a registration form offers: the one after the highest numbered id in the store."""
+        return self._read(patients.next_patient_id)
 
     def set_patient(self, patient_id: str, plan: str | None = None, status: str | None = None,
                     nurse: str | None = None) -> Patient:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import replace
 from datetime import date
 
@@ -18,6 +19,25 @@ def get_patient(ctx: Context, patient_id: str) -> Patient:
     if patient is None:
         raise NotFound(f"no patient '{patient_id}': see 'caseload list'")
     return patient
+
+
+NUMBERED_ID = re.compile(r"^(?P<prefix>[A-Za-z]*)(?P<number>\d+)$")
+FIRST_ID = "P0001"
+
+
+def proposed_id(taken: list[str]) -> str:
+    """The id to offer for the next registration: the highest numbered id (letters then digits, as
+    P0042) plus one, with its prefix and at least its width; P0001 on an empty caseload."""
+    numbered = [m for m in map(NUMBERED_ID.match, taken) if m]
+    if not numbered:
+        return FIRST_ID
+    top = max(numbered, key=lambda m: (int(m["number"]), m["prefix"]))
+    # Higher than every numbered id, so it is free whatever their prefixes or letter case.
+    return f"{top['prefix']}{int(top['number']) + 1:0{len(top['number'])}d}"
+
+
+def next_patient_id(ctx: Context) -> str:
+    return proposed_id([p.id for p in ctx.store.patients.all()])
 
 
 def _nurse(ctx: Context, nurse_id: str | None) -> str | None:

@@ -43,9 +43,14 @@ def clinic_zone(name: str) -> ZoneInfo:
     return ZoneInfo("UTC" if name.lower() == "utc" else name)
 
 
+def clinic_timezone(store: Store) -> str:
+    """The clinic's IANA time zone, stored at set-up."""
+    return store.meta("timezone") or DEFAULT_TIMEZONE
+
+
 def clinic_today(store: Store) -> date:
     """The clinic's real date now, in the time zone stored at set-up."""
-    return local_today(store.meta("timezone") or DEFAULT_TIMEZONE)
+    return local_today(clinic_timezone(store))
 
 
 def parse_timezone(text: str) -> str:

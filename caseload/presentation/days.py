@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from datetime import date, datetime
+from zoneinfo import ZoneInfo
 
 
 def short_day(day: date | None) -> str:
@@ -30,3 +31,11 @@ def iso_span(pair: tuple[date, date] | None) -> str:
 def iso_minute(moment: datetime) -> str:
     """A moment on paper: YYYY-MM-DD HH:MM, in the moment's own local time."""
     return moment.strftime("%Y-%m-%d %H:%M")
+
+
+def logged_at(at: datetime | None, zone: str) -> str:
+    """When something was recorded, in the clinic's time zone: '1 Dec 09:14'."""
+    if at is None:
+        return "-"
+    local = at.astimezone(ZoneInfo(zone)) if at.tzinfo else at
+    return f"{short_day(local.date())} {local.strftime('%H:%M')}"

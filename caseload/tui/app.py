@@ -21,6 +21,7 @@ from caseload.application.clinic import Clinic
 from caseload.application.entries import Logged
 from caseload.core.model import Role, Severity
 from caseload.tui.screens.caseload import CaseloadScreen
+from caseload.tui.screens.help import HelpScreen, key_lines, screen_name
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.sign_in import SignInScreen
 from caseload.tui.themes import DEFAULT_THEME, THEMES
@@ -40,6 +41,8 @@ class CaseloadApp(ClinicWork, App):
         # stands aside (check_action) wherever text is being typed.
         Binding("l", "quick_log", "Log", id="app.quick_log", priority=True),
         Binding("q", "quit", "Quit", id="app.quit"),
+        # Not a priority: in a text field `?` is typed as text, and F1 opens the help there.
+        Binding("question_mark,f1", "help", "Help", id="app.help"),
     ]
 
     roster: reactive[tuple[CaseloadLine, ...]] = reactive(())
@@ -116,6 +119,10 @@ class CaseloadApp(ClinicWork, App):
             typing = isinstance(self.focused, Input) or self.screen.is_modal
             return not typing and self.clinic.may("entry.log")
         return True
+
+    def action_help(self) -> None:
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen(screen_name(self.screen), key_lines(self)))
 
     def action_quick_log(self) -> None:
         patient_id = getattr(self.screen, "patient_id", None)

@@ -6,7 +6,7 @@ from textual import events
 
 from caseload.core.model import Kind
 from caseload.application.entries import patient_entries
-from caseload.tui.screens.correct_entry import CorrectEntryDialog
+from caseload.tui.screens.correct_entry import QUIET_SECONDS, CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
 from tests.tui.conftest import settle, fill
@@ -94,6 +94,7 @@ async def test_second_temperature_offers_a_correction_to_a_nurse(app_as, service
         await pilot.press("l", *"pia", "enter", "t", "enter", *"36.91", "enter")
         await settle(pilot)
         assert isinstance(app.screen, CorrectEntryDialog)
+        await pilot.pause(QUIET_SECONDS * 2)  # the question takes keys once the typing has paused
         await fill(pilot, "read from the wrong day")
         await pilot.press("enter")
         await settle(pilot)

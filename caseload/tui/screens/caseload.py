@@ -23,6 +23,7 @@ from caseload.application.caseload_view import CaseloadLine, CaseloadRead
 from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.screens.register import RegisterDialog
 from caseload.tui.search import match_rank
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters, Scope
@@ -60,6 +61,9 @@ class CaseloadScreen(ClinicWork, Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
+        # A priority binding, so the keys typed straight after it reach the form; it stands aside
+        # (check_action) while the search field has the focus.
+        Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
 
@@ -285,7 +289,12 @@ class CaseloadScreen(ClinicWork, Screen):
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
             return self.app.clinic.may("summary.export")
+        if action == "register":
+            return not isinstance(self.focused, Input) and self.app.clinic.may("patient.add")
         return True
+
+    def action_register(self) -> None:
+        self.app.push_screen(RegisterDialog())
 
     def action_export(self) -> None:
         # Loaded on demand: the report writers cost a fifth of a second at start-up, and most never export.

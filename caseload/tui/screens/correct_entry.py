@@ -6,11 +6,11 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from rich.text import Text
-from textual import on
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen, Screen
+from textual.screen import Screen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Entry
@@ -18,6 +18,7 @@ from caseload.core.parse import InputError, parse_value
 from caseload.presentation.glossary import kind_label, logged_summary, voided_summary
 from caseload.presentation.days import short_day
 from caseload.presentation.safe_text import literal
+from caseload.tui.screens.dialog import Dialog, show_check
 
 
 @dataclass(frozen=True)
@@ -31,18 +32,33 @@ def _entry_line(entry: Entry) -> Text:
     return text.append_text(literal(entry.value.display()))
 
 
-class CorrectEntryDialog(ModalScreen[Correction | None]):
-    """Enter in either field saves when both are valid; Esc leaves the entry as it is."""
+# Keys closer together than this are one burst of typing, and nobody reads a question this fast:
+# a question asked mid-burst takes keys only after this long without one (common practice).
+QUIET_SECONDS = 0.5
+
+
+class CorrectEntryDialog(Dialog[Correction | None]):
+    """Enter in either field saves when both are valid; Esc leaves the entry as it is.
+
+    Opened by a key (amend, void), it takes the keys typed after that key. Opened as a question
+    (`asked`: a save found a reading already there), keys typed in the same burst as the save were
+    typed before anyone could read it, for something else: they are not answers, and it says so. It
+    takes keys once the typing has paused for `QUIET_SECONDS`."""
 
     CSS_PATH = "dialogs.tcss"
+    AUTO_FOCUS = ""  # none: the field gets the focus when the dialog may take keys
     BINDINGS = [Binding("escape", "dismiss(None)", "Cancel", id="correct.cancel")]
 
-    def __init__(self, entry: Entry, amend: bool, value: str = "", heading: str | None = None) -> None:
+    def __init__(self, entry: Entry, amend: bool, value: str = "", heading: str | None = None,
+                 asked: bool = False, set_aside: int = 0) -> None:
+        """`set_aside`: keys typed ahead that the screen behind already dropped for this question."""
         super().__init__()
         self.entry = entry
         self.amend = amend
         self._value = value
         self._heading = heading or ("Amend entry" if amend else "Void entry")
+        self._waiting = asked  # keys are not answers until the typing pauses
+        self._set_aside = set_aside
 
     def compose(self) -> ComposeResult:
         with Vertical(classes="dialog"):
@@ -54,11 +70,37 @@ class CorrectEntryDialog(ModalScreen[Correction | None]):
             yield Label("Reason (kept with the record)")
             yield Input(placeholder="why it changes", id="reason", compact=True)
             yield Static("", id="check", classes="check")
+            yield Static("", id="set-aside")
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
-        self.query_one("#value" if self.amend and not self._value else "#reason", Input).focus()
         self._check()
+        if self._waiting:
+            self._quiet = self.set_timer(QUIET_SECONDS, self._answerable)
+            self._say_set_aside()
+        else:
+            self._first_field().focus()
+
+    def _first_field(self) -> Input:
+        return self.query_one("#value" if self.amend and not self._value else "#reason", Input)
+
+    def on_key(self, event: events.Key) -> None:
+        if self._waiting and event.key != "escape":  # Esc writes nothing: it may always close
+            event.stop()
+            event.prevent_default()
+            self._set_aside += 1
+            self._quiet.reset()  # still the same burst of typing: the quiet starts again
+            self._say_set_aside()
+
+    def _say_set_aside(self) -> None:
+        if self._set_aside:
+            self.query_one("#set-aside", Static).update(Text(
+                "Keys typed before this question appeared were not used: nothing is saved until you answer.",
+                style="bold"))
+
+    def _answerable(self) -> None:
+        self._waiting = False
+        self._first_field().focus()
 
     def _problem(self) -> str | None:
         if self.amend:
@@ -72,10 +114,7 @@ class CorrectEntryDialog(ModalScreen[Correction | None]):
 
     @on(Input.Changed)
     def _check(self) -> None:
-        problem = self._problem()
-        check = self.query_one("#check", Static)
-        check.set_class(problem is not None, "refused")
-        check.update(Text(problem or "Enter saves.", no_wrap=False))
+        show_check(self.query_one("#check", Static), self._problem(), "Enter saves.")
 
     @on(Input.Submitted)
     def _submit(self, event: Input.Submitted) -> None:

@@ -10,13 +10,13 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
 from caseload.exports.summary_files import write
 from caseload.tui.file_messages import FileRefused, FileWritten
+from caseload.tui.screens.dialog import Dialog
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
@@ -33,7 +33,7 @@ def default_target(week: str, fmt: str) -> Path:
     return Path.home() / (name if fmt in FOLDER_FORMATS else f"{name}.{fmt}")
 
 
-class ExportDialog(ClinicWork, ModalScreen[None]):
+class ExportDialog(ClinicWork, Dialog[None]):
     """Enter in a field exports; Esc closes. Offered to supervisors and admins only."""
 
     CSS_PATH = "dialogs.tcss"

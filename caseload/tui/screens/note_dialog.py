@@ -10,7 +10,6 @@ from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Static
 
 from caseload.core.model import Alert
@@ -18,6 +17,7 @@ from caseload.core.alerts.lifecycle import parse_future_day
 from caseload.core.parse import InputError
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import literal
+from caseload.tui.screens.dialog import Dialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
 
 UNTIL_DEFAULT = "tomorrow"
@@ -29,7 +29,7 @@ class HandleNote:
     until: date | None = None
 
 
-class NoteDialog(ModalScreen[HandleNote | None]):
+class NoteDialog(Dialog[HandleNote | None]):
     """Enter saves when the fields are valid; Esc leaves the alert as it is."""
 
     CSS_PATH = "dialogs.tcss"

@@ -11,12 +11,11 @@ other. Opened from a record, it logs for that patient until the patient field is
 from __future__ import annotations
 
 from rich.text import Text
-from textual import events, on, work
+from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
-from textual.screen import ModalScreen
 from textual.suggester import Suggester
 from textual.widgets import Footer, Input, Label, Static
 
@@ -28,12 +27,13 @@ from caseload.core.second_look import meant_celsius
 from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
-from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
 from caseload.presentation.glossary import (
     KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, logged_summary, match_kind,
 )
 from caseload.presentation.days import long_day, short_day
 from caseload.presentation.safe_text import literal, printable
+from caseload.tui.screens.dialog import Dialog
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
@@ -46,7 +46,7 @@ class KindSuggester(Suggester):
         return complete_kind(value)
 
 
-class QuickLogScreen(ClinicWork, ModalScreen[None]):
+class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
     """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
 
     CSS_PATH = "quick_log.tcss"
@@ -100,7 +100,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
             yield Static("", id="result")
         yield Footer(compact=True)
 
-    def _first_field(self) -> TypeAheadInput:
+    def first_field(self) -> TypeAheadInput:
         # From the list the highlighted patient is offered selected: Enter keeps it, typing replaces it.
         picker = self.query_one(PatientPicker)
         return self.query_one("#kind" if picker.patient and self._settled else "#patient", TypeAheadInput)
@@ -108,7 +108,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
     def on_mount(self) -> None:
         if self._settled and self.query_one(PatientPicker).patient is not None:
             self.query_one("#patient", Input).disabled = True  # changing patient is an explicit act
-        self._first_field().focus()
+        self.first_field().focus()
         self._check()
 
     def action_change_patient(self) -> None:
@@ -118,13 +118,6 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         field.focus()
         field.select_all()
         self._show_whose()
-
-    def on_key(self, event: events.Key) -> None:
-        """Keys typed right after `l`, before a field has the focus, go to the field that is getting it."""
-        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
-            event.stop()
-            event.prevent_default()
-            self._first_field().post_message(events.Key(event.key, event.character))
 
     def _text(self, field: str) -> str:
         return self.query_one(f"#{field}", Input).value
@@ -266,16 +259,17 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
     def work_failed(self, name: str, reason: str) -> None:
         self.post_message(self.Refused(reason))
 
-    def _finish_typing(self, next_field: str | None) -> None:
-        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped."""
+    def _finish_typing(self, next_field: str | None) -> int:
+        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped
+        (the number of keys dropped)."""
         field, self._typed_from = self._typed_from, None
         if next_field is None:
-            if field is not None:
-                field.drop_held()
-        elif field is not None:
+            return field.drop_held() if field is not None else 0
+        if field is not None:
             self._move_on(field, next_field)
         else:
             self.query_one(f"#{next_field}", Input).focus()
+        return 0
 
     def on_quick_log_screen_refused(self, message: Refused) -> None:
         self._saving = False
@@ -286,8 +280,9 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         self._saving = False
         outcome = message.outcome
         if isinstance(outcome, SameDayReading):
-            self._finish_typing(None)
-            self._same_day(outcome)
+            # Keys typed after Enter were meant for the next entry, not as an answer to a question
+            # they were typed before: they are dropped, and the question says so.
+            self._same_day(outcome, self._finish_typing(None))
             return
         if isinstance(outcome, SecondLook):
             # Keys typed ahead are dropped: the next Enter must be a decision taken after reading this.
@@ -303,7 +298,7 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
         self._finish_typing("kind")
         self.app.post_message(Saved(None, outcome))
 
-    def _same_day(self, found: SameDayReading) -> None:
+    def _same_day(self, found: SameDayReading, set_aside: int) -> None:
         e = found.existing
         line = f"{e.patient_id} already has {e.value.display()} C on {short_day(e.day)} (entry #{e.id})"
         if not self.app.clinic.may("entry.amend"):
@@ -317,5 +312,6 @@ class QuickLogScreen(ClinicWork, ModalScreen[None]):
             self._saving = True
             self._amend(e.id, correction.value, correction.reason)
 
-        dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?")
+        dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?", asked=True,
+                                    set_aside=set_aside)
         self.app.push_screen(dialog, replace)

@@ -15,8 +15,12 @@ from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.application.caseload_view import PatientRecord
 from caseload.tui.cycle_view import cycle_view
 from caseload.tui.record_text import classification_text, cycle_rows, outlook_text, title_text
+from caseload.tui.screens.add_note import AddNoteDialog
 from caseload.tui.screens.correct_entry import CorrectEntryDialog, correct_entry
+from caseload.tui.screens.entry_detail import EntryDialog
+from caseload.tui.screens.patient_care import PatientDialog
 from caseload.tui.widgets.alert_list import AlertTable
+from caseload.presentation.glossary import logged_summary
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
@@ -46,6 +50,10 @@ class RecordScreen(ClinicWork, Screen):
         Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
         Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
         Binding("p", "referral", "Pack/FHIR", id="record.referral"),
+        # Priority bindings open their dialog before the keys typed after them are routed, so those
+        # keys reach the dialog and not this screen (the record has no text field to stand aside for).
+        Binding("c", "care", "Nurse/plan/status", id="record.care", priority=True),
+        Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
     ]
 
     class Loaded(Message):
@@ -188,7 +196,22 @@ class RecordScreen(ClinicWork, Screen):
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         if action == "referral":
             return self.app.clinic.may("referral.pack")
+        if action == "care":
+            return None if self._record is None else self.app.clinic.may("patient.update")
+        if action == "add_note":
+            return self.app.clinic.may("entry.log")
         return True
+
+    def action_care(self) -> None:
+        if self._record is not None:
+            self.app.push_screen(PatientDialog(self._record.patient))
+
+    def action_add_note(self) -> None:
+        def save(text: str | None) -> None:
+            if text is not None:
+                self.app.save(self.app.clinic.log, self.patient_id, "note", text, summary=logged_summary)
+
+        self.app.push_screen(AddNoteDialog(self.patient_id), save)
 
     def action_referral(self) -> None:
         # Loaded on demand, like the summary export: most sessions never make a pack.
@@ -213,6 +236,11 @@ class RecordScreen(ClinicWork, Screen):
     @on(EntriesTable.AmendAsked)
     def _amend(self, message: EntriesTable.AmendAsked) -> None:
         self.app.push_screen(CorrectEntryDialog(message.entry, amend=True), correct_entry(self, message.entry))
+
+    @on(EntriesTable.DetailsAsked)
+    def _details(self, message: EntriesTable.DetailsAsked) -> None:
+        entries = self._record.entries if self._record else ()
+        self.app.push_screen(EntryDialog(message.entry, {e.id: e for e in entries}))
 
     @on(EntriesTable.VoidAsked)
     def _void(self, message: EntriesTable.VoidAsked) -> None:

@@ -10,7 +10,6 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.screen import ModalScreen
 from textual.widgets import Footer, Input, Label, Select, Static
 
 from caseload.application.clinic import Clinic
@@ -19,6 +18,7 @@ from caseload.application.referral import PAPERS
 from caseload.exports import fhir, pack_files
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.file_messages import FileRefused, FileWritten
+from caseload.tui.screens.dialog import Dialog
 
 FORMATS = [("referral pack, PDF", "pdf"), ("referral pack, HTML", "html"), ("FHIR R4 bundle, JSON", "json")]
 DEFAULT_CYCLES = "3"
@@ -38,7 +38,7 @@ def write_chosen(clinic: Clinic, patient_id: str, fmt: str, out: Path, cycles: s
     return clinic.referral_pack(patient_id, out, int(cycles), paper, False, pack_files.render)
 
 
-class ReferralDialog(ClinicWork, ModalScreen[None]):
+class ReferralDialog(ClinicWork, Dialog[None]):
     """Enter in a field writes the file; Esc closes. Offered to nurses and up."""
 
     CSS_PATH = "dialogs.tcss"

@@ -1,7 +1,7 @@
 """A patient's entries, newest first, with every correction visible.
 
 A corrected entry stays on the list struck through, with who corrected it and why; a void stays
-with its reason. Amend and void are offered only to roles that may do them.
+with its reason. Each row says who logged it and when it was recorded; Enter shows one in full. Amend and void are offered only to roles that may do them.
 """
 
 from __future__ import annotations
@@ -13,10 +13,12 @@ from textual.widgets import DataTable
 
 from caseload.core.model import Entry, Kind
 from caseload.presentation.glossary import kind_label
-from caseload.presentation.days import short_day
+from caseload.presentation.days import logged_at, short_day
 from caseload.presentation.safe_text import literal
 
-COLUMNS = ("#", "Day", "Kind", "Value", "Status", "Time", "Flags", "By", "Note")
+# Who logged an entry and when it was recorded come before the often empty status and flags, so
+# they are in view at 80 columns.
+COLUMNS = ("#", "Day", "Kind", "Value", "Time", "By", "Logged", "Status", "Flags", "Note")
 VALUE_WIDTH = 18
 NOTE_WIDTH = 40
 
@@ -36,7 +38,7 @@ def status_cell(entry: Entry, by_id: dict[int, Entry]) -> Text:
     return Text("")
 
 
-def entry_cells(entry: Entry, by_id: dict[int, Entry]) -> list[Text]:
+def entry_cells(entry: Entry, by_id: dict[int, Entry], zone: str) -> list[Text]:
     gone = "strike dim" if not entry.current else ""
     value = entry.value.display() + (" C" if entry.kind is Kind.TEMP else "")
     cells = [
@@ -48,10 +50,11 @@ def entry_cells(entry: Entry, by_id: dict[int, Entry]) -> list[Text]:
     for cell in cells:
         cell.stylize(gone)
     return cells + [
-        status_cell(entry, by_id),
         Text(entry.time or ""),
-        Text(",".join(entry.flags)),
         literal(entry.by),
+        Text(logged_at(entry.at, zone)),
+        status_cell(entry, by_id),
+        Text(",".join(entry.flags)),
         clipped(literal(entry.note), NOTE_WIDTH),
     ]
 
@@ -67,9 +70,15 @@ class EntriesTable(DataTable):
     BINDINGS = [
         Binding("a", "amend", "Amend", id="entries.amend"),
         Binding("v", "void", "Void", id="entries.void"),
+        Binding("enter", "details", "Details", id="entries.details"),
     ]
 
     class AmendAsked(Message):
+        def __init__(self, entry: Entry) -> None:
+            super().__init__()
+            self.entry = entry
+
+    class DetailsAsked(Message):
         def __init__(self, entry: Entry) -> None:
             super().__init__()
             self.entry = entry
@@ -90,7 +99,7 @@ class EntriesTable(DataTable):
         for label in COLUMNS:
             self.add_column(Text(label, style="bold"), key=label)
         for entry in sorted(entries, key=lambda e: (e.day, e.id), reverse=True):
-            self.add_row(*entry_cells(entry, self._by_id), key=str(entry.id))
+            self.add_row(*entry_cells(entry, self._by_id, self.app.clinic.timezone), key=str(entry.id))
         if keep is not None and keep.id in self._by_id:
             self.move_cursor(row=self.get_row_index(str(keep.id)), animate=False)
 
@@ -115,6 +124,11 @@ class EntriesTable(DataTable):
         entry = self.current_entry()
         if entry is not None and entry.current:
             self.post_message(self.AmendAsked(entry))
+
+    def action_details(self) -> None:
+        entry = self.current_entry()
+        if entry is not None:
+            self.post_message(self.DetailsAsked(entry))
 
     def action_void(self) -> None:
         entry = self.current_entry()

@@ -58,13 +58,40 @@ class TypeAheadInput(Input):
         """Enter led nowhere (nothing to pick, nothing saved): the held keys go back into this field."""
         self.pass_on(self)
 
-    def drop_held(self) -> None:
-        """Enter opened something that needs a look first: what was typed ahead is discarded."""
+    def take_held(self) -> list[events.Key]:
+        """Enter finished the form: the keys typed after it, for the screen behind (see `replay`)."""
+        held, self._held, self._forward_to = self._held or [], None, None
+        return held
+
+    def drop_held(self) -> int:
+        """Enter opened something that needs a look first: what was typed ahead is discarded (how many keys)."""
+        dropped = len(self._held or ())
         self._held = None
         self._forward_to = None
+        return dropped
 
     def _on_blur(self, event: events.Blur) -> None:
         # Keys routed here before the focus moved have been passed on; later ones go to the new field.
         self._forward_to = None
         self._held = None
         super()._on_blur(event)
+
+
+def replay(app, keys: list[events.Key]) -> None:
+    """Keys typed after a form's last Enter, sent on once it has closed: they were meant for what is behind."""
+    for key in keys:
+        app.post_message(events.Key(key.key, key.character))
+
+
+class EarlyKeys:
+    """Mixed into a dialog opened by a key: the keys typed straight after that key, before a field
+    has the focus, go to the field that is getting it (`first_field`), not to the screen behind."""
+
+    def first_field(self) -> Widget:
+        raise NotImplementedError
+
+    def on_key(self, event: events.Key) -> None:
+        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
+            event.stop()
+            event.prevent_default()
+            self.first_field().post_message(events.Key(event.key, event.character))

@@ -1,0 +1,177 @@
+"""Registering a caller, and changing a patient's nurse, plan and status, from the interface.
+
+Keys are pressed in one burst, as a fast typist sends them; each test checks the store and the screen.
+The forms go through the Clinic's use cases, so they refuse as `caseload patient add` and
+`caseload patient set` do, and a refusal writes nothing.
+"""
+
+from __future__ import annotations
+
+from textual import events
+
+from caseload.core.model import PatientStatus, Plan
+from caseload.tui.screens.alert_queue import AlertQueueScreen
+from caseload.tui.screens.patient_care import PatientDialog
+from caseload.tui.screens.record import RecordScreen
+from caseload.tui.screens.register import RegisterDialog
+from caseload.tui.widgets.caseload_table import CaseloadTable
+from tests.tui.conftest import fill, settle
+from tests.tui.test_quick_log_safety import open_record, press_and_settle
+
+
+def shown(app, selector: str) -> str:
+    return app.screen.query_one(selector).render().plain
+
+
+def patient_rows(ctx) -> tuple[int, int]:
+    return len(ctx.store.patients.all()), ctx.store.audit.count()
+
+
+async def test_a_clerk_registers_a_caller_typed_ahead(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        # The fixture's highest id is P0005: P0006 is proposed and taken without a key.
+        await press_and_settle(pilot, "n", *"Jane  Roe", "enter", *"1990-04-02", "enter", *"nora", "enter")
+        assert not isinstance(app.screen, RegisterDialog)
+        assert "P0006" in [str(k.value) for k in app.screen.query_one(CaseloadTable).rows]
+    patient = check.store.patients.get("P0006")
+    assert (patient.name, patient.born.isoformat(), patient.nurse_id) == ("Jane Roe", "1990-04-02", "nora")
+    assert patient.plan is Plan.NATURAL and patient.status is PatientStatus.ACTIVE
+    added = check.store.audit.rows("patient.add")[-1]
+    assert (added.by_staff, added.row_id) == ("phil", "P0006")
+
+
+async def test_a_caller_with_no_nurse_yet_is_registered_unassigned(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("n", *"Ines Alves", "enter", *"1988-11-30", "enter")
+        await settle(pilot)
+        assert "no nurse yet" in shown(app, "#check")
+        await press_and_settle(pilot, "enter")
+    assert check.store.patients.get("P0006").nurse_id is None
+
+
+async def test_registration_refuses_a_bad_birth_date_in_one_line_and_writes_nothing(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "n", *"Jane Roe", "enter", *"1990-13-01", "enter", "enter")
+        assert isinstance(app.screen, RegisterDialog)
+        # The CLI's words (core/parse.py parse_birth_date), on one line.
+        assert shown(app, "#check") == "Not yet: date of birth '1990-13-01' not understood: use YYYY-MM-DD"
+        assert app.focused.id == "born"
+        await fill(pilot, "2027-01-01")  # after the clinic's day: not plausible
+        assert "is not plausible: it must be before today" in shown(app, "#check")
+    assert patient_rows(check) == before
+
+
+async def test_registration_refuses_a_taken_id_and_an_unknown_nurse(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "n", *"Jane Roe", "enter", *"1990-04-02", "enter", *"zed")
+        assert shown(app, "#check").startswith("Not yet: no active nurse 'zed': type one of nell, nora")
+        await fill(pilot, "")
+        await press_and_settle(pilot, "tab")
+        await fill(pilot, "P0001")
+        await press_and_settle(pilot, "enter")
+        assert isinstance(app.screen, RegisterDialog)
+        assert shown(app, "#check") == "Not registered: patient id P0001 is taken: choose another"
+    assert patient_rows(check) == before
+
+
+async def test_a_nurse_changes_nurse_plan_and_status_from_the_record(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0001")
+        await press_and_settle(pilot, "c", *"nora", "tab", *"ovu", "tab", *"pa", "enter")
+        assert isinstance(app.screen, RecordScreen)
+    patient = check.store.patients.get("P0001")
+    assert (patient.nurse_id, patient.plan, patient.status) == ("nora", Plan.OVULATION_INDUCTION, PatientStatus.PAUSED)
+    changed = check.store.audit.rows("patient.update")[-1]
+    assert (changed.by_staff, changed.row_id) == ("nell", "P0001")
+
+
+async def test_a_refused_plan_shows_one_line_and_writes_nothing(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0002")
+        await press_and_settle(pilot, "c", "tab", *"ivf", "enter")
+        assert isinstance(app.screen, PatientDialog)
+        assert shown(app, "#check") == (
+            "Not yet: plan 'ivf' not accepted: use one of natural, timed, ovulation-induction, insemination")
+    assert patient_rows(check) == before
+    assert check.store.patients.get("P0002").plan is Plan.TIMED
+
+
+async def test_a_nurse_takes_the_nurse_off_a_patient(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0002")
+        await press_and_settle(pilot, "c", "backspace", "enter")
+    assert check.store.patients.get("P0002").nurse_id is None
+
+
+async def test_phone_staff_are_not_offered_the_change_and_the_clinic_refuses_it(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0001")
+        await press_and_settle(pilot, "c")
+        assert isinstance(app.screen, RecordScreen)
+        assert app.screen.check_action("care", ()) is False  # not in the footer either
+        # Pushed past the hidden key, the dialog's save is still refused by the use case.
+        app.push_screen(PatientDialog(check.store.patients.get("P0001")))
+        await settle(pilot)
+        await press_and_settle(pilot, *"nora", "enter")
+        assert shown(app, "#check") == (
+            "Not saved: phone staff may not change a patient's plan, status or nurse: it needs nurse or supervisor or admin")
+    assert patient_rows(check) == before
+
+
+def burst(app, keys: str) -> None:
+    """Keys as a terminal delivers a fast typist's burst: all queued before the first is handled."""
+    for ch in keys:
+        app.post_message(events.Key({"\t": "tab", "\r": "enter"}.get(ch, ch), None if ch in "\t\r" else ch))
+
+
+async def test_a_burst_after_c_goes_into_the_form_not_the_record_behind(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0001")
+        burst(app, "cnora\ttim\r")
+        await settle(pilot)
+        assert isinstance(app.screen, RecordScreen)
+    patient = check.store.patients.get("P0001")
+    assert (patient.nurse_id, patient.plan) == ("nora", Plan.TIMED)
+
+
+async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        burst(app, "nAnn Lee\r1979-02-28\r\ra")  # `a`, typed on after the form, opens the alert queue
+        await settle(pilot)
+        assert check.store.patients.get("P0006").name == "Ann Lee"
+        assert isinstance(app.screen, AlertQueueScreen)
+        await pilot.press("escape")
+        await pilot.press("slash")
+        await settle(pilot)
+        burst(app, "nora")
+        await settle(pilot)
+        assert not isinstance(app.screen, RegisterDialog) and app.focused.value == "nora"
