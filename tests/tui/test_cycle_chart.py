@@ -10,29 +10,24 @@ from __future__ import annotations
 
 import re
 import unicodedata
-from datetime import date, timedelta
+from datetime import date
 
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
 from caseload.application.caseload_view import show_patient
-from caseload.application.patients import add_patient
-from caseload.application.recompute import refresh_patient
-from caseload.core.parse import parse_entry
 from caseload.tui.cycle_view import CycleView, cycle_view
 from caseload.tui.day_columns import LABEL_WIDTH, RIGHT_MARGIN, MIN_DAY_WIDTH, day_columns
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.cycle_chart import BRAILLE_BITS, CycleChart, legend_lines, plot_lines, scale
 from caseload.tui.widgets.marker_strip import BAR_LEVELS, marker_lines
 from tests.tui.conftest import settle
-from tests.tui.fixture_store import TODAY
+from tests.tui.fixture_store import FLAGGED_DAY, LONG_DAYS, TODAY, add_long_cycle
 
 POINTS = "●×↑↓"
 LENGTHS = (21, 29, 35, 60, 106)
 WIDTHS = (80, 100, 120, 160)
-LONG_DAYS = 106  # cycle day today of the long cycle built below
-FLAGGED_DAY, FEVER_DAY = 60, 80
 
 
 def synthetic_view(days: int) -> CycleView:
@@ -170,33 +165,6 @@ def test_braille_bits_are_the_unicode_dot_numbers():
         for row_in_cell, dot in enumerate(dots):
             name = unicodedata.name(chr(0x2800 + BRAILLE_BITS[column][row_in_cell]))
             assert name == f"BRAILLE PATTERN DOTS-{dot}"
-
-
-def add_long_cycle(ctx) -> None:
-    """P0006: a 29-day cycle, then one on day 106 today with no rise, a reading flagged as
-    disturbed on day 60 and a fever on day 80."""
-    add_patient(ctx, "P0006", "Lena Long", "1990-03-02", nurse="nell", plan="natural")
-    start = TODAY - timedelta(days=LONG_DAYS - 1)
-    rows: list[tuple[str, str, date, tuple[str, ...]]] = []
-    for first, length in ((start - timedelta(days=29), 29), (start, LONG_DAYS)):
-        for cd in range(1, length + 1):
-            day = first + timedelta(days=cd - 1)
-            if cd <= 4:
-                rows.append(("bleed", ("heavy", "moderate", "light", "light")[cd - 1], day, ()))
-            celsius = 36.35 + 0.05 * (cd % 4)
-            flags = ("illness",) if first == start and cd == FLAGGED_DAY else ()
-            if first == start and cd == FEVER_DAY:
-                celsius = 38.4
-            rows.append(("temp", f"{celsius + (0.3 if flags else 0):.2f}", day, flags))
-            if cd % 2 == 0:
-                rows.append(("mucus", "sticky", day, ()))
-    store = ctx.store
-    store.transact(lambda: [
-        store.entries.add(ctx.actor, "P0006", parse_entry(kind, value, TODAY, on=day.isoformat(), flags=flags))
-        for kind, value, day, flags in rows
-    ])
-    with store.atomic(ctx.today):
-        refresh_patient(ctx, store.patients.get("P0006"))
 
 
 async def open_by_name(pilot, name: str) -> RecordScreen:
