@@ -64,6 +64,8 @@ class RecordScreen(ClinicWork, Screen):
         super().__init__()
         self.patient_id = patient_id
         self._alert_id = alert_id
+        if alert_id is not None:
+            self.AUTO_FOCUS = "*"  # not the chart: focusing it would show its tab instead of the alert
         self._record: PatientRecord | None = None
         self._cycle: int | None = None  # None: the latest
         self._loading = False
