@@ -46,13 +46,6 @@ class DayColumns:
         """The first screen column of cycle `day`, or None when the day is outside the window."""
         return self.x(day) if self.first <= day <= self.last else None
 
-    def day_at(self, column: int) -> int | None:
-        """The cycle day drawn at screen `column`, or None for the labels and the margin."""
-        offset = column - LABEL_WIDTH
-        if offset < 0 or offset >= self.shown * self.width:
-            return None
-        return self.first + offset // self.width
-
     def starting(self, first: int) -> DayColumns:
         """The same columns with the window moved to start at `first` (kept inside the cycle)."""
         return DayColumns(max(1, min(first, self.days - self.shown + 1)), self.shown, self.width, self.days)

@@ -21,7 +21,7 @@ LEGEND_ITEMS = {
     "LH": "LH + - or level",
     "hCG": "hCG + - or level",
     "scan": "scan: lead follicle mm",
-    FERTILE_ROW: "fertile: P(fertile) · under 6%, ▁ to █ up to 100%",
+    FERTILE_ROW: "fertile: P(fertile) · under 6%, ▁ to █ 100%",
 }
 
 
