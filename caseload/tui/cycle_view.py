@@ -29,8 +29,8 @@ class CycleView:
     is_open: bool
     last_day: int  # cycle days shown: 1..last_day
     today_day: int | None  # only for the open cycle
-    temps: tuple[tuple[int, float], ...]  # (cycle day, C), undisturbed
-    disturbed: tuple[tuple[int, float], ...]  # flagged readings, drawn apart and not used by the rules
+    temps: tuple[tuple[int, float], ...]  # (cycle day, C): the readings the shift rules count
+    left_out: tuple[tuple[int, float, str], ...]  # (cycle day, C, why): the readings they leave out
     coverline: float | None
     first_high_day: int | None
     confirmed_day: int | None
@@ -43,12 +43,7 @@ class CycleView:
     def title(self) -> str:
         day = f"today day {self.today_day}" if self.today_day else f"{self.last_day} days"
         parts = [f"Cycle {self.index + 1}/{self.count} from {self.start.day} {self.start.strftime('%b')}, {day}"]
-        # The chart's lines in words, so they read without colour.
-        if self.coverline is not None:
-            parts.append(f"level line: coverline {self.coverline:.2f} C")
-        parts.append(f"upright line: rise confirmed day {self.confirmed_day}" if self.confirmed_day else "no rise confirmed")
-        if self.fertile:
-            parts.append("bars: P(fertile), right scale")
+        parts.append("rise confirmed" if self.confirmed_day else "no rise confirmed")
         return " · ".join(parts)
 
 
@@ -78,12 +73,15 @@ def cycle_view(record: PatientRecord, index: int, today: date) -> CycleView | No
     c = cycles[index]
     end = c.end or today
     inside = [e for e in record.entries if e.current and c.start <= e.day <= end]
-    temps, disturbed = [], []
+    # The shift rules say which readings they left out and why; the chart draws those apart.
+    left_out = [(cycle_day(c.start, x.day), x.celsius, x.reason) for x in c.shift.excluded]
+    skipped = {(day, celsius) for day, celsius, _ in left_out}
+    temps = []
     strip: dict[str, dict[int, str]] = {row: {} for row in STRIP_ROWS}
     for e in inside:
         cd = cycle_day(c.start, e.day)
-        if e.kind is Kind.TEMP and e.value.number is not None:
-            (disturbed if e.disturbed else temps).append((cd, e.value.number))
+        if e.kind is Kind.TEMP and e.value.number is not None and (cd, e.value.number) not in skipped:
+            temps.append((cd, e.value.number))
         mark = _strip_mark(e)
         if mark is not None:
             strip[mark[0]][cd] = mark[1]
@@ -103,8 +101,8 @@ def cycle_view(record: PatientRecord, index: int, today: date) -> CycleView | No
         is_open=c.is_open,
         last_day=last_day,
         today_day=today_day,
-        temps=tuple(temps),
-        disturbed=tuple(disturbed),
+        temps=tuple(sorted(temps)),
+        left_out=tuple(left_out),
         coverline=shift.coverline,
         first_high_day=cycle_day(c.start, shift.first_high) if shift.first_high else None,
         confirmed_day=cycle_day(c.start, shift.confirmed_on) if shift.confirmed and shift.confirmed_on else None,

@@ -8,7 +8,7 @@ from pathlib import Path
 from caseload.core.model import Actor
 from caseload.core.parse import parse_entry
 from caseload.application.context import Context
-from caseload.application.recompute import refresh_all
+from caseload.application.recompute import refresh_all, refresh_patient
 from caseload.application.patients import add_patient, update_patient
 from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
@@ -19,6 +19,8 @@ ODD_NAME = "Mara [bold]Holm\x1b[31m"
 FLOWS = ("moderate", "heavy", "moderate", "light", "light")
 CYCLE = 28
 OVULATION_DAY = 14
+LONG_DAYS = 106  # cycle day today of the long cycle `add_long_cycle` adds
+FLAGGED_DAY, FEVER_DAY = 60, 80
 
 
 def cycle_rows(start: date, until: date, last_entry: date | None = None) -> list[tuple[str, str, date]]:
@@ -76,3 +78,30 @@ def build(path: Path) -> Store:
     update_patient(nurse, "P0005", status="discharged")
     refresh_all(ctx)
     return store
+
+
+def add_long_cycle(ctx) -> None:
+    """P0006: a 29-day cycle, then one on day 106 today with no rise, a reading flagged as
+    disturbed on day 60 and a fever on day 80."""
+    add_patient(ctx, "P0006", "Lena Long", "1990-03-02", nurse="nell", plan="natural")
+    start = TODAY - timedelta(days=LONG_DAYS - 1)
+    rows: list[tuple[str, str, date, tuple[str, ...]]] = []
+    for first, length in ((start - timedelta(days=29), 29), (start, LONG_DAYS)):
+        for cd in range(1, length + 1):
+            day = first + timedelta(days=cd - 1)
+            if cd <= 4:
+                rows.append(("bleed", ("heavy", "moderate", "light", "light")[cd - 1], day, ()))
+            celsius = 36.35 + 0.05 * (cd % 4)
+            flags = ("illness",) if first == start and cd == FLAGGED_DAY else ()
+            if first == start and cd == FEVER_DAY:
+                celsius = 38.4
+            rows.append(("temp", f"{celsius + (0.3 if flags else 0):.2f}", day, flags))
+            if cd % 2 == 0:
+                rows.append(("mucus", "sticky", day, ()))
+    store = ctx.store
+    store.transact(lambda: [
+        store.entries.add(ctx.actor, "P0006", parse_entry(kind, value, TODAY, on=day.isoformat(), flags=flags))
+        for kind, value, day, flags in rows
+    ])
+    with store.atomic(ctx.today):
+        refresh_patient(ctx, store.patients.get("P0006"))

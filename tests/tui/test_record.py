@@ -6,7 +6,6 @@ from caseload.application.caseload_view import show_patient
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
-from caseload.tui.widgets.marker_strip import MarkerStrip
 from caseload.presentation.glossary import CAUTION
 from tests.tui.conftest import settle
 
@@ -33,8 +32,9 @@ async def test_chart_shows_the_current_cycle_with_its_shift(app_as, service_ctx)
         # (three-over-six rule, Miolo 1993; Marshall 1968); the line drawn is the highest of the six lows.
         assert view.confirmed_day == (shift.confirmed_on - record.analysis.cycle_start).days + 1 == 17
         assert view.coverline == shift.coverline == 36.44
-        strip = screen.query_one(MarkerStrip)
-        assert strip.get_cell("flow", "2").plain == "▇"  # heavy on day 2
+        chart = screen.query_one(CycleChart)
+        flow = next(line.plain for line in chart.lines() if line.plain.startswith("flow"))
+        assert flow[chart.columns().column(2)] == "▇"  # heavy on day 2
         assert CAUTION in screen.query_one("#caution").render().plain
 
 

@@ -4,8 +4,11 @@ from __future__ import annotations
 
 from datetime import datetime, timezone
 
+import pytest
+
 from caseload.application.alert_handling import acknowledge, list_alerts, resolve
 from tests.tui.conftest import settle
+from tests.tui.fixture_store import add_long_cycle
 
 
 async def _loaded(pilot) -> None:
@@ -32,6 +35,18 @@ def test_home_list_wide(app_as, snap_compare):
 
 def test_record_chart(app_as, snap_compare):
     assert snap_compare(app_as("ada"), terminal_size=(80, 24), run_before=_keys_then_settle("down", "enter"))
+
+
+def test_record_chart_wide(app_as, snap_compare):
+    assert snap_compare(app_as("ada"), terminal_size=(120, 40), run_before=_keys_then_settle("down", "enter"))
+
+
+@pytest.mark.parametrize("size", [(80, 24), (120, 40)], ids=["80x24", "120x40"])
+def test_record_chart_of_a_long_cycle(app_as, service_ctx, snap_compare, size):
+    # Day 106 of a cycle with no rise: the window of days around today, a fever above the scale.
+    add_long_cycle(service_ctx("nell"))
+    keys = ("slash", *"Lena", "enter", "enter")
+    assert snap_compare(app_as("nell"), terminal_size=size, run_before=_keys_then_settle(*keys))
 
 
 def test_quick_log_ready_to_save(app_as, snap_compare):

@@ -24,14 +24,13 @@ from caseload.presentation.glossary import logged_summary
 from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
-from caseload.tui.widgets.marker_strip import LEGEND, MarkerStrip
 from caseload.tui.widgets.status_line import StatusLine
 from caseload.presentation.glossary import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
 CYCLES = Binding.Group("Cycle")
 TAB_IDS = ("chart", "cycles", "outlook", "alerts", "entries")
-TAB_FOCUS = {"cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "#entries-table"}
+TAB_FOCUS = {"chart": "#chart-plot", "cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "#entries-table"}
 CYCLE_COLUMNS = ("#", "Start", "Length", "Bleed", "Ovulation", "Method", "Luteal")
 
 
@@ -39,6 +38,7 @@ class RecordScreen(ClinicWork, Screen):
     """Opened from the list or the alert queue; `alert_id` opens the alerts tab with that alert in view."""
 
     CSS_PATH = "record.tcss"
+    AUTO_FOCUS = "#chart-plot"  # the arrow keys move a long cycle's days
     patient_settled = True  # the quick log opened here logs for this patient
     BINDINGS = [
         Binding("escape", "app.pop_screen", "Back", id="record.back"),
@@ -70,6 +70,8 @@ class RecordScreen(ClinicWork, Screen):
         super().__init__()
         self.patient_id = patient_id
         self._alert_id = alert_id
+        if alert_id is not None:
+            self.AUTO_FOCUS = "*"  # not the chart: focusing it would show its tab instead of the alert
         self._record: PatientRecord | None = None
         self._cycle: int | None = None  # None: the latest
         self._loading = False
@@ -83,8 +85,6 @@ class RecordScreen(ClinicWork, Screen):
                 with Vertical():
                     yield Static("", id="chart-title")
                     yield CycleChart(id="chart-plot")
-                    yield MarkerStrip(id="strip")
-                    yield Static(LEGEND, id="strip-legend")
             with TabPane("2 Cycles", id="cycles"):
                 with VerticalScroll():
                     yield DataTable(id="cycle-table", cursor_type="row", zebra_stripes=True)
@@ -181,7 +181,6 @@ class RecordScreen(ClinicWork, Screen):
             Text(view.title if view else "No cycle recorded yet", style="bold")
         )
         self.query_one(CycleChart).show(view)
-        self.query_one(MarkerStrip).show(view)
 
     # --- actions
 

@@ -1,75 +1,97 @@
-"""Rows of markers under the chart, one column per cycle day: flow, mucus, LH, hCG and scans.
+"""The rows under the temperature plot: the day numbers, then flow, mucus, LH, hCG, scans and the
+chance of a fertile day, each mark at its day's column of the shared `DayColumns`.
 
-The day columns are sized to sit under the chart's own days: the chart spreads the cycle over
-its width less the two scales, so the strip does the same.
+A marker row with nothing in the cycle is left out, so the plot keeps its height on a small screen.
 """
 
 from __future__ import annotations
 
 from rich.text import Text
-from textual.widgets import DataTable
 
 from caseload.presentation.glossary import MUCUS_LEGEND
 from caseload.tui.cycle_view import STRIP_ROWS, CycleView
+from caseload.tui.day_columns import LABEL_WIDTH, DayColumns
 
-LEFT_SCALE = 6  # the chart's temperature labels and frame: "36.60┤"
-RIGHT_SCALE = 5  # the chart's probability labels: "├1.00"
-MIN_DAY_WIDTH = 2
-LEGEND = f"{MUCUS_LEGEND} · flow ▁▃▅▇ spotting to heavy · LH, hCG + - or level · scan: lead mm"
-
-
-def day_widths(total: int, days: int) -> list[int]:
-    """Integer column widths for `days` days spread over what the chart's canvas takes of `total`."""
-    canvas = max(total - LEFT_SCALE - RIGHT_SCALE, days * MIN_DAY_WIDTH)
-    edges = [round(canvas * d / days) for d in range(days + 1)]
-    return [b - a for a, b in zip(edges, edges[1:])]
-
-
-def day_labels(widths: list[int], today: int | None) -> list[str]:
-    """The day numbers over the columns, left-aligned; a number that fills its column leaves the
-    next one blank, so that numbers never run together. Today is always numbered."""
-    labels: list[str] = []
-    for day, width in enumerate(widths, start=1):
-        text = str(day)
-        after_full = day > 1 and len(labels[-1]) >= widths[day - 2]
-        fills = len(text) >= width
-        makes_room_for_today = today is not None and day == today - 1 and fills
-        wanted = day == today or not (after_full or makes_room_for_today)
-        labels.append(text if wanted else "")
-    return labels
+FERTILE_ROW = "fertile"
+# P(fertile) as a bar height in eighths; a forecast day below 1/16 is a dot, so the forecast shows.
+BAR_LEVELS = "·▁▂▃▄▅▆▇█"
+EARLIER, LATER = "◂", "▸"
+LEGEND_ITEMS = {
+    "flow": "flow ▁▃▅▇ spotting to heavy",
+    "mucus": MUCUS_LEGEND,
+    "LH": "LH + - or level",
+    "hCG": "hCG + - or level",
+    "scan": "scan: lead follicle mm",
+    FERTILE_ROW: "fertile: P(fertile) · under 6%, ▁ to █ 100%",
+}
 
 
-class MarkerStrip(DataTable):
-    """Not focusable: it is read, not worked in."""
+def bar(p_fertile: float) -> str:
+    return BAR_LEVELS[max(0, min(len(BAR_LEVELS) - 1, round(p_fertile * (len(BAR_LEVELS) - 1))))]
 
-    can_focus = False
 
-    def __init__(self, **kwargs):
-        super().__init__(cursor_type="none", cell_padding=0, show_cursor=False, **kwargs)
-        self._view: CycleView | None = None
-        self._drawn_width = 0
+def row_marks(view: CycleView) -> dict[str, dict[int, str]]:
+    """The rows drawn for `view`, in order, each cycle day -> mark: the rows with a mark in the cycle."""
+    rows = {row: view.strip.get(row, {}) for row in STRIP_ROWS}
+    rows[FERTILE_ROW] = {day: bar(p) for day, p in view.fertile}
+    return {row: marks for row, marks in rows.items() if marks}
 
-    def show(self, view: CycleView | None) -> None:
-        self._view = view
-        self._draw()
 
-    def on_resize(self) -> None:
-        if self.size.width != self._drawn_width:
-            self._draw()
+def _line(label: str, columns: DayColumns, label_style: str = "bold") -> Text:
+    line = Text(label.ljust(LABEL_WIDTH)[:LABEL_WIDTH], style=label_style, no_wrap=True, end="")
+    line.append(" " * (columns.shown * columns.width))
+    return line
 
-    def _draw(self) -> None:
-        self._drawn_width = self.size.width
-        self.clear(columns=True)
-        view = self._view
-        if view is None:
+
+def _put(line: Text, column: int, text: str, style: str = "") -> None:
+    """Write `text` over `line` from `column` on (the line is already as wide as the window)."""
+    line.plain = line.plain[:column] + text + line.plain[column + len(text):]
+    if style:
+        line.stylize(style, column, column + len(text))
+
+
+def day_line(view: CycleView, columns: DayColumns) -> Text:
+    """The day numbers: today always, then day 1 and every day whose number leaves a space before
+    the next number shown; arrows say when days lie outside the window."""
+    line = _line("day", columns, label_style="dim")
+    taken: list[tuple[int, int]] = []
+
+    def place(day: int, style: str) -> None:
+        column = columns.column(day)
+        if column is None:
             return
-        widths = day_widths(self.size.width or 80, view.last_day)
-        self.add_column(Text("day", style="dim"), width=LEFT_SCALE, key="label")
-        for day, (width, shown) in enumerate(zip(widths, day_labels(widths, view.today_day)), start=1):
-            style = "bold reverse" if view.today_day == day else "dim"
-            self.add_column(Text(shown, style=style), width=width, key=str(day))
-        for row in STRIP_ROWS:
-            marks = view.strip.get(row, {})
-            cells = [Text(row, style="bold")]
-            cells += [Text(marks.get(day, "")) for day in range(1, view.last_day + 1)]
-            self.add_row(*cells, key=row)
+        text = str(day)
+        span = (column, column + len(text) + 1)
+        if all(span[1] <= a or b <= span[0] for a, b in taken):
+            taken.append(span)
+            _put(line, column, text, style)
+
+    if view.today_day is not None:
+        place(view.today_day, "bold reverse")
+    step = next(k for k in range(1, columns.days + 1) if k * columns.width >= len(str(columns.last)) + 1)
+    for day in range(columns.first, columns.last + 1):
+        if day == 1 or day % step == 0:
+            place(day, "dim")
+    if columns.earlier_hidden:
+        _put(line, LABEL_WIDTH - 1, EARLIER, "bold")
+    if columns.later_hidden:
+        line.append(LATER, style="bold")
+    return line
+
+
+def marker_lines(view: CycleView, columns: DayColumns) -> list[Text]:
+    """The day numbers and one line per marker row, all on `columns`."""
+    lines = [day_line(view, columns)]
+    for row, marks in row_marks(view).items():
+        line = _line(row, columns)
+        for day, mark in sorted(marks.items()):
+            column = columns.column(day)
+            if column is not None:
+                _put(line, column, mark[: columns.width])
+        lines.append(line)
+    return lines
+
+
+def legend_items(view: CycleView) -> list[str]:
+    """The legend of the marker rows drawn for `view`."""
+    return [LEGEND_ITEMS[row] for row in row_marks(view)]
