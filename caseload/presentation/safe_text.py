@@ -10,9 +10,12 @@ injection advises.
 
 from __future__ import annotations
 
-from rich.text import Text
+from typing import TYPE_CHECKING
 
 from caseload.core.parse import one_line
+
+if TYPE_CHECKING:  # Rich loads with the interface, not with every command (see `caseload.cli`)
+    from rich.text import Text
 
 
 def printable(text: object) -> str:
@@ -22,6 +25,8 @@ def printable(text: object) -> str:
 
 def literal(text: object, style: str = "") -> Text:
     """User text as a Rich Text for the interface: never parsed as markup, so '[bold]' shows as typed."""
+    from rich.text import Text
+
     return Text(printable(text), style=style, no_wrap=True)
 
 

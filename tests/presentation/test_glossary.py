@@ -89,4 +89,4 @@ def test_no_retired_word_is_left_in_the_package():
 
 def test_the_list_column_is_headed_phase_not_where():
     from caseload.tui.widgets.caseload_table import COLUMNS  # the interface's words come from here too
-    assert [c.label for c in COLUMNS if c.key == "where"] == ["Phase"]
+    assert [c.label for c in COLUMNS if c.key == "phase"] == ["Phase"]

@@ -11,7 +11,7 @@ from caseload.presentation.glossary import EDD_METHOD_LABELS, edd_method_label, 
 
 def test_each_ovulation_method_has_a_label():
     assert {m: ovulation_method_label(m) for m in OVULATION_METHODS} == {
-        "lh": "LH test", "shift": "temperature rise", "change-point": "temperature level change", "mucus": "mucus peak",
+        "lh": "LH test", "shift": "thermal shift", "change-point": "temperature level change", "mucus": "mucus peak",
     }
     assert ovulation_method_label(None) == "-"
 

@@ -15,7 +15,7 @@ from caseload.store import Store
 from caseload.tui.app import make_app
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets import caseload_table
-from caseload.tui.widgets.caseload_table import CaseloadTable, row_cells
+from caseload.tui.widgets.caseload_table import CaseloadTable, layout, row_cells
 from caseload.tui.widgets.filter_bar import FilterBar, Scope
 from caseload.tui.widgets.status_line import StatusLine
 from tests.tui.conftest import settle
@@ -166,7 +166,8 @@ async def test_at_80_columns_names_keep_their_room_and_cycle_day_stays(app_as, s
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
         table = app.screen.query_one(CaseloadTable)
-        assert table.column_keys() == ["patient", "cd", "phase", "alert", "next", "last"]
+        # The next event gives way to the names and the alert; cycle day and days since the last entry stay.
+        assert table.column_keys() == ["patient", "cd", "phase", "alert", "last"]
         assert cell(app, "P0006", "patient") == "P0006 Siobhan Keane"
         assert cell(app, "P0007", "patient") == "P0007 Oksana Shevchenko"
         assert cell(app, "P0001", "cd").strip() == "18"
@@ -177,6 +178,13 @@ async def test_at_80_columns_names_keep_their_room_and_cycle_day_stays(app_as, s
         await settle(pilot)
         assert table.column_keys()[-2:] == ["plan", "nurse"]
         assert cell(app, "P0007", "nurse") == "nell"
+
+
+def test_the_next_event_gives_way_only_when_names_and_alerts_need_the_room():
+    keys = lambda width, names: [c.key for c, _ in layout(width, names)]  # noqa: E731
+    assert "next" not in keys(80, len("P0007 Oksana Shevchenko "))
+    assert "next" in keys(80, len("P0001 Ann Lee "))
+    assert "next" in keys(100, len("P0007 Oksana Shevchenko "))
 
 
 async def test_without_colour_urgent_is_reversed_and_today_bold(app_as, monkeypatch):

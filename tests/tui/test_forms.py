@@ -7,6 +7,8 @@ The forms go through the Clinic's use cases, so they refuse as `caseload patient
 
 from __future__ import annotations
 
+import time
+
 from textual import events
 
 from caseload.core.model import PatientStatus, Plan
@@ -35,7 +37,7 @@ async def test_a_clerk_registers_a_caller_typed_ahead(app_as, service_ctx):
         # The fixture's highest id is P0005: P0006 is proposed and taken without a key.
         await press_and_settle(pilot, "n", *"Jane  Roe", "enter", *"1990-04-02", "enter", *"nora", "enter")
         assert not isinstance(app.screen, RegisterDialog)
-        assert "P0006" in [str(k.value) for k in app.screen.query_one(CaseloadTable).rows]
+        assert "P0006" in app.screen.query_one(CaseloadTable).patient_ids
     patient = check.store.patients.get("P0006")
     assert (patient.name, patient.born.isoformat(), patient.nurse_id) == ("Jane Roe", "1990-04-02", "nora")
     assert patient.plan is Plan.NATURAL and patient.status is PatientStatus.ACTIVE
@@ -175,3 +177,19 @@ async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search
         burst(app, "nora")
         await settle(pilot)
         assert not isinstance(app.screen, RegisterDialog) and app.focused.value == "nora"
+
+
+async def test_an_enter_typed_before_the_nurses_are_read_waits_for_them(app_as, service_ctx, monkeypatch):
+    """A slow store: the saving Enter and the key after it arrive before the nurses do; neither is lost."""
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        read = app.clinic.staff_list
+        monkeypatch.setattr(app.clinic, "staff_list", lambda: time.sleep(0.5) or read())
+        burst(app, "nAnn Lee\r1979-02-28\r\ra")
+        await settle(pilot)
+        await pilot.pause(0.8)
+        await settle(pilot)
+        assert check.store.patients.get("P0006").name == "Ann Lee"
+        assert isinstance(app.screen, AlertQueueScreen)

@@ -8,7 +8,8 @@ from caseload.core.alerts import Candidate
 from caseload.core.model import Severity
 from caseload.application.caseload_view import list_caseload
 from caseload.tui.screens.record import RecordScreen
-from caseload.tui.widgets.caseload_table import CaseloadTable
+from caseload.tui.widgets.caseload_table import COLUMNS, CaseloadTable
+from caseload.tui.widgets.cycle_chart import CycleChart
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import TODAY
 
@@ -22,7 +23,7 @@ def raise_alerts(ctx, *raised: tuple[str, str, Severity]) -> None:
 
 
 def rows(app) -> list[str]:
-    return [row.value for row in app.screen.query_one(CaseloadTable).rows]
+    return app.screen.query_one(CaseloadTable).patient_ids
 
 
 def cell(app, patient_id: str, column: str) -> str:
@@ -61,10 +62,10 @@ async def test_phases_and_cycle_day_in_the_trade_words(app_as):
     async with app.run_test(size=(120, 40)) as pilot:
         await settle(pilot)
         table = app.screen.query_one(CaseloadTable)
-        assert str(table.columns["where"].label) == "Phase"
+        assert "phase" in table.column_keys() and [c.label for c in COLUMNS if c.key == "phase"] == ["Phase"]
         # Built: P0001 on cycle day 18 after a textbook rise (luteal), P0003 on day 5 in her bleed.
-        assert cell(app, "P0001", "where").strip() == "luteal"
-        assert cell(app, "P0003", "where").strip() == "menses"
+        assert cell(app, "P0001", "phase").strip() == "luteal"
+        assert cell(app, "P0003", "phase").strip() == "menses"
         table.move_cursor(row=rows(app).index("P0001"))
         await pilot.press("enter")
         await settle(pilot)
@@ -83,7 +84,10 @@ async def test_mucus_shows_by_its_description_on_the_chart(app_as, service_ctx):
         app.screen.query_one(CaseloadTable).move_cursor(row=rows(app).index("P0001"))
         await pilot.press("enter")
         await settle(pilot)
-        strip = app.screen.query_one("MarkerStrip")
-        assert strip.get_cell("mucus", "18").plain == "st" and strip.get_cell("mucus", "17").plain == "cr"
-        legend = str(app.screen.query_one("#strip-legend").render())
-        assert legend.startswith("mucus dr dry · da damp · sk sticky · cr creamy · wa watery · st stretchy")
+        chart = app.screen.query_one(CycleChart)
+        columns = chart.columns()
+        lines = [t.plain for t in chart.lines()]
+        (mucus,) = [line for line in lines if line.startswith("mucus ") and "·" not in line]
+        assert mucus[columns.column(18):columns.column(18) + 2] == "st"
+        assert mucus[columns.column(17):columns.column(17) + 2] == "cr"
+        assert "mucus dr dry · da damp · sk sticky · cr creamy · wa watery · st stretchy" in " ".join(lines)

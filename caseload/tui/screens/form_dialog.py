@@ -1,6 +1,7 @@
 """What the registration and patient forms share: one Clinic call in a worker, the clinic's nurses
 read on opening, one line for a refusal, and the keys typed after the saving Enter sent on to the
-screen behind once the form has closed."""
+screen behind once the form has closed. An Enter typed before the nurses are read waits for them
+(holding what is typed after it) rather than being lost."""
 
 from __future__ import annotations
 
@@ -9,7 +10,7 @@ from typing import Any
 from rich.text import Text
 from textual import work
 from textual.message import Message
-from textual.widgets import Static
+from textual.widgets import Input, Static
 
 from caseload.core.model import Staff
 from caseload.presentation.safe_text import printable
@@ -56,6 +57,7 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
         self._nurses: tuple[Staff, ...] | None = None  # None until read
         self._saving = False
         self._typed_from: TypeAheadInput | None = None  # the field whose Enter saved: it holds what follows
+        self._waiting: TypeAheadInput | None = None  # the field whose Enter came before the nurses were read
 
     def on_mount(self) -> None:
         self.first_field().focus()
@@ -83,6 +85,16 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
         self.query_one("#nurses", Static).update(nurses_line(message.nurses))
         self.offer(message.proposed_id)
         self._check()
+        if self._waiting is not None:  # that Enter now counts, with the keys held behind it
+            field, self._waiting = self._waiting, None
+            field.post_message(Input.Submitted(field, field.value))
+
+    def wait_for_nurses(self, field: TypeAheadInput) -> bool:
+        """Whether `field`'s Enter must wait until the nurses are read (it is then taken again)."""
+        if self._nurses is not None:
+            return False
+        self._waiting = field
+        return True
 
     def start_saving(self, field: TypeAheadInput | None, doing: str) -> None:
         self._saving = True

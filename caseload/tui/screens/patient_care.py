@@ -100,6 +100,8 @@ class PatientDialog(FormDialog):
 
     @on(Input.Submitted)
     def _entered(self, event: Input.Submitted) -> None:
+        if self.wait_for_nurses(event.input):
+            return
         try:
             changes = self._changes()
         except InputError:

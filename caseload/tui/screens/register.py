@@ -100,6 +100,8 @@ class RegisterDialog(FormDialog):
     @on(Input.Submitted)
     def _entered(self, event: Input.Submitted) -> None:
         field = event.input
+        if field.id in ("nurse", "patient-id") and self.wait_for_nurses(field):
+            return
         if field.id in self._problems():
             field.keep_typing()  # the check line says why
             return

@@ -36,19 +36,20 @@ class Column:
 
 
 PATIENT = Column("patient", "Patient", 0)
+NEXT = Column("next", "Next", 15)
 COLUMNS = (
     PATIENT,
     Column("cd", " CD", 4),
     Column("phase", "Phase", 13),
     Column("alert", "Most urgent alert", 0),
-    Column("next", "Next", 15),
+    NEXT,
     Column("last", "Last", 5),
     Column("plan", "Plan", 20),
     Column("nurse", "Nurse", 10),
 )
 WIDE_KEYS = ("plan", "nurse")  # from WIDE_FROM columns; a narrower terminal leaves them out
 WIDE_FROM = 120
-MIN_ALERT_WIDTH = 17
+MIN_ALERT_WIDTH = 25  # "today long bleed +1 more" and the blank after it
 MAX_ALERT_WIDTH = 36
 MIN_PATIENT_WIDTH = 16
 MAX_PATIENT_WIDTH = 40
@@ -126,9 +127,14 @@ def fitted(cell: Text, width: int) -> Text:
 def layout(width: int, patient_room: int) -> list[tuple[Column, int]]:
     """The columns for a table `width` cells wide, with their widths. The patient column gets the
     room its longest id and name need (within limits) before the alert column takes the rest; plan
-    and nurse come in from WIDE_FROM columns."""
+    and nurse come in from WIDE_FROM columns. Names and the alert come before the next expected
+    event (the record has it): on a narrow terminal the next column goes before either is cut."""
     columns = [c for c in COLUMNS if width >= WIDE_FROM or c.key not in WIDE_KEYS]
     room = width - SCROLLBAR - sum(c.width for c in columns)
+    wanted = min(patient_room, MAX_PATIENT_WIDTH) + MIN_ALERT_WIDTH
+    if room < wanted <= room + NEXT.width:
+        columns.remove(NEXT)
+        room += NEXT.width
     patient = max(MIN_PATIENT_WIDTH, min(patient_room, MAX_PATIENT_WIDTH, room - MIN_ALERT_WIDTH))
     alert = max(MIN_ALERT_WIDTH, min(room - patient, MAX_ALERT_WIDTH))
     sizes = {PATIENT.key: patient, "alert": alert}
