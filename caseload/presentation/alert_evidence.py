@@ -14,14 +14,7 @@ from datetime import date, datetime
 from caseload.core.cycles import cycle_day
 from caseload.core.model import AlertStep
 from caseload.presentation.days import short_day
-
-OVULATION_METHODS = {
-    "lh": "a positive LH test",
-    "shift": "the temperature rise",
-    "change-point": "a temperature level change",
-    "mucus": "the mucus peak",
-}
-
+from caseload.presentation.glossary import ovulation_evidence_words
 
 def _day(value: str | None) -> str:
     return "-" if not value else short_day(date.fromisoformat(value))
@@ -114,7 +107,7 @@ def irregular_cycles(ev: dict) -> list[str]:
 
 
 def short_luteal_phase(ev: dict) -> list[str]:
-    method = OVULATION_METHODS.get(ev.get("ovulation_method") or "", "an unrecorded method")
+    method = ovulation_evidence_words(ev.get("ovulation_method"))
     return [
         f"In the cycle that began {_day(ev['cycle_start'])} ({_days(ev['cycle_length'])}), ovulation was dated "
         f"{_on_cycle_day(ev, 'ovulation')} by {method}.",

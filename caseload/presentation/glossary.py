@@ -83,6 +83,17 @@ EVIDENCE_KEY_LABELS: dict[str, str] = {  # keys of an alert's evidence that read
     "minimum_48h": "minimum per 48 h",
 }
 
+# The evidence a cycle's ovulation was dated by, as a phrase inside a sentence ("dated ... by ...").
+OVULATION_EVIDENCE_WORDS: dict[str, str] = {
+    "lh": "a positive LH test",
+    "shift": "the thermal shift",
+    "lh+shift": "an LH test and the thermal shift",
+    "change-point": "a temperature level change",
+    "lh+change-point": "an LH test and a temperature level change",
+    "mucus": "the mucus peak",
+    "elapsed": "the days passed without a sign",
+}
+
 # Each alert kind (the identifiers stay the contract) in the words a nurse writes in a chart; the
 # short form fits the list's alert column beside the severity and the count of more.
 ALERT_TERMS: dict[str, Term] = {
@@ -196,6 +207,10 @@ def next_event_short(event: str) -> str:
 
 def ovulation_method_label(method: str | None) -> str:
     return "-" if method is None else OVULATION_METHOD_LABELS.get(method, method)
+
+
+def ovulation_evidence_words(method: str | None) -> str:
+    return "an unrecorded method" if not method else OVULATION_EVIDENCE_WORDS.get(method, method)
 
 
 def edd_method_label(method: str | None) -> str:

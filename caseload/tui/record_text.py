@@ -8,18 +8,10 @@ from rich.text import Text
 from caseload.core.analysis import Analysis
 from caseload.core.cycles import cycle_day
 from caseload.application.caseload_view import PatientRecord
-from caseload.presentation.glossary import CAUTION, NEXT_EVENT_LABELS, ovulation_method_label, phase_label
+from caseload.presentation.glossary import (CAUTION, NEXT_EVENT_LABELS, ovulation_evidence_words,
+                                            ovulation_method_label, phase_label)
 from caseload.presentation.days import day_span, short_day
 from caseload.presentation.safe_text import literal
-
-EVIDENCE_WORDS = {
-    "lh": "a positive LH test",
-    "shift": "the temperature rise",
-    "lh+shift": "an LH test and the temperature rise",
-    "change-point": "a temperature level change",
-    "lh+change-point": "an LH test and a temperature level change",
-    "elapsed": "the days passed without a sign",
-}
 
 
 def title_text(record: PatientRecord) -> Text:
@@ -76,7 +68,7 @@ def _outlook_prediction(a: Analysis, text: Text) -> None:
     text.append("Ovulation most likely ", style="bold")
     text.append(f"{short_day(pr.ovulation)} (80% range {day_span(pr.ovulation_range)}); from the pattern alone "
                 f"{short_day(pr.expected_ovulation)} ({day_span(pr.expected_ovulation_range)}); "
-                f"this cycle's evidence: {EVIDENCE_WORDS.get(pr.evidence, pr.evidence)}\n")
+                f"this cycle's evidence: {ovulation_evidence_words(pr.evidence)}\n")
     text.append("Fertile window ", style="bold")
     text.append(f"{day_span(pr.fertile_window)} (six days ending on ovulation, Wilcox 1995)\n")
     text.append("Next period ", style="bold")
