@@ -10,19 +10,10 @@ import json
 import pytest
 
 from caseload.core.settings import DEFAULT_PROTOCOL
+from tests.cli.test_pregnancy_cli import CHART as HCG_CHART  # serum hCG 120 -> 150 IU/L in 48 h
 
 CALLER = DEFAULT_PROTOCOL.caller_message
 FEVER_EVIDENCE = {"day": "2026-11-30", "celsius": 38.4, "threshold_c": 38.0, "flags": [], "protocol_version": 1}
-
-# 120 -> 150 IU/L in 48 h is a 25% rise, under the 53% minimum of Barnhart 2004 (the protocol default).
-HCG_CHART = """patient,day,kind,value,time
-P0001,2026-10-01,bleed,moderate,
-P0001,2026-10-02,bleed,moderate,
-P0001,2026-10-03,bleed,light,
-P0001,2026-10-30,hcg,positive,
-P0001,2026-10-31,hcg,120,09:00
-P0001,2026-11-02,hcg,150,09:00
-"""
 
 
 def fever(clinic, tmp_path) -> list[str]:
@@ -32,7 +23,7 @@ def fever(clinic, tmp_path) -> list[str]:
 
 
 def slow_hcg(clinic, tmp_path) -> list[str]:
-    """A serum hCG pair rising 25% per 48 h (Barnhart 2004: at least 53%)."""
+    """A serum hCG pair rising 25% per 48 h, under the 53% minimum of Barnhart 2004 (the protocol default)."""
     (tmp_path / "hcg.csv").write_text(HCG_CHART)
     assert clinic("import", str(tmp_path / "hcg.csv")).exit_code == 0
     return ["120", "150", "25%", "53%", "Barnhart", "rise_48h", "IU/L"]
