@@ -1,14 +1,18 @@
-"""The alert queue and its handling: list, acknowledge, snooze, resolve.
+"""The alert queue and its handling: list, acknowledge, snooze, resolve; and what of an alert each
+role may see.
 
 Clinical kinds need a nurse, supervisor or admin and a note saying what was done; routine kinds
 (a logging gap) anyone may handle, a note optional. Each change is one transaction with its audit row.
+Phone staff get a clinical alert only as the caller's view (`as_seen`), wherever it leaves the application.
 """
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from caseload.core import alerts as rules
 from caseload.core.alerts.lifecycle import ALLOWED_FROM, effective, parse_future_day
-from caseload.core.model import Alert, AlertState
+from caseload.core.model import Actor, Alert, AlertState, AlertStep
 from caseload.core.parse import InputError, one_line
 from caseload.application.context import Context, allowed
 from caseload.application.errors import NotFound, Refused
@@ -21,6 +25,30 @@ NOTE_MAX = 500
 def is_clinical(kind: str) -> bool:
     """Clinical kinds need a nurse or above and a note; see caseload.core.alerts.CLINICAL_KINDS."""
     return rules.is_clinical(kind)
+
+
+def caller_view_only(actor: Actor, kind: str) -> bool:
+    """Whether `actor` is given only the caller's view of an alert of `kind`: a clinical kind, and a
+    role that does not handle clinical alerts (phone staff)."""
+    return is_clinical(kind) and not allowed(actor, "alert.handle")
+
+
+def as_seen(ctx: Context, alert: Alert) -> Alert:
+    """The alert as it may leave the application for the acting staff member. For phone staff a
+    clinical alert becomes the caller's view: patient, kind, severity, state and dates kept, the
+    message replaced by the protocol's words for the caller, and no evidence, rule, source, handling
+    note or reason for an automatic resolution. Every field stays, so every JSON key does too."""
+    if not caller_view_only(ctx.actor, alert.kind):
+        return alert
+    return replace(alert, message=ctx.protocol.caller_message, evidence={}, rule="", source="", note=None,
+                   resolved_reason=None)
+
+
+def steps_as_seen(ctx: Context, alerts: list[Alert], steps: tuple[AlertStep, ...]) -> tuple[AlertStep, ...]:
+    """The history of `alerts` as the acting staff member may see it: for an alert given as the
+    caller's view, who did what and when, without the handling notes and reasons."""
+    hidden = {a.id for a in alerts if caller_view_only(ctx.actor, a.kind)}
+    return tuple(replace(s, note=None, reason=None) if s.alert_id in hidden else s for s in steps)
 
 
 def _order(a: Alert) -> tuple:
@@ -45,7 +73,7 @@ def list_alerts(ctx: Context, state: str = "open", kind: str | None = None, nurs
         nurse_id = get_staff(ctx.store, nurse).id
         theirs = {p.id for p in ctx.store.patients.all() if p.nurse_id == nurse_id}
         found = [a for a in found if a.patient_id in theirs]
-    return sorted(found, key=_order)
+    return [as_seen(ctx, a) for a in sorted(found, key=_order)]
 
 
 def get_alert(ctx: Context, alert_id: int | str) -> Alert:
@@ -92,7 +120,7 @@ def _handle(ctx: Context, alert_id: int | str, target: AlertState, note: str | N
         stored = ctx.store.alerts.get(alert.id)  # again inside the write: another terminal may have acted
         if effective(stored, ctx.today).state not in ALLOWED_FROM[target]:
             raise _refusal(stored)
-        return ctx.store.alerts.handle(ctx.actor, stored, target, text, day)
+        return as_seen(ctx, ctx.store.alerts.handle(ctx.actor, stored, target, text, day))
 
 
 def acknowledge(ctx: Context, alert_id: int | str, note: str | None) -> Alert:

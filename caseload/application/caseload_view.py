@@ -10,6 +10,7 @@ from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, AlertStep, Entry, Patient, PatientStatus
 from caseload.core.snapshot import Snapshot
+from caseload.application.alert_handling import as_seen, steps_as_seen
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
@@ -57,14 +58,17 @@ def list_caseload(ctx: Context) -> list[CaseloadLine]:
     unresolved: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
         unresolved.setdefault(stored.patient_id, []).append(stored)
-    lines = [caseload_line(p, states.get(p.id), unresolved.get(p.id, []), ctx.today) for p in under_care]
+    lines = [caseload_line(ctx, p, states.get(p.id), unresolved.get(p.id, [])) for p in under_care]
     return sorted(lines, key=CaseloadLine.sort_key)
 
 
-def caseload_line(patient: Patient, snap: Snapshot | None, unresolved: list[Alert], today: date) -> CaseloadLine:
-    """One patient's row as of `today`, from her record, snapshot and unresolved alerts."""
+def caseload_line(ctx: Context, patient: Patient, snap: Snapshot | None, unresolved: list[Alert]) -> CaseloadLine:
+    """One patient's row as of the context's day, from her record, snapshot and unresolved alerts
+    (as the acting staff member may see them)."""
+    today = ctx.today
     # A snooze whose day has come counts, even before a refresh.
-    alerts = [a for a in (effective(stored, today) for stored in unresolved) if a.state is AlertState.OPEN]
+    alerts = [as_seen(ctx, a) for a in (effective(stored, today) for stored in unresolved)
+              if a.state is AlertState.OPEN]
     return CaseloadLine(
         patient=patient,
         snapshot=snap,
@@ -104,7 +108,7 @@ def caseload_since(ctx: Context, mark: int, lines: tuple[CaseloadLine, ...]) -> 
         patient = ctx.store.patients.get(patient_id)
         if patient is not None and patient.status is not PatientStatus.DISCHARGED:
             unresolved = [a for a in ctx.store.alerts.for_patient(patient_id) if a.state is not AlertState.RESOLVED]
-            fresh.append(caseload_line(patient, ctx.store.state.get(patient_id), unresolved, ctx.today))
+            fresh.append(caseload_line(ctx, patient, ctx.store.state.get(patient_id), unresolved))
     kept = [line for line in lines if line.patient.id not in set(changed)]
     return CaseloadRead(latest, tuple(sorted(kept + fresh, key=CaseloadLine.sort_key)))
 
@@ -137,9 +141,10 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     patient = get_patient(ctx, patient_id)
     entries = ctx.store.entries.for_patient(patient.id)
     stored = ctx.store.alerts.for_patient(patient.id)
-    alerts = [effective(a, ctx.today) for a in stored if a.state is not AlertState.RESOLVED]
-    resolved = [a for a in reversed(stored) if a.state is AlertState.RESOLVED]
+    alerts = [as_seen(ctx, effective(a, ctx.today)) for a in stored if a.state is not AlertState.RESOLVED]
+    resolved = [as_seen(ctx, a) for a in reversed(stored) if a.state is AlertState.RESOLVED]
     zone = clinic_zone(ctx.store.meta("timezone") or DEFAULT_TIMEZONE)  # steps read in the clinic's time
-    steps = tuple(replace(s, at=s.at.astimezone(zone)) for s in ctx.store.alerts.steps_for_patient(patient.id))
+    steps = steps_as_seen(ctx, stored, tuple(replace(s, at=s.at.astimezone(zone))
+                                             for s in ctx.store.alerts.steps_for_patient(patient.id)))
     return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries),
                          tuple(resolved), steps)

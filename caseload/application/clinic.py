@@ -300,6 +300,11 @@ class Clinic:
 
     # --- alerts
 
+    def caller_view_only(self, alert: Alert) -> bool:
+        """Whether the acting staff member is given only the caller's view of `alert` (phone staff, a
+        clinical kind): its message is then the protocol's words for the caller, its evidence empty."""
+        return self.signed_in and alert_handling.caller_view_only(self.actor, alert.kind)
+
     def alerts(self, state: str = "open", kind: str | None = None, nurse: str | None = None) -> list[Alert]:
         return self._read(alert_handling.list_alerts, state, kind, nurse)
 

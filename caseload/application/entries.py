@@ -2,12 +2,13 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date
 
 from caseload.core.model import Entry, Kind, Patient, PatientStatus
 from caseload.core.parse import InputError, ParsedEntry, parse_entry, parse_value
 from caseload.core.second_look import once_a_day_twice, unusual_reading
+from caseload.application.alert_handling import as_seen
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, refresh_patient
 from caseload.application.errors import NotFound, Refused
@@ -81,7 +82,12 @@ def log_entry(
         patient = get_patient(ctx, patient_id)
         check_loggable(ctx, patient, parsed)
         entry = ctx.store.entries.add(ctx.actor, patient.id, parsed)
-        return Logged(entry, refresh_patient(ctx, patient))
+        return Logged(entry, refreshed_as_seen(ctx, refresh_patient(ctx, patient)))
+
+
+def refreshed_as_seen(ctx: Context, done: Refreshed) -> Refreshed:
+    """A patient's state after a write, with the alerts it raised as the acting staff member may see them."""
+    return replace(done, raised=tuple(as_seen(ctx, a) for a in done.raised))
 
 
 def get_entry(ctx: Context, entry_id: int | str) -> Entry:
@@ -112,7 +118,7 @@ def amend_entry(ctx: Context, entry_id: int | str, value: str, reason: str) -> L
         patient = get_patient(ctx, old.patient_id)
         check_loggable(ctx, patient, parsed, supersedes=old.id)
         entry = ctx.store.entries.add(ctx.actor, patient.id, parsed, supersedes=old.id, amend_reason=why)
-        return Logged(entry, refresh_patient(ctx, patient))
+        return Logged(entry, refreshed_as_seen(ctx, refresh_patient(ctx, patient)))
 
 
 def void_entry(ctx: Context, entry_id: int | str, reason: str) -> Logged:
@@ -123,7 +129,7 @@ def void_entry(ctx: Context, entry_id: int | str, reason: str) -> Logged:
     with ctx.store.atomic(ctx.today):
         patient = get_patient(ctx, old.patient_id)
         entry = ctx.store.entries.void(ctx.actor, old, why)
-        return Logged(entry, refresh_patient(ctx, patient))
+        return Logged(entry, refreshed_as_seen(ctx, refresh_patient(ctx, patient)))
 
 
 def patient_entries(ctx: Context, patient_id: str) -> list[Entry]:

@@ -13,7 +13,7 @@ from caseload.core.alerts import ALERT_KINDS
 from caseload.core.model import Alert
 from caseload.presentation import json_shapes
 from caseload.presentation.alert_evidence import evidence_sentences
-from caseload.presentation.glossary import ALERT_CAUTION, alert_label, refresh_line
+from caseload.presentation.glossary import ALERT_CAUTION, TELL_THE_CALLER, alert_label, refresh_line
 from caseload.presentation.safe_text import printable
 
 
@@ -30,7 +30,8 @@ def _handled(a: Alert) -> str:
 @click.option("--kind", type=click.Choice(ALERT_KINDS), help="Only alerts of this kind.")
 @click.option("--nurse", metavar="STAFF", help="Only the patients of this nurse.")
 @click.option("--refresh", is_flag=True, help="Bring every patient's alerts up to date first.")
-@click.option("--why", is_flag=True, help="Each alert's evidence in sentences, under the table.")
+@click.option("--why", is_flag=True, help="Each alert's evidence in sentences (for phone staff, the words for the "
+              "caller), under the table.")
 @pass_clinic
 def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: str | None, refresh: bool,
            why: bool) -> None:
@@ -45,9 +46,16 @@ def alerts(clinic: Clinic, as_json: bool, state: str, kind: str | None, nurse: s
     if why:
         for a in found:
             click.echo(f"\n{a.id} {a.patient_id} {a.kind}:")
-            for line in evidence_sentences(a.kind, a.evidence):
+            for line in _why(clinic, a):
                 click.echo(f"  {printable(line)}")
     console().print(ALERT_CAUTION, style="dim")
+
+
+def _why(clinic: Clinic, a: Alert) -> list[str]:
+    """An alert's evidence in sentences; for the caller's view of it, the words to tell the caller."""
+    if clinic.caller_view_only(a):
+        return [f"{TELL_THE_CALLER} {a.message}"]
+    return evidence_sentences(a.kind, a.evidence)
 
 
 def _alert_table(found: list[Alert], title: str) -> None:

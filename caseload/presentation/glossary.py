@@ -25,6 +25,8 @@ CAUTION = (
 """Shown wherever predictions or alerts are: the list, a record."""
 ALERT_CAUTION = alerts.CAUTION
 """Shown with every alert (and carried in `alerts --json`)."""
+TELL_THE_CALLER = "Tell the caller:"
+"""Before the protocol's words for the caller, where phone staff read a clinical alert."""
 
 @dataclass(frozen=True)
 class Term:

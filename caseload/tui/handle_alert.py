@@ -14,17 +14,6 @@ from caseload.presentation.glossary import alert_label
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
 
 
-def sees_clinical(clinic: Clinic) -> bool:
-    """Whether the acting staff member sees an alert's clinical side: its message, evidence and
-    handling notes. Phone staff see what they may tell a caller instead."""
-    return clinic.may("alert.handle")
-
-
-def shown_to_caller(clinic: Clinic, alert: Alert) -> bool:
-    """The alert is one whose clinical side the acting staff member does not see."""
-    return is_clinical(alert.kind) and not sees_clinical(clinic)
-
-
 def may_handle(clinic: Clinic, alert: Alert) -> bool:
     """Clinical alerts need a clinical role; routine ones anyone may handle; a resolved one nobody."""
     if alert.state is AlertState.RESOLVED:

@@ -45,11 +45,11 @@ def history_csv(patient_id: str, current_start: date, current_days: int) -> byte
 
 @pytest.fixture
 def fever(as_role, patient):
-    """A fever logged by the phone line yesterday."""
+    """A fever logged by the phone line yesterday: the alert as stored, and the entry."""
     phone = as_role(Role.PHONE)
     done = log_entry(phone, patient.id, "temp", "38.4", on="yesterday", at="06:40")
-    (alert,) = done.refreshed.raised
-    return alert, done.entry
+    (alert,) = done.refreshed.raised  # the phone line's (caller's) view of it
+    return phone.store.alerts.get(alert.id), done.entry
 
 
 def test_a_fever_is_raised_once_with_its_evidence_and_audited(fever, store, staffed):

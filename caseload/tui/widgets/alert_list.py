@@ -10,7 +10,7 @@ from textual.widgets import DataTable
 
 from caseload.core.alerts import ALERT_KINDS, triage_key
 from caseload.core.model import Alert, AlertState, AlertStep, Severity
-from caseload.tui.handle_alert import may_handle, refusal, shown_to_caller, start_handling
+from caseload.tui.handle_alert import may_handle, refusal, start_handling
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.days import short_day
 from caseload.presentation.safe_text import literal
@@ -111,8 +111,7 @@ class AlertTable(DataTable):
         cells.append(Text(alert_label(a.kind)))
         if not self.with_patient:
             cells.append(Text(state_text(a)))
-        message = literal(self.app.clinic.protocol.caller_message if shown_to_caller(self.app.clinic, a) else a.message)
-        cells += [Text(short_day(a.raised_on)), Text(short_day(a.due)), message]
+        cells += [Text(short_day(a.raised_on)), Text(short_day(a.due)), literal(a.message)]
         if a.state is AlertState.RESOLVED:
             for cell in cells:
                 cell.stylize("dim")

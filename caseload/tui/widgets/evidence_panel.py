@@ -1,5 +1,6 @@
 """The why of one alert: its message, its evidence in sentences, the rule and its source, and what
-was done about it. Phone staff see instead what they may tell a caller."""
+was done about it. Phone staff are given a clinical alert as the caller's view (the application's
+rule), and see what they may tell a caller."""
 
 from __future__ import annotations
 
@@ -8,9 +9,8 @@ from textual.widgets import Static
 
 from caseload.core.model import Alert, AlertStep
 from caseload.presentation.alert_evidence import evidence_sentences, step_sentence
-from caseload.presentation.glossary import ALERT_CAUTION, alert_label
+from caseload.presentation.glossary import ALERT_CAUTION, TELL_THE_CALLER, alert_label
 from caseload.presentation.days import long_day
-from caseload.tui.handle_alert import shown_to_caller
 from caseload.presentation.safe_text import literal
 
 
@@ -19,11 +19,12 @@ def _heading(alert: Alert) -> Text:
     return text.append(f"  raised {long_day(alert.raised_on)}, due {long_day(alert.due)}\n")
 
 
-def caller_text(alert: Alert, caller_message: str) -> Text:
-    """What phone staff see of a clinical alert: its kind, and the clinic's words for the caller."""
+def caller_text(alert: Alert) -> Text:
+    """What phone staff see of a clinical alert: its kind, and the clinic's words for the caller
+    (the caller's view carries them as its message)."""
     text = _heading(alert)
-    text.append("Tell the caller: ", style="bold")
-    text.append_text(literal(caller_message))
+    text.append(f"{TELL_THE_CALLER} ", style="bold")
+    text.append_text(literal(alert.message))
     text.append("\nA nurse handles this alert; its clinical details are for clinical staff.", style="dim")
     return text
 
@@ -62,8 +63,8 @@ class EvidencePanel(Static):
     def show(self, alert: Alert | None, steps: tuple[AlertStep, ...] = ()) -> None:
         if alert is None:
             self.update(Text("Pick an alert to see its evidence.", style="dim"))
-        elif shown_to_caller(self.app.clinic, alert):
-            self.update(caller_text(alert, self.app.clinic.protocol.caller_message))
+        elif self.app.clinic.caller_view_only(alert):
+            self.update(caller_text(alert))
         else:
             self.update(evidence_text(alert, steps))
         if self.parent is not None:
