@@ -54,6 +54,7 @@ class CaseloadScreen(ClinicWork, Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
+        # Priority too, so the keys typed straight after it reach the form.
         Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
