@@ -77,12 +77,6 @@ class CaseloadApp(ClinicWork, App):
 
     # --- what the screens share
 
-    def scoped_roster(self) -> tuple[CaseloadLine, ...]:
-        if not self.mine or not self.clinic.signed_in:
-            return self.roster
-        me = self.clinic.actor.id
-        return tuple(line for line in self.roster if line.patient.nurse_id == me)
-
     def tone(self, severity: Severity) -> str:
         """A Rich style for a severity, from the current theme (so it reads in dark and light). Under
         NO_COLOR the theme's colours turn to greys, some dimmer than plain text: "urgent" is then

@@ -11,7 +11,7 @@ SENTENCES: dict[str, str] = {
     "app.quit": "Leave caseload; everything saved stays in the store.",
     "app.help": "Show this list of keys (F1 works inside a text field, where ? is typed as text).",
     "dialog.help": "Show the keys of this dialog (F1 inside a text field, where ? is typed as text).",
-    "caseload.search": "Find a patient by id or name; Enter picks the top match, Esc clears.",
+    "caseload.search": "Find a patient by id or name, best match first; Enter opens the top one, Esc clears.",
     "caseload.mine": "Switch between your own patients and the whole caseload.",
     "caseload.kind": "Show only patients with one kind of alert.",
     "caseload.plan": "Show only patients on one plan of care.",

@@ -6,6 +6,8 @@ import shutil
 from datetime import date
 
 import pytest
+from textual import events
+from textual.keys import _character_to_key
 
 from caseload.application.clinic import Clinic, Identity
 from caseload.application.context import Context
@@ -81,3 +83,12 @@ async def fill(pilot, text: str) -> None:
     field.value = text
     field.cursor_position = len(text)
     await pilot.pause()
+
+
+async def burst(pilot, *keys: str) -> None:
+    """Keys as a fast typist or an SSH link delivers them: all queued before the app handles the
+    first, then handled. Each is a key as `pilot.press` names it ("enter", "tab") or one character."""
+    for key in keys:
+        name = _character_to_key(key) if len(key) == 1 else key
+        pilot.app.post_message(events.Key(name, key if len(key) == 1 else None))
+    await settle(pilot)

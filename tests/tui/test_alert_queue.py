@@ -8,8 +8,6 @@ from __future__ import annotations
 from datetime import timedelta
 
 import pytest
-from textual import events
-from textual.keys import _character_to_key
 
 from caseload.application.alert_handling import list_alerts, resolve
 from caseload.core.model import AlertState
@@ -17,7 +15,7 @@ from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_list import GROUP, AlertTable
-from tests.tui.conftest import settle
+from tests.tui.conftest import burst, settle
 from tests.tui.test_alerts_and_roles import alert_of, highlight
 from tests.tui.fixture_store import TODAY
 
@@ -36,16 +34,6 @@ async def queue_at(pilot, alert_id: int) -> AlertTable:
     """The alert queue open with the cursor on one alert."""
     await open_queue(pilot)
     return await highlight(pilot, alert_id)
-
-
-async def burst(pilot, *keys: str) -> None:
-    """Keys as a fast typist or an SSH link delivers them: all sent before the app reads the first."""
-    for key in keys:
-        name = _character_to_key(key) if len(key) == 1 and not key.isalnum() else key
-        event = events.Key(name, key if len(key) == 1 else None)
-        event.set_sender(pilot.app)
-        pilot.app._driver.send_message(event)
-    await settle(pilot)
 
 
 def shown_keys(app) -> set[str]:

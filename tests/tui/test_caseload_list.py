@@ -5,20 +5,24 @@ from __future__ import annotations
 import asyncio
 from dataclasses import replace
 
+import pytest
+
 from caseload.application.caseload_view import list_caseload
 from caseload.application.clinic import Clinic, Identity
 from caseload.application.staff import init_store
 from caseload.application.entries import log_entry
 from caseload.application.patients import add_patient
-from caseload.core.model import Severity
+from caseload.core.model import Kind, Severity
 from caseload.store import Store
 from caseload.tui.app import make_app
+from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.search import find_patients
 from caseload.tui.widgets import caseload_table
 from caseload.tui.widgets.caseload_table import CaseloadTable, layout, row_cells
 from caseload.tui.widgets.filter_bar import FilterBar, Scope
 from caseload.tui.widgets.status_line import StatusLine
-from tests.tui.conftest import settle
+from tests.tui.conftest import burst, settle
 from tests.tui.fixture_store import ODD_NAME, TODAY
 
 
@@ -236,3 +240,170 @@ async def test_an_empty_caseload_says_so_once_read(tmp_path):
         async with app.run_test(size=(80, 24)) as pilot:
             await settle(pilot)
             assert app.screen.query_one("#list-note").render().plain == "0 of 0 patients"
+
+
+# --- typed ahead: keys in one burst, as a fast typist or an SSH link delivers them
+
+CALLERS = {  # added to the fixture's P0001-P0004 (P0004 is Noor Haddad, nora's)
+    "P0040": ("Zofia Bronowak", "nora"),  # "nowak" inside a word only
+    "P0041": ("Inês Łukasik", "nora"),
+    "P0042": ("Noora Lind", "nell"),
+    "P0043": ("Katarzyna Nowak", "nora"),
+}
+
+
+def add_callers(ctx) -> None:
+    for pid, (name, nurse) in CALLERS.items():
+        add_patient(ctx, pid, name, "1991-04-09", nurse=nurse)
+
+
+def opened_id(app) -> str | None:
+    return app.screen.patient_id if isinstance(app.screen, RecordScreen) else None
+
+
+def notes_in_store(ctx) -> dict[str, list[str]]:
+    """Every note entry, by patient."""
+    out: dict[str, list[str]] = {}
+    for pid in ["P0001", "P0002", "P0003", "P0004", *CALLERS]:
+        texts = [e.value.text for e in ctx.store.entries.for_patient(pid) if e.kind is Kind.NOTE]
+        if texts:
+            out[pid] = texts
+    return out
+
+
+@pytest.mark.parametrize("typed, expected", [
+    ("P0043", "P0043"),  # the whole id, not P0004 or P0040 that share its first characters
+    ("p0043", "P0043"),  # case never matters
+    ("P0004", "P0004"),
+    ("nowak", "P0043"),  # a word of the name before a word that only holds it (Bronowak)
+    ("nowak katarzyna", "P0043"),  # the name's words in any order
+    ("lukasik ines", "P0041"),  # without the accents she was registered with
+    ("NOORA", "P0042"),
+])
+async def test_search_then_enter_in_one_burst_opens_the_top_match_of_the_whole_text(app_as, service_ctx,
+                                                                                    typed, expected):
+    check = service_ctx("ada")
+    add_callers(check)
+    before = notes_in_store(check)
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        # a note typed straight on lands in the record that opened, and only there
+        await burst(pilot, "slash", *typed, "enter", "n", *"rang back", "enter")
+        await settle(pilot)
+        assert opened_id(app) == expected
+    assert notes_in_store(check) == {**before, expected: before.get(expected, []) + ["rang back"]}
+
+
+async def test_a_part_of_an_id_opens_the_first_it_starts_in_triage_order(app_as, service_ctx):
+    check = service_ctx("ada")
+    add_callers(check)
+    lines = list_caseload(check)
+    starting = [line.patient.id for line in lines if line.patient.id.startswith("P004")]
+    # Ranking of caseload/tui/search.py: ids that "P004" starts tie at rank 1 and keep the triage order.
+    top = find_patients([line.patient for line in lines], "P004", limit=1)[0].id
+    assert top == starting[0] and len(starting) == 4  # P0040-P0043 (not P0004)
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await burst(pilot, "slash", *"P004", "enter")
+        assert opened_id(app) == top
+        await pilot.press("escape")
+        await settle(pilot)
+        # Back on the list: the matches best first, the cursor on the one that opened.
+        table = app.screen.query_one(CaseloadTable)
+        assert table.patient_ids == starting and table.current_patient_id() == top
+
+
+async def test_the_list_shows_a_search_best_match_first(app_as, service_ctx):
+    check = service_ctx("ada")
+    add_callers(check)
+    order = [line.patient.id for line in list_caseload(check)]
+    assert order.index("P0040") < order.index("P0043")  # Bronowak before Nowak in triage order
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await burst(pilot, "slash", *"nowak")
+        assert shown_rows(app) == ["P0043", "P0040"]  # a word the name starts with, then a word holding it
+
+
+async def test_enter_typed_before_the_list_is_read_waits_for_it(app_as, service_ctx):
+    add_callers(service_ctx("ada"))
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await burst(pilot, "slash", *"P0043", "enter", "2")  # and on to her cycles
+        assert opened_id(app) == "P0043"
+        assert app.screen.query_one("TabbedContent").active == "cycles"
+
+
+@pytest.mark.parametrize("staff, typed, says", [
+    ("ada", "P0099", "No patient matches 'P0099'; nothing opened."),
+    ("ada", "zzz", "No patient matches 'zzz'; nothing opened."),
+    # her own patients are shown: Katarzyna Nowak is nora's
+    ("nell", "P0043", "No patient matches 'P0043' among the patients shown (mine); nothing opened."),
+])
+async def test_enter_on_a_search_that_finds_nobody_opens_nothing_and_says_so(app_as, service_ctx, staff, typed, says):
+    add_callers(service_ctx("ada"))
+    app = app_as(staff)
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "slash", *typed, "enter", "1")
+        assert isinstance(app.screen, CaseloadScreen)
+        assert [n.message for n in app._notifications if "No patient" in n.message] == [says]
+        assert app.focused.id == "search" and app.focused.value == typed + "1"  # still typing, nothing lost
+
+
+async def test_enter_on_an_empty_search_goes_back_to_the_list_and_the_keys_after_it_move_there(app_as, service_ctx):
+    second = list_caseload(service_ctx("ada"))[1].patient.id
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "slash", "enter", "down", "enter")
+        assert opened_id(app) == second
+
+
+@pytest.mark.parametrize("keys, expected", [
+    (("u", "enter"), "P0006"),  # the filter typed and its top row opened in one burst
+    (("u", "m", "enter"), "P0002"),  # to unassigned, then to her own: her top patient, not the newcomer
+    (("slash", *"lind", "escape", "u", "enter"), "P0006"),  # a search cleared, then the filter
+])
+async def test_enter_after_a_filter_key_in_one_burst_opens_from_the_list_that_key_set(app_as, service_ctx, keys,
+                                                                                       expected):
+    check = service_ctx("phil")
+    add_patient(check, "P0006", "Wren Newcaller", "1996-02-02")  # a clerk registers her, no nurse
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, *keys)
+        assert opened_id(app) == expected
+
+
+def status_count(app) -> str:
+    """The part of the status line between the bars: what the list shows and how many."""
+    return app.screen.query_one(StatusLine).render().plain.split(" │ ")[1]
+
+
+async def test_the_status_line_says_what_the_list_shows(app_as, service_ctx):
+    check = service_ctx("phil")
+    add_patient(check, "P0006", "Wren Newcaller", "1996-02-02")  # no nurse
+    lines = list_caseload(service_ctx("ada"))
+    timed_today = sum(1 for l in lines if l.patient.plan.value == "timed" for a in l.alerts if a.severity is Severity.TODAY)
+    app = app_as("nell")
+    async with app.run_test(size=(120, 40)) as pilot:
+        await settle(pilot)
+        assert status_count(app) == "mine: 2 of 5"  # P0001 and P0002 are nell's; five under care
+        await burst(pilot, "u")
+        assert status_count(app) == "unassigned: 1 of 5"
+        await burst(pilot, "u")
+        assert status_count(app) == "all 5"
+        app.screen.query_one("#alert-kind").value = "logging-gap"
+        await settle(pilot)
+        assert status_count(app) == "charting gap: 1 of 5"  # P0004, no entry for 5 days
+        app.screen.query_one("#alert-kind").value = "any"
+        app.screen.query_one("#plan").value = "timed"
+        await settle(pilot)
+        assert status_count(app) == "plan timed: 1 of 5"  # P0002
+        # the alerts counted are those of the patients shown
+        assert f"today {timed_today}" in app.screen.query_one(StatusLine).render().plain
+        await burst(pilot, "u", "m", "slash", *"rosa")  # through unassigned to her own, then a search
+        assert status_count(app) == "mine, plan timed, search: 1 of 5"
+        await burst(pilot, *"zzz")
+        assert status_count(app) == "mine, plan timed, search: 0 of 5"

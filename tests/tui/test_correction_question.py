@@ -5,8 +5,7 @@ from __future__ import annotations
 
 from caseload.tui.screens.correct_entry import QUIET_SECONDS, CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
-from tests.tui.conftest import fill, settle
-from tests.tui.test_forms import burst
+from tests.tui.conftest import burst, fill, settle
 from tests.tui.test_quick_log import counts, temps_today
 
 BURST = ("l", *"pia", "enter", "t", "enter", *"36.91", "enter", "b", "enter", *"light", "enter")
@@ -22,8 +21,8 @@ async def test_keys_typed_on_after_a_second_temperature_do_not_answer_the_questi
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        burst(app, "lpia\rt\r36.91\rb\rlight\r")  # a bleed typed straight after the temperature, no pause
-        await settle(pilot)
+        # a bleed typed straight after the temperature, no pause
+        await burst(pilot, *"lpia", "enter", "t", "enter", *"36.91", "enter", "b", "enter", *"light", "enter")
         assert isinstance(app.screen, CorrectEntryDialog)
         assert "were not used" in shown(app, "#set-aside")
         await pilot.pause(QUIET_SECONDS * 2)

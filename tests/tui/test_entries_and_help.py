@@ -13,10 +13,9 @@ from caseload.tui.screens.help import HelpScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.entries_table import EntriesTable
-from tests.tui.conftest import settle
+from tests.tui.conftest import burst, settle
 from tests.tui.fixture_store import TODAY
 from tests.tui.test_bindings import interface_classes
-from tests.tui.test_forms import burst
 from tests.tui.test_quick_log_safety import open_record
 
 LONG_NOTE = ("Called back at lunch: taking the new tablets with food since Monday, sleeping badly, "
@@ -134,8 +133,7 @@ async def test_a_note_typed_in_one_burst_lands_in_the_note_and_the_next_key_on_t
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0003")
-        burst(app, "nrang back, no answer\r5")  # and on to the entries, without a pause
-        await settle(pilot)
+        await burst(pilot, *"nrang back, no answer", "enter", "5")  # and on to the entries, without a pause
         assert app.screen.query_one("TabbedContent").active == "entries"
     notes = [e.value.text for e in patient_entries(check, "P0003") if e.kind is Kind.NOTE]
     assert notes == ["rang back, no answer"]

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import time
 
-from textual import events
 
 from caseload.core.model import PatientStatus, Plan
 from caseload.tui.screens.alert_queue import AlertQueueScreen
@@ -17,7 +16,7 @@ from caseload.tui.screens.patient_care import PatientDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.screens.register import RegisterDialog
 from caseload.tui.widgets.caseload_table import CaseloadTable
-from tests.tui.conftest import fill, settle
+from tests.tui.conftest import burst, fill, settle
 from tests.tui.test_quick_log_safety import open_record, press_and_settle
 
 
@@ -144,19 +143,12 @@ async def test_phone_staff_are_not_offered_the_change_and_the_clinic_refuses_it(
     assert patient_rows(check) == before
 
 
-def burst(app, keys: str) -> None:
-    """Keys as a terminal delivers a fast typist's burst: all queued before the first is handled."""
-    for ch in keys:
-        app.post_message(events.Key({"\t": "tab", "\r": "enter"}.get(ch, ch), None if ch in "\t\r" else ch))
-
-
 async def test_a_burst_after_c_goes_into_the_form_not_the_record_behind(app_as, service_ctx):
     check = service_ctx("ada")
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0001")
-        burst(app, "cnora\ttim\r")
-        await settle(pilot)
+        await burst(pilot, *"cnora", "tab", *"tim", "enter")
         assert isinstance(app.screen, RecordScreen)
     patient = check.store.patients.get("P0001")
     assert (patient.nurse_id, patient.plan) == ("nora", Plan.TIMED)
@@ -167,15 +159,14 @@ async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search
     app = app_as("phil")
     async with app.run_test(size=(80, 24)) as pilot:
         await settle(pilot)
-        burst(app, "nAnn Lee\r1979-02-28\r\ra")  # `a`, typed on after the form, opens the alert queue
-        await settle(pilot)
+        # `a`, typed on after the form, opens the alert queue
+        await burst(pilot, *"nAnn Lee", "enter", *"1979-02-28", "enter", "enter", "a")
         assert check.store.patients.get("P0006").name == "Ann Lee"
         assert isinstance(app.screen, AlertQueueScreen)
         await pilot.press("escape")
         await pilot.press("slash")
         await settle(pilot)
-        burst(app, "nora")
-        await settle(pilot)
+        await burst(pilot, *"nora")
         assert not isinstance(app.screen, RegisterDialog) and app.focused.value == "nora"
 
 
@@ -187,8 +178,7 @@ async def test_an_enter_typed_before_the_nurses_are_read_waits_for_them(app_as, 
         await settle(pilot)
         read = app.clinic.staff_list
         monkeypatch.setattr(app.clinic, "staff_list", lambda: time.sleep(0.5) or read())
-        burst(app, "nAnn Lee\r1979-02-28\r\ra")
-        await settle(pilot)
+        await burst(pilot, *"nAnn Lee", "enter", *"1979-02-28", "enter", "enter", "a")
         await pilot.pause(0.8)
         await settle(pilot)
         assert check.store.patients.get("P0006").name == "Ann Lee"

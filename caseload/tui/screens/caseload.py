@@ -24,28 +24,18 @@ from caseload.application.recompute import RefreshReport
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.screens.register import RegisterDialog
-from caseload.tui.search import match_rank
+from caseload.presentation.safe_text import quoted
 from caseload.tui.widgets.caseload_table import CaseloadTable
-from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters, Scope
+from caseload.tui.widgets.filter_bar import FilterBar, Filters, Scope, SearchField, narrowed_by, visible
 from caseload.tui.widgets.status_line import StatusLine
+from caseload.tui.widgets.type_ahead import TypeAheadInput, replay
 
 
-def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple[CaseloadLine, ...]:
-    """The lines the filters let through; a search keeps the triage order (it narrows, not re-sorts)."""
-    out = []
-    for line in lines:
-        if filters.scope is Scope.MINE and line.patient.nurse_id != me:
-            continue
-        if filters.scope is Scope.UNASSIGNED and line.patient.nurse_id is not None:
-            continue
-        if filters.plan != ANY and line.patient.plan.value != filters.plan:
-            continue
-        if filters.alert_kind != ANY and all(a.kind != filters.alert_kind for a in line.alerts):
-            continue
-        if filters.search.strip() and match_rank(line.patient, filters.search) is None:
-            continue
-        out.append(line)
-    return tuple(out)
+def no_match_line(filters: Filters) -> str:
+    """What Enter in a search that finds nobody says, naming the filters that may hide her."""
+    others = [word for word in narrowed_by(filters) if word != "search"]
+    shown = f" among the patients shown ({', '.join(others)})" if others else ""
+    return f"No patient matches {quoted(filters.search.strip())}{shown}; nothing opened."
 
 
 class CaseloadScreen(ClinicWork, Screen):
@@ -54,15 +44,17 @@ class CaseloadScreen(ClinicWork, Screen):
     CSS_PATH = "caseload.tcss"
     AUTO_FOCUS = "CaseloadTable"
     BINDINGS = [
-        Binding("slash", "search", "Find", id="caseload.search"),
-        Binding("m", "toggle_mine", "Mine", id="caseload.mine"),
-        Binding("u", "toggle_unassigned", "Unassigned", id="caseload.unassigned"),
+        # Priority bindings: taken as they arrive, in the order typed, so the keys typed straight after
+        # them reach the field they focus and act on the list they set. They stand aside
+        # (check_action) while a text field has the focus, where they are text.
+        Binding("slash", "search", "Find", id="caseload.search", priority=True),
+        Binding("m", "toggle_mine", "Mine", id="caseload.mine", priority=True),
+        Binding("u", "toggle_unassigned", "Unassigned", id="caseload.unassigned", priority=True),
         Binding("k", "pick_kind", "Kind", id="caseload.kind"),
         Binding("p", "pick_plan", "Plan", id="caseload.plan"),
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
         Binding("e", "export", "Export", id="caseload.export"),
-        # A priority binding, so the keys typed straight after it reach the form; it stands aside
-        # (check_action) while the search field has the focus.
+        # Priority too, so the keys typed straight after it reach the form.
         Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear search", id="caseload.back"),
     ]
@@ -97,6 +89,7 @@ class CaseloadScreen(ClinicWork, Screen):
         self._refresh_checked = False
         self._mark: int | None = None  # the store's list mark the roster is current to
         self._version: int | None = None  # the store's commit count when the roster was read
+        self._search_waiting: TypeAheadInput | None = None  # its Enter came before the list was read
 
     def compose(self) -> ComposeResult:
         yield StatusLine(id="status")
@@ -192,6 +185,9 @@ class CaseloadScreen(ClinicWork, Screen):
         if message.read.lines is not self.app.roster or not self._refresh_checked:  # the first read always shows
             self.app.roster = message.read.lines
             self._show()
+        if self._search_waiting is not None:  # that Enter now counts, with the keys held behind it
+            field, self._search_waiting = self._search_waiting, None
+            self._open_top_match(field)
         if not self._refresh_checked:
             self._refresh_checked = True
             if self.app.clinic.morning_refresh_due(message.read.lines):
@@ -209,6 +205,9 @@ class CaseloadScreen(ClinicWork, Screen):
 
     def on_caseload_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = self._again = False
+        if self._search_waiting is not None:  # nothing to match against: the keys typed on stay text
+            self._search_waiting.keep_typing()
+            self._search_waiting = None
         self.query_one("#list-note", Static).update(Text(f"Could not read the caseload: {message.reason}"))
 
     def on_caseload_screen_refresh_progress(self, message: RefreshProgress) -> None:
@@ -220,25 +219,29 @@ class CaseloadScreen(ClinicWork, Screen):
         self.reload()
 
     def _show(self) -> None:
+        """Draw the list and count it as the filters read now (their Changed messages may still be on
+        their way: a key typed straight after one acts on the list it set)."""
+        filters = self.query_one(FilterBar).filters
+        self.app.mine = filters.mine
         if self._mark is None:
             return  # not read yet: filters set meanwhile apply when it is
-        filters = self.query_one(FilterBar).filters
         me = self.app.clinic.actor.id
         lines = visible(self.app.roster, filters, me)
         # The names of the whole scope set the patient column, so it stays put as a search narrows it.
         self.query_one(CaseloadTable).show(lines, fit=visible(self.app.roster, Filters(filters.scope), me))
+        self.query_one(StatusLine).show_filters(filters)
         total = len(self.app.roster)
         note = f"{len(lines)} of {total} patients"
         if filters.search.strip():
-            note += " matching the search (Enter picks the top one, Esc clears)"
+            note += " matching the search, best first (Enter opens the top one, Esc clears)"
         self.query_one("#list-note", Static).update(note)
 
-    def _mine_changed(self, mine: bool) -> None:
-        self.query_one(FilterBar).set_mine(mine)
+    def _mine_changed(self) -> None:
+        # The app's value now, not the one this call was queued with: keys typed since may have moved it.
+        self.query_one(FilterBar).set_mine(self.app.mine)
 
     @on(FilterBar.Changed)
-    def _filters_changed(self, message: FilterBar.Changed) -> None:
-        self.app.mine = message.filters.mine
+    def _filters_changed(self) -> None:
         self._show()
         self.refresh_bindings()
 
@@ -252,28 +255,59 @@ class CaseloadScreen(ClinicWork, Screen):
         self._open(event.patient_id)
 
     @on(Input.Submitted, "#search")
-    def _search_done(self) -> None:
+    def _search_done(self, message: Input.Submitted) -> None:
+        """Enter in the search opens the top match of the text as typed at that Enter (the keys typed
+        on after it are held by the field), whatever the list drawn so far has caught up with."""
+        if self._mark is None:
+            self._search_waiting = message.input  # decided once the list is read
+        else:
+            self._open_top_match(message.input)
+
+    def _open_top_match(self, field: TypeAheadInput) -> None:
+        self._show()
         table = self.query_one(CaseloadTable)
-        table.focus()
-        if table.row_count:
-            table.move_cursor(row=0)
+        filters = self.query_one(FilterBar).filters
+        if filters.search.strip() and not table.row_count:
+            field.keep_typing()
+            self.notify(no_match_line(filters), severity="warning", markup=False)
+            return
+        typed_on = field.take_held()
+        self.set_focus(table)
+        if filters.search.strip():
+            table.move_cursor(0)
+            self._open(table.current_patient_id())
+        # else nothing was typed to match: Enter goes back to the list
+        replay(self.app, typed_on)
 
     def _open(self, patient_id: str | None) -> None:
         if patient_id:
             self.app.push_screen(RecordScreen(patient_id))
 
+    # Focus moves at once (not on the next turn, as `focus()` does) and the list is drawn at once, so
+    # that each key of a burst lands where the key before it sent the nurse, on the list it set.
+
     def action_search(self) -> None:
-        self.query_one("#search", Input).focus()
+        self.set_focus(self.query_one("#search", Input))
 
     def action_back_to_list(self) -> None:
         self.query_one(FilterBar).clear_search()
-        self.query_one(CaseloadTable).focus()
+        self.set_focus(self.query_one(CaseloadTable))
+        self._show()
+
+    @on(SearchField.Left)
+    def _search_left(self, message: SearchField.Left) -> None:
+        """Escape in the search, taken after the letters typed before it; the keys after it go to the list."""
+        typed_on = message.field.take_held()
+        self.action_back_to_list()
+        replay(self.app, typed_on)
 
     def action_toggle_mine(self) -> None:
         self.query_one(FilterBar).toggle(Scope.MINE)
+        self._show()
 
     def action_toggle_unassigned(self) -> None:
         self.query_one(FilterBar).toggle(Scope.UNASSIGNED)
+        self._show()
 
     def action_pick_kind(self) -> None:
         self.query_one("#alert-kind").action_show_overlay()
@@ -289,6 +323,8 @@ class CaseloadScreen(ClinicWork, Screen):
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
             return self.app.clinic.may("summary.export")
+        if action in ("search", "toggle_mine", "toggle_unassigned"):
+            return not isinstance(self.focused, Input)
         if action == "register":
             return not isinstance(self.focused, Input) and self.app.clinic.may("patient.add")
         return True

@@ -24,7 +24,7 @@ class TypeAheadInput(Input):
         self._forward_to: Widget | None = None  # focus has moved on: keys still routed here go there
 
     async def _on_key(self, event: events.Key) -> None:
-        if self._forward_to is not None or self._held is not None:
+        if self.holding:
             event.prevent_default()
             event.stop()
             if self._forward_to is not None:
@@ -35,7 +35,7 @@ class TypeAheadInput(Input):
         if event.key == "enter":
             event.prevent_default()
             event.stop()
-            self._held = []
+            self.hold()
             self.post_message(self.Submitted(self, self.value))
             return
         if event.key in TAB_KEYS:
@@ -46,6 +46,15 @@ class TypeAheadInput(Input):
                 self._forward_to = self.screen.focused
             return
         await super()._on_key(event)
+
+    @property
+    def holding(self) -> bool:
+        """Whether keys typed now are held or passed on, not typed here."""
+        return self._forward_to is not None or self._held is not None
+
+    def hold(self) -> None:
+        """From now the keys that arrive are held until the screen decides where they go."""
+        self._held = []
 
     def pass_on(self, target: Widget) -> None:
         """Typing continues in `target`: the held keys go there first, then any still routed here."""
@@ -80,7 +89,11 @@ class TypeAheadInput(Input):
 def replay(app, keys: list[events.Key]) -> None:
     """Keys typed after a form's last Enter, sent on once it has closed: they were meant for what is behind."""
     for key in keys:
-        app.post_message(events.Key(key.key, key.character))
+        event = events.Key(key.key, key.character)
+        # Sent from the app, as the terminal's keys are: a key made inside a screen's handler would
+        # otherwise stop bubbling at that screen and never reach the bindings the app checks.
+        event.set_sender(app)
+        app.post_message(event)
 
 
 class EarlyKeys:
