@@ -29,6 +29,7 @@ class StoreDamaged(StoreError):
     `restore`, and `check` says what is wrong."""
 
     def __init__(self, path: Path, found: str):
+        found = " ".join(found.split())  # SQLite's finding can run over lines: the refusal is one
         super().__init__(f"{path} is damaged ({found}): run 'caseload check', then restore a backup "
                          "with 'caseload restore FILE'")
 
