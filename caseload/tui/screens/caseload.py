@@ -194,7 +194,7 @@ class CaseloadScreen(ClinicWork, Screen):
             self._show()
         if not self._refresh_checked:
             self._refresh_checked = True
-            self.app.check_store()  # the list is drawn: now the whole-file check, in a worker
+            self.call_after_refresh(self.app.check_store)  # once the list is on screen: the whole-file check
             if self.app.clinic.morning_refresh_due(message.read.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
                 self._morning_refresh()
