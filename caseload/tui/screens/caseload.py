@@ -30,6 +30,11 @@ from caseload.tui.widgets.filter_bar import ANY, FilterBar, Filters, Scope
 from caseload.tui.widgets.status_line import StatusLine
 
 
+STORE_CHECK_DELAY_S = 0.3
+"""How long after the first list is drawn the whole-file store check starts: started at once, its
+thread takes CPU from the frames that draw the list."""
+
+
 def visible(lines: tuple[CaseloadLine, ...], filters: Filters, me: str) -> tuple[CaseloadLine, ...]:
     """The lines the filters let through; a search keeps the triage order (it narrows, not re-sorts)."""
     out = []
@@ -194,7 +199,7 @@ class CaseloadScreen(ClinicWork, Screen):
             self._show()
         if not self._refresh_checked:
             self._refresh_checked = True
-            self.call_after_refresh(self.app.check_store)  # once the list is on screen: the whole-file check
+            self.set_timer(STORE_CHECK_DELAY_S, self.app.check_store)
             if self.app.clinic.morning_refresh_due(message.read.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
                 self._morning_refresh()
