@@ -89,6 +89,8 @@ class Store:
         maintenance.backup_to(self.db, Path(target))
 
     def restore(self, source: Path, force: bool = False) -> maintenance.Restored:
+        """Over a damaged store this is refused: `restore_damaged` (application) replaces the file instead."""
+        self.db.refuse_damaged()
         return maintenance.restore_from(self.db, Path(source), force)
 
     def check(self) -> Report:
