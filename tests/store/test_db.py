@@ -11,7 +11,7 @@ import pytest
 
 from caseload.core.model import Role
 from caseload.core.parse import parse_entry
-from caseload.store import Store, StoreDamaged, StoreError
+from caseload.store import Store, StoreDamaged, StoreError, refusing_damage
 from caseload.store import migrations
 from tests.robustness.robust_support import damage_index_page
 
@@ -208,3 +208,47 @@ def test_a_write_to_a_damaged_file_is_refused_and_writes_nothing(store, staffed)
         with pytest.raises(StoreDamaged):
             opened.refuse_damaged(aside=True)
     assert (path.read_bytes(), wal.read_bytes() if wal.exists() else b"") == before  # nothing written
+
+
+def sqlite_error(path, *statements: str) -> sqlite3.Error:
+    """The error SQLite raises for the statements on a fresh connection to `path`."""
+    conn = sqlite3.connect(path, isolation_level=None, timeout=0)
+    try:
+        for statement in statements:
+            conn.execute(statement)
+    except sqlite3.Error as err:
+        return err
+    finally:
+        conn.close()
+    raise AssertionError("no error")
+
+
+def test_only_a_damaged_file_is_refused_as_damage(tmp_path):
+    """SQLITE_CORRUPT (11) and SQLITE_NOTADB (26) are damage; a constraint or a lock is not (SQLite's
+    result codes, sqlite.org/rescode.html)."""
+    text = tmp_path / "notes.db"
+    text.write_text("not a database, just notes\n" * 200)
+    table = tmp_path / "t.db"
+    sqlite_error(table, "CREATE TABLE t (id INTEGER PRIMARY KEY)", "INSERT INTO t VALUES (1)", "SELECT 1/0 FROM x")
+    holder = sqlite3.connect(table, isolation_level=None)
+    holder.execute("BEGIN EXCLUSIVE")
+    try:
+        errors = {
+            "not a database": sqlite_error(text, "SELECT * FROM sqlite_master"),
+            "constraint": sqlite_error(table, "INSERT INTO t VALUES (1)"),
+            "locked": sqlite_error(table, "SELECT * FROM t"),
+        }
+    finally:
+        holder.close()
+    refused = {}
+    for name, err in errors.items():
+        try:
+            with refusing_damage(text):
+                raise err
+        except StoreDamaged as damage:
+            refused[name] = str(damage)
+        except sqlite3.Error as other:
+            assert other is err  # passed on as it was
+    assert list(refused) == ["not a database"]
+    assert refused["not a database"] == (f"{text} is damaged (file is not a database): run 'caseload check', "
+                                         "then restore a backup with 'caseload restore FILE'")
