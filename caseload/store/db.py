@@ -160,8 +160,8 @@ class Database:
         if self._checked:
             return
         if aside:
-            with closing(sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_MS / 1000,
-                                         check_same_thread=False)) as conn:
+            read_only = f"{self.path.resolve().as_uri()}?mode=ro"  # as_uri: a '?' or '#' in the path stays a name
+            with closing(sqlite3.connect(read_only, uri=True, timeout=BUSY_TIMEOUT_MS / 1000)) as conn:
                 found = _quick_check(conn)
         else:
             found = _quick_check(self.conn)

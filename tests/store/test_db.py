@@ -252,3 +252,12 @@ def test_only_a_damaged_file_is_refused_as_damage(tmp_path):
     assert list(refused) == ["not a database"]
     assert refused["not a database"] == (f"{text} is damaged (file is not a database): run 'caseload check', "
                                          "then restore a backup with 'caseload restore FILE'")
+
+
+def test_the_check_aside_opens_the_same_file_whatever_its_name(tmp_path, traced):
+    path = tmp_path / "clinic #2 50%?.db"  # characters a URI would read as query, fragment or escape
+    with Store(path) as created:
+        created.transact(lambda: created.set_meta("clinic", "made"))
+    with Store(path) as opened:
+        opened.refuse_damaged(aside=True)
+    assert sorted(p.name for p in tmp_path.iterdir() if not p.name.endswith(("-wal", "-shm"))) == [path.name]
