@@ -15,6 +15,8 @@ from __future__ import annotations
 
 import sqlite3
 import threading
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import date
 from pathlib import Path
@@ -32,7 +34,7 @@ from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.morning_refresh import run_morning_refresh
 from caseload.application.recompute import Progress, Recomputed, RefreshReport, recompute_everything, refresh_all
-from caseload.store import Report, Store, StoreError
+from caseload.store import Report, Store, StoreError, refusing_damage
 from caseload.store.backup_restore import Restored
 
 if TYPE_CHECKING:  # the modules themselves load in the methods that use them, see `caseload.cli`
@@ -126,7 +128,8 @@ class Clinic:
         """Open the store file at `path` (it must exist) for `identity`; see __init__ for the dates."""
         store = Store(path)
         try:
-            return cls(store, identity, **dates)
+            with refusing_damage(store.path):
+                return cls(store, identity, **dates)
         except BaseException:
             store.close()
             raise
@@ -157,6 +160,13 @@ class Clinic:
             raise not_mapped(self.identity.account)
         return self._actor
 
+    @contextmanager
+    def _using_store(self) -> Iterator[None]:
+        """One call on the store: the clinic's lock held, and a damaged page met on the way refused
+        in one line (StoreDamaged), never a traceback."""
+        with self.lock, refusing_damage(self.store.path):
+            yield
+
     @property
     def viewing_another_day(self) -> bool:
         return self.as_of != self.date_of_record
@@ -181,7 +191,7 @@ class Clinic:
         """Run a writing use case as one transaction as of the date of record, rerun whole if another
         writer held the lock. In maintenance mode the transaction also records who wrote as of which
         day, and what the real date was."""
-        with self.lock:
+        with self._using_store():
             ctx = self._writing(doing)
 
             def unit():
@@ -200,7 +210,7 @@ class Clinic:
     def _write_in_batches(self, doing: str, use_case: Callable, *args):
         """Run a use case that writes in many short transactions of its own (the whole-caseload refresh),
         so other terminals' writes get the lock between them; each records the date of record."""
-        with self.lock:
+        with self._using_store():
             ctx = self._writing(doing)
             self._mark_maintenance(ctx, doing)
             return use_case(ctx, *args)
@@ -213,11 +223,11 @@ class Clinic:
     def _maintain(self, doing: str, use_case: Callable, *args):
         """Backup and restore: they copy or replace the whole file, so they open their own short
         transaction for the audit row instead of running inside one."""
-        with self.lock:
+        with self._using_store():
             return use_case(self._writing(doing), *args)
 
     def _read(self, use_case: Callable, *args, **kwargs):
-        with self.lock:
+        with self._using_store():
             return use_case(self._reading(), *args, **kwargs)
 
     # --- sign-in (before anyone acts)
@@ -225,7 +235,7 @@ class Clinic:
     def check_mapped(self) -> Actor | None:
         """Look again whether an admin has mapped this OS account: its staff member once mapped, else
         None. Nobody takes a record from an unmapped account: records carry roles."""
-        with self.lock:
+        with self._using_store():
             if self.store.staff.by_os_account(self.identity.account) is not None:
                 self._actor = resolve_actor(self.store, self.identity.account, self.identity.as_staff)
             return self._actor
@@ -241,7 +251,7 @@ class Clinic:
         """The phone line's save: log the entry; or, for a temperature on a day that already has one,
         return that reading so the caller can offer a correction; or, unless `confirmed`, say why an
         unusual entry needs a second look."""
-        with self.lock:
+        with self._using_store():
             ctx = self._writing("logging")
             # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
             parsed = parse_entry(kind, value, ctx.today, on=on, at=at, flags=flags, note=note)
@@ -285,7 +295,7 @@ class Clinic:
                            nurse=nurse)
 
     def staff_list(self) -> list[Staff]:
-        with self.lock:
+        with self._using_store():
             self.actor  # noqa: B018 - refuses an unmapped account
             return self.store.staff.all()
 
@@ -326,10 +336,11 @@ class Clinic:
         """The interface's morning refresh, for a worker thread: the same refresh on a store
         connection of its own, without the clinic's lock, so the interface stays free to read and
         save meanwhile. `progress(stage, done, total)` is called from the worker's thread."""
-        with self.lock:
+        with self._using_store():
             ctx = self._writing("the morning refresh")
             self._mark_maintenance(ctx, "the morning refresh")
-        return run_morning_refresh(self.store.path, ctx.actor, ctx.today, progress)
+        with refusing_damage(self.store.path):
+            return run_morning_refresh(self.store.path, ctx.actor, ctx.today, progress)
 
     def morning_refresh_due(self, lines: list[CaseloadLine] | tuple[CaseloadLine, ...]) -> bool:
         """Whether opening the list should run the refresh: some snapshot is older than the date of
@@ -354,7 +365,7 @@ class Clinic:
     def store_version(self) -> int:
         """A number that moves whenever another connection commits to the store (not this one's own
         writes): asking costs no table read, so an idle screen can ask often."""
-        with self.lock:
+        with self._using_store():
             return self.store.data_version()
 
     def list_after(self, lines: tuple[CaseloadLine, ...], done: Logged) -> tuple[CaseloadLine, ...]:
@@ -422,6 +433,12 @@ class Clinic:
     def check(self) -> Report:
         return self._read(store_care.check)
 
+    def refuse_damaged(self) -> None:
+        """The quick check this clinic's first write would pay, run now on a connection of its own and
+        without the clinic's lock (reads go on meanwhile): StoreDamaged when the file is damaged. The
+        interface runs it once its list is drawn, so damage is said before anyone types a call."""
+        self.store.refuse_damaged(aside=True)
+
     def recompute(self) -> Recomputed:
         """Throw the kept completed cycles away and recompute every patient from every entry,
         saying whose kept cycles had given another result (none, unless they were wrong)."""
@@ -443,7 +460,7 @@ class Clinic:
 
     def protocol_in_use(self) -> ProtocolInUse:
         """The stored protocol version in force (no permission needed)."""
-        with self.lock:
+        with self._using_store():
             return protocol.protocol_in_use(self.store)
 
     def protocol_show(self) -> ProtocolInUse:

@@ -46,7 +46,10 @@ def restore(options: GlobalOptions, path: str, force: bool) -> None:
     The replaced store is kept beside it as STORE.replaced-DATE (owner-only)."""
     try:
         clinic = options.open_clinic()
+        clinic.refuse_damaged()  # opening does not check: the restore first reads the store to compare it
     except StoreDamaged:
+        if options.clinic is not None:
+            options.clinic.close()  # the damaged file is replaced under its name: no connection may stay on it
         done = Clinic.restore_damaged(options.path, path, Identity.from_os(options.as_staff), options.date_of_record)
     else:
         done = clinic.restore(path, force)

@@ -12,7 +12,7 @@ from caseload.store.alert_table import AlertTable
 from caseload.store.audit_table import AuditTable
 from caseload.store.bulk_load import BulkTable
 from caseload.store.closed_cycle_table import ClosedCycleTable
-from caseload.store.db import Database, StoreDamaged, StoreError, utc_now
+from caseload.store.db import Database, StoreDamaged, StoreError, refusing_damage, utc_now
 from caseload.store.entry_table import EntryTable
 from caseload.store.list_mark_table import ListMarkTable
 from caseload.store.patient_table import PatientTable
@@ -79,10 +79,18 @@ class Store:
         finally:
             self.db.clock = utc_now
 
+    def refuse_damaged(self, aside: bool = False) -> None:
+        """The quick check a first write pays, run now (once per connection): StoreDamaged on a damaged
+        file. `aside`: on a read connection of its own, leaving this one free meanwhile."""
+        self.db.refuse_damaged(aside)
+
     def backup(self, target: Path) -> None:
+        self.db.refuse_damaged()  # a backup is audited, so it is a write: refused before a damaged copy is made
         maintenance.backup_to(self.db, Path(target))
 
     def restore(self, source: Path, force: bool = False) -> maintenance.Restored:
+        """Over a damaged store this is refused: `restore_damaged` (application) replaces the file instead."""
+        self.db.refuse_damaged()
         return maintenance.restore_from(self.db, Path(source), force)
 
     def check(self) -> Report:
@@ -99,4 +107,4 @@ class Store:
         self.close()
 
 
-__all__ = ["Report", "Store", "StoreDamaged", "StoreError"]
+__all__ = ["Report", "Store", "StoreDamaged", "StoreError", "refusing_damage"]

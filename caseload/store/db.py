@@ -7,7 +7,7 @@ import os
 import sqlite3
 import time
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager, suppress
+from contextlib import closing, contextmanager, suppress
 from functools import cached_property
 from datetime import UTC, date, datetime
 from pathlib import Path
@@ -25,7 +25,34 @@ class StoreError(Exception):
 
 
 class StoreDamaged(StoreError):
-    """The file fails SQLite's quick check: nothing may read or write it but `check` and `restore`."""
+    """The file fails SQLite's quick check, or a read met a damaged page: nothing may write it but
+    `restore`, and `check` says what is wrong."""
+
+    def __init__(self, path: Path, found: str):
+        found = " ".join(found.split())  # SQLite's finding can run over lines: the refusal is one
+        super().__init__(f"{path} is damaged ({found}): run 'caseload check', then restore a backup "
+                         "with 'caseload restore FILE'")
+
+
+# SQLite's primary result codes for a file whose pages or header do not make a database.
+DAMAGE_CODES = (sqlite3.SQLITE_CORRUPT, sqlite3.SQLITE_NOTADB)
+
+
+def damage_code(err: sqlite3.Error) -> int:
+    """SQLite's primary result code of an error (0 when it carries none)."""
+    return (getattr(err, "sqlite_errorcode", None) or 0) & 0xFF
+
+
+@contextmanager
+def refusing_damage(path: Path) -> Iterator[None]:
+    """Turn SQLite's report of a damaged page, met while reading or writing, into the one-line
+    StoreDamaged refusal; any other error goes on as it was."""
+    try:
+        yield
+    except sqlite3.DatabaseError as err:
+        if damage_code(err) not in DAMAGE_CODES:  # a lock, a constraint, a full disk: not damage
+            raise
+        raise StoreDamaged(path, str(err)) from None
 
 
 def utc_now() -> datetime:
@@ -61,6 +88,7 @@ class Database:
         self.conn = conn
         self.day_of_record: date | None = None  # set by the outermost atomic() for its audit rows
         self._savepoints = 0
+        self._checked = False  # whether this connection has run the quick check its first write pays
         try:
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
             self._prepare()
@@ -69,6 +97,8 @@ class Database:
             raise
         except sqlite3.DatabaseError as err:
             conn.close()
+            if damage_code(err) == sqlite3.SQLITE_CORRUPT:  # a store's pages; not a database at all is below
+                raise StoreDamaged(self.path, str(err)) from None
             if not (os.access(self.path, os.W_OK) and os.access(self.path.parent, os.W_OK)):
                 # WAL mode writes its -wal and -shm files beside the store, even to read it.
                 raise StoreError(f"{self.path} or its folder is read-only for this account: "
@@ -84,12 +114,12 @@ class Database:
         return sqlite_utils.Database(self.conn)
 
     def _prepare(self, attempts: int = 6) -> None:
-        """Check, set up and upgrade the file. While another process is creating the file or
-        switching it to WAL, SQLite can report a lock without waiting on the busy timeout: retry."""
+        """Check, set up and upgrade the file (the quick check waits for the first write, see
+        `refuse_damaged`). While another process is creating the file or switching it to WAL, SQLite
+        can report a lock without waiting on the busy timeout: retry."""
         for attempt in range(1, attempts + 1):
             try:
                 self._refuse_foreign()
-                self._refuse_damaged()
                 self.conn.execute("PRAGMA journal_mode = WAL")
                 self.conn.execute("PRAGMA foreign_keys = ON")
                 self.conn.execute("PRAGMA synchronous = FULL")
@@ -121,21 +151,29 @@ class Database:
         if current == 0 and objects:
             raise StoreError(f"{self.path} is an SQLite file but not a caseload store")
 
-    def _refuse_damaged(self) -> None:
-        """SQLite's quick check (every page's structure, not index contents): a damaged file is refused
-        before anything reads or writes it, so no command carries on writing into it."""
-        try:
-            found = self.conn.execute("PRAGMA quick_check(1)").fetchone()[0]
-        except sqlite3.DatabaseError as err:
-            found = str(err)
+    def refuse_damaged(self, aside: bool = False) -> None:
+        """SQLite's quick check (every page's structure, not index contents), once per connection,
+        before its first write: no command carries on writing into a damaged file. It reads the whole
+        file (seconds on a large store), so opening does not run it; a read that meets a damaged page
+        is refused by `refusing_damage` instead. `aside`: run it on a read connection of its own, so
+        this one stays free for other threads' reads meanwhile."""
+        if self._checked:
+            return
+        if aside:
+            read_only = f"{self.path.resolve().as_uri()}?mode=ro"  # as_uri: a '?' or '#' in the path stays a name
+            with closing(sqlite3.connect(read_only, uri=True, timeout=BUSY_TIMEOUT_MS / 1000)) as conn:
+                found = _quick_check(conn)
+        else:
+            found = _quick_check(self.conn)
         if found != "ok":
-            raise StoreDamaged(f"{self.path} is damaged ({found}): run 'caseload check', then restore a backup "
-                               "with 'caseload restore FILE'")
+            raise StoreDamaged(self.path, found)
+        self._checked = True
 
     def migrate(self) -> None:
         current = self.version
         if not migrations.pending(current):
             return
+        self.refuse_damaged()  # said as damage, not as a failed upgrade
         # A step may rebuild a table (create, copy, drop, rename), which live foreign keys refuse
         # half way; the references are checked once, at the end, inside the same transaction.
         self.conn.execute("PRAGMA foreign_keys = OFF")
@@ -163,6 +201,7 @@ class Database:
         on the busy timeout instead of failing mid-transaction."""
         if self.conn.in_transaction:
             raise StoreError("a write transaction is already open on this connection")
+        self.refuse_damaged()
         self.conn.execute("BEGIN IMMEDIATE")
         with self._open_transaction():
             yield self.conn
@@ -192,6 +231,7 @@ class Database:
         inner one is a savepoint, rolled back alone when it fails. `day_of_record` is the clinic day
         the outermost one's audit rows record."""
         if not self.conn.in_transaction:
+            self.refuse_damaged()
             self._retry_on_lock(lambda: self.conn.execute("BEGIN IMMEDIATE"), attempts)
             with self._begun(day_of_record):
                 yield self.conn
@@ -227,6 +267,8 @@ class Database:
         if self.conn.in_transaction:
             with self.atomic():
                 return work()
+
+        self.refuse_damaged()
 
         def unit() -> T:
             self.conn.execute("BEGIN IMMEDIATE")
@@ -304,6 +346,14 @@ def audit_values(
     """The values of one audit row: chain.COLUMNS after the id, which `append_audit` gives."""
     return (at, actor.id, actor.os_account, action, table, None if row_id is None else str(row_id), audit_json(before),
             audit_json(after), None if day_of_record is None else day_of_record.isoformat())
+
+
+def _quick_check(conn: sqlite3.Connection) -> str:
+    """SQLite's quick check of the file behind `conn`: "ok", or its first finding."""
+    try:
+        return conn.execute("PRAGMA quick_check(1)").fetchone()[0]
+    except sqlite3.DatabaseError as err:
+        return str(err)
 
 
 def _is_lock_error(err: sqlite3.OperationalError) -> bool:

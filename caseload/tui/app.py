@@ -97,6 +97,13 @@ class CaseloadApp(ClinicWork, App):
         result = call(*args)
         self.post_message(Saved(summary(result), result))
 
+    @work(**STORE_WORK, name="check")
+    def check_store(self) -> None:
+        """The quick check the first save would pay, run once the first list is drawn, on a connection
+        of its own: a damaged store is said at once, before anyone types a call, and the list stays
+        free to read meanwhile. A damaged store fails this worker, and ClinicWork says so."""
+        self.clinic.refuse_damaged()
+
     def on_saved(self, message: Saved) -> None:
         if message.summary:
             self.notify(message.summary, markup=False)

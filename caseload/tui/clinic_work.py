@@ -14,6 +14,7 @@ from textual.message import Message
 from textual.worker import Worker, WorkerState
 
 from caseload.application.clinic import plain_reason
+from caseload.application.errors import StoreDamaged
 
 STORE = "store"  # the worker group of every Clinic call
 STORE_WORK = {"thread": True, "group": STORE, "exit_on_error": False}  # @work(**STORE_WORK)
@@ -29,7 +30,10 @@ class ClinicWork:
         if event.state is not WorkerState.ERROR:
             return
         reason = plain_reason(event.worker.error)
-        self.app.notify(reason, title="Not done", severity="error", markup=False, timeout=8)
+        if isinstance(event.worker.error, StoreDamaged):  # not one call's failure: every save will be refused
+            self.app.notify(reason, title="Store damaged", severity="error", markup=False, timeout=60)
+        else:
+            self.app.notify(reason, title="Not done", severity="error", markup=False, timeout=8)
         self.work_failed(event.worker.name, reason)
 
     def work_failed(self, name: str, reason: str) -> None:

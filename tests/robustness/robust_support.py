@@ -72,21 +72,23 @@ def audit_mismatches(path: Path) -> int:
     return sum(1 for e in entries if audited.get(e, 0) != 1) + sum(1 for a in audited if a not in entries)
 
 
-def index_page_offset(path) -> tuple[int, int]:
-    """Byte offset and size of the root page of the entry index, as SQLite's dbstat table lists it."""
+def index_page_offset(path, name: str = "entry_patient_day") -> tuple[int, int]:
+    """Byte offset and size of the root page of a table or index (by default the entry index), as
+    SQLite's dbstat table lists it."""
     conn = sqlite3.connect(path)
     try:
         conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")  # every page in the main file, where we overwrite it
         page, size = conn.execute(
-            "SELECT pageno, pgsize FROM dbstat WHERE name = 'entry_patient_day' AND path = '/'").fetchone()
+            "SELECT pageno, pgsize FROM dbstat WHERE name = ? AND path = '/'", (name,)).fetchone()
     finally:
         conn.close()
     return (page - 1) * size, size
 
 
-def damage_index_page(path) -> bytes:
-    """Overwrite the entry index's root page with junk; the damaged file's bytes."""
-    offset, size = index_page_offset(path)
+def damage_index_page(path, name: str = "entry_patient_day") -> bytes:
+    """Overwrite the root page of a table or index (by default the entry index) with junk; the
+    damaged file's bytes."""
+    offset, size = index_page_offset(path, name)
     with open(path, "r+b") as f:
         f.seek(offset)
         f.write(b"\xa5" * size)

@@ -151,15 +151,52 @@ def test_check_reports_a_damaged_file_without_crashing(damaged):
     assert "restore a backup" in result.output
 
 
-@pytest.mark.parametrize("command", [("list",), ("log", "P0001", "temp", "36.5"), ("alerts",), ("entries", "P0001"),
-                                     ("backup", "copy.db")])
-def test_every_command_refuses_a_damaged_store_in_one_line(damaged, command):
-    data = damaged.db.read_bytes()
-    result = damaged(*command)
+def file_bytes(path) -> tuple[bytes, bytes]:
+    """The store file and its write-ahead log (empty when there is none): a write lands in one of them."""
+    wal = path.with_name(path.name + "-wal")
+    return path.read_bytes(), wal.read_bytes() if wal.exists() else b""
+
+
+def assert_refused_as_damaged(result) -> None:
     assert_clean_exit(result)
     assert result.exit_code == 1
-    assert "is damaged" in result.stderr and "run 'caseload check'" in result.stderr
-    assert damaged.db.read_bytes() == data  # nothing written into it
+    assert "is damaged" in result.stderr and "run 'caseload check', then restore a backup" in result.stderr
+
+
+@pytest.mark.parametrize("command", [("log", "P0001", "temp", "36.5"), ("backup", "copy.db"), ("void", "1", "--reason", "typed twice"),
+                                     ("patient", "add", "P0002", "--name", "Ona Test", "--born", "1990-01-01"),
+                                     ("staff", "add", "nia", "--name", "Nia Nurse", "--role", "nurse")])
+def test_every_write_refuses_a_damaged_store_in_one_line(damaged, command, tmp_path):
+    """The damage is in a page none of these commands reads before writing: the quick check every
+    connection runs before its first write finds it."""
+    before = file_bytes(damaged.db)
+    result = damaged(*command)
+    assert_refused_as_damaged(result)
+    assert file_bytes(damaged.db) == before  # nothing written into it, nor into its log
+    assert not (tmp_path / "copy.db").exists()  # no copy of a damaged store passes for a backup
+
+
+@pytest.mark.parametrize(("command", "page"), [
+    (("list",), "patient"), (("list", "--json"), "patient_state"), (("alerts",), "alert"),
+    (("entries", "P0001"), "entry"), (("show", "P0001"), "entry"),
+    (("list",), "staff"),  # read while the command opens the store, to know who is acting
+])
+def test_a_read_that_meets_damage_is_refused_in_one_line(clinic, command, page):
+    damage_index_page(clinic.db, page)
+    before = file_bytes(clinic.db)
+    result = clinic(*command)
+    assert_refused_as_damaged(result)
+    assert result.stdout == ""
+    assert file_bytes(clinic.db) == before
+
+
+def test_a_read_that_meets_no_damage_answers_and_the_next_write_is_refused(damaged):
+    """Opening does not read the whole file: the list reads no entry index page, so it answers; the
+    log that follows is refused before it writes."""
+    listed = damaged("list", "--json")
+    assert listed.exit_code == 0, listed.output
+    assert [p["patient"] for p in json.loads(listed.stdout)] == ["P0001"]
+    assert_refused_as_damaged(damaged("log", "P0001", "temp", "36.5"))
 
 
 def store_before_chain(path, statements: list[str]):

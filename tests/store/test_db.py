@@ -11,8 +11,9 @@ import pytest
 
 from caseload.core.model import Role
 from caseload.core.parse import parse_entry
-from caseload.store import Store, StoreError
+from caseload.store import Store, StoreDamaged, StoreError, refusing_damage
 from caseload.store import migrations
+from tests.robustness.robust_support import damage_index_page
 
 TODAY = date(2026, 12, 1)
 
@@ -145,3 +146,118 @@ def test_a_schema_1_patient_upgrades_with_the_date_of_its_last_status_change(tmp
         assert s.db.version == migrations.LATEST
         assert s.patients.get("P0001").status_since == date(2026, 3, 2)
         assert s.patients.get("P0002").status_since is None and s.patients.get("P0002").born == date(1988, 1, 9)
+
+
+@pytest.fixture
+def traced(monkeypatch) -> list[str]:
+    """Every statement run on each SQLite connection opened from now on, in the order run."""
+    ran: list[str] = []
+    connect = sqlite3.connect
+
+    def traced_connect(*args, **kwargs):
+        conn = connect(*args, **kwargs)
+        conn.set_trace_callback(ran.append)
+        return conn
+
+    monkeypatch.setattr(sqlite3, "connect", traced_connect)
+    return ran
+
+
+def quick_checks(ran: list[str]) -> int:
+    return sum("quick_check" in statement for statement in ran)
+
+
+def test_opening_reads_no_whole_file_and_only_the_first_write_pays_the_check(store, staffed, traced):
+    with Store(store.path) as opened:
+        opened.meta("clinic")
+        assert quick_checks(traced) == 0  # opening and reading leave the whole-file check to the first write
+        opened.transact(lambda: opened.set_meta("clinic", "one"))
+        assert quick_checks(traced) == 1
+        opened.transact(lambda: opened.set_meta("clinic", "two"))
+        with opened.atomic(TODAY):
+            opened.set_meta("clinic", "three")
+        with opened.write():
+            opened.set_meta("clinic", "four")
+        assert quick_checks(traced) == 1  # later writes on the same connection: no check
+    with Store(store.path) as again:
+        again.transact(lambda: again.set_meta("clinic", "five"))
+    assert quick_checks(traced) == 2  # each connection pays its own, once
+
+
+def test_the_check_run_aside_spares_the_connection_its_first_write_check(store, staffed, traced):
+    with Store(store.path) as opened:
+        opened.refuse_damaged(aside=True)  # on a read connection of its own, as the interface runs it
+        assert quick_checks(traced) == 1
+        opened.transact(lambda: opened.set_meta("clinic", "one"))
+        assert quick_checks(traced) == 1
+
+
+def test_a_write_to_a_damaged_file_is_refused_and_writes_nothing(store, staffed):
+    path = store.path
+    store.close()
+    damage_index_page(path)
+    wal = path.with_name(path.name + "-wal")
+    before = path.read_bytes(), wal.read_bytes() if wal.exists() else b""
+    with Store(path) as opened:  # opening reads no entry index page: it does not notice
+        for _ in range(2):  # a refused check is not taken as passed: the second attempt is refused too
+            with pytest.raises(StoreDamaged) as refused:
+                opened.transact(lambda: opened.set_meta("clinic", "written"))
+            assert str(refused.value).startswith(f"{path} is damaged (")
+            assert str(refused.value).endswith("run 'caseload check', then restore a backup with "
+                                               "'caseload restore FILE'")
+        with pytest.raises(StoreDamaged):
+            opened.refuse_damaged(aside=True)
+    assert (path.read_bytes(), wal.read_bytes() if wal.exists() else b"") == before  # nothing written
+
+
+def sqlite_error(path, *statements: str) -> sqlite3.Error:
+    """The error SQLite raises for the statements on a fresh connection to `path`."""
+    conn = sqlite3.connect(path, isolation_level=None, timeout=0)
+    try:
+        for statement in statements:
+            conn.execute(statement)
+    except sqlite3.Error as err:
+        return err
+    finally:
+        conn.close()
+    raise AssertionError("no error")
+
+
+def test_only_a_damaged_file_is_refused_as_damage(tmp_path):
+    """SQLITE_CORRUPT (11) and SQLITE_NOTADB (26) are damage; a constraint or a lock is not (SQLite's
+    result codes, sqlite.org/rescode.html)."""
+    text = tmp_path / "notes.db"
+    text.write_text("not a database, just notes\n" * 200)
+    table = tmp_path / "t.db"
+    sqlite_error(table, "CREATE TABLE t (id INTEGER PRIMARY KEY)", "INSERT INTO t VALUES (1)", "SELECT 1/0 FROM x")
+    holder = sqlite3.connect(table, isolation_level=None)
+    holder.execute("BEGIN EXCLUSIVE")
+    try:
+        errors = {
+            "not a database": sqlite_error(text, "SELECT * FROM sqlite_master"),
+            "constraint": sqlite_error(table, "INSERT INTO t VALUES (1)"),
+            "locked": sqlite_error(table, "SELECT * FROM t"),
+        }
+    finally:
+        holder.close()
+    refused = {}
+    for name, err in errors.items():
+        try:
+            with refusing_damage(text):
+                raise err
+        except StoreDamaged as damage:
+            refused[name] = str(damage)
+        except sqlite3.Error as other:
+            assert other is err  # passed on as it was
+    assert list(refused) == ["not a database"]
+    assert refused["not a database"] == (f"{text} is damaged (file is not a database): run 'caseload check', "
+                                         "then restore a backup with 'caseload restore FILE'")
+
+
+def test_the_check_aside_opens_the_same_file_whatever_its_name(tmp_path, traced):
+    path = tmp_path / "clinic #2 50%?.db"  # characters a URI would read as query, fragment or escape
+    with Store(path) as created:
+        created.transact(lambda: created.set_meta("clinic", "made"))
+    with Store(path) as opened:
+        opened.refuse_damaged(aside=True)
+    assert sorted(p.name for p in tmp_path.iterdir() if not p.name.endswith(("-wal", "-shm"))) == [path.name]

@@ -31,6 +31,11 @@ from caseload.tui.widgets.status_line import StatusLine
 from caseload.tui.widgets.type_ahead import TypeAheadInput, replay
 
 
+STORE_CHECK_DELAY_S = 0.3
+"""How long after the first list is drawn the whole-file store check starts: started at once, its
+thread takes CPU from the frames that draw the list."""
+
+
 def no_match_line(filters: Filters) -> str:
     """What Enter in a search that finds nobody says, naming the filters that may hide her."""
     others = [word for word in narrowed_by(filters) if word != "search"]
@@ -190,6 +195,7 @@ class CaseloadScreen(ClinicWork, Screen):
             self._open_top_match(field)
         if not self._refresh_checked:
             self._refresh_checked = True
+            self.set_timer(STORE_CHECK_DELAY_S, self.app.check_store)
             if self.app.clinic.morning_refresh_due(message.read.lines):
                 self.query_one("#list-note", Static).update("Bringing today's picture up to date…")
                 self._morning_refresh()
