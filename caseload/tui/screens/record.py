@@ -54,6 +54,9 @@ class RecordScreen(ClinicWork, Screen):
         # keys reach the dialog and not this screen (the record has no text field to stand aside for).
         Binding("c", "care", "Nurse/plan/status", id="record.care", priority=True),
         Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
+        # On the entries list only (check_action), for the roles that may, on an entry still current.
+        Binding("a", "correct(True)", "Amend", id="record.amend", priority=True),
+        Binding("v", "correct(False)", "Void", id="record.void", priority=True),
     ]
 
     class Loaded(Message):
@@ -199,7 +202,17 @@ class RecordScreen(ClinicWork, Screen):
             return None if self._record is None else self.app.clinic.may("patient.update")
         if action == "add_note":
             return self.app.clinic.may("entry.log")
+        if action == "correct":
+            return self._correctable("entry.amend" if parameters[0] else "entry.void")
         return True
+
+    def _correctable(self, permission: str) -> bool | None:
+        """Shown on the focused entries list to a role with `permission`; dimmed on a corrected entry."""
+        table = self.query_one(EntriesTable)
+        if not table.has_focus or not self.app.clinic.may(permission):
+            return False
+        entry = table.current_entry()
+        return True if entry is not None and entry.current else None
 
     def action_care(self) -> None:
         if self._record is not None:
@@ -232,15 +245,12 @@ class RecordScreen(ClinicWork, Screen):
     def _alert_highlighted(self, message: AlertTable.Highlighted) -> None:
         self.query_one(EvidencePanel).show(message.alert, message.steps)
 
-    @on(EntriesTable.AmendAsked)
-    def _amend(self, message: EntriesTable.AmendAsked) -> None:
-        self.app.push_screen(CorrectEntryDialog(message.entry, amend=True), correct_entry(self, message.entry))
+    def action_correct(self, amend: bool) -> None:
+        entry = self.query_one(EntriesTable).current_entry()
+        if entry is not None and entry.current:
+            self.app.push_screen(CorrectEntryDialog(entry, amend=amend), correct_entry(self, entry))
 
     @on(EntriesTable.DetailsAsked)
     def _details(self, message: EntriesTable.DetailsAsked) -> None:
         entries = self._record.entries if self._record else ()
         self.app.push_screen(EntryDialog(message.entry, {e.id: e for e in entries}))
-
-    @on(EntriesTable.VoidAsked)
-    def _void(self, message: EntriesTable.VoidAsked) -> None:
-        self.app.push_screen(CorrectEntryDialog(message.entry, amend=False), correct_entry(self, message.entry))
