@@ -41,22 +41,25 @@ class RecordScreen(ClinicWork, Screen):
     AUTO_FOCUS = "#chart-plot"  # the arrow keys move a long cycle's days
     patient_settled = True  # the quick log opened here logs for this patient
     BINDINGS = [
-        Binding("escape", "app.pop_screen", "Back", id="record.back"),
-        Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart"),
-        Binding("2", "tab('cycles')", "Cycles", group=TABS, id="record.tab_cycles"),
-        Binding("3", "tab('outlook')", "Outlook", group=TABS, id="record.tab_outlook"),
-        Binding("4", "tab('alerts')", "Alerts", group=TABS, id="record.tab_alerts"),
-        Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries"),
-        Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
-        Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
-        Binding("p", "referral", "Pack/FHIR", id="record.referral"),
-        # Priority bindings open their dialog before the keys typed after them are routed, so those
-        # keys reach the dialog and not this screen (the record has no text field to stand aside for).
-        Binding("c", "care", "Nurse/plan/status", id="record.care", priority=True),
-        Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
-        # On the entries list only (check_action), for the roles that may, on an entry still current.
+        # On the entries list only (check_action), for the roles that may, on an entry still current;
+        # priority bindings, as `c` and `n` below.
         Binding("a", "correct(True)", "Amend", id="record.amend", priority=True),
         Binding("v", "correct(False)", "Void", id="record.void", priority=True),
+        Binding("escape", "app.pop_screen", "Back", id="record.back"),
+        # Out of the footer, which must fit 80 columns with the alerts' keys: the tabs show their
+        # digits, and the help lists every key.
+        Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart", show=False),
+        Binding("2", "tab('cycles')", "Cycles", group=TABS, id="record.tab_cycles", show=False),
+        Binding("3", "tab('outlook')", "Outlook", group=TABS, id="record.tab_outlook", show=False),
+        Binding("4", "tab('alerts')", "Alerts", group=TABS, id="record.tab_alerts", show=False),
+        Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries", show=False),
+        Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier", show=False),
+        Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later", show=False),
+        Binding("p", "referral", "Pack/FHIR", id="record.referral", show=False),
+        # Priority bindings open their dialog before the keys typed after them are routed, so those
+        # keys reach the dialog and not this screen (the record has no text field to stand aside for).
+        Binding("c", "care", "Care", id="record.care", priority=True),
+        Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
     ]
 
     class Loaded(Message):
@@ -103,7 +106,7 @@ class RecordScreen(ClinicWork, Screen):
             with TabPane("5 Entries", id="entries"):
                 yield EntriesTable(id="entries-table")
         yield Static(CAUTION, id="caution")
-        yield Footer(compact=True)
+        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
 
     def on_mount(self) -> None:
         self.reload()
