@@ -9,7 +9,6 @@ import re
 
 import pytest
 from textual.widgets import Footer
-from textual.widgets._footer import FooterKey, FooterLabel
 
 from caseload.tui.key_help import SENTENCES
 from caseload.tui.screens.alert_queue import AlertQueueScreen
