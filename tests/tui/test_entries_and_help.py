@@ -168,8 +168,7 @@ async def test_an_amend_typed_in_one_burst_saves_its_value_and_reason_to_that_en
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await entries_at(app, pilot, "P0001", 154)  # not the newest: the highlighted one is corrected
-        burst(app, "a36.72\tcannot read the second digit\r")
-        await settle(pilot)
+        await burst(pilot, *"a36.72", "tab", *"cannot read the second digit", "enter")
         record_untouched(app, check, "P0001")
     new = newest_version(check, "P0001", 154)
     assert (new.value.number, new.amend_reason, new.by) == (36.72, "cannot read the second digit", "nell")
@@ -183,8 +182,7 @@ async def test_an_amend_moved_on_with_enter_and_the_key_after_it_go_where_meant(
     async with app.run_test(size=(80, 24)) as pilot:
         await entries_at(app, pilot, "P0003", 278)
         # Enter after the value moves to the reason; the `4` after the saving Enter is the record's.
-        burst(app, "aheavy\rphoned again: heavier than said\r4")
-        await settle(pilot)
+        await burst(pilot, *"aheavy", "enter", *"phoned again: heavier than said", "enter", "4")
         assert isinstance(app.screen, RecordScreen)
         assert app.screen.query_one("TabbedContent").active == "alerts"
     new = newest_version(check, "P0003", 278)
@@ -196,8 +194,7 @@ async def test_a_void_typed_in_one_burst_saves_its_reason_to_that_entry(app_as, 
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         table = await entries_at(app, pilot, "P0004", 298)
-        burst(app, "vlogged for the wrong patient, 2nd call\r")
-        await settle(pilot)
+        await burst(pilot, *"vlogged for the wrong patient, 2nd call", "enter")
         record_untouched(app, check, "P0004")
         assert table.get_cell("298", "Status").plain == "void: logged for the wrong patient, 2nd call"
     assert check.store.entries.get(298).voided_reason == "logged for the wrong patient, 2nd call"
@@ -210,8 +207,7 @@ async def test_a_bad_amend_typed_in_one_burst_stays_in_the_dialog_and_writes_not
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await entries_at(app, pilot, "P0001", 155)
-        burst(app, "a3x.7\tmisread\r5n")  # the keys after a refused Enter stay in its field
-        await settle(pilot)
+        await burst(pilot, *"a3x.7", "tab", *"misread", "enter", *"5n")  # the keys after a refused Enter stay in its field
         assert isinstance(app.screen, CorrectEntryDialog)
         typed = (app.screen.query_one("#value").value, app.screen.query_one("#reason").value)
         assert typed == ("3x.7", "misread5n")
