@@ -207,7 +207,8 @@ async def test_a_bad_amend_typed_in_one_burst_stays_in_the_dialog_and_writes_not
     app = app_as("nell")
     async with app.run_test(size=(80, 24)) as pilot:
         await entries_at(app, pilot, "P0001", 155)
-        await burst(pilot, *"a3x.7", "tab", *"misread", "enter", *"5n")  # the keys after a refused Enter stay in its field
+        # The keys after a refused Enter stay in its field.
+        await burst(pilot, *"a3x.7", "tab", *"misread", "enter", *"5n")
         assert isinstance(app.screen, CorrectEntryDialog)
         typed = (app.screen.query_one("#value").value, app.screen.query_one("#reason").value)
         assert typed == ("3x.7", "misread5n")

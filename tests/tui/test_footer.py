@@ -21,8 +21,10 @@ from tests.tui.fixture_store import add_long_cycle
 from tests.tui.test_entries_and_help import help_listed
 from tests.tui.test_quick_log_safety import open_record
 
-SIZE = (80, 24)
-SPAN = re.compile(r'<text [^>]*?x="([\d.]+)"[^>]*?textLength="([\d.]+)"[^>]*?clip-path="url\(#[\w-]+-line-(\d+)\)">([^<]*)</text>')
+SIZE = (80, 24)  # the VT100 terminal's size, still the least an SSH session is expected to give (common practice)
+# One run of characters in the screenshot: its x, its length (both in SVG units), its row, its text.
+SPAN = re.compile(r'<text [^>]*?x="([\d.]+)"[^>]*?textLength="([\d.]+)"'
+                  r'[^>]*?clip-path="url\(#[\w-]+-line-(\d+)\)">([^<]*)</text>')
 
 
 def drawn_rows(app) -> list[str]:
