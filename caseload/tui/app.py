@@ -40,7 +40,8 @@ class CaseloadApp(ClinicWork, App):
         # A priority binding, so the keys typed straight after it already go to the quick log; it
         # stands aside (check_action) wherever text is being typed.
         Binding("l", "quick_log", "Log", id="app.quick_log", priority=True),
-        Binding("q", "quit", "Quit", id="app.quit"),
+        # Out of the footer, which must fit 80 columns; the help lists it (as every key left out).
+        Binding("q", "quit", "Quit", id="app.quit", show=False),
         # Not a priority: in a text field `?` is typed as text, and F1 opens the help there.
         Binding("question_mark,f1", "help", "Help", id="app.help"),
     ]

@@ -8,6 +8,7 @@ from zoneinfo import ZoneInfo
 from caseload.core.model import Kind
 from caseload.application.entries import patient_entries
 from caseload.tui.key_help import SENTENCES
+from caseload.tui.screens.correct_entry import CorrectEntryDialog
 from caseload.tui.screens.entry_detail import EntryDialog
 from caseload.tui.screens.help import HelpScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
@@ -137,3 +138,79 @@ async def test_a_note_typed_in_one_burst_lands_in_the_note_and_the_next_key_on_t
         assert app.screen.query_one("TabbedContent").active == "entries"
     notes = [e.value.text for e in patient_entries(check, "P0003") if e.kind is Kind.NOTE]
     assert notes == ["rang back, no answer"]
+
+
+async def entries_at(app, pilot, patient_id: str, entry_id: int) -> EntriesTable:
+    """The record's entries tab with `entry_id` highlighted."""
+    await open_record(app, pilot, patient_id)
+    await pilot.press("5")
+    table = app.screen.query_one(EntriesTable)
+    table.move_cursor(row=table.get_row_index(str(entry_id)))
+    await pilot.pause()
+    return table
+
+
+def record_untouched(app, check, patient_id: str) -> None:
+    """Nothing typed for the dialog reached the record: its digits would change the tab, its `n`
+    and `c` open other dialogs, and nothing else is written for the patient."""
+    assert isinstance(app.screen, RecordScreen)
+    assert app.screen.query_one("TabbedContent").active == "entries"
+    assert [e for e in patient_entries(check, patient_id) if e.kind is Kind.NOTE] == []
+
+
+def newest_version(check, patient_id: str, entry_id: int):
+    """The entry that replaced `entry_id` (an amend writes a new entry and keeps the old one)."""
+    return next(e for e in patient_entries(check, patient_id) if e.supersedes == entry_id)
+
+
+async def test_an_amend_typed_in_one_burst_saves_its_value_and_reason_to_that_entry(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await entries_at(app, pilot, "P0001", 154)  # not the newest: the highlighted one is corrected
+        await burst(pilot, *"a36.72", "tab", *"cannot read the second digit", "enter")
+        record_untouched(app, check, "P0001")
+    new = newest_version(check, "P0001", 154)
+    assert (new.value.number, new.amend_reason, new.by) == (36.72, "cannot read the second digit", "nell")
+    assert not check.store.entries.get(154).current
+    assert check.store.entries.get(155).current and check.store.entries.get(155).value.number == 36.84
+
+
+async def test_an_amend_moved_on_with_enter_and_the_key_after_it_go_where_meant(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await entries_at(app, pilot, "P0003", 278)
+        # Enter after the value moves to the reason; the `4` after the saving Enter is the record's.
+        await burst(pilot, *"aheavy", "enter", *"phoned again: heavier than said", "enter", "4")
+        assert isinstance(app.screen, RecordScreen)
+        assert app.screen.query_one("TabbedContent").active == "alerts"
+    new = newest_version(check, "P0003", 278)
+    assert (new.value.word, new.amend_reason) == ("heavy", "phoned again: heavier than said")
+
+
+async def test_a_void_typed_in_one_burst_saves_its_reason_to_that_entry(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        table = await entries_at(app, pilot, "P0004", 298)
+        await burst(pilot, *"vlogged for the wrong patient, 2nd call", "enter")
+        record_untouched(app, check, "P0004")
+        assert table.get_cell("298", "Status").plain == "void: logged for the wrong patient, 2nd call"
+    assert check.store.entries.get(298).voided_reason == "logged for the wrong patient, 2nd call"
+    assert check.store.entries.get(299).current and check.store.entries.get(297).current
+
+
+async def test_a_bad_amend_typed_in_one_burst_stays_in_the_dialog_and_writes_nothing(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = check.store.entries.count(), check.store.audit.count()
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await entries_at(app, pilot, "P0001", 155)
+        # The keys after a refused Enter stay in its field.
+        await burst(pilot, *"a3x.7", "tab", *"misread", "enter", *"5n")
+        assert isinstance(app.screen, CorrectEntryDialog)
+        typed = (app.screen.query_one("#value").value, app.screen.query_one("#reason").value)
+        assert typed == ("3x.7", "misread5n")
+        assert "not understood" in shown(app, "#check")
+    assert (check.store.entries.count(), check.store.audit.count()) == before

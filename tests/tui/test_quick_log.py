@@ -3,14 +3,16 @@
 from __future__ import annotations
 
 from textual import events
+from textual.widgets import OptionList
 
 from caseload.core.model import Kind
 from caseload.application.entries import patient_entries
 from caseload.tui.screens.correct_entry import QUIET_SECONDS, CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
-from tests.tui.conftest import settle, fill
+from tests.tui.conftest import burst, fill, settle
 from tests.tui.fixture_store import TODAY
+from tests.tui.test_quick_log_safety import open_record, shown, today_of
 
 
 def counts(ctx) -> tuple[int, int]:
@@ -159,3 +161,64 @@ async def test_a_save_updates_its_row_from_the_returned_snapshot_without_reading
         # A heavy bleed logged today starts a new cycle: today is cycle day 1 (day 1 = first day of flow).
         assert row.cycle_day == 1 and row.days_since_entry == 0
         assert row.snapshot.computed_on == TODAY
+
+
+NONE_CHOSEN = "Log a call: no patient chosen yet"
+
+
+def highlighted_match(app) -> str:
+    matches = app.screen.query_one("#matches", OptionList)
+    return matches.get_option_at_index(matches.highlighted).id
+
+
+async def test_the_title_names_a_patient_only_once_she_is_picked(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        offered = app.screen.patient_id  # the list's highlighted patient starts in the field
+        await burst(pilot, "l")
+        assert offered in app.screen.query_one("#patient").value
+        assert shown(app, "#whose") == NONE_CHOSEN
+        await burst(pilot, *"noo")  # a new name, typed in one burst: Noor is the first match, not yet chosen
+        assert highlighted_match(app) == "P0004"
+        assert shown(app, "#whose") == NONE_CHOSEN
+        await burst(pilot, "r", "enter", "t", "enter", *"36.62", "enter")
+        assert shown(app, "#whose") == "Log a call for P0004 Noor Haddad"
+    assert [e.value.number for e in today_of(check, "P0004", Kind.TEMP)] == [36.62]
+
+
+async def test_the_offered_patient_is_named_once_enter_picks_her(app_as):
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        offered = app.screen.patient_id
+        await burst(pilot, "l", "enter")
+        name = app.screen.query_one("PatientPicker").patient.name
+        assert shown(app, "#whose") == f"Log a call for {offered} {name}"
+        assert app.focused.id == "kind"
+
+
+async def test_nothing_is_logged_for_an_offered_patient_left_unpicked(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = check.store.entries.count(), check.store.audit.count()
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "l", "tab", "t", "enter", *"36.62", "enter")  # Tab past the offered patient without Enter
+        assert shown(app, "#whose") == NONE_CHOSEN
+        assert shown(app, "#result") == "Pick a patient first: type an id or a name, then Enter."
+        assert app.focused.id == "patient"
+    assert (check.store.entries.count(), check.store.audit.count()) == before
+
+
+async def test_a_log_from_a_record_names_her_until_another_is_typed(app_as):
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0004")
+        await burst(pilot, "l")
+        assert shown(app, "#whose") == "Log a call for P0004 Noor Haddad (ctrl+o: other patient)"
+        await pilot.press("ctrl+o")
+        await burst(pilot, *"ros")
+        assert highlighted_match(app) == "P0002"
+        assert shown(app, "#whose") == NONE_CHOSEN

@@ -29,7 +29,7 @@ class AlertQueueScreen(ClinicWork, Screen):
         Binding("escape", "app.pop_screen", "Back", id="queue.back"),
         # A priority binding: the record opens before the next key is read, so a tab key typed
         # straight after Enter reaches the record.
-        Binding("enter", "open", "Open record", id="queue.open", priority=True),
+        Binding("enter", "open", "Open", id="queue.open", priority=True),
         Binding("m", "toggle_mine", "Mine/all", id="queue.mine"),
     ]
 
@@ -54,7 +54,7 @@ class AlertQueueScreen(ClinicWork, Screen):
         yield AlertTable(with_patient=True, id="queue")
         with VerticalScroll(id="evidence-scroll"):
             yield EvidencePanel("", id="evidence")
-        yield Footer(compact=True)
+        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
 
     def on_mount(self) -> None:
         self.reload()

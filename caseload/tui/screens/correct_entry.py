@@ -19,6 +19,7 @@ from caseload.presentation.glossary import kind_label, logged_summary, voided_su
 from caseload.presentation.days import short_day
 from caseload.presentation.safe_text import literal
 from caseload.tui.screens.dialog import Dialog, show_check
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
 
 
 @dataclass(frozen=True)
@@ -37,10 +38,11 @@ def _entry_line(entry: Entry) -> Text:
 QUIET_SECONDS = 0.5
 
 
-class CorrectEntryDialog(Dialog[Correction | None]):
+class CorrectEntryDialog(EarlyKeys, Dialog[Correction | None]):
     """Enter in either field saves when both are valid; Esc leaves the entry as it is.
 
-    Opened by a key (amend, void), it takes the keys typed after that key. Opened as a question
+    Opened by a key (amend, void), it takes the keys typed after that key, in order, into its fields
+    (Tab and Enter move on as they would once it is in view). Opened as a question
     (`asked`: a save found a reading already there), keys typed in the same burst as the save were
     typed before anyone could read it, for something else: they are not answers, and it says so. It
     takes keys once the typing has paused for `QUIET_SECONDS`."""
@@ -66,9 +68,9 @@ class CorrectEntryDialog(Dialog[Correction | None]):
             yield Static(_entry_line(self.entry))
             if self.amend:
                 yield Label("New value")
-                yield Input(self._value, placeholder="the corrected value", id="value", compact=True)
+                yield TypeAheadInput(self._value, placeholder="the corrected value", id="value", compact=True)
             yield Label("Reason (kept with the record)")
-            yield Input(placeholder="why it changes", id="reason", compact=True)
+            yield TypeAheadInput(placeholder="why it changes", id="reason", compact=True)
             yield Static("", id="check", classes="check")
             yield Static("", id="set-aside")
         yield Footer(compact=True)
@@ -79,12 +81,13 @@ class CorrectEntryDialog(Dialog[Correction | None]):
             self._quiet = self.set_timer(QUIET_SECONDS, self._answerable)
             self._say_set_aside()
         else:
-            self._first_field().focus()
+            self.first_field().focus()
 
-    def _first_field(self) -> Input:
-        return self.query_one("#value" if self.amend and not self._value else "#reason", Input)
+    def first_field(self) -> TypeAheadInput:
+        return self.query_one("#value" if self.amend and not self._value else "#reason", TypeAheadInput)
 
     def on_key(self, event: events.Key) -> None:
+        # Runs before EarlyKeys' handler, which it stops while the keys are not answers.
         if self._waiting and event.key != "escape":  # Esc writes nothing: it may always close
             event.stop()
             event.prevent_default()
@@ -100,7 +103,7 @@ class CorrectEntryDialog(Dialog[Correction | None]):
 
     def _answerable(self) -> None:
         self._waiting = False
-        self._first_field().focus()
+        self.first_field().focus()
 
     def _problem(self) -> str | None:
         if self.amend:
@@ -118,12 +121,19 @@ class CorrectEntryDialog(Dialog[Correction | None]):
 
     @on(Input.Submitted)
     def _submit(self, event: Input.Submitted) -> None:
-        if event.input.id == "value" and not self.query_one("#reason", Input).value.strip():
-            self.query_one("#reason", Input).focus()
+        field = event.input
+        reason = self.query_one("#reason", TypeAheadInput)
+        if field.id == "value" and not reason.value.strip():
+            reason.focus()
+            field.pass_on(reason)
             return
-        if self._problem() is None:
-            value = self.query_one("#value", Input).value if self.amend else None
-            self.dismiss(Correction(self.query_one("#reason", Input).value.strip(), value))
+        if self._problem() is not None:
+            field.keep_typing()  # the check line says why
+            return
+        typed_on = field.take_held()
+        value = self.query_one("#value", Input).value if self.amend else None
+        self.dismiss(Correction(reason.value.strip(), value))
+        replay(self.app, typed_on)
 
 
 def correct_entry(screen: Screen, entry: Entry) -> Callable[[Correction | None], None]:

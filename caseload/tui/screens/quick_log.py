@@ -47,7 +47,9 @@ class KindSuggester(Suggester):
 
 
 class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
-    """Opened with `l` from anywhere; the highlighted patient (or the record's) comes preselected."""
+    """Opened with `l` from anywhere. From a list the highlighted patient is offered (Enter picks her,
+    typing replaces her); from a record her patient is picked. The title names a patient only once
+    she is picked."""
 
     CSS_PATH = "quick_log.tcss"
     BINDINGS = [
@@ -79,7 +81,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
             yield Label("Log a call", id="whose", classes="dialog-title")
             with Horizontal(classes="row"):
                 yield Label("Patient", classes="field")
-                yield PatientPicker(self.app.roster, self._patient_id, id="picker")
+                yield PatientPicker(self.app.roster, self._patient_id, picked=self._settled, id="picker")
             with Horizontal(classes="row"):
                 yield Label("Kind", classes="field")
                 yield TypeAheadInput(placeholder="temp, bleed…", id="kind", suggester=KindSuggester(), compact=True)
@@ -137,7 +139,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         patient = self.query_one(PatientPicker).patient
         whose = self.query_one("#whose", Label)
         if patient is None:
-            whose.update("Log a call: pick a patient")
+            whose.update(Text("Log a call: no patient chosen yet", style="bold"))
             return
         locked = " (ctrl+o: other patient)" if self.query_one("#patient", Input).disabled else ""
         whose.update(Text(f"Log a call for {patient.id} ", style="bold").append_text(literal(printable(patient.name)))

@@ -41,18 +41,24 @@ class RecordScreen(ClinicWork, Screen):
     AUTO_FOCUS = "#chart-plot"  # the arrow keys move a long cycle's days
     patient_settled = True  # the quick log opened here logs for this patient
     BINDINGS = [
+        # On the entries list only (check_action), for the roles that may, on an entry still current;
+        # priority bindings, as `c` and `n` below.
+        Binding("a", "correct(True)", "Amend", id="record.amend", priority=True),
+        Binding("v", "correct(False)", "Void", id="record.void", priority=True),
         Binding("escape", "app.pop_screen", "Back", id="record.back"),
-        Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart"),
-        Binding("2", "tab('cycles')", "Cycles", group=TABS, id="record.tab_cycles"),
-        Binding("3", "tab('outlook')", "Outlook", group=TABS, id="record.tab_outlook"),
-        Binding("4", "tab('alerts')", "Alerts", group=TABS, id="record.tab_alerts"),
-        Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries"),
-        Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier"),
-        Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later"),
-        Binding("p", "referral", "Pack/FHIR", id="record.referral"),
+        # Out of the footer, which must fit 80 columns with the alerts' keys: the tabs show their
+        # digits, and the help lists every key.
+        Binding("1", "tab('chart')", "Chart", group=TABS, id="record.tab_chart", show=False),
+        Binding("2", "tab('cycles')", "Cycles", group=TABS, id="record.tab_cycles", show=False),
+        Binding("3", "tab('outlook')", "Outlook", group=TABS, id="record.tab_outlook", show=False),
+        Binding("4", "tab('alerts')", "Alerts", group=TABS, id="record.tab_alerts", show=False),
+        Binding("5", "tab('entries')", "Entries", group=TABS, id="record.tab_entries", show=False),
+        Binding("left_square_bracket", "cycle(-1)", "Earlier", group=CYCLES, id="record.cycle_earlier", show=False),
+        Binding("right_square_bracket", "cycle(1)", "Later", group=CYCLES, id="record.cycle_later", show=False),
+        Binding("p", "referral", "Pack/FHIR", id="record.referral", show=False),
         # Priority bindings open their dialog before the keys typed after them are routed, so those
         # keys reach the dialog and not this screen (the record has no text field to stand aside for).
-        Binding("c", "care", "Nurse/plan/status", id="record.care", priority=True),
+        Binding("c", "care", "Care", id="record.care", priority=True),
         Binding("n", "add_note", "Add note", id="record.add_note", priority=True),
     ]
 
@@ -100,7 +106,7 @@ class RecordScreen(ClinicWork, Screen):
             with TabPane("5 Entries", id="entries"):
                 yield EntriesTable(id="entries-table")
         yield Static(CAUTION, id="caution")
-        yield Footer(compact=True)
+        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
 
     def on_mount(self) -> None:
         self.reload()
@@ -199,7 +205,17 @@ class RecordScreen(ClinicWork, Screen):
             return None if self._record is None else self.app.clinic.may("patient.update")
         if action == "add_note":
             return self.app.clinic.may("entry.log")
+        if action == "correct":
+            return self._correctable("entry.amend" if parameters[0] else "entry.void")
         return True
+
+    def _correctable(self, permission: str) -> bool | None:
+        """Shown on the focused entries list to a role with `permission`; dimmed on a corrected entry."""
+        table = self.query_one(EntriesTable)
+        if not table.has_focus or not self.app.clinic.may(permission):
+            return False
+        entry = table.current_entry()
+        return True if entry is not None and entry.current else None
 
     def action_care(self) -> None:
         if self._record is not None:
@@ -232,15 +248,12 @@ class RecordScreen(ClinicWork, Screen):
     def _alert_highlighted(self, message: AlertTable.Highlighted) -> None:
         self.query_one(EvidencePanel).show(message.alert, message.steps)
 
-    @on(EntriesTable.AmendAsked)
-    def _amend(self, message: EntriesTable.AmendAsked) -> None:
-        self.app.push_screen(CorrectEntryDialog(message.entry, amend=True), correct_entry(self, message.entry))
+    def action_correct(self, amend: bool) -> None:
+        entry = self.query_one(EntriesTable).current_entry()
+        if entry is not None and entry.current:
+            self.app.push_screen(CorrectEntryDialog(entry, amend=amend), correct_entry(self, entry))
 
     @on(EntriesTable.DetailsAsked)
     def _details(self, message: EntriesTable.DetailsAsked) -> None:
         entries = self._record.entries if self._record else ()
         self.app.push_screen(EntryDialog(message.entry, {e.id: e for e in entries}))
-
-    @on(EntriesTable.VoidAsked)
-    def _void(self, message: EntriesTable.VoidAsked) -> None:
-        self.app.push_screen(CorrectEntryDialog(message.entry, amend=False), correct_entry(self, message.entry))

@@ -1,7 +1,9 @@
 """A patient's entries, newest first, with every correction visible.
 
 A corrected entry stays on the list struck through, with who corrected it and why; a void stays
-with its reason. Each row says who logged it and when it was recorded; Enter shows one in full. Amend and void are offered only to roles that may do them.
+with its reason. Each row says who logged it and when it was recorded; Enter shows one in full.
+Amend and void are the record screen's keys, so the dialog opens before the keys typed after them
+are read.
 """
 
 from __future__ import annotations
@@ -68,22 +70,10 @@ class EntriesTable(DataTable):
     """Rows keyed by entry id."""
 
     BINDINGS = [
-        Binding("a", "amend", "Amend", id="entries.amend"),
-        Binding("v", "void", "Void", id="entries.void"),
         Binding("enter", "details", "Details", id="entries.details"),
     ]
 
-    class AmendAsked(Message):
-        def __init__(self, entry: Entry) -> None:
-            super().__init__()
-            self.entry = entry
-
     class DetailsAsked(Message):
-        def __init__(self, entry: Entry) -> None:
-            super().__init__()
-            self.entry = entry
-
-    class VoidAsked(Message):
         def __init__(self, entry: Entry) -> None:
             super().__init__()
             self.entry = entry
@@ -109,28 +99,10 @@ class EntriesTable(DataTable):
         key = self.coordinate_to_cell_key(self.cursor_coordinate).row_key.value
         return self._by_id.get(int(key))
 
-    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
-        if action in ("amend", "void"):
-            if not self.app.clinic.may(f"entry.{action}"):
-                return False
-            entry = self.current_entry()
-            return True if entry is not None and entry.current else None
-        return True
-
     def on_data_table_row_highlighted(self) -> None:
-        self.refresh_bindings()
-
-    def action_amend(self) -> None:
-        entry = self.current_entry()
-        if entry is not None and entry.current:
-            self.post_message(self.AmendAsked(entry))
+        self.refresh_bindings()  # the record's amend and void depend on the highlighted entry
 
     def action_details(self) -> None:
         entry = self.current_entry()
         if entry is not None:
             self.post_message(self.DetailsAsked(entry))
-
-    def action_void(self) -> None:
-        entry = self.current_entry()
-        if entry is not None and entry.current:
-            self.post_message(self.VoidAsked(entry))

@@ -38,7 +38,11 @@ def picked_label(line: CaseloadLine) -> Text:
 
 
 class PatientPicker(Vertical):
-    """Up/Down move through the matches; Enter or a click picks; editing the text un-picks."""
+    """Up/Down move through the matches; Enter or a click picks; editing the text un-picks.
+
+    `patient` is the picked patient, or None: a patient only offered (her id and name in the field,
+    selected, so Enter picks her and typing replaces her) or highlighted among the matches is not
+    picked, and nothing may be logged for her until she is."""
 
     BINDINGS = [
         Binding("down", "move(1)", "Next match", id="picker.next"),
@@ -50,15 +54,18 @@ class PatientPicker(Vertical):
             super().__init__()
             self.patient = patient
 
-    def __init__(self, lines: tuple[CaseloadLine, ...], picked: str | None = None, **kwargs):
+    def __init__(self, lines: tuple[CaseloadLine, ...], offered: str | None = None, picked: bool = False, **kwargs):
+        """`offered`: the patient who starts in the field; `picked`: she is picked already (a record's)."""
         super().__init__(**kwargs)
         self._lines = {line.patient.id: line for line in lines}
         self._patients = [line.patient for line in lines]
-        self.patient: Patient | None = self._lines[picked].patient if picked in self._lines else None
+        # The patient whose id and name are in the field, picked or only offered.
+        self._in_field: Patient | None = self._lines[offered].patient if offered in self._lines else None
+        self.patient: Patient | None = self._in_field if picked else None
         self._matches: list[Patient] = []
 
     def compose(self) -> ComposeResult:
-        start = typed_form(self.patient) if self.patient else ""
+        start = typed_form(self._in_field) if self._in_field else ""
         field = TypeAheadInput(start, placeholder="patient id or name", id="patient", compact=True, select_on_focus=False)
         # Selected once, from the start, rather than on focus: keys typed ahead of the focus must
         # replace the offered patient, and the focus arriving later must not select what they typed.
@@ -74,18 +81,20 @@ class PatientPicker(Vertical):
     @on(Input.Changed, "#patient")
     def _typed(self, event: Input.Changed) -> None:
         event.stop()
-        if self.patient is not None and event.value != typed_form(self.patient):
-            self.patient = None
-            self.post_message(self.Picked(None))
+        if self._in_field is not None and event.value != typed_form(self._in_field):
+            self._in_field = None
+            if self.patient is not None:
+                self.patient = None
+                self.post_message(self.Picked(None))
         self._show_matches()
 
     def _show_matches(self) -> None:
         options = self.query_one("#matches", OptionList)
         typed = self.query_one("#patient", Input).value
-        self._matches = [] if self.patient or not typed.strip() else find_patients(self._patients, typed, SHOWN)
+        self._matches = [] if self._in_field or not typed.strip() else find_patients(self._patients, typed, SHOWN)
         options.set_options(Option(picked_label(self._lines[p.id]), id=p.id) for p in self._matches)
-        options.display = bool(self._matches) or (bool(typed.strip()) and self.patient is None)
-        if not self._matches and typed.strip() and self.patient is None:
+        options.display = bool(self._matches) or (bool(typed.strip()) and self._in_field is None)
+        if not self._matches and typed.strip() and self._in_field is None:
             options.set_options([Option(Text("no patient matches", style="dim"), disabled=True)])
         elif self._matches:
             options.highlighted = 0
@@ -98,8 +107,8 @@ class PatientPicker(Vertical):
     @on(Input.Submitted, "#patient")
     def _enter(self, event: Input.Submitted) -> None:
         event.stop()
-        if self.patient is not None:
-            self.post_message(self.Picked(self.patient))
+        if self._in_field is not None:
+            self._pick(self._in_field)
             return
         options = self.query_one("#matches", OptionList)
         if self._matches:
@@ -113,7 +122,7 @@ class PatientPicker(Vertical):
         self._pick(self._lines[event.option.id].patient)
 
     def _pick(self, patient: Patient) -> None:
-        self.patient = patient
+        self.patient = self._in_field = patient
         self.query_one("#patient", Input).value = typed_form(patient)
         self._show_matches()
         self.post_message(self.Picked(patient))

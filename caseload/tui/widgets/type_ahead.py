@@ -98,13 +98,21 @@ def replay(app, keys: list[events.Key]) -> None:
 
 class EarlyKeys:
     """Mixed into a dialog opened by a key: the keys typed straight after that key, before a field
-    has the focus, go to the field that is getting it (`first_field`), not to the screen behind."""
+    has the focus, go to the field that is getting it (`first_field`), not to the screen behind.
+
+    Such keys reach the dialog itself, and may be read only after the focus has landed: a focused
+    TypeAheadInput takes its own text, Tab and Enter, so one of those reaching the dialog while it
+    has the focus was sent before, and goes to it."""
 
     def first_field(self) -> Widget:
         raise NotImplementedError
 
     def on_key(self, event: events.Key) -> None:
-        if not isinstance(self.focused, Input) and (event.is_printable or event.key in ("enter", "tab")):
+        focused = self.focused
+        if isinstance(focused, Input) and not isinstance(focused, TypeAheadInput):
+            return
+        if event.is_printable or event.key in ("enter", "tab"):
             event.stop()
             event.prevent_default()
-            self.first_field().post_message(events.Key(event.key, event.character))
+            target = focused if isinstance(focused, TypeAheadInput) else self.first_field()
+            target.post_message(events.Key(event.key, event.character))
