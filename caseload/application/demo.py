@@ -156,6 +156,9 @@ def _logged_entries(rows: list[dict], by_id: dict[str, Actor], today: date, zone
         else:
             start, spread = PHONE_CALLS
             at = _moment(day, start, _spread(f"{r['patient']} {r['day_offset']}", spread), zone)
+        if parsed.time:  # a reading is logged after it was taken: a few minutes to an hour later
+            taken = datetime.combine(day, time.fromisoformat(parsed.time), zone)
+            at = max(at, taken + timedelta(minutes=5 + _spread(f"after {key}", 55)))
         at = min(at, cutoff - timedelta(minutes=5))
         void = (r["void_reason"], at + timedelta(minutes=20)) if r["void_reason"] else None
         corrects = last[key] if r["amend_reason"] else None

@@ -7,7 +7,7 @@ import csv
 import json
 from hashlib import sha256
 from collections import Counter
-from datetime import date, datetime, timedelta
+from datetime import date, datetime, time, timedelta
 from zoneinfo import ZoneInfo
 
 import pytest
@@ -56,8 +56,12 @@ def test_the_demo_is_a_history_in_time_order(demo):
     assert moments[-1] <= datetime(2026, 12, 1, 7, 30, tzinfo=ZoneInfo(clinic_timezone()))
     registered = {a.row_id: datetime.fromisoformat(a.at) for a in audit if a.action == "patient.add"}
     assert len({m.date() for m in registered.values()}) > 20, "patients join on their own days"
+    zone = ZoneInfo(clinic_timezone())
     for patient_id, group in store.entries.by_patient():
         assert min(e.at for e in group) > registered[patient_id]
+        for e in group:  # a reading is logged after it was taken, never before
+            if e.time:
+                assert e.at > datetime.combine(e.day, time.fromisoformat(e.time), zone), (e.id, e.time, e.at)
     actions = Counter(a.action for a in audit)
     for action in ("alert.raise", "alert.ack", "alert.snooze", "alert.resolve", "alert.auto-resolve",
                    "alert.reopen", "patient.update", "entry.amend", "entry.void"):
