@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import re
 import unicodedata
+from dataclasses import replace
 from datetime import date
 
 import pytest
@@ -223,3 +224,11 @@ def test_the_chart_takes_left_out_readings_from_the_shift_rules(service_ctx):
     assert all(day != yesterday for day, _ in view.temps)
     excluded = record.analysis.current.shift.excluded
     assert len(view.left_out) == len(excluded)
+
+
+def test_marks_that_fill_their_columns_are_told_apart_by_underlining_every_other_day():
+    view = replace(synthetic_view(30), strip={"mucus": {day: "sk" for day in range(10, 14)} | {20: "wa"}})
+    columns = day_columns(80, 30)  # two columns a day: two-letter marks meet their neighbours
+    (mucus,) = [line for line in marker_lines(view, columns) if line.plain.startswith("mucus")]
+    underlined = {span.start for span in mucus.spans if "underline" in str(span.style)}
+    assert underlined == {columns.column(10), columns.column(12)}  # not 11, 13, nor 20 standing alone

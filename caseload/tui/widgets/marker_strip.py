@@ -79,6 +79,17 @@ def day_line(view: CycleView, columns: DayColumns) -> Text:
     return line
 
 
+# Marks that fill their day's columns run into the next day's ("dadask"): every other day's is
+# underlined, so each mark reads as its own.
+TOUCHING_STYLE = "underline"
+
+
+def _touches(mark: str, day: int, marks: dict[int, str], columns: DayColumns) -> bool:
+    """Whether `day`'s mark is drawn underlined: an even day whose full-width mark meets a neighbour's."""
+    full = len(mark) >= columns.width
+    return day % 2 == 0 and full and (day - 1 in marks or day + 1 in marks)
+
+
 def marker_lines(view: CycleView, columns: DayColumns) -> list[Text]:
     """The day numbers and one line per marker row, all on `columns`."""
     lines = [day_line(view, columns)]
@@ -87,7 +98,7 @@ def marker_lines(view: CycleView, columns: DayColumns) -> list[Text]:
         for day, mark in sorted(marks.items()):
             column = columns.column(day)
             if column is not None:
-                _put(line, column, mark[: columns.width])
+                _put(line, column, mark[: columns.width], TOUCHING_STYLE if _touches(mark, day, marks, columns) else "")
         lines.append(line)
     return lines
 
