@@ -45,8 +45,9 @@ OVULATION_RANGE = (0.10, 0.90)
 PERIOD_RANGE = (0.05, 0.95)
 DAILY_DAYS = 14
 # Patterns kept in memory, one per set of completed cycles: a long-running interface recomputes
-# the same patients' forecasts on every save; each pattern is a few thousand grid cells.
-PATTERN_CACHE_SIZE = 256
+# the recently saved patients' forecasts on every save. Each holds 1,000 to 2,500 grid cells,
+# 150 to 250 kB, so the most recent few dozen stay within a few MB.
+PATTERN_CACHE_SIZE = 32
 
 
 @dataclass(frozen=True)
