@@ -20,9 +20,11 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
-from collections.abc import Callable
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import date, timedelta
+from functools import lru_cache
+from types import MappingProxyType
 
 from caseload.core.distributions import day_masses
 from caseload.core.settings import Protocol
@@ -42,6 +44,10 @@ CALENDAR_RULE_CYCLES = 6
 OVULATION_RANGE = (0.10, 0.90)
 PERIOD_RANGE = (0.05, 0.95)
 DAILY_DAYS = 14
+# Patterns kept in memory, one per set of completed cycles: a long-running interface recomputes
+# the recently saved patients' forecasts on every save. Each holds 1,000 to 2,500 grid cells,
+# 150 to 250 kB, so the most recent few dozen stay within a few MB.
+PATTERN_CACHE_SIZE = 32
 
 
 @dataclass(frozen=True)
@@ -170,7 +176,7 @@ def calendar_rule(lengths: list[int], protocol: Protocol) -> tuple[int, int] | N
     return max(min(recent) - 18, 1), max(max(recent) - 11, 1)
 
 
-def _quantile(days: list[int], masses: list[float], p: float) -> int:
+def _quantile(days: Sequence[int], masses: Sequence[float], p: float) -> int:
     total = 0.0
     for day, mass in zip(days, masses):
         total += mass
@@ -179,7 +185,7 @@ def _quantile(days: list[int], masses: list[float], p: float) -> int:
     return days[-1]
 
 
-def _marginal(grid: dict[tuple[int, int], float], index: int) -> tuple[list[int], list[float]]:
+def _marginal(grid: Mapping[tuple[int, int], float], index: int) -> tuple[list[int], list[float]]:
     sums: defaultdict[int, float] = defaultdict(float)
     if index == 0:
         for (o, _), weight in grid.items():
@@ -193,14 +199,14 @@ def _marginal(grid: dict[tuple[int, int], float], index: int) -> tuple[list[int]
 
 
 def _summary(
-    days: list[int], probs: list[float], bounds: tuple[float, float], on: Callable[[int], date]
+    days: Sequence[int], probs: Sequence[float], bounds: tuple[float, float], on: Callable[[int], date]
 ) -> tuple[date, tuple[date, date]]:
     """(most likely date, (lower, upper) dates) of one margin of the grid."""
     best = days[max(range(len(probs)), key=probs.__getitem__)]
     return on(best), (on(_quantile(days, probs, bounds[0])), on(_quantile(days, probs, bounds[1])))
 
 
-def _weighted(grid: dict[tuple[int, int], float], likelihood: dict[int, float]) -> dict[tuple[int, int], float]:
+def _weighted(grid: Mapping[tuple[int, int], float], likelihood: dict[int, float]) -> dict[tuple[int, int], float]:
     """The grid times a likelihood over the ovulation day; empty when nothing is left."""
     out = {key: w * likelihood[key[0]] for key, w in grid.items() if likelihood.get(key[0], 0.0) > 0.0}
     return out if math.fsum(out.values()) > 0.0 else {}
@@ -227,31 +233,60 @@ def _combined(found: list[tuple[str, dict[int, float]]]) -> dict[int, float]:
     return {o: math.prod(lk[o] for _, lk in found) for o in days}
 
 
-def _joint(cycle: Predictive, luteal: Predictive, protocol: Protocol) -> dict[tuple[int, int], float]:
+@dataclass(frozen=True)
+class Pattern:
+    """What the forecast takes from the completed cycles alone, before this cycle's evidence."""
+
+    grid: Mapping[tuple[int, int], float]  # P(O = o, N = n), read-only: it is shared
+    ovulation: tuple[tuple[int, ...], tuple[float, ...]]  # the grid's ovulation margin: days, probabilities
+    peak_p_fertile: float
+
+
+def pattern_of(cycle: Predictive, luteal: Predictive, protocol: Protocol) -> Pattern:
+    """The pattern for these predictives under `protocol`, computed once per distinct input."""
+    p = protocol
+    return _pattern(
+        cycle, luteal, p.earliest_ovulation_day, p.late_ovulation_share, p.late_ovulation_last_day,
+        p.fertile_window_days,
+    )
+
+
+@lru_cache(maxsize=PATTERN_CACHE_SIZE)
+def _pattern(
+    cycle: Predictive, luteal: Predictive, earliest: int, late_share: float, late_last_day: int, width: int
+) -> Pattern:
+    grid = _joint(cycle, luteal, earliest, late_share, late_last_day)
+    days, probs = _marginal(grid, 0)
+    return Pattern(MappingProxyType(grid), (tuple(days), tuple(probs)), _peak((days, probs), width))
+
+
+def _joint(
+    cycle: Predictive, luteal: Predictive, earliest: int, late_share: float, late_last_day: int
+) -> dict[tuple[int, int], float]:
     """P(O = o, N = n) on whole cycle days, N being the next period's cycle day: the pattern and,
-    with `late_ovulation_share`, a sporadic ovulation on any day up to `late_ovulation_last_day`;
-    never before `earliest_ovulation_day`."""
-    earliest = protocol.earliest_ovulation_day
+    with `late_share` (`late_ovulation_share`), a sporadic ovulation on any day up to `late_last_day`;
+    never before `earliest` (`earliest_ovulation_day`)."""
     l_first, l_masses = day_masses(cycle.centre, cycle.scale, cycle.dof, 2)
     t_first, t_masses = day_masses(luteal.centre, luteal.scale, luteal.dof, 1)
-    pattern: defaultdict[tuple[int, int], float] = defaultdict(float)
-    for i, pl in enumerate(l_masses):
-        length = l_first + i
-        base = length - t_first  # o = base - j
-        for j, pt in enumerate(t_masses[: max(base - earliest + 1, 0)]):
-            if pl * pt > 0.0:
-                pattern[(base - j, length + 1)] += pl * pt
+    # Each (length, luteal) pair is its own cell (o = length - luteal, n = length + 1): nothing adds up.
+    pattern = {
+        (length - t_first - j, length + 1): w
+        for length, pl in enumerate(l_masses, l_first)
+        for j, pt in enumerate(t_masses[: max(length - t_first - earliest + 1, 0)])
+        if (w := pl * pt) > 0.0
+    }
     total = math.fsum(pattern.values())
-    share = protocol.late_ovulation_share if total > 0.0 else 1.0
-    days = range(earliest, max(protocol.late_ovulation_last_day, max((o for o, _ in pattern), default=0)) + 1)
+    share = late_share if total > 0.0 else 1.0
+    days = range(earliest, max(late_last_day, max((o for o, _ in pattern), default=0)) + 1)
     grid = defaultdict(float, {key: (1.0 - share) * w / total for key, w in pattern.items()})
+    late = [share * pt / len(days) for pt in t_masses]
     for o in days:
-        for j, pt in enumerate(t_masses):
-            grid[(o, o + t_first + j + 1)] += share * pt / len(days)
+        for j, w in enumerate(late):
+            grid[(o, o + t_first + j + 1)] += w
     return dict(grid)
 
 
-def _from(grid: dict[tuple[int, int], float], horizon: int | None) -> dict[tuple[int, int], float]:
+def _from(grid: Mapping[tuple[int, int], float], horizon: int | None) -> dict[tuple[int, int], float]:
     """The grid with ovulation before `horizon` struck out, renormalised; empty when nothing is left."""
     kept = {key: w for key, w in grid.items() if horizon is None or key[0] >= horizon}
     total = math.fsum(kept.values())
@@ -275,9 +310,8 @@ def predict(
     def day_of(day: date) -> int:
         return (day - start).days + 1
 
-    pattern = _joint(cycle, luteal, protocol)
-    pattern_days = _marginal(pattern, 0)
-    expected, expected_range = _summary(*pattern_days, OVULATION_RANGE, on)
+    known = pattern_of(cycle, luteal, protocol)
+    expected, expected_range = _summary(*known.ovulation, OVULATION_RANGE, on)
     expected_days = (day_of(expected_range[0]), day_of(expected_range[1]))
     found = _evidence_likelihoods(evidence, protocol)
     if not found:
@@ -285,15 +319,15 @@ def predict(
         horizon = max(watched, default=None)
         label = "pattern" if horizon is None else "elapsed"
         # Days watched with no sign of ovulation are struck out; the next period moves with it.
-        current = _from(pattern, horizon)
-        informed = current or pattern
+        current = _from(known.grid, horizon)
+        informed = current or known.grid
     else:
         horizon = None
         label = "+".join(name for name, _ in found)
         # When the history, the LH test and the shift disagree, the most trusted evidence wins alone.
         informed = (
-            _weighted(pattern, _combined(found))
-            or _weighted(pattern, found[0][1])
+            _weighted(known.grid, _combined(found))
+            or _weighted(known.grid, found[0][1])
             or _evidence_only(found[0][1], luteal)
         )
         current = informed
@@ -326,7 +360,7 @@ def predict(
         evidence=label,
         cycle_length=cycle,
         luteal_length=luteal,
-        peak_p_fertile=_peak(pattern_days, protocol.fertile_window_days),
+        peak_p_fertile=known.peak_p_fertile,
         reason=_reason(
             label, evidence, horizon, cycle, day_of(expected), None if ovulation is None else day_of(ovulation),
             day_of(next_period),
@@ -383,7 +417,7 @@ def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tup
     }
 
 
-def _peak(pattern_days: tuple[list[int], list[float]], width: int) -> float:
+def _peak(pattern_days: tuple[Sequence[int], Sequence[float]], width: int) -> float:
     """The highest P(fertile) of any cycle day by the pattern: how peaked her own curve is."""
     by_day = dict(zip(*pattern_days))
     first, last = min(by_day), max(by_day)

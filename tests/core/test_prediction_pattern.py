@@ -1,0 +1,103 @@
+"""The forecast's part that rests on the completed cycles alone, kept in memory once per input."""
+
+from dataclasses import replace
+from datetime import date
+
+import pytest
+from scipy import stats
+
+from caseload.core import prediction
+from caseload.core.prediction import Evidence, Predictive, cycle_predictive, luteal_predictive, pattern_of, predict
+from caseload.core.settings import DEFAULT_PROTOCOL as P
+
+# Several completed-cycle histories: none, regular, scattered, long, short luteal phases.
+CHARTS = [
+    ([], []),
+    ([28, 28, 29, 27, 28], [14, 14, 13]),
+    ([24, 35, 29, 41, 26, 31], [12, 15]),
+    ([36, 38, 35, 37], [11, 10, 11, 12]),
+    ([22], []),
+]
+PROTOCOLS = [
+    P,
+    replace(P, earliest_ovulation_day=P.earliest_ovulation_day + 3),
+    replace(P, late_ovulation_share=0.0),
+    replace(P, late_ovulation_last_day=P.late_ovulation_last_day + 7),
+    replace(P, fertile_window_days=P.fertile_window_days - 1),
+]
+
+
+def _fresh(lengths: list[int], luteals: list[int], protocol):
+    """The pattern computed anew, past the memo."""
+    p = protocol
+    return prediction._pattern.__wrapped__(
+        cycle_predictive(lengths, p), luteal_predictive(luteals, p), p.earliest_ovulation_day,
+        p.late_ovulation_share, p.late_ovulation_last_day, p.fertile_window_days,
+    )
+
+
+@pytest.mark.parametrize("lengths, luteals", CHARTS)
+@pytest.mark.parametrize("protocol", PROTOCOLS)
+def test_the_kept_pattern_equals_a_fresh_computation(lengths, luteals, protocol):
+    prediction._pattern.cache_clear()
+    cycle, luteal = cycle_predictive(lengths, protocol), luteal_predictive(luteals, protocol)
+    first = pattern_of(cycle, luteal, protocol)
+    again = pattern_of(cycle, luteal, protocol)
+    assert again is first  # the second save finds it kept
+    fresh = _fresh(lengths, luteals, protocol)
+    assert list(first.grid.items()) == list(fresh.grid.items())  # same cells, same order, same floats
+    assert first.ovulation == fresh.ovulation
+    assert first.peak_p_fertile == fresh.peak_p_fertile
+
+
+@pytest.mark.parametrize("lengths, luteals", CHARTS[1:])
+def test_a_changed_protocol_is_not_served_the_old_pattern(lengths, luteals):
+    prediction._pattern.cache_clear()
+    for protocol in PROTOCOLS:  # each after the others are kept
+        cycle, luteal = cycle_predictive(lengths, protocol), luteal_predictive(luteals, protocol)
+        assert pattern_of(cycle, luteal, protocol) == _fresh(lengths, luteals, protocol)
+    # Keyed on every protocol field the pattern reads: five protocols, five patterns.
+    assert prediction._pattern.cache_info().currsize == len(PROTOCOLS)
+
+
+@pytest.mark.parametrize("lengths, luteals", CHARTS)
+@pytest.mark.parametrize("evidence", [
+    Evidence(9, None, None, None),
+    Evidence(20, None, None, 16),
+    Evidence(22, 17, None, None),
+    Evidence(16, None, 14, None, lh_negatives=(11, 12)),
+])  # fmt: skip
+def test_a_forecast_from_the_kept_pattern_equals_one_from_scratch(lengths, luteals, evidence):
+    cycle, luteal = cycle_predictive(lengths, P), luteal_predictive(luteals, P)
+    start, today = date(2025, 3, 1), date(2025, 3, evidence.cycle_day)
+    prediction._pattern.cache_clear()
+    cold = predict(start, evidence, cycle, luteal, lengths, today, P)
+    warm = predict(start, evidence, cycle, luteal, lengths, today, P)
+    assert prediction._pattern.cache_info().hits == 1
+    assert warm == cold
+
+
+def test_the_kept_grid_cannot_be_changed_by_a_caller():
+    kept = pattern_of(cycle_predictive([28, 29], P), luteal_predictive([], P), P)
+    with pytest.raises(TypeError):
+        kept.grid[(14, 29)] = 1.0  # type: ignore[index]
+
+
+@pytest.mark.parametrize("lengths", [[28, 28, 29, 27, 28], [26, 31, 29, 33]])
+def test_next_period_margin_is_the_cycle_length_a_day_later(lengths):
+    """With no sporadic late ovulation the next period falls on cycle day L + 1: where no luteal
+    length is cut off, its margin is the cycle length's Student's t by whole days, a day later."""
+    protocol = replace(P, late_ovulation_share=0.0, earliest_ovulation_day=1)
+    cycle = cycle_predictive(lengths, protocol)
+    short_luteal = Predictive(10.0, 0.5, 30.0, 5)  # its support ends on day 15, under any likely length
+    kept = pattern_of(cycle, short_luteal, protocol)
+    days, probs = prediction._marginal(kept.grid, 1)
+    # scipy.stats.t: mass of (n - 1.5, n - 0.5] for each next-period day n, over the same kept days.
+    t = stats.t(cycle.dof, loc=cycle.centre, scale=cycle.scale)
+    masses = {n: t.cdf(n - 0.5) - t.cdf(n - 1.5) for n in days}
+    by_day = dict(zip(days, probs))
+    mode = max(by_day, key=by_day.__getitem__)
+    # Lengths of 16 days or more keep every luteal length: there the ratios are the t's own.
+    for n, p in by_day.items():
+        if n >= 17 and p > 0.0:
+            assert p / by_day[mode] == pytest.approx(masses[n] / masses[mode], rel=1e-6)
