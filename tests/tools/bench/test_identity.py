@@ -101,7 +101,8 @@ def _plain_marginal(grid: dict, index: int) -> tuple[list[int], list[float]]:
 def test_forecast_margins_equal_the_plain_sums_exactly():
     cycle = predictive([27, 29, 31, 28, 30, 26, 33], 28.9, 3.4, 2.5, 3.0)
     luteal = predictive([13, 14, 12], 14.13, 1.41, 1.0, 3.0)
-    grid = _joint(cycle, luteal, DEFAULT_PROTOCOL)
+    p = DEFAULT_PROTOCOL
+    grid = _joint(cycle, luteal, p.earliest_ovulation_day, p.late_ovulation_share, p.late_ovulation_last_day)
     assert all(o >= DEFAULT_PROTOCOL.earliest_ovulation_day for o, _ in grid) and len(grid) > 500
     for index in (0, 1):
         assert _marginal(grid, index) == _plain_marginal(grid, index)
