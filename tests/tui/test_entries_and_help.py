@@ -63,8 +63,7 @@ async def test_a_note_is_added_typed_ahead_and_read_in_full(app_as, service_ctx)
     app = app_as("phil")  # phone staff log entries, notes among them
     async with app.run_test(size=(80, 24)) as pilot:
         await open_record(app, pilot, "P0004")
-        await pilot.press("n", *LONG_NOTE, "enter")
-        await settle(pilot)
+        await burst(pilot, "n", *LONG_NOTE, "enter")  # typed ahead: the dialog takes every key
         assert isinstance(app.screen, RecordScreen)
         notes = [e for e in patient_entries(check, "P0004") if e.kind is Kind.NOTE]
         assert [(n.value.text, n.by, n.day) for n in notes] == [(LONG_NOTE, "phil", TODAY)]
