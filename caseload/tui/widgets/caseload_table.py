@@ -152,12 +152,12 @@ class CaseloadTable(ScrollView, can_focus=True):
     # widget counts only in the focus chain): in a text field they are that field's.
     BINDINGS = [
         Binding("enter", "screen.open_highlighted", "Open", id="caseload.open", priority=True),
-        Binding("up", "scroll_up", "Up", show=False, priority=True),
-        Binding("down", "scroll_down", "Down", show=False, priority=True),
-        Binding("pageup", "page_up", "Page up", show=False, priority=True),
-        Binding("pagedown", "page_down", "Page down", show=False, priority=True),
-        Binding("home", "scroll_home", "First", show=False, priority=True),
-        Binding("end", "scroll_end", "Last", show=False, priority=True),
+        Binding("up", "scroll_up", "Up", show=False, priority=True, id="caseload.move"),
+        Binding("down", "scroll_down", "Down", show=False, priority=True, id="caseload.move"),
+        Binding("pageup", "page_up", "Page up", show=False, priority=True, id="caseload.move"),
+        Binding("pagedown", "page_down", "Page down", show=False, priority=True, id="caseload.move"),
+        Binding("home", "scroll_home", "First", show=False, priority=True, id="caseload.move"),
+        Binding("end", "scroll_end", "Last", show=False, priority=True, id="caseload.move"),
     ]
 
     class RowSelected(Message):
