@@ -21,6 +21,7 @@ SENTENCES: dict[str, str] = {
     "caseload.unassigned": "Show only the patients with no nurse yet (every nurse sees them), or everyone again.",
     "caseload.back": "Clear the search and go back to the list.",
     "caseload.open": "Open the highlighted patient's record.",
+    "caseload.move": "Move the highlight: the arrows a row, PgUp and PgDn a page, Home and End to the first and last.",
     "record.back": "Go back to the screen you came from.",
     "record.tab_chart": "Show the chart: temperatures with the coverline and the day-by-day markers.",
     "record.tab_cycles": "Show the cycle history with lengths, ovulation and luteal phase, and its FIGO classification.",

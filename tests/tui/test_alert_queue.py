@@ -238,3 +238,22 @@ async def test_the_outlook_says_when_there_is_no_coverline_yet(app_as):
         await settle(pilot)
         outlook = app.screen.query_one("#outlook-text").render().plain
         assert "no coverline yet" in outlook and "coverline - C" not in outlook
+
+
+@pytest.mark.parametrize("kind, patient_id, tab, shown", [
+    ("fever", "P0002", "4", "alerts"),
+    ("fever", "P0002", "5", "entries"),
+    ("window-approaching", "P0003", "4", "alerts"),
+    ("logging-gap", "P0004", "2", "cycles"),
+])
+async def test_a_tab_typed_in_one_burst_with_enter_shows_that_tab_of_the_alerts_patient(app_as, service_ctx, kind,
+                                                                                        patient_id, tab, shown):
+    alert = alert_of(service_ctx("ada"), kind)
+    app = app_as("ada")  # the whole caseload's queue
+    async with app.run_test(size=(80, 24)) as pilot:
+        await queue_at(pilot, alert.id)
+        await burst(pilot, "enter", tab)
+        await settle(pilot)
+        record = app.screen
+        assert isinstance(record, RecordScreen) and record.patient_id == patient_id
+        assert record.query_one("TabbedContent").active == shown

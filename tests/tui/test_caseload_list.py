@@ -407,3 +407,21 @@ async def test_the_status_line_says_what_the_list_shows(app_as, service_ctx):
         assert status_count(app) == "mine, plan timed, search: 1 of 5"
         await burst(pilot, *"zzz")
         assert status_count(app) == "mine, plan timed, search: 0 of 5"
+
+
+# --- keys after Enter act on the record it opens, in the order typed (common practice: type-ahead)
+
+@pytest.mark.parametrize("downs", [0, 1, 2])
+async def test_a_note_typed_straight_after_enter_goes_to_the_highlighted_patient(app_as, service_ctx, downs):
+    check = service_ctx("ada")
+    before = notes_in_store(check)
+    patients = len(check.store.patients.all())
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        expected = app.screen.query_one(CaseloadTable).patient_ids[downs]
+        await burst(pilot, *["down"] * downs, "enter", "n", *"rang back", "enter")
+        await settle(pilot)
+        assert opened_id(app) == expected
+    assert notes_in_store(check) == {**before, expected: before.get(expected, []) + ["rang back"]}
+    assert len(check.store.patients.all()) == patients  # nobody registered: `n` was the record's, not the list's

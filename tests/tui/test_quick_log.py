@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
+import pytest
 from textual import events
 from textual.widgets import OptionList
 
 from caseload.core.model import Kind
-from caseload.application.entries import patient_entries
+from caseload.application.entries import patient_entries, void_entry
 from caseload.tui.screens.correct_entry import QUIET_SECONDS, CorrectEntryDialog
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
@@ -222,3 +223,23 @@ async def test_a_log_from_a_record_names_her_until_another_is_typed(app_as):
         await burst(pilot, *"ros")
         assert highlighted_match(app) == "P0002"
         assert shown(app, "#whose") == NONE_CHOSEN
+
+
+@pytest.mark.parametrize("downs, reading", [(0, "36.5"), (1, "36.62"), (2, "36.5"), (3, "36.48")])
+async def test_a_log_typed_straight_after_enter_on_the_list_is_for_the_record_it_opened(app_as, service_ctx,
+                                                                                       downs, reading):
+    check = service_ctx("ada")
+    for entry in (e for pid in ("P0001", "P0002", "P0003", "P0004") for e in temps_today(check, pid) if e.current):
+        void_entry(check, entry.id, "read on the wrong day")  # a clean day: no correction asked
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        ids = app.screen.query_one("#caseload").patient_ids
+        before = {pid: temps_today(check, pid) for pid in ids}
+        await burst(pilot, *["down"] * downs, "enter", "l", "t", "enter", *reading, "enter")
+        await settle(pilot)
+    expected = ids[downs]
+    [entry] = [e for e in temps_today(check, expected)[len(before[expected]):] if e.current]
+    assert entry.value.number == float(reading)
+    assert {pid: temps_today(check, pid) for pid in ids if pid != expected} == {
+        pid: temps for pid, temps in before.items() if pid != expected}  # nobody else got a reading

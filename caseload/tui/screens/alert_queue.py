@@ -111,10 +111,11 @@ class AlertQueueScreen(ClinicWork, Screen):
             return self.query_one(AlertTable).current_alert() is not None
         return True
 
-    def action_open(self) -> None:
+    async def action_open(self) -> None:
+        """The keys typed after Enter wait in the app's queue until the record is mounted, then act on it."""
         alert = self.query_one(AlertTable).current_alert()
         if alert is not None:
-            self.app.push_screen(RecordScreen(alert.patient_id, alert_id=alert.id))
+            await self.app.push_screen(RecordScreen(alert.patient_id, alert_id=alert.id))
 
     def action_toggle_mine(self) -> None:
         self.app.mine = not self.app.mine

@@ -290,6 +290,13 @@ class CaseloadScreen(ClinicWork, Screen):
         if patient_id:
             self.app.push_screen(RecordScreen(patient_id))
 
+    async def action_open_highlighted(self) -> None:
+        """Enter on the list, taken as it arrives: the keys typed after it wait in the app's queue
+        until the record is mounted, then act on it (its note, its quick log, its tabs)."""
+        patient_id = self.patient_id
+        if patient_id:
+            await self.app.push_screen(RecordScreen(patient_id))
+
     # Focus moves at once (not on the next turn, as `focus()` does) and the list is drawn at once, so
     # that each key of a burst lands where the key before it sent the nurse, on the list it set.
 

@@ -146,7 +146,19 @@ class CaseloadTable(ScrollView, can_focus=True):
     when the lines change under it."""
 
     COMPONENT_CLASSES = {"caseload-table--header", "caseload-table--even-row", "caseload-table--cursor"}
-    BINDINGS = [Binding("enter", "select_cursor", "Open", id="caseload.open")]
+    # Priority bindings: taken as they arrive, in the order typed, as the list screen's other keys
+    # are, so a key typed straight after an arrow acts on the row it moved to, and one typed after
+    # Enter on the record it opens (the screen holds it until that record is mounted). Only while the table has the focus (a priority binding of a
+    # widget counts only in the focus chain): in a text field they are that field's.
+    BINDINGS = [
+        Binding("enter", "screen.open_highlighted", "Open", id="caseload.open", priority=True),
+        Binding("up", "scroll_up", "Up", show=False, priority=True, id="caseload.move"),
+        Binding("down", "scroll_down", "Down", show=False, priority=True, id="caseload.move"),
+        Binding("pageup", "page_up", "Page up", show=False, priority=True, id="caseload.move"),
+        Binding("pagedown", "page_down", "Page down", show=False, priority=True, id="caseload.move"),
+        Binding("home", "scroll_home", "First", show=False, priority=True, id="caseload.move"),
+        Binding("end", "scroll_end", "Last", show=False, priority=True, id="caseload.move"),
+    ]
 
     class RowSelected(Message):
         """Enter (or a click) on a row: open that patient."""
