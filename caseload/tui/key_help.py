@@ -39,6 +39,7 @@ SENTENCES: dict[str, str] = {
     "record.void": "Void the highlighted entry with a reason; it stays on the list, struck through.",
     "entries.details": "Show the highlighted entry in full: who logged it, when it was recorded, its note.",
     "entry.close": "Close the entry and go back to the list of entries.",
+    "alerts.move": "Move to the alert above or below, passing over the group headings.",
     "alerts.acknowledge": "Acknowledge the highlighted alert, with a note saying what was done.",
     "alerts.snooze": "Put the highlighted alert aside until a day you choose, with a note.",
     "alerts.resolve": "Resolve the highlighted alert, with a note; it moves to the record's history.",

@@ -257,3 +257,15 @@ async def test_a_tab_typed_in_one_burst_with_enter_shows_that_tab_of_the_alerts_
         record = app.screen
         assert isinstance(record, RecordScreen) and record.patient_id == patient_id
         assert record.query_one("TabbedContent").active == shown
+
+
+@pytest.mark.parametrize("downs, patient_id", [(2, "P0003"), (3, "P0004")])
+async def test_arrows_and_enter_in_one_burst_open_the_alert_the_arrows_reached(app_as, downs, patient_id):
+    """The whole caseload's queue, in order: today fever and window open (P0002), a heading, then
+    window soon (P0003) and charting gap (P0004): the arrows pass the heading before Enter is read."""
+    app = app_as("ada")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_queue(pilot)
+        await burst(pilot, *["down"] * downs, "enter")
+        await settle(pilot)
+        assert isinstance(app.screen, RecordScreen) and app.screen.patient_id == patient_id

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from rich.text import Text
 from textual.binding import Binding
+from textual.coordinate import Coordinate
 from textual.message import Message
 from textual.widgets import DataTable
 
@@ -42,6 +43,10 @@ class AlertTable(DataTable):
         Binding("a", "refuse('acknowledge')", "Acknowledge", show=False, id="alerts.refuse_acknowledge", priority=True),
         Binding("z", "refuse('snooze')", "Snooze", show=False, id="alerts.refuse_snooze", priority=True),
         Binding("r", "refuse('resolve')", "Resolve", show=False, id="alerts.refuse_resolve", priority=True),
+        # The arrows too, stepping over headings at once, so an Enter typed after them opens the
+        # alert they reached, not the one highlighted before.
+        Binding("down", "step(1)", "Down", show=False, priority=True, id="alerts.move"),
+        Binding("up", "step(-1)", "Up", show=False, priority=True, id="alerts.move"),
     ]
 
     class Opened(Message):
@@ -139,6 +144,18 @@ class AlertTable(DataTable):
             self.move_cursor(row=target, animate=False)
             return True
         return False
+
+    def action_step(self, step: int) -> None:
+        """The next alert row up or down, headings passed over; at either end the cursor stays."""
+        row = self.cursor_row + step
+        while 0 <= row < self.row_count and self._key_at(row).startswith(GROUP):
+            row += step
+        if 0 <= row < self.row_count:
+            self._last_row = row
+            self.move_cursor(row=row, animate=False)
+
+    def _key_at(self, row: int) -> str:
+        return self.coordinate_to_cell_key(Coordinate(row, 0)).row_key.value
 
     def on_data_table_row_highlighted(self, event: DataTable.RowHighlighted) -> None:
         event.stop()
