@@ -155,6 +155,9 @@ async def test_a_supervisor_exports_the_week_de_identified(app_as, service_ctx, 
         assert app.screen.check_action("export", ()) is True
         await pilot.press("e")
         await pilot.pause()
+        # The last whole ISO 8601 week before Tuesday 1 Dec 2026 (23-29 Nov), as `caseload summary` takes.
+        assert app.screen.query_one("#week").value == "2026-W48"
+        app.screen.query_one("#week").value = "2026-W49"  # the fixture's patients join on 1 Dec
         app.screen.query_one("#format").value = "json"
         await pilot.pause()
         app.screen.query_one("#out").focus()

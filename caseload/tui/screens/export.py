@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from datetime import date
 from pathlib import Path
 
 from rich.text import Text
@@ -22,11 +21,6 @@ DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
 
 
-def iso_week(day: date) -> str:
-    year, week, _ = day.isocalendar()
-    return f"{year}-W{week:02d}"
-
-
 def default_target(week: str, fmt: str) -> Path:
     """A file in the home folder, or a folder for the formats written as several files."""
     name = f"caseload-summary-{week}"
@@ -40,7 +34,7 @@ class ExportDialog(ClinicWork, Dialog[None]):
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
 
     def compose(self) -> ComposeResult:
-        week = iso_week(self.app.clinic.as_of)
+        week = self.app.clinic.last_complete_week()  # as the CLI: never a week still in progress
         with Vertical(classes="dialog"):
             yield Label("Export the weekly summary", classes="dialog-title")
             yield Label("Week (YYYY-Www)")
