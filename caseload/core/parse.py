@@ -137,7 +137,10 @@ def parse_temperature(raw: str) -> float:
         raise InputError(f"temperature '{one_line(raw)}' not understood: write 36.72, 36.72C or 98.1F")
     number, unit = float(m.group(1)), (m.group(2) or "").lower()
     if not unit and number >= 90:
-        raise InputError(f"temperature {m.group(1)} looks like Fahrenheit: write {m.group(1)}F, or give degrees C")
+        if TEMP_MIN_C <= (number - 32) * 5 / 9 <= TEMP_MAX_C:
+            raise InputError(f"temperature {m.group(1)} looks like Fahrenheit: write {m.group(1)}F, or give degrees C")
+        # Neither unit gives a body temperature (365 would be 185 C as Fahrenheit): offer no unit.
+        raise InputError(f"temperature {m.group(1)} is no body temperature in C or F: check the reading")
     celsius = round((number - 32) * 5 / 9, 2) if unit == "f" else round(number, 2)
     if not TEMP_MIN_C <= celsius <= TEMP_MAX_C:
         raise InputError(

@@ -46,7 +46,9 @@ def test_temperatures_are_stored_in_celsius(raw, celsius):
         ("33.99", "outside 34.0-42.0 C"),
         ("42.01", "outside 34.0-42.0 C"),
         ("110F", "outside 34.0-42.0 C"),
-        ("98.1", "looks like Fahrenheit"),
+        ("98.1", "looks like Fahrenheit"),  # 98.1 F is 36.72 C (F = C x 9/5 + 32)
+        ("365", "no body temperature in C or F"),  # as F it would be 185 C: no unit is offered
+        ("3650", "no body temperature in C or F"),
         ("36,72", "not understood"),
         ("warm", "not understood"),
         ("", "not understood"),
