@@ -77,7 +77,7 @@ class PatientWork:
     """One patient's refresh as computed outside the write, with the change mark it was computed at."""
 
     patient: Patient
-    mark: str | None
+    mark: int | None
     snapshot: Snapshot
     plan: SyncPlan
     computed: Computed
@@ -149,7 +149,7 @@ def refresh_from(ctx: Context, patient: Patient, seen: list[Observation]) -> Ref
     return Refreshed(snap, tuple(raised))
 
 
-def _compute(ctx: Context, patient: Patient, mark: str | None) -> PatientWork:
+def _compute(ctx: Context, patient: Patient, mark: int | None) -> PatientWork:
     """Outside any write: the patient's snapshot and alert plan, with the mark read before her entries."""
     done = compute(ctx, patient)
     plan = plan_alerts(ctx, patient, done.analysis, done.rule_obs)
@@ -158,7 +158,7 @@ def _compute(ctx: Context, patient: Patient, mark: str | None) -> PatientWork:
 
 def _compute_again(ctx: Context, patient_id: str) -> PatientWork:
     """A patient who changed after her compute, computed afresh (mark first, as in the whole pass)."""
-    mark = ctx.store.patients.change_marks(patient_id).get(patient_id)
+    mark = ctx.store.list_marks.of(patient_id).get(patient_id)
     return _compute(ctx, ctx.store.patients.get(patient_id), mark)
 
 
@@ -167,7 +167,7 @@ def plan_refresh(ctx: Context, progress: Progress | None = None) -> RefreshPlan:
     Refused when it would auto-resolve too many alerts at once (see `check_mass_resolve`)."""
     ctx.require("alert.refresh")
     # Marks first: whatever changes after this read is seen as changed at write time.
-    marks = ctx.store.patients.change_marks()
+    marks = ctx.store.list_marks.of()
     patients = ctx.store.patients.all()
     stored = ctx.store.state.all()
     work: list[PatientWork] = []
@@ -203,7 +203,7 @@ def _write_patient(ctx: Context, w: PatientWork, last_try: bool) -> tuple[int, i
     computed again outside the write). On the last try she is recomputed here instead, so a patient
     logged again and again cannot hold the refresh up; that costs one patient's compute, no more."""
     pid = w.patient.id
-    if ctx.store.patients.change_marks(pid).get(pid) != w.mark:
+    if ctx.store.list_marks.of(pid).get(pid) != w.mark:
         if not last_try:
             return None
         patient = ctx.store.patients.get(pid)

@@ -19,11 +19,11 @@ always come from the same grid, so the next period stays ovulation plus the lute
 from __future__ import annotations
 
 import math
-from collections import defaultdict
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date, timedelta
 from functools import lru_cache
+from operator import mul
 from types import MappingProxyType
 
 from caseload.core.distributions import day_masses
@@ -45,8 +45,8 @@ OVULATION_RANGE = (0.10, 0.90)
 PERIOD_RANGE = (0.05, 0.95)
 DAILY_DAYS = 14
 # Patterns kept in memory, one per set of completed cycles: a long-running interface recomputes
-# the recently saved patients' forecasts on every save. Each holds 1,000 to 2,500 grid cells,
-# 150 to 250 kB, so the most recent few dozen stay within a few MB.
+# the recently saved patients' forecasts on every save. Each holds a few hundred numbers (the
+# grid's factors, about 13 kB), so the most recent few dozen stay under half a MB.
 PATTERN_CACHE_SIZE = 32
 
 
@@ -185,17 +185,61 @@ def _quantile(days: Sequence[int], masses: Sequence[float], p: float) -> int:
     return days[-1]
 
 
-def _marginal(grid: Mapping[tuple[int, int], float], index: int) -> tuple[list[int], list[float]]:
-    sums: defaultdict[int, float] = defaultdict(float)
-    if index == 0:
-        for (o, _), weight in grid.items():
-            sums[o] += weight
-    else:
-        for (_, n), weight in grid.items():
-            sums[n] += weight
-    total = math.fsum(sums.values())
-    days = sorted(sums)
-    return days, [sums[d] / total for d in days]
+@dataclass(frozen=True)
+class Grid:
+    """P(O = o, N = n) on whole cycle days, held in factors rather than cell by cell. Ovulation on
+    day o with a luteal phase of `t_first + j` days puts the next period on day n = o + t_first + j + 1,
+    and that cell weighs
+
+        weights[o] * t_masses[j] * (pattern * l_masses[n - 1 - l_first] + flat):
+
+    the cycle length's and the luteal length's own masses for the pattern, plus a flat share for a
+    sporadic ovulation. Evidence and watched days reweight ovulation days only, so each margin is a
+    row or a diagonal of products, summed in C. Read-only: the pattern's grid is shared."""
+
+    weights: Mapping[int, float]  # ovulation day -> its weight, days ascending; a day not here has none
+    row_mass: Mapping[int, float]  # ovulation day -> the total of its row's cells
+    t_first: int
+    t_masses: tuple[float, ...]
+    l_first: int
+    l_masses: tuple[float, ...]
+    pattern: float
+    flat: float
+
+    def __bool__(self) -> bool:
+        return bool(self.weights)
+
+    def reweighted(self, factors: Mapping[int, float]) -> Grid:
+        """The grid over the days `factors` gives a positive factor, each day's weight times it;
+        empty when nothing is left."""
+        weights = {o: w * factors[o] for o, w in self.weights.items() if factors.get(o, 0.0) > 0.0}
+        mass = {o: self.row_mass[o] * factors[o] for o in weights}
+        if math.fsum(mass.values()) <= 0.0:
+            weights = mass = {}
+        return replace(self, weights=weights, row_mass=mass)
+
+
+def _ovulation_margin(grid: Grid) -> tuple[list[int], list[float]]:
+    total = math.fsum(grid.row_mass.values())
+    return list(grid.row_mass), [m / total for m in grid.row_mass.values()]
+
+
+def _period_margin(grid: Grid) -> tuple[list[int], list[float]]:
+    """P(N = n): each day n takes a diagonal of the grid, the weights of the ovulation days
+    convolved with the luteal masses, times the cycle length's factor."""
+    first_o, last_o = min(grid.weights), max(grid.weights)
+    weights = [grid.weights.get(o, 0.0) for o in range(first_o, last_o + 1)]
+    backwards = grid.t_masses[::-1]
+    first = first_o + grid.t_first + 1
+    sums = []
+    for k in range(len(weights) + len(backwards) - 1):  # day n = first + k; ovulation index i, luteal k - i
+        lo, hi = max(k - len(backwards) + 1, 0), min(k, len(weights) - 1) + 1
+        at = len(backwards) - 1 - k
+        length = first + k - 1 - grid.l_first  # the cycle length n - 1 in l_masses
+        cycle = grid.l_masses[length] if 0 <= length < len(grid.l_masses) else 0.0
+        sums.append(sum(map(mul, weights[lo:hi], backwards[at + lo : at + hi])) * (grid.pattern * cycle + grid.flat))
+    total = math.fsum(sums)
+    return list(range(first, first + len(sums))), [s / total for s in sums]
 
 
 def _summary(
@@ -204,12 +248,6 @@ def _summary(
     """(most likely date, (lower, upper) dates) of one margin of the grid."""
     best = days[max(range(len(probs)), key=probs.__getitem__)]
     return on(best), (on(_quantile(days, probs, bounds[0])), on(_quantile(days, probs, bounds[1])))
-
-
-def _weighted(grid: Mapping[tuple[int, int], float], likelihood: dict[int, float]) -> dict[tuple[int, int], float]:
-    """The grid times a likelihood over the ovulation day; empty when nothing is left."""
-    out = {key: w * likelihood[key[0]] for key, w in grid.items() if likelihood.get(key[0], 0.0) > 0.0}
-    return out if math.fsum(out.values()) > 0.0 else {}
 
 
 def _evidence_likelihoods(evidence: Evidence, protocol: Protocol) -> list[tuple[str, dict[int, float]]]:
@@ -237,7 +275,7 @@ def _combined(found: list[tuple[str, dict[int, float]]]) -> dict[int, float]:
 class Pattern:
     """What the forecast takes from the completed cycles alone, before this cycle's evidence."""
 
-    grid: Mapping[tuple[int, int], float]  # P(O = o, N = n), read-only: it is shared
+    grid: Grid
     ovulation: tuple[tuple[int, ...], tuple[float, ...]]  # the grid's ovulation margin: days, probabilities
     peak_p_fertile: float
 
@@ -256,41 +294,44 @@ def _pattern(
     cycle: Predictive, luteal: Predictive, earliest: int, late_share: float, late_last_day: int, width: int
 ) -> Pattern:
     grid = _joint(cycle, luteal, earliest, late_share, late_last_day)
-    days, probs = _marginal(grid, 0)
-    return Pattern(MappingProxyType(grid), (tuple(days), tuple(probs)), _peak((days, probs), width))
+    days, probs = _ovulation_margin(grid)
+    return Pattern(grid, (tuple(days), tuple(probs)), _peak((days, probs), width))
 
 
-def _joint(
-    cycle: Predictive, luteal: Predictive, earliest: int, late_share: float, late_last_day: int
-) -> dict[tuple[int, int], float]:
-    """P(O = o, N = n) on whole cycle days, N being the next period's cycle day: the pattern and,
-    with `late_share` (`late_ovulation_share`), a sporadic ovulation on any day up to `late_last_day`;
-    never before `earliest` (`earliest_ovulation_day`)."""
+def _joint(cycle: Predictive, luteal: Predictive, earliest: int, late_share: float, late_last_day: int) -> Grid:
+    """The pattern's grid: a cycle of length L with a luteal phase of T days ovulates on day
+    L - T, each (L, T) pair its own cell; and, with `late_share` (`late_ovulation_share`), a
+    sporadic ovulation on any day up to `late_last_day`. Never before `earliest`
+    (`earliest_ovulation_day`)."""
     l_first, l_masses = day_masses(cycle.centre, cycle.scale, cycle.dof, 2)
     t_first, t_masses = day_masses(luteal.centre, luteal.scale, luteal.dof, 1)
-    # Each (length, luteal) pair is its own cell (o = length - luteal, n = length + 1): nothing adds up.
-    pattern = {
-        (length - t_first - j, length + 1): w
-        for length, pl in enumerate(l_masses, l_first)
-        for j, pt in enumerate(t_masses[: max(length - t_first - earliest + 1, 0)])
-        if (w := pl * pt) > 0.0
-    }
-    total = math.fsum(pattern.values())
+
+    def pattern(o: int) -> float:  # the pattern's total weight of ovulating on day o
+        at = o + t_first - l_first  # l_masses[at + j]: the cycle length of luteal index j
+        lo, hi = min(max(-at, 0), len(t_masses)), max(min(len(l_masses) - at, len(t_masses)), 0)
+        return sum(map(mul, l_masses[at + lo : at + hi], t_masses[lo:hi]))
+
+    # The latest ovulation day the pattern gives any weight: the longest cycle with the shortest luteal phase.
+    l_last = max((length for length, pl in enumerate(l_masses, l_first) if pl > 0.0), default=0)
+    t_least = next((t for t, pt in enumerate(t_masses, t_first) if pt > 0.0), l_last)
+    last = l_last - t_least if l_last - t_least >= earliest else 0
+    days = range(earliest, max(late_last_day, last) + 1)
+    rows = [pattern(o) for o in days]
+    total = math.fsum(rows)
     share = late_share if total > 0.0 else 1.0
-    days = range(earliest, max(late_last_day, max((o for o, _ in pattern), default=0)) + 1)
-    grid = defaultdict(float, {key: (1.0 - share) * w / total for key, w in pattern.items()})
-    late = [share * pt / len(days) for pt in t_masses]
-    for o in days:
-        for j, w in enumerate(late):
-            grid[(o, o + t_first + j + 1)] += w
-    return dict(grid)
+    scale = (1.0 - share) / total if total > 0.0 else 0.0
+    flat = share / len(days)
+    luteal_total = math.fsum(t_masses)
+    return Grid(
+        weights=MappingProxyType(dict.fromkeys(days, 1.0)),
+        row_mass=MappingProxyType({o: scale * r + flat * luteal_total for o, r in zip(days, rows)}),
+        t_first=t_first, t_masses=t_masses, l_first=l_first, l_masses=l_masses, pattern=scale, flat=flat,
+    )  # fmt: skip
 
 
-def _from(grid: Mapping[tuple[int, int], float], horizon: int | None) -> dict[tuple[int, int], float]:
-    """The grid with ovulation before `horizon` struck out, renormalised; empty when nothing is left."""
-    kept = {key: w for key, w in grid.items() if horizon is None or key[0] >= horizon}
-    total = math.fsum(kept.values())
-    return {key: w / total for key, w in kept.items()} if total > 0.0 else {}
+def _from(grid: Grid, horizon: int | None) -> Grid:
+    """The grid with ovulation before `horizon` struck out; empty when nothing is left."""
+    return grid.reweighted({o: 1.0 for o in grid.weights if horizon is None or o >= horizon})
 
 
 def predict(
@@ -326,18 +367,18 @@ def predict(
         label = "+".join(name for name, _ in found)
         # When the history, the LH test and the shift disagree, the most trusted evidence wins alone.
         informed = (
-            _weighted(known.grid, _combined(found))
-            or _weighted(known.grid, found[0][1])
+            known.grid.reweighted(_combined(found))
+            or known.grid.reweighted(found[0][1])
             or _evidence_only(found[0][1], luteal)
         )
         current = informed
 
-    next_period, period_range = _summary(*_marginal(informed, 1), PERIOD_RANGE, on)
+    next_period, period_range = _summary(*_period_margin(informed), PERIOD_RANGE, on)
     ovulation = ov_range = window = None
     daily: tuple[DayChance, ...] = ()
     distribution: tuple[tuple[date, float], ...] = ()
     if current:
-        days, probs = _marginal(current, 0)
+        days, probs = _ovulation_margin(current)
         ovulation, ov_range = _summary(days, probs, OVULATION_RANGE, on)
         width = protocol.fertile_window_days
         window = (max(ovulation - timedelta(days=width - 1), start), ovulation)
@@ -406,15 +447,12 @@ def _reason(
     return f"Dated by this cycle: {'; '.join(signs)}; {then}, a luteal phase later."
 
 
-def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> dict[tuple[int, int], float]:
+def _evidence_only(likelihood: dict[int, float], luteal: Predictive) -> Grid:
     """Ovulation from the evidence alone, when it lies outside anything the history allows."""
     t_first, t_masses = day_masses(luteal.centre, luteal.scale, luteal.dof, 1)
-    return {
-        (o, o + t_first + j + 1): lk * pt
-        for o, lk in likelihood.items()
-        for j, pt in enumerate(t_masses)
-        if lk * pt > 0.0
-    }
+    weights = {o: lk for o, lk in sorted(likelihood.items()) if lk > 0.0}
+    luteal_total = math.fsum(t_masses)
+    return Grid(weights, {o: lk * luteal_total for o, lk in weights.items()}, t_first, t_masses, 0, (), 0.0, 1.0)
 
 
 def _peak(pattern_days: tuple[Sequence[int], Sequence[float]], width: int) -> float:

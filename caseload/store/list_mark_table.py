@@ -1,4 +1,7 @@
-"""The list marks: which patients' list rows may have changed since an interface last looked."""
+"""The change marks: a store-wide counter stamped on a patient by triggers whenever her record, her
+entries, her alerts or her snapshot change (migrations `_list_marks`, `_entry_marks`). An interface
+re-reads only the list rows marked since it last looked; a refresh computed outside a write checks
+her mark inside the write, so it never stores what a concurrent change has made stale."""
 
 from __future__ import annotations
 
@@ -19,3 +22,8 @@ class ListMarkTable:
             "SELECT patient_id, seq FROM list_mark WHERE seq > ? ORDER BY seq", (seq,)
         ).fetchall()
         return (rows[-1][1] if rows else seq), [pid for pid, _ in rows]
+
+    def of(self, patient_id: str | None = None) -> dict[str, int]:
+        """Each patient's mark (or one patient's); one indexed read, whatever her history."""
+        where, params = ("WHERE patient_id = ?", (patient_id,)) if patient_id is not None else ("", ())
+        return dict(self.db.conn.execute(f"SELECT patient_id, seq FROM list_mark {where}", params).fetchall())

@@ -353,9 +353,16 @@ def _list_marks(conn: sqlite3.Connection) -> None:
             run_script(conn, LIST_MARK.format(table=table, event=event, patient=patient))
 
 
+def _entry_marks(conn: sqlite3.Connection) -> None:
+    """Her entries stamp the same counter when logged, amended or voided, so one lookup says whether
+    anything of hers changed (a refresh checks it inside each write) instead of counting her entries."""
+    for event in ("INSERT", "UPDATE"):
+        run_script(conn, LIST_MARK.format(table="entry", event=event, patient="patient_id"))
+
+
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
     _v1, _audit_day_of_record, _status_since, _patient_history, _audit_chain, _alert_episodes, _protocol_versions,
-    _closed_cycles, _list_marks,
+    _closed_cycles, _list_marks, _entry_marks,
 ]
 LATEST = len(MIGRATIONS)
 

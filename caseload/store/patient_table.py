@@ -70,20 +70,3 @@ class PatientTable:
             self.db.audit(actor, "patient.update", "patient", before.id, before=old, after=new)
             if any(field in changes for field in HISTORY_FIELDS):
                 self.db.db["patient_history"].insert(patient_history_row(after, self.db.now_text(), actor.id))
-
-    def change_marks(self, patient_id: str | None = None) -> dict[str, str]:
-        """A mark per patient (or for one) that changes whenever her record, her entries (logged,
-        amended, voided) or her alerts change: a refresh computed outside a write checks it inside
-        the write, so it never stores what a concurrent change has made stale."""
-        where, params = ("WHERE p.id = ?", (patient_id,)) if patient_id is not None else ("", ())
-        rows = self.db.conn.execute(MARK_SQL + where, params)
-        return dict(rows.fetchall())
-
-
-MARK_SQL = """
-SELECT p.id, json_array(
-    p.name, p.born, p.nurse_id, p.status, p.status_since, p.plan, p.created, p.charting_temps,
-    (SELECT json_array(count(*), max(id), count(voided_at)) FROM entry WHERE patient_id = p.id),
-    (SELECT json_group_array(json_array(id, state, severity, snooze_until, due)) FROM alert WHERE patient_id = p.id)
-) FROM patient p
-"""

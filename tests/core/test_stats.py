@@ -3,6 +3,8 @@
 import statistics
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from caseload.core.stats import cycle_stats
 
@@ -21,3 +23,9 @@ def test_one_cycle_has_no_sd_and_none_has_no_figures():
     assert cycle_stats([29], [5]).sd is None
     empty = cycle_stats([], [])
     assert empty.count == 0 and empty.mean is None and empty.variation is None
+
+
+@given(st.lists(st.integers(min_value=10, max_value=400), min_size=2, max_size=36))
+def test_the_sd_is_the_standard_librarys(lengths):
+    # Reference: statistics.stdev (exact fractions, correctly rounded); to 2 dp as the stats keep it.
+    assert cycle_stats(lengths, [5] * len(lengths)).sd == round(statistics.stdev(lengths), 2)

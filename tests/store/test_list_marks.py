@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import pytest
 
-from caseload.core.model import Role
+from caseload.core.model import Kind, Role
+from caseload.core.parse import parse_entry
 from caseload.application.entries import log_entry
 from caseload.application.patients import add_patient, update_patient
 from caseload.store import Store, migrations
@@ -51,11 +52,27 @@ def test_an_older_store_gets_a_mark_for_every_patient_when_upgraded(store, as_ro
         conn.execute(f"DROP TRIGGER {trigger}")
     conn.execute("DROP TABLE list_mark")
     before_marks = migrations.MIGRATIONS.index(migrations._list_marks)  # the version just before them
-    if before_marks != store.db.version - 1:
-        pytest.skip("the marks are not the newest migration: a later one cannot be undone here")
+    if migrations.MIGRATIONS[before_marks:] != [migrations._list_marks, migrations._entry_marks]:
+        pytest.skip("a migration after the marks cannot be undone here")
     conn.execute(f"PRAGMA user_version = {before_marks}")
     store.close()
     with Store(store.path) as upgraded:
         assert upgraded.list_marks.since(0)[1] == ["P0001", "P0002"]
         report = upgraded.check()
         assert report.ok, report.first_problem()  # the same schema and triggers as a store made new
+
+
+def test_her_entries_stamp_her_mark_without_a_snapshot(store, as_role, patient):
+    """The trigger stamps the entry's own write (logged, then voided), whatever path wrote it:
+    no snapshot is written here, so only the entry triggers can have moved her mark."""
+    other = add_patient(as_role(Role.NURSE), "P0002", "Other Patient", "1990-01-01")
+    ctx = as_role(Role.PHONE)
+    before = store.list_marks.of()
+    assert set(before) == {patient.id, other.id} and store.list_marks.of(other.id) == {other.id: before[other.id]}
+    parsed = parse_entry(Kind.TEMP, "36.55", ctx.today, on="today")
+    entry = store.transact(lambda: store.entries.add(ctx.actor, patient.id, parsed), ctx.today)
+    logged = store.list_marks.of()
+    assert logged[patient.id] > before[patient.id] and logged[other.id] == before[other.id]
+    store.transact(lambda: store.entries.void(ctx.actor, entry, "typed for the wrong day"), ctx.today)
+    assert store.list_marks.of(patient.id)[patient.id] > logged[patient.id]
+    assert store.list_marks.of(other.id) == {other.id: before[other.id]}
