@@ -28,7 +28,7 @@ from caseload.application.clinic import Clinic, Identity
 from caseload.store import Store
 from caseload.tui.app import make_app
 from caseload.tui.screens.caseload import STORE_CHECK_DELAY_S, CaseloadScreen
-from tools.bench.measure import SUPERVISOR, peak_mb
+from tools.bench.process import SUPERVISOR, peak_mb
 
 SIZE = (160, 50)  # a large terminal: columns and rows drawn
 STEP_S = 0.005  # how often the driver looks whether the list is up

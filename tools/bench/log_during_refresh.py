@@ -30,7 +30,8 @@ from caseload.application.entries import log_entry
 from caseload.application import recompute
 from caseload.store import Store
 from tools.bench.build import bench_store, parse_sizes
-from tools.bench.measure import CLERK, SUPERVISOR, _context
+from tools.bench.measure import _context
+from tools.bench.process import CLERK, SUPERVISOR
 from tools.bench.perf import CACHE
 
 LOGS = 40

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import resource
 import sys
 import tempfile
 import time
@@ -29,9 +28,9 @@ from caseload.application.staff import map_account
 from caseload.application.protocol import load_protocol
 from caseload.application.weekly_summary import export_summary
 from caseload.store import Store
+from tools.bench.process import ADMIN, CLERK, FIRST_NURSE, SUPERVISOR, peak_mb
 
 LOG_PER_RUN = 50
-ADMIN, SUPERVISOR, FIRST_NURSE, CLERK = "admin", "super-1", "nurse-001", "clerk-01"
 
 
 def _actor(store: Store, staff_id: str) -> Actor:
@@ -43,17 +42,6 @@ def _actor(store: Store, staff_id: str) -> Actor:
 
 def _context(store: Store, staff_id: str, today: date) -> Context:
     return Context(store, _actor(store, staff_id), today, load_protocol(store))
-
-
-def peak_mb() -> float:
-    """This process's peak resident memory. Linux's ru_maxrss keeps the peak of the parent that
-    forked it, so the kernel's high-water mark of this program's own memory is read first."""
-    status = Path("/proc/self/status")
-    if status.exists():
-        for line in status.read_text().splitlines():
-            if line.startswith("VmHWM:"):
-                return round(int(line.split()[1]) / 1024, 1)  # kB
-    return round(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, 1)  # KiB on Linux
 
 
 def measure_list(path: Path, today: date, run: int) -> dict:

@@ -21,9 +21,6 @@ from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.presentation.glossary import refresh_progress_line
 from caseload.application.caseload_view import CaseloadLine, CaseloadRead
 from caseload.application.recompute import RefreshReport
-from caseload.tui.screens.alert_queue import AlertQueueScreen
-from caseload.tui.screens.record import RecordScreen
-from caseload.tui.screens.register import RegisterDialog
 from caseload.presentation.safe_text import quoted
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import FilterBar, Filters, Scope, SearchField, narrowed_by, visible
@@ -288,14 +285,14 @@ class CaseloadScreen(ClinicWork, Screen):
 
     def _open(self, patient_id: str | None) -> None:
         if patient_id:
-            self.app.push_screen(RecordScreen(patient_id))
+            self.app.push_screen(_record(patient_id))
 
     async def action_open_highlighted(self) -> None:
         """Enter on the list, taken as it arrives: the keys typed after it wait in the app's queue
         until the record is mounted, then act on it (its note, its quick log, its tabs)."""
         patient_id = self.patient_id
         if patient_id:
-            await self.app.push_screen(RecordScreen(patient_id))
+            await self.app.push_screen(_record(patient_id))
 
     # Focus moves at once (not on the next turn, as `focus()` does) and the list is drawn at once, so
     # that each key of a burst lands where the key before it sent the nurse, on the list it set.
@@ -330,6 +327,8 @@ class CaseloadScreen(ClinicWork, Screen):
         self.query_one("#plan").action_show_overlay()
 
     def action_alert_queue(self) -> None:
+        from caseload.tui.screens.alert_queue import AlertQueueScreen  # on demand: see `_record`
+
         self.app.push_screen(AlertQueueScreen())
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
@@ -344,6 +343,8 @@ class CaseloadScreen(ClinicWork, Screen):
         return True
 
     def action_register(self) -> None:
+        from caseload.tui.screens.register import RegisterDialog  # on demand: see `_record`
+
         self.app.push_screen(RegisterDialog())
 
     def action_export(self) -> None:
@@ -351,3 +352,12 @@ class CaseloadScreen(ClinicWork, Screen):
         from caseload.tui.screens.export import ExportDialog
 
         self.app.push_screen(ExportDialog())
+
+
+def _record(patient_id: str) -> Screen:
+    """A patient's record screen. The screens behind the list (record, alert queue, registration)
+    are loaded when first opened, not at start-up: together they cost the launch a tenth of a
+    second, and the list is what every user waits for."""
+    from caseload.tui.screens.record import RecordScreen
+
+    return RecordScreen(patient_id)
