@@ -16,7 +16,8 @@ _TINY = 1e-300
 
 
 def _beta_fraction(a: float, b: float, x: float) -> float:
-    """Continued fraction of the incomplete beta function (modified Lentz)."""
+    """Continued fraction of the incomplete beta function (modified Lentz). Each step takes its even
+    and its odd term written out, not in an inner loop: it runs some 80 times per forecast."""
     qab, qap, qam = a + b, a + 1.0, a - 1.0
     c, d = 1.0, 1.0 - qab * x / qap
     d = 1.0 / (d if abs(d) > _TINY else _TINY)
@@ -24,13 +25,17 @@ def _beta_fraction(a: float, b: float, x: float) -> float:
     for m in range(1, _MAX_TERMS + 1):
         m2 = 2 * m
         even = m * (b - m) * x / ((qam + m2) * (a + m2))
+        d = 1.0 + even * d
+        d = 1.0 / (d if abs(d) > _TINY else _TINY)
+        c = 1.0 + even / c
+        c = c if abs(c) > _TINY else _TINY
+        h *= d * c
         odd = -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2))
-        for numerator in (even, odd):
-            d = 1.0 + numerator * d
-            d = 1.0 / (d if abs(d) > _TINY else _TINY)
-            c = 1.0 + numerator / c
-            c = c if abs(c) > _TINY else _TINY
-            h *= d * c
+        d = 1.0 + odd * d
+        d = 1.0 / (d if abs(d) > _TINY else _TINY)
+        c = 1.0 + odd / c
+        c = c if abs(c) > _TINY else _TINY
+        h *= d * c
         if abs(d * c - 1.0) < 1e-14:
             break
     return h
