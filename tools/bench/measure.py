@@ -28,7 +28,7 @@ from caseload.application.staff import map_account
 from caseload.application.protocol import load_protocol
 from caseload.application.weekly_summary import export_summary
 from caseload.store import Store
-from tools.bench.process import ADMIN, CLERK, FIRST_NURSE, SUPERVISOR, peak_mb
+from tools.bench.process import ADMIN, CLERK, FIRST_NURSE, SUPERVISOR, children_peak_mb, peak_mb
 
 LOG_PER_RUN = 50
 
@@ -149,7 +149,7 @@ def main(argv: list[str] | None = None) -> None:
     args = parser.parse_args(argv)
     before = peak_mb()
     result = MEASURES[args.name](args.store, args.today, args.run)
-    json.dump({**result, "peak_mb": peak_mb(), "start_mb": before}, sys.stdout)
+    json.dump({**result, "peak_mb": peak_mb(), "children_peak_mb": children_peak_mb(), "start_mb": before}, sys.stdout)
 
 
 if __name__ == "__main__":

@@ -133,7 +133,8 @@ def summarise(name: str, runs: list[dict]) -> dict:
     errors = [r["error"] for r in runs if "error" in r]
     if errors:
         return {"missing": errors[0]}
-    out = {"runs": len(runs), "peak_mb": max(r["peak_mb"] for r in runs), "start_mb": min(r["start_mb"] for r in runs)}
+    out = {"runs": len(runs), "peak_mb": max(r["peak_mb"] for r in runs), "start_mb": min(r["start_mb"] for r in runs),
+           "children_peak_mb": max(r.get("children_peak_mb", 0.0) for r in runs)}
     if name == "log":
         times = [t * 1000 for r in runs for t in r["entry_seconds"]]
         floor = [t * 1000 for r in runs for t in r.get("floor_seconds", [])]

@@ -18,3 +18,9 @@ def peak_mb() -> float:
             if line.startswith("VmHWM:"):
                 return round(int(line.split()[1]) / 1024, 1)  # kB
     return round(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024, 1)  # KiB on Linux
+
+
+def children_peak_mb() -> float:
+    """The largest peak resident memory of this process's finished children (the refresh's compute
+    processes), 0 when it had none."""
+    return round(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024, 1)  # KiB on Linux

@@ -58,6 +58,9 @@ def headline_rows(size: dict) -> list[tuple[str, str, str, str]]:
     if peaks:
         rows.append(("peak memory (largest of the runs, ru_maxrss)", _fmt(max(peaks), " MB"),
                      f"bare Textual app: {_fmt(bare.get('peak_mb'), ' MB')}", _ratio(max(peaks), bare.get("peak_mb"))))
+    helpers = max((m.get("children_peak_mb", 0.0) for m in f.values() if isinstance(m, dict)), default=0.0)
+    if helpers:
+        rows.append(("peak memory of each refresh compute process", _fmt(helpers, " MB"), "-", "-"))
     return rows
 
 
