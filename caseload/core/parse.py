@@ -71,7 +71,9 @@ def one_line(text: str, limit: int | None = 60) -> str:
     """User text fit for one line of a message or a screen: characters that would act on the terminal
     are shown as escapes; letters of every script and every kind of space stay as they are. The one
     rule for all display (see caseload.presentation.safe_text); `limit` shortens long text."""
-    shown = "".join(
+    # str.isprintable is false for every inert category (and for spaces other than ' '): text it
+    # passes has nothing to escape, and most text does pass, checked in C.
+    shown = text if text.isprintable() else "".join(
         ch.encode("unicode_escape").decode("ascii") if unicodedata.category(ch) in INERT_CATEGORIES
         else ch
         for ch in text

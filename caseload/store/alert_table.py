@@ -7,6 +7,7 @@ Every change writes its audit row (the whole alert before and after) in the call
 from __future__ import annotations
 
 import json
+from collections.abc import Mapping
 from dataclasses import asdict
 from datetime import date, datetime
 
@@ -18,7 +19,7 @@ from caseload.store.db import Database
 HANDLING = {AlertState.ACKNOWLEDGED: "alert.ack", AlertState.SNOOZED: "alert.snooze", AlertState.RESOLVED: "alert.resolve"}
 
 
-def alert_from_row(row: dict) -> Alert:
+def alert_from_row(row: Mapping) -> Alert:
     return Alert(
         id=row["id"],
         patient_id=row["patient_id"],
@@ -64,11 +65,11 @@ class AlertTable:
         self.db = db
 
     def get(self, alert_id: int) -> Alert | None:
-        rows = self.db.query("SELECT * FROM alert WHERE id = ?", (alert_id,))
+        rows = self.db.records("SELECT * FROM alert WHERE id = ?", (alert_id,))
         return alert_from_row(rows[0]) if rows else None
 
     def for_patient(self, patient_id: str) -> list[Alert]:
-        rows = self.db.query("SELECT * FROM alert WHERE patient_id = ? ORDER BY id", (patient_id,))
+        rows = self.db.records("SELECT * FROM alert WHERE patient_id = ? ORDER BY id", (patient_id,))
         return [alert_from_row(r) for r in rows]
 
     def steps_for_patient(self, patient_id: str) -> list[AlertStep]:
@@ -82,11 +83,11 @@ class AlertTable:
 
     def unresolved(self) -> list[Alert]:
         """Open, acknowledged and snoozed alerts of the whole caseload."""
-        rows = self.db.query("SELECT * FROM alert WHERE state != 'resolved' ORDER BY id")
+        rows = self.db.records("SELECT * FROM alert WHERE state != 'resolved' ORDER BY id")
         return [alert_from_row(r) for r in rows]
 
     def all(self) -> list[Alert]:
-        return [alert_from_row(r) for r in self.db.query("SELECT * FROM alert ORDER BY id")]
+        return [alert_from_row(r) for r in self.db.records("SELECT * FROM alert ORDER BY id")]
 
     def count_unresolved(self) -> int:
         return self.db.conn.execute("SELECT count(*) FROM alert WHERE state != 'resolved'").fetchone()[0]

@@ -312,6 +312,13 @@ class Database:
         names = [column[0] for column in cursor.description]
         return [dict(zip(names, row)) for row in cursor]
 
+    def records(self, sql: str, params=()) -> list[sqlite3.Row]:
+        """The rows of a SELECT, read by column name as `query`'s are but built in C: for the reads
+        that take every patient's or alert's row."""
+        cursor = self.conn.cursor()
+        cursor.row_factory = sqlite3.Row
+        return cursor.execute(sql, params).fetchall()
+
     def meta(self, key: str) -> str | None:
         row = self.conn.execute("SELECT value FROM meta WHERE key = ?", (key,)).fetchone()
         return row[0] if row else None

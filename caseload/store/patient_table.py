@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from datetime import date
 
 from caseload.core.model import Actor, Patient, PatientStatus, Plan
@@ -10,7 +11,7 @@ from caseload.store.db import Database
 HISTORY_FIELDS = ("status", "plan", "nurse_id", "charting_temps")
 
 
-def patient_from_row(row: dict) -> Patient:
+def patient_from_row(row: Mapping) -> Patient:
     return Patient(
         id=row["id"],
         name=row["name"],
@@ -20,7 +21,7 @@ def patient_from_row(row: dict) -> Patient:
         plan=Plan(row["plan"]),
         created=date.fromisoformat(row["created"]),
         charting_temps=bool(row["charting_temps"]),
-        status_since=date.fromisoformat(row["status_since"]) if row.get("status_since") else None,
+        status_since=date.fromisoformat(row["status_since"]) if row["status_since"] else None,
     )
 
 
@@ -56,11 +57,11 @@ class PatientTable:
         return patient
 
     def get(self, patient_id: str) -> Patient | None:
-        rows = self.db.query("SELECT * FROM patient WHERE id = ?", (patient_id,))
+        rows = self.db.records("SELECT * FROM patient WHERE id = ?", (patient_id,))
         return patient_from_row(rows[0]) if rows else None
 
     def all(self) -> list[Patient]:
-        return [patient_from_row(r) for r in self.db.query("SELECT * FROM patient ORDER BY id")]
+        return [patient_from_row(r) for r in self.db.records("SELECT * FROM patient ORDER BY id")]
 
     def update(self, actor: Actor, before: Patient, after: Patient) -> None:
         old, new = patient_to_row(before), patient_to_row(after)

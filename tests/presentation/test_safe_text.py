@@ -3,6 +3,7 @@ interface print a name the same way."""
 
 from __future__ import annotations
 
+import sys
 import unicodedata
 from datetime import date
 
@@ -71,3 +72,10 @@ async def test_a_no_break_space_name_prints_the_same_in_the_cli_and_the_interfac
             await settle(pilot)
             cell = app.screen.query_one("#caseload").get_cell("P0001", "patient").plain
     assert shown in cell
+
+
+def test_text_python_calls_printable_holds_nothing_inert_in_any_code_point():
+    # The sanitiser passes printable text through as it is (str.isprintable, checked in C): that is
+    # safe only if no code point it accepts is of an inert category, by the Unicode database itself.
+    accepted = (chr(c) for c in range(sys.maxunicode + 1))
+    assert not [ch for ch in accepted if ch.isprintable() and unicodedata.category(ch) in INERT_CATEGORIES]

@@ -68,7 +68,9 @@ async def _drive(app: App, idle_s: float) -> dict:
         while (rows := _drawn_rows(app)) is None:
             if time.perf_counter() - began > GIVE_UP_S:
                 raise SystemExit(f"no list drawn after {GIVE_UP_S:g} s (screen {type(app.screen).__name__})")
-            await pilot.pause(STEP_S)
+            # A plain sleep: the pilot's own pause forces a screen update each time, which would steal
+            # the interpreter from the list's read in its worker thread, as no terminal does.
+            await asyncio.sleep(STEP_S)
         await pilot.pause()  # the frame with the list in it
         drawn_at, in_process = time.time(), time.perf_counter() - began
         if idle_s:  # at rest: the whole-file store check the launch starts is done first
