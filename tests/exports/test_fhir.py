@@ -56,9 +56,18 @@ def test_the_models_are_fhir_r4():
 def test_every_resource_and_the_bundle_validate_as_fhir_r4(which, request):
     b = request.getfixturevalue(which)
     assert b["type"] == "collection"
-    for e in b["entry"]:
-        construct_fhir_element(e["resource"]["resourceType"], e["resource"])
+    # The Bundle model parses each entry's resource by its own resourceType's model (a bad date in
+    # one Observation is refused with its place, entry -> N -> resource), so one parse checks them all.
     construct_fhir_element("Bundle", b)
+
+
+def test_the_bundle_model_checks_the_resources_inside_it(bundle):
+    """What the test above relies on: a Bundle holding one resource with a bad date is refused."""
+    entry = json.loads(json.dumps(next(e for e in bundle["entry"] if "effectiveDateTime" in e["resource"])))
+    construct_fhir_element("Bundle", {"resourceType": "Bundle", "type": "collection", "entry": [entry]})
+    entry["resource"]["effectiveDateTime"] = "the fourth"
+    with pytest.raises(ValueError, match="effectiveDateTime"):
+        construct_fhir_element("Bundle", {"resourceType": "Bundle", "type": "collection", "entry": [entry]})
 
 
 def test_every_stored_entry_appears_once_and_every_current_one_counts(demo, bundle):
