@@ -4,8 +4,8 @@ A patient is analysed from her kept completed cycles and the open cycle's entrie
 kept cycles are current (`core.closed_cycles`, `store.closed_cycle_table`), else from every entry;
 either way the cycles completed since are kept in the same write as her snapshot.
 
-The whole-caseload refresh computes outside any write transaction, then writes a few patients per
-short transaction, so a clerk's log never waits long behind it. Each patient's snapshot and alerts
+The whole-caseload refresh computes outside any write transaction (a large caseload in several
+processes at once), then writes a few patients per short transaction, so a clerk's log never waits long behind it. Each patient's snapshot and alerts
 are written together: a refresh killed half way leaves every patient refreshed or as she was. A
 patient changed between the compute and the write (a log, an alert handled, another refresh) is
 seen by her change mark inside the write and computed again, so two refreshes at once, or a refresh
