@@ -14,7 +14,6 @@ import csv
 import heapq
 import json
 import zlib
-from collections import defaultdict
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 from datetime import UTC, date, datetime, time, timedelta
@@ -24,11 +23,11 @@ from zoneinfo import ZoneInfo
 
 from caseload.core.alerts import is_clinical
 from caseload.core.alerts.lifecycle import ALLOWED_FROM, effective
-from caseload.core.model import Actor, Alert, AlertState, Kind, Observation, Patient, PatientStatus, Plan, Role, Staff
+from caseload.core.model import Actor, Alert, AlertState, Kind, Patient, PatientStatus, Plan, Role, Staff
 from caseload.core.parse import ParsedEntry, parse_entry
 from caseload.application.context import Context
 from caseload.application.patients import with_status
-from caseload.application.recompute import refresh_all, refresh_from
+from caseload.application.recompute import refresh_all, refresh_patient
 from caseload.application.protocol import load_protocol
 from caseload.application.errors import Refused
 from caseload.application.identity import running_service
@@ -180,7 +179,6 @@ class _Replay:
         self.pending: list[NewEntry] = []
         self.next_id = store.bulk.next_entry_id()
         self.ids: dict[int, int] = {}  # seed row -> entry id
-        self.seen: dict[str, dict[int, tuple[tuple, Observation]]] = defaultdict(dict)
         self.planned: set[tuple] = set()  # (alert, state, last handled) of the alerts already planned for
         self.clerks = [a for a in by_id.values() if a.role is Role.PHONE]
 
@@ -205,12 +203,6 @@ class _Replay:
         supersedes = None if item.corrects is None else self.ids[item.corrects]
         self.pending.append(NewEntry(entry_id, item.actor, item.patient_id, item.parsed, item.at, supersedes,
                                      item.amend_reason))
-        p = item.parsed
-        seen = self.seen[item.patient_id]
-        if supersedes is not None:
-            seen.pop(supersedes, None)
-        order = (p.day, p.time or "", entry_id)
-        seen[entry_id] = (order, Observation(p.day, p.kind, p.value, p.flags, p.time))
 
     def flush(self) -> None:
         """Entries are written in batches, before any other write, so the audit trail stays in time order."""
@@ -222,7 +214,6 @@ class _Replay:
         self.flush()
         entry_id = self.ids[item.row]
         self.store.entries.void(item.actor, self.store.entries.get(entry_id), item.void[0])
-        self.seen[item.patient_id].pop(entry_id, None)
 
     # --- patients
 
@@ -243,9 +234,8 @@ class _Replay:
         """The refresh as of `day`, then staff plan their handling of what is open."""
         self.flush()
         ctx = replace(self.ctx, today=day)
-        for pid, patient in self.patients.items():
-            seen = [obs for _, obs in sorted(self.seen[pid].values(), key=lambda item: item[0])]
-            refresh_from(ctx, patient, seen)
+        for patient in self.patients.values():
+            refresh_patient(ctx, patient)
         now = self.store.db.clock()
         for alert in self.store.alerts.unresolved():
             self._plan(effective(alert, day), now)

@@ -167,12 +167,6 @@ def refresh_patient(ctx: Context, patient: Patient) -> Refreshed:
     return Refreshed(snap, tuple(raised))
 
 
-def refresh_from(ctx: Context, patient: Patient, seen: list[Observation]) -> Refreshed:
-    """As `refresh_patient`, from her current observations as the caller already holds them."""
-    snap, raised, _ = _recompute(ctx, patient, compute_whole(ctx, patient, seen))
-    return Refreshed(snap, tuple(raised))
-
-
 def _compute(ctx: Context, patient: Patient, mark: int | None) -> PatientWork:
     """Outside any write: the patient's snapshot and alert plan, with the mark read before her entries."""
     done = compute(ctx, patient)
