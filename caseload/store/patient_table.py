@@ -21,13 +21,14 @@ def patient_from_row(row: Mapping) -> Patient:
         plan=Plan(row["plan"]),
         created=date.fromisoformat(row["created"]),
         charting_temps=bool(row["charting_temps"]),
-        status_since=date.fromisoformat(row["status_since"]) if _status_since(row) else None,
+        status_since=_status_since(row),
     )
 
 
-def _status_since(row: Mapping) -> str | None:
+def _status_since(row: Mapping) -> date | None:
     # A schema before version 3 has no such column (a store a failed upgrade left as it was).
-    return row["status_since"] if "status_since" in row.keys() else None
+    text = row["status_since"] if "status_since" in row.keys() else None
+    return date.fromisoformat(text) if text else None
 
 
 def patient_to_row(p: Patient) -> dict:
