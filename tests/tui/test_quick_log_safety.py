@@ -9,7 +9,7 @@ from caseload.core.model import Kind
 from caseload.application.entries import patient_entries
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
-from tests.tui.conftest import fill, settle
+from tests.tui.conftest import burst, fill, settle
 from tests.tui.fixture_store import TODAY
 
 
@@ -147,3 +147,27 @@ async def test_a_second_mucus_the_same_day_asks_first(app_as, service_ctx):
         await press_and_settle(pilot, "l", "enter", *"neg", "enter", "l", "enter", *"pos", "enter")
     assert [e.value.word for e in today_of(check, "P0004", Kind.MUCUS)] == ["damp", "watery"]
     assert len(today_of(check, "P0004", Kind.LH)) == 2
+
+
+async def test_a_kind_mended_with_backspace_in_one_burst_is_saved_as_retyped(app_as, service_ctx):
+    """The field's editing keys take their turn with the letters: six backspaces, then b, Enter,
+    heavy, Enter arriving together save a heavy bleed, not the old text with a b on the end."""
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "l", "ctrl+u", *"P0004", "enter", *"bheavy", "enter")
+        assert "kind 'bheavy' not understood" in shown(app, "#check")
+        await burst(pilot, *["backspace"] * 6, "b", "enter", *"heavy", "enter")
+        assert [(e.value.word, e.by) for e in today_of(check, "P0004", Kind.BLEED)] == [("heavy", "phil")]
+        assert "bleed heavy" in shown(app, "#result")
+
+
+async def test_a_backspace_typed_ahead_of_a_refused_enter_acts_before_it(app_as):
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "l", "ctrl+u", *"P0004", "enter", *"bheavy", "enter")
+        await burst(pilot, "backspace", "b", "enter", "h")
+        # bheavy, less its y, plus b: not a kind, so Enter leads nowhere and h follows the b.
+        assert app.screen.query_one("#kind").value == "bheavbh"

@@ -1,4 +1,4 @@
-"""A text field that keeps fast typing in order across Enter and Tab.
+"""A text field that keeps fast typing in order across Enter, Tab and its editing keys.
 
 A clerk types "noor⏎t⏎36.72⏎" without waiting, and over SSH those keys can arrive together. A
 plain Input submits on Enter only after the keys behind it have already been typed into it, so
@@ -13,6 +13,13 @@ from textual.widget import Widget
 from textual.widgets import Input
 
 TAB_KEYS = {"tab": "focus_next", "shift+tab": "focus_previous"}
+
+
+def _edits_text(action: str) -> bool:
+    """Whether an Input action changes the text or where the next letter goes (not up and down,
+    which the widgets around a field may use, nor the clipboard)."""
+    name = action.split("(")[0]
+    return name.startswith(("delete_", "cursor_")) or name in ("home", "end")
 
 
 class TypeAheadInput(Input):
@@ -44,6 +51,16 @@ class TypeAheadInput(Input):
             getattr(self.screen, TAB_KEYS[event.key])()
             if self.screen.focused is not self and self.screen.focused is not None:
                 self._forward_to = self.screen.focused
+            return
+        editing = [b.action for b in self._bindings.key_to_bindings.get(event.key, ()) if _edits_text(b.action)]
+        if editing:
+            # The field's own editing keys (backspace, delete, left, right, home, end) act here and now.
+            # Left to the binding system they would act only once the key had gone up through the
+            # screen, after the letters and the Enter typed behind them: a fast "⌫⌫b⏎" would submit
+            # before deleting.
+            event.prevent_default()
+            event.stop()
+            await self.run_action(editing[0])
             return
         await super()._on_key(event)
 
