@@ -26,7 +26,7 @@ END_TO_END = ("tui", "robustness", "tools")  # folders whose tests drive the who
 
 # Workers per processor: the interface and whole-program tests spend about a third of their time
 # waiting (on the app's timers and workers, on other processes), which a second worker per processor
-# fills. On 2 cores the suite took 2 min 53 s to 3 min 10 s with four workers and 3 min 9 s with six;
+# fills. On 2 cores the suite took 2 min 53 s to 3 min 19 s with four workers and 3 min 9 s with six;
 # with two it had taken 3 min 58 s (with a slower demo build, 6.3 s against 3.6 s now, once per worker).
 WORKERS_PER_PROCESSOR = 2
 
