@@ -1,12 +1,14 @@
 """Shared fixtures: a real store file in a temporary folder, staff of every role, a fixed day, and the
-demo caseload built once per test process and copied for each module that reads it."""
+demo caseload built once per test run and copied for each module that reads it."""
 
 from __future__ import annotations
 
+import fcntl
 import os
+import pickle
 import shutil
 from collections.abc import Iterator
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from datetime import date
 from pathlib import Path
 
@@ -48,13 +50,29 @@ def pytest_collection_modifyitems(items) -> None:
             item.add_marker(pytest.mark.slow)
 
 
+@dataclass(frozen=True)
+class BuiltDemo:
+    path: Path
+    demo: Demo  # its store closed: each module opens a copy of the file at `path`
+
+
 @pytest.fixture(scope="session")
-def demo_build(tmp_path_factory) -> Demo:
+def demo_build(tmp_path_factory, worker_id) -> BuiltDemo:
     """The demo caseload as of TODAY, its admin mapped to the OS account 'tester': built once per test
-    process (it replays months of history); tests reach it through `demo`, never directly."""
-    built = build_demo(tmp_path_factory.mktemp("demo-build") / "demo.db", TODAY, "tester")
-    built.store.close()
-    return built
+    run (it replays months of history) by the first worker to need it, which the others wait for; tests
+    reach it through `demo`, never directly."""
+    run_folder = tmp_path_factory.getbasetemp()
+    if worker_id != "master":
+        run_folder = run_folder.parent  # the folder the workers' own folders share
+    path, facts = run_folder / "demo-build" / "demo.db", run_folder / "demo-build" / "demo.pickle"
+    with open(run_folder / "demo-build.lock", "w") as lock:
+        fcntl.flock(lock, fcntl.LOCK_EX)
+        if not facts.exists():
+            path.parent.mkdir()
+            built = build_demo(path, TODAY, "tester")
+            built.store.close()
+            facts.write_bytes(pickle.dumps(replace(built, store=None)))
+    return BuiltDemo(path, pickle.loads(facts.read_bytes()))
 
 
 def copy_store(source: Path, target: Path) -> Path:
@@ -68,8 +86,8 @@ def copy_store(source: Path, target: Path) -> Path:
 @pytest.fixture(scope="module")
 def demo(demo_build, tmp_path_factory) -> Iterator[Demo]:
     """The demo caseload on a copy of its own for each test module, which may write to it."""
-    store = Store(copy_store(demo_build.store.path, tmp_path_factory.mktemp("demo") / "demo.db"))
-    yield replace(demo_build, store=store)
+    store = Store(copy_store(demo_build.path, tmp_path_factory.mktemp("demo") / "demo.db"))
+    yield replace(demo_build.demo, store=store)
     store.close()
 
 

@@ -8,7 +8,7 @@ import html
 import re
 
 import pytest
-from textual.widgets import Footer
+from textual.binding import Binding
 
 from caseload.tui.key_help import SENTENCES
 from caseload.tui.screens.alert_queue import AlertQueueScreen
@@ -16,6 +16,7 @@ from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.caseload_table import CaseloadTable
+from caseload.tui.widgets.key_bar import KeyBar, KeyItem, fitted, key_items
 from tests.tui.conftest import settle
 from tests.tui.fixture_store import add_long_cycle
 from tests.tui.test_entries_and_help import help_listed
@@ -41,14 +42,9 @@ def drawn_rows(app) -> list[str]:
 
 
 def footer_items(app) -> list[str]:
-    """What the footer of the screen in front shows, in order: each key with its words, and the
-    words of a group of keys."""
-    footer = app.screen.query_one(Footer)
-    items = []
-    for item in footer.query("FooterKey, FooterLabel"):
-        text = item.render()
-        items.append(str(getattr(text, "plain", text)).strip())
-    return [i for i in items if i]
+    """What the footer of the screen in front draws, in order: each key with its words, and a
+    group's keys with the group's word."""
+    return [item.text for item in app.screen.query_one(KeyBar).drawn]
 
 
 def assert_footer_whole(app, where: str) -> None:
@@ -100,7 +96,7 @@ async def test_the_footer_of_a_long_cycles_chart_is_whole(app_as, service_ctx):
     app = app_as("nell")
     async with app.run_test(size=SIZE) as pilot:
         await open_record(app, pilot, "P0006")
-        assert "Days" in footer_items(app)
+        assert "←→ Days" in footer_items(app)  # the group's keys, then its word
         await tabs_of_the_record(app, pilot, "long cycle")
 
 
@@ -120,3 +116,50 @@ async def test_the_dialogs_footers_are_whole_at_80_columns(app_as):
         await pilot.press("5", "a")
         await settle(pilot)
         assert_footer_whole(app, "amend")
+
+
+TABS = Binding.Group("Tabs")
+
+
+def shown_as(binding: Binding) -> str:
+    return {"escape": "esc", "question_mark": "?"}.get(binding.key, binding.key)
+
+
+def test_the_bar_shows_an_action_once_and_a_groups_keys_before_its_word():
+    bindings = [
+        (Binding("1", "tab('chart')", "Chart", group=TABS), True, ""),
+        (Binding("2", "tab('cycles')", "Cycles", group=TABS), False, ""),
+        (Binding("escape", "back", "Back"), True, ""),
+        (Binding("question_mark", "help", "Help"), True, ""),
+        (Binding("f1", "help", "Help"), True, ""),  # a second key of the same action
+        (Binding("q", "quit", "Quit", show=False), True, ""),
+        (Binding("3", "tab('alerts')", "Alerts", group=TABS), True, ""),  # the group's lone key here
+    ]
+    assert [item.text for item in key_items(bindings, shown_as)] == ["12 Tabs", "esc Back", "? Help", "3 Alerts"]
+    tabs = key_items(bindings, shown_as)[0]
+    assert tabs.keys == (("1", "1"), ("2", "2")) and tabs.enabled  # one of its keys works
+    assert key_items([(Binding("a", "amend", "Amend"), False, "")], shown_as)[0].enabled is False
+
+
+def test_a_key_that_does_not_fit_ends_the_bar_whole():
+    items = [KeyItem((("a", "a"),), "Alerts", True), KeyItem((("l", "l"),), "Log", True),
+             KeyItem((("n", "n"),), "New", True)]
+    # "a Alerts" is 8 columns, "l Log" 5 and "n New" 5, one space apart: 8 + 1 + 5 = 14.
+    assert [i.text for i in fitted(items, 14)] == ["a Alerts", "l Log"]
+    assert [i.text for i in fitted(items, 13)] == ["a Alerts"]  # "n New" would fit, but not after a gap
+    assert fitted(items, 7) == []
+    assert len(fitted(items, 20)) == 3
+
+
+async def test_a_click_on_a_key_or_its_word_presses_it(app_as):
+    app = app_as("nell")
+    async with app.run_test(size=SIZE) as pilot:
+        await settle(pilot)
+        line = " ".join(footer_items(app))
+        await pilot.click(KeyBar, offset=(line.index("a Alerts") + 3, 0))  # on the word
+        await settle(pilot)
+        assert isinstance(app.screen, AlertQueueScreen)
+        line = " ".join(footer_items(app))
+        await pilot.click(KeyBar, offset=(line.index("esc Back"), 0))  # on the key
+        await settle(pilot)
+        assert isinstance(app.screen, CaseloadScreen)

@@ -6,12 +6,13 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.core.model import Kind
 from caseload.core.parse import TEXT_MAX, InputError, parse_value
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
 from caseload.tui.screens.dialog import Dialog, show_check
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 class AddNoteDialog(EarlyKeys, Dialog[str | None]):
@@ -29,7 +30,7 @@ class AddNoteDialog(EarlyKeys, Dialog[str | None]):
             yield Label(f"Add a note to {self.patient_id}'s record (today)", classes="dialog-title")
             yield TypeAheadInput(placeholder=f"the note, up to {TEXT_MAX} characters", id="note-text", compact=True)
             yield Static("", id="check", classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def first_field(self) -> TypeAheadInput:
         return self.query_one("#note-text", TypeAheadInput)

@@ -9,7 +9,7 @@ from textual.binding import Binding
 from textual.containers import VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Static
+from textual.widgets import Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.core.model import Alert
@@ -18,6 +18,7 @@ from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 class AlertQueueScreen(ClinicWork, Screen):
@@ -54,7 +55,7 @@ class AlertQueueScreen(ClinicWork, Screen):
         yield AlertTable(with_patient=True, id="queue")
         with VerticalScroll(id="evidence-scroll"):
             yield EvidencePanel("", id="evidence")
-        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
+        yield KeyBar()
 
     def on_mount(self) -> None:
         self.reload()

@@ -15,7 +15,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Input, Static
+from textual.widgets import Input, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.presentation.glossary import refresh_progress_line
@@ -26,6 +26,7 @@ from caseload.tui.widgets.caseload_table import CaseloadTable
 from caseload.tui.widgets.filter_bar import FilterBar, Filters, Scope, SearchField, narrowed_by, visible
 from caseload.tui.widgets.status_line import StatusLine
 from caseload.tui.widgets.type_ahead import TypeAheadInput, replay
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 STORE_CHECK_DELAY_S = 0.3
@@ -99,7 +100,7 @@ class CaseloadScreen(ClinicWork, Screen):
         yield FilterBar(mine=self.app.mine, id="filters")
         yield CaseloadTable(id="caseload")
         yield Static("", id="list-note")
-        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
+        yield KeyBar()
 
     def on_mount(self) -> None:
         self.query_one("#list-note", Static).update("Reading the caseload…")

@@ -11,7 +11,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.screen import Screen
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.core.model import Entry
 from caseload.core.parse import InputError, parse_value
@@ -20,6 +20,7 @@ from caseload.presentation.days import short_day
 from caseload.presentation.safe_text import literal
 from caseload.tui.screens.dialog import Dialog, show_check
 from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 @dataclass(frozen=True)
@@ -73,7 +74,7 @@ class CorrectEntryDialog(EarlyKeys, Dialog[Correction | None]):
             yield TypeAheadInput(placeholder="why it changes", id="reason", compact=True)
             yield Static("", id="check", classes="check")
             yield Static("", id="set-aside")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def on_mount(self) -> None:
         self._check()

@@ -6,7 +6,7 @@ from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
-from textual.widgets import Footer, Label, Static
+from textual.widgets import Label, Static
 
 from caseload.core.model import Entry, Kind
 from caseload.presentation.days import logged_at, long_day
@@ -14,6 +14,7 @@ from caseload.presentation.glossary import kind_label
 from caseload.presentation.safe_text import printable
 from caseload.tui.widgets.entries_table import status_cell
 from caseload.tui.screens.dialog import Dialog
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 def entry_text(entry: Entry, by_id: dict[int, Entry], zone: str) -> Text:
@@ -61,4 +62,4 @@ class EntryDialog(Dialog[None]):
             yield Label(f"Entry #{e.id} of {e.patient_id}: {kind_label(e.kind)}", classes="dialog-title")
             with VerticalScroll(id="entry-scroll"):
                 yield Static(entry_text(e, self._by_id, self.app.clinic.timezone), id="entry-text")
-        yield Footer(compact=True)
+        yield KeyBar()

@@ -9,13 +9,14 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.widgets import Footer, Input, Label, Select, Static
+from textual.widgets import Input, Label, Select, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
 from caseload.exports.summary_files import write
 from caseload.tui.file_messages import FileRefused, FileWritten
 from caseload.tui.screens.dialog import Dialog
+from caseload.tui.widgets.key_bar import KeyBar
 
 DEFAULT_FORMAT = "xlsx"
 PRIVACY = [("pseudonyms (no names or birth dates)", True), ("names and birth dates", False)]
@@ -46,7 +47,7 @@ class ExportDialog(ClinicWork, Dialog[None]):
             yield Label("Patients shown as")
             yield Select(PRIVACY, value=True, allow_blank=False, id="deidentify", compact=True)
             yield Static("Enter in a field exports.", id="check", classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     @on(Select.Changed, "#format")
     def _format(self, event: Select.Changed) -> None:

@@ -13,9 +13,10 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
-from textual.widgets import Footer, Label, Static
+from textual.widgets import Label, Static
 
 from caseload.tui.key_help import SCREEN_NAMES, SENTENCES
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 @dataclass(frozen=True)
@@ -75,4 +76,4 @@ class HelpScreen(ModalScreen[None]):
                         yield Static(key_words(line), classes="help-words")
                 yield Static(Text("Arrow keys move in lists and tables; Tab moves between fields; "
                                   "Enter in a field moves on or saves.", style="dim"))
-        yield Footer(compact=True)
+        yield KeyBar()

@@ -10,7 +10,7 @@ from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.core.model import Alert
 from caseload.core.alerts.lifecycle import parse_future_day
@@ -19,6 +19,7 @@ from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import literal
 from caseload.tui.screens.dialog import Dialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.key_bar import KeyBar
 
 UNTIL_DEFAULT = "tomorrow"
 
@@ -53,7 +54,7 @@ class NoteDialog(Dialog[HandleNote | None]):
             yield Label("Note" + (" (needed for a clinical alert)" if self.note_required else " (optional)"))
             yield TypeAheadInput(placeholder="what was done or decided", id="note", compact=True)
             yield Static("", id="check", classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def _first_field(self) -> TypeAheadInput:
         # Fields in the order they are shown: a snooze asks until when first, then goes on to the note.

@@ -12,7 +12,7 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.core.model import Patient, PatientStatus, Plan
 from caseload.core.parse import InputError, accepted
@@ -21,6 +21,7 @@ from caseload.tui.choices import pick_nurse, pick_word
 from caseload.tui.clinic_work import STORE_WORK
 from caseload.tui.screens.form_dialog import FormDialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 def care_summary(patient: Patient) -> str:
@@ -58,7 +59,7 @@ class PatientDialog(FormDialog):
             yield Static(Text(f"Plans: {accepted(c.value for c in Plan)}. Status: "
                               f"{accepted(c.value for c in PatientStatus)}.", style="dim"))
             yield Static("", id="check", classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def first_field(self) -> TypeAheadInput:
         return self.query_one("#nurse", TypeAheadInput)

@@ -17,7 +17,7 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.suggester import Suggester
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, Saved
 from caseload.core.model import Kind
@@ -34,6 +34,7 @@ from caseload.presentation.glossary import (
 from caseload.presentation.days import long_day, short_day
 from caseload.presentation.safe_text import literal, printable
 from caseload.tui.screens.dialog import Dialog
+from caseload.tui.widgets.key_bar import KeyBar
 
 KINDS_HINT = " ".join(w.kind.value for w in KIND_WORDS)
 DETAIL_FIELDS = ("value", "day", "time", "flags", "note")
@@ -100,7 +101,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
             yield Static("", id="day-warning")
             yield Static("", id="check", classes="check")
             yield Static("", id="result")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def first_field(self) -> TypeAheadInput:
         # From the list the highlighted patient is offered selected: Enter keeps it, typing replaces it.

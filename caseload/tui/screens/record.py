@@ -9,7 +9,7 @@ from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import DataTable, Footer, Static, TabbedContent, TabPane, Tabs
+from textual.widgets import DataTable, Static, TabbedContent, TabPane, Tabs
 
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, StoreChanged
 from caseload.application.caseload_view import PatientRecord
@@ -25,6 +25,7 @@ from caseload.tui.widgets.cycle_chart import CycleChart
 from caseload.tui.widgets.entries_table import EntriesTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
+from caseload.tui.widgets.key_bar import KeyBar
 from caseload.presentation.glossary import CAUTION
 
 TABS = Binding.Group("Tabs", compact=True)
@@ -106,7 +107,7 @@ class RecordScreen(ClinicWork, Screen):
             with TabPane("5 Entries", id="entries"):
                 yield EntriesTable(id="entries-table")
         yield Static(CAUTION, id="caution")
-        yield Footer(compact=True, show_command_palette=False)  # at 80 columns its key would overlap the others
+        yield KeyBar()
 
     def on_mount(self) -> None:
         self.reload()

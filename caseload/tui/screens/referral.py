@@ -10,7 +10,7 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
-from textual.widgets import Footer, Input, Label, Select, Static
+from textual.widgets import Input, Label, Select, Static
 
 from caseload.application.clinic import Clinic
 from caseload.application.errors import InputError
@@ -19,6 +19,7 @@ from caseload.exports import fhir, pack_files
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.file_messages import FileRefused, FileWritten
 from caseload.tui.screens.dialog import Dialog
+from caseload.tui.widgets.key_bar import KeyBar
 
 FORMATS = [("referral pack, PDF", "pdf"), ("referral pack, HTML", "html"), ("FHIR R4 bundle, JSON", "json")]
 DEFAULT_CYCLES = "3"
@@ -61,7 +62,7 @@ class ReferralDialog(ClinicWork, Dialog[None]):
             yield Select([(p, p) for p in PAPERS], value=PAPERS[0], allow_blank=False, id="paper", compact=True)
             yield Static("Enter in a field writes the file (owner-only; an existing file is kept).", id="check",
                          classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     @on(Select.Changed, "#format")
     def _format(self, event: Select.Changed) -> None:

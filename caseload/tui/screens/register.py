@@ -13,7 +13,7 @@ from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
-from textual.widgets import Footer, Input, Label, Static
+from textual.widgets import Input, Label, Static
 
 from caseload.core.model import Patient
 from caseload.core.parse import InputError, parse_birth_date, parse_id, parse_name
@@ -22,6 +22,7 @@ from caseload.tui.choices import pick_nurse
 from caseload.tui.clinic_work import STORE_WORK
 from caseload.tui.screens.form_dialog import FormDialog
 from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.key_bar import KeyBar
 
 FIELDS = ("name", "born", "nurse", "patient-id")
 
@@ -52,7 +53,7 @@ class RegisterDialog(FormDialog):
                     yield TypeAheadInput(placeholder=hint, id=field, compact=True)
             yield Static(Text("Reading the nurses…", style="dim"), id="nurses")
             yield Static("", id="check", classes="check")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def first_field(self) -> TypeAheadInput:
         return self.query_one("#name", TypeAheadInput)

@@ -14,11 +14,12 @@ from textual.binding import Binding
 from textual.containers import Vertical
 from textual.message import Message
 from textual.screen import Screen
-from textual.widgets import Footer, Label, Static
+from textual.widgets import Label, Static
 
 from caseload.core.model import Actor
 from caseload.presentation.safe_text import printable
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
+from caseload.tui.widgets.key_bar import KeyBar
 
 
 class SignInScreen(ClinicWork, Screen):
@@ -40,7 +41,7 @@ class SignInScreen(ClinicWork, Screen):
             yield Static(Text(f"The OS account '{account}' is not linked to a staff record. An admin links it "
                               f"with 'caseload staff map STAFF {account}'; then press r."), id="how")
             yield Static("", id="outcome")
-        yield Footer(compact=True)
+        yield KeyBar()
 
     def action_check_again(self) -> None:
         self._check()
