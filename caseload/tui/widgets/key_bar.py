@@ -61,6 +61,7 @@ def fitted(items: list[KeyItem], width: int) -> list[KeyItem]:
 
 
 class KeyBar(Widget):
+    ALLOW_SELECT = False  # a drag across the keys selects nothing
     DEFAULT_CSS = """
     KeyBar {
         dock: bottom;
