@@ -28,7 +28,7 @@ from caseload.tui.widgets.status_line import StatusLine
 from caseload.tui.widgets.key_bar import KeyBar
 from caseload.presentation.glossary import CAUTION
 
-TABS = Binding.Group("Tabs", compact=True)
+TABS = Binding.Group("Tabs")
 CYCLES = Binding.Group("Cycle")
 TAB_IDS = ("chart", "cycles", "outlook", "alerts", "entries")
 TAB_FOCUS = {"chart": "#chart-plot", "cycles": "#cycle-table", "alerts": "#patient-alerts", "entries": "#entries-table"}

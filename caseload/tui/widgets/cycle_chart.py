@@ -33,7 +33,7 @@ COUNTED, LEFT_OUT, ABOVE, BELOW = "●", "×", "↑", "↓"
 COVERLINE, CONFIRMED = "┄", "│"
 # Braille dots by (column, row) inside a cell: U+2800 plus these bits.
 BRAILLE_BITS = ((0x01, 0x02, 0x04, 0x40), (0x08, 0x10, 0x20, 0x80))
-DAYS = Binding.Group("Days", compact=True)
+DAYS = Binding.Group("Days")
 LEGEND_PLOT = f"{COUNTED} reading · {LEFT_OUT} left out of the shift (flagged or fever), {ABOVE}{BELOW} off the scale"
 
 
