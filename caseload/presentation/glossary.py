@@ -16,7 +16,7 @@ from caseload.core import alerts
 from caseload.core.model import MUCUS_SCALE, Entry, Flow, Kind
 from caseload.core.pregnancy import NAEGELE, NAEGELE_ADJUSTED, OVULATION
 from caseload.presentation.days import iso_day
-from caseload.presentation.safe_text import printable
+from caseload.presentation.safe_text import printable, quoted
 
 CAUTION = (
     "Predictions are estimates, not contraception advice; every alert defers to the clinic's "
@@ -284,6 +284,12 @@ def refreshed_line(done: Refreshed) -> str:
 
 def _state_after(done: Logged) -> str:
     return " " + refreshed_line(done.refreshed)
+
+
+def not_used(typed: str) -> str:
+    """Keys typed ahead of a refusal or a question are set aside so that they cannot answer it or land
+    in the wrong place; this line says which, so that nothing typed is lost without a word."""
+    return f"Typed after Enter and not used: {quoted(typed)}. Type it again once you have read the above."
 
 
 def logged_summary(done: Logged) -> str:

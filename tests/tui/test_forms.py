@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import time
 
+from textual.widgets import Input
 
 from caseload.core.model import PatientStatus, Plan
 from caseload.tui.screens.alert_queue import AlertQueueScreen
@@ -86,6 +87,10 @@ async def test_registration_refuses_a_taken_id_and_an_unknown_nurse(app_as, serv
         await press_and_settle(pilot, "enter")
         assert isinstance(app.screen, RegisterDialog)
         assert shown(app, "#check") == "Not registered: patient id P0001 is taken: choose another"
+        await burst(pilot, "enter", *"P0077")  # Enter again with the next id typed straight on
+        assert shown(app, "#check") == ("Not registered: patient id P0001 is taken: choose another\n"
+                                         "Typed after Enter and not used: 'P0077'. Type it again once you have read the above.")
+        assert app.screen.query_one("#patient-id", Input).value == "P0001"
     assert patient_rows(check) == before
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 from textual import events
-from textual.widgets import OptionList
+from textual.widgets import Input, OptionList
 
 from caseload.core.model import Kind
 from caseload.application.entries import patient_entries, void_entry
@@ -117,6 +117,23 @@ async def test_second_temperature_is_not_replaced_by_phone_staff(app_as, service
         await settle(pilot)
         assert isinstance(app.screen, QuickLogScreen)
         assert "a nurse can replace it" in app.screen.query_one("#result").render().plain
+    assert counts(check) == before
+
+
+async def test_keys_typed_after_a_refused_reading_are_named_not_lost_without_a_word(app_as, service_ctx):
+    """The clerk types the next entry of the call straight on ("b⏎spotting⏎"); the reading is refused
+    (one already that day), so that entry is not logged either, and the screen says what was not used."""
+    check = service_ctx("ada")
+    before = counts(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "l", *"pia", "enter", "t", "enter", *"36.91", "enter", "b", "enter", *"spotting", "enter")
+        await settle(pilot)
+        said = app.screen.query_one("#result").render().plain
+        assert "a nurse can replace it" in said
+        assert said.endswith("Typed after Enter and not used: 'b⏎spotting⏎'. Type it again once you have read the above.")
+        assert app.screen.query_one("#kind", Input).value == "temp"  # the refused reading is still there to read
     assert counts(check) == before
 
 

@@ -9,6 +9,7 @@ from caseload.core.model import Kind
 from caseload.application.entries import patient_entries
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
+from caseload.tui.widgets.type_ahead import as_typed
 from tests.tui.conftest import burst, fill, settle
 from tests.tui.fixture_store import TODAY
 
@@ -171,3 +172,9 @@ async def test_a_backspace_typed_ahead_of_a_refused_enter_acts_before_it(app_as)
         await burst(pilot, "backspace", "b", "enter", "h")
         # bheavy, less its y, plus b: not a kind, so Enter leads nowhere and h follows the b.
         assert app.screen.query_one("#kind").value == "bheavbh"
+
+
+def test_keys_set_aside_are_named_as_they_were_typed():
+    keys = [events.Key("b", "b"), events.Key("enter", "\r"), events.Key("space", " "), events.Key("tab", "\t"),
+            events.Key("backspace", "\x7f"), events.Key("ctrl+o", "\x0f"), events.Key("full_stop", ".")]
+    assert as_typed(keys) == "b⏎ ⇥⌫<ctrl+o>."

@@ -13,12 +13,13 @@ from textual.message import Message
 from textual.widgets import Input, Static
 
 from caseload.core.model import Staff
+from caseload.presentation.glossary import not_used
 from caseload.presentation.safe_text import printable
 from caseload.tui.choices import active_nurses
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.tui.clinic_work import Saved
 from caseload.tui.screens.dialog import Dialog
-from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, replay
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, as_typed, replay
 
 
 def nurses_line(nurses: tuple[Staff, ...]) -> Text:
@@ -112,9 +113,11 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
 
     def on_form_dialog_refused(self, message: Refused) -> None:
         self._saving = False
+        set_aside = []
         if self._typed_from is not None:
-            self._typed_from.drop_held()  # the refusal needs reading before anything else is typed
+            set_aside = self._typed_from.drop_held()  # the refusal needs reading before anything else is typed
             self._typed_from = None
         check = self.query_one("#check", Static)
         check.set_class(True, "refused")
-        check.update(Text(f"{self.REFUSED}: {message.reason}"))
+        check.update(Text(f"{self.REFUSED}: {message.reason}"
+                          + (f"\n{not_used(as_typed(set_aside))}" if set_aside else "")))

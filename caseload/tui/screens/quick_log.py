@@ -11,7 +11,7 @@ other. Opened from a record, it logs for that patient until the patient field is
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on, work
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -27,9 +27,9 @@ from caseload.core.second_look import meant_celsius
 from caseload.application.entries import Logged
 from caseload.tui.screens.correct_entry import Correction, CorrectEntryDialog
 from caseload.tui.widgets.patient_picker import PatientPicker
-from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput
+from caseload.tui.widgets.type_ahead import EarlyKeys, TypeAheadInput, as_typed
 from caseload.presentation.glossary import (
-    KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, logged_summary, match_kind,
+    KIND_WORDS, WORDS_BY_KIND, complete_kind, kind_label, logged_summary, match_kind, not_used,
 )
 from caseload.presentation.days import long_day, short_day
 from caseload.presentation.safe_text import literal, printable
@@ -231,9 +231,8 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
                 field.keep_typing()
             return
         if picker.patient is None:
-            result.update(Text("Pick a patient first: type an id or a name, then Enter.", style="bold"))
-            if field is not None:
-                field.drop_held()
+            self._say("Pick a patient first: type an id or a name, then Enter.",
+                      field.drop_held() if field is not None else [])
             self.query_one("#patient", Input).focus()
             return
         try:
@@ -262,37 +261,42 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
     def work_failed(self, name: str, reason: str) -> None:
         self.post_message(self.Refused(reason))
 
-    def _finish_typing(self, next_field: str | None) -> int:
-        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is dropped
-        (the number of keys dropped)."""
+    def _finish_typing(self, next_field: str | None) -> list[events.Key]:
+        """After a save: typing goes on in `next_field`, or, when the outcome needs a look, is set
+        aside (the keys set aside)."""
         field, self._typed_from = self._typed_from, None
         if next_field is None:
-            return field.drop_held() if field is not None else 0
+            return field.drop_held() if field is not None else []
         if field is not None:
             self._move_on(field, next_field)
         else:
             self.query_one(f"#{next_field}", Input).focus()
-        return 0
+        return []
+
+    def _say(self, line: str, set_aside: list[events.Key], style: str = "bold") -> None:
+        """The outcome line, and below it the keys typed ahead of it that were not used."""
+        text = Text(line, style=style)
+        if set_aside:
+            text.append("\n" + not_used(as_typed(set_aside)), style="bold")
+        self.query_one("#result", Static).update(text)
 
     def on_quick_log_screen_refused(self, message: Refused) -> None:
         self._saving = False
-        self._finish_typing(None)
-        self.query_one("#result", Static).update(Text(f"Not saved: {message.reason}", style="bold"))
+        self._say(f"Not saved: {message.reason}", self._finish_typing(None))
 
     def on_quick_log_screen_done(self, message: Done) -> None:
         self._saving = False
         outcome = message.outcome
         if isinstance(outcome, SameDayReading):
             # Keys typed after Enter were meant for the next entry, not as an answer to a question
-            # they were typed before: they are dropped, and the question says so.
+            # they were typed before: they are set aside, and the question (or the refusal) says so.
             self._same_day(outcome, self._finish_typing(None))
             return
         if isinstance(outcome, SecondLook):
-            # Keys typed ahead are dropped: the next Enter must be a decision taken after reading this.
+            # Keys typed ahead are set aside: the next Enter must be a decision taken after reading this.
             self._confirmed_for = self._typed()
-            self._finish_typing(None)
-            self.query_one("#result", Static).update(
-                Text(f"Not saved yet: {outcome.question}. Enter again saves it as typed; or change it.", style="bold"))
+            self._say(f"Not saved yet: {outcome.question}. Enter again saves it as typed; or change it.",
+                      self._finish_typing(None))
             return
         self.query_one("#result", Static).update(Text(logged_summary(outcome)))
         for field in ("kind", "value", "time", "flags", "note"):
@@ -301,11 +305,11 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         self._finish_typing("kind")
         self.app.post_message(Saved(None, outcome))
 
-    def _same_day(self, found: SameDayReading, set_aside: int) -> None:
+    def _same_day(self, found: SameDayReading, set_aside: list[events.Key]) -> None:
         e = found.existing
         line = f"{e.patient_id} already has {e.value.display()} C on {short_day(e.day)} (entry #{e.id})"
         if not self.app.clinic.may("entry.amend"):
-            self.query_one("#result", Static).update(Text(f"Not saved: {line}; a nurse can replace it with a correction."))
+            self._say(f"Not saved: {line}; a nurse can replace it with a correction.", set_aside, style="")
             return
 
         def replace(correction: Correction | None) -> None:
@@ -316,5 +320,5 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
             self._amend(e.id, correction.value, correction.reason)
 
         dialog = CorrectEntryDialog(e, amend=True, value=found.value, heading=f"{line}: replace it?", asked=True,
-                                    set_aside=set_aside)
+                                    set_aside=len(set_aside))
         self.app.push_screen(dialog, replace)

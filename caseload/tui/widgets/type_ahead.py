@@ -13,6 +13,13 @@ from textual.widget import Widget
 from textual.widgets import Input
 
 TAB_KEYS = {"tab": "focus_next", "shift+tab": "focus_previous"}
+KEY_SIGNS = {"enter": "⏎", "tab": "⇥", "shift+tab": "⇤", "backspace": "⌫"}
+
+
+def as_typed(keys: list[events.Key]) -> str:
+    """Keys as they were typed, for the line that says they were not used: Enter as ⏎, Tab as ⇥."""
+    return "".join(key.character if key.is_printable and key.character else KEY_SIGNS.get(key.key, f"<{key.key}>")
+                   for key in keys)
 
 
 def _edits_text(action: str) -> bool:
@@ -89,9 +96,9 @@ class TypeAheadInput(Input):
         held, self._held, self._forward_to = self._held or [], None, None
         return held
 
-    def drop_held(self) -> int:
-        """Enter opened something that needs a look first: what was typed ahead is discarded (how many keys)."""
-        dropped = len(self._held or ())
+    def drop_held(self) -> list[events.Key]:
+        """Enter opened something that needs a look first: what was typed ahead is set aside (and returned)."""
+        dropped = self._held or []
         self._held = None
         self._forward_to = None
         return dropped
