@@ -107,6 +107,31 @@ async def test_a_nurse_changes_nurse_plan_and_status_from_the_record(app_as, ser
     assert (changed.by_staff, changed.row_id) == ("nell", "P0001")
 
 
+async def test_an_enter_that_finds_another_field_wrong_names_the_keys_it_sets_aside(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "n", "shift+tab", "enter", *"Jo")  # from the name, back to the id: Enter there
+        assert app.focused.id == "name"  # the field that needs filling in
+        assert shown(app, "#check").endswith("\nTyped after Enter and not used: 'Jo'. Type it again once you "
+                                              "have read the above.")
+        assert app.focused.value == ""
+    assert patient_rows(check) == before
+
+
+async def test_an_enter_with_nothing_changed_leaves_the_keys_after_it_to_the_field(app_as, service_ctx):
+    """Enter on an unchanged care form does nothing, so what is typed after it is typed on there."""
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0001")
+        await burst(pilot, "c", "enter", *"nora", "enter")
+        assert isinstance(app.screen, RecordScreen)
+    assert check.store.patients.get("P0001").nurse_id == "nora"
+
+
 async def test_a_refused_plan_shows_one_line_and_writes_nothing(app_as, service_ctx):
     check = service_ctx("ada")
     before = patient_rows(check)

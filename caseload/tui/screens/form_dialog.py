@@ -113,11 +113,17 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
 
     def on_form_dialog_refused(self, message: Refused) -> None:
         self._saving = False
-        set_aside = []
-        if self._typed_from is not None:
-            set_aside = self._typed_from.drop_held()  # the refusal needs reading before anything else is typed
-            self._typed_from = None
         check = self.query_one("#check", Static)
         check.set_class(True, "refused")
-        check.update(Text(f"{self.REFUSED}: {message.reason}"
-                          + (f"\n{not_used(as_typed(set_aside))}" if set_aside else "")))
+        check.update(Text(f"{self.REFUSED}: {message.reason}"))
+        if self._typed_from is not None:
+            self.set_aside(self._typed_from)  # the refusal needs reading before anything else is typed
+            self._typed_from = None
+
+    def set_aside(self, field: TypeAheadInput) -> None:
+        """Enter led to a line that needs reading first: the keys typed after it are not used, and the
+        check line names them below what it says."""
+        keys = field.drop_held()
+        if keys:
+            check = self.query_one("#check", Static)
+            check.update(Text(f"{check.content}\n{not_used(as_typed(keys))}"))

@@ -111,7 +111,7 @@ class PatientDialog(FormDialog):
         if changes:
             self._save(event.input)
         else:
-            event.input.drop_held()
+            event.input.keep_typing()  # Enter led nowhere: what follows it is typed on here
 
     def action_save(self) -> None:
         self._save(None)
@@ -123,7 +123,7 @@ class PatientDialog(FormDialog):
             changes = {}
         if self._saving or not changes:
             if field is not None:
-                field.drop_held()
+                self.set_aside(field)
             return
         self.start_saving(field, "Saving…")
         self._set(changes)

@@ -122,7 +122,7 @@ class RegisterDialog(FormDialog):
             if problems:
                 self.query_one(f"#{next(f for f in FIELDS if f in problems)}", Input).focus()
             if field is not None:
-                field.drop_held()
+                self.set_aside(field)
             return
         self.start_saving(field, "Registering…")
         nurse = pick_nurse(self._nurses or (), self.query_one("#nurse", Input).value)
