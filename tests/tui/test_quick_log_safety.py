@@ -3,6 +3,8 @@ second look at unusual entries. Keys are pressed in one burst, as a fast typist 
 
 from __future__ import annotations
 
+from datetime import timedelta
+
 from textual import events
 
 from caseload.core.model import Kind
@@ -178,3 +180,20 @@ def test_keys_set_aside_are_named_as_they_were_typed():
     keys = [events.Key("b", "b"), events.Key("enter", "\r"), events.Key("space", " "), events.Key("tab", "\t"),
             events.Key("backspace", "\x7f"), events.Key("ctrl+o", "\x0f"), events.Key("full_stop", ".")]
     assert as_typed(keys) == "b⏎ ⇥⌫<ctrl+o>."
+
+
+async def test_a_reading_typed_in_two_bursts_is_kept_whole(app_as, service_ctx):
+    """Keys passed on to the value field reach it before its focus does; the focus must not select
+    what they typed, or the next burst ("5" after "36.5") would replace it."""
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "l", *"noor", "enter", "t", "enter", *"36.5")
+        await burst(pilot, "5")
+        assert app.focused.value == "36.55"
+        await burst(pilot, "tab", *"yesterday")  # a field holding a value: typing replaces it, as when slow
+        assert app.focused.id == "day" and app.focused.value == "yesterday"
+        await burst(pilot, "enter")
+    [entry] = [e for e in patient_entries(check, "P0004") if e.kind is Kind.TEMP and e.day == TODAY - timedelta(days=1)]
+    assert entry.value.number == 36.55

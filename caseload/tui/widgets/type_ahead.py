@@ -32,10 +32,21 @@ def _edits_text(action: str) -> bool:
 class TypeAheadInput(Input):
     """Enter posts Submitted straight away; the screen then calls `pass_on(next_field)` or `keep_typing()`."""
 
-    def __init__(self, *args, **kwargs):
-        super().__init__(*args, **kwargs)
+    def __init__(self, *args, select_on_focus: bool = True, **kwargs):
+        super().__init__(*args, select_on_focus=False, **kwargs)  # done here, see _on_focus
+        self._select_when_focused = select_on_focus
         self._held: list[events.Key] | None = None  # holding keys until the screen decides
         self._forward_to: Widget | None = None  # focus has moved on: keys still routed here go there
+        self._typed_before_focus = False
+
+    def _on_focus(self, event: events.Focus) -> None:
+        # Textual gives the focus after the messages already queued, so keys passed on to a field can
+        # be typed into it before its focus arrives. The first of them did what the focus does (see
+        # _on_key); done again now, it would select what they typed for the next key to replace
+        # ("36.5" then "5" giving "5").
+        if self._select_when_focused and not event.from_app_focus and not self._typed_before_focus:
+            self.select_all()
+        self._typed_before_focus = False
 
     async def _on_key(self, event: events.Key) -> None:
         if self.holding:
@@ -59,6 +70,10 @@ class TypeAheadInput(Input):
             if self.screen.focused is not self and self.screen.focused is not None:
                 self._forward_to = self.screen.focused
             return
+        if not self.has_focus and not self._typed_before_focus:
+            self._typed_before_focus = True
+            if self._select_when_focused:
+                self.select_all()  # as the focus on its way would: the keys replace what the field held
         editing = [b.action for b in self._bindings.key_to_bindings.get(event.key, ()) if _edits_text(b.action)]
         if editing:
             # The field's own editing keys (backspace, delete, left, right, home, end) act here and now.
