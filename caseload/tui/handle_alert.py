@@ -9,7 +9,7 @@ from caseload.application.alert_handling import is_clinical
 from caseload.application.clinic import Clinic
 from caseload.core.model import Alert, AlertState
 from caseload.tui.screens.note_dialog import HandleNote, NoteDialog
-from caseload.presentation.glossary import alert_label
+from caseload.presentation.glossary import alert_label, not_used
 
 PAST = {"acknowledge": "Acknowledged", "snooze": "Snoozed", "resolve": "Resolved"}
 
@@ -42,7 +42,8 @@ def start_handling(screen: Screen, alert: Alert, verb: str) -> None:
             return
 
         def summary(handled: Alert) -> str:
-            return f"{PAST[verb]} #{handled.id} {alert_label(handled.kind)} for {handled.patient_id}."
+            said = f"{PAST[verb]} #{handled.id} {alert_label(handled.kind)} for {handled.patient_id}."
+            return f"{said} {not_used(answer.set_aside)}" if answer.set_aside else said
 
         if verb == "snooze":
             screen.app.save(clinic.snooze, alert.id, answer.until.isoformat(), answer.note, summary=summary)

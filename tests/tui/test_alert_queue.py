@@ -269,3 +269,19 @@ async def test_arrows_and_enter_in_one_burst_open_the_alert_the_arrows_reached(a
         await burst(pilot, *["down"] * downs, "enter")
         await settle(pilot)
         assert isinstance(app.screen, RecordScreen) and app.screen.patient_id == patient_id
+
+
+async def test_keys_typed_after_an_acknowledging_enter_are_named_not_used(app_as, service_ctx):
+    """A second "a" typed straight on could acknowledge the next alert unread: it is not passed on to
+    the queue, and the line that confirms the acknowledgement names it."""
+    check = service_ctx("ada")
+    fever = alert_of(check, "fever")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await queue_at(pilot, fever.id)
+        await burst(pilot, "a", *"rang her", "enter", "a", *"ok", "enter")
+        await settle(pilot)
+        assert isinstance(app.screen, AlertQueueScreen)
+        assert (f"Acknowledged #{fever.id} fever for P0002. Typed after Enter and not used: 'aok⏎'. "
+                "Type it again once you have read the above.") in notes(app)
+    assert [a.id for a in check.store.alerts.all() if a.state is AlertState.ACKNOWLEDGED] == [fever.id]

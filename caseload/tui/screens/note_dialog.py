@@ -18,7 +18,7 @@ from caseload.core.parse import InputError
 from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import literal
 from caseload.tui.screens.dialog import Dialog
-from caseload.tui.widgets.type_ahead import TypeAheadInput
+from caseload.tui.widgets.type_ahead import TypeAheadInput, as_typed
 from caseload.tui.widgets.key_bar import KeyBar
 
 UNTIL_DEFAULT = "tomorrow"
@@ -28,6 +28,7 @@ UNTIL_DEFAULT = "tomorrow"
 class HandleNote:
     note: str
     until: date | None = None
+    set_aside: str = ""  # keys typed after the saving Enter, as typed: not used, and said so
 
 
 class NoteDialog(Dialog[HandleNote | None]):
@@ -102,7 +103,8 @@ class NoteDialog(Dialog[HandleNote | None]):
     @on(Input.Submitted, "#note")
     def _submit(self, event: Input.Submitted) -> None:
         if self._problem() is None:
-            event.input.drop_held()
-            self.dismiss(HandleNote(self.query_one("#note", Input).value.strip(), self._until()))
+            # Not passed on to the list behind: a key there could handle the next alert unread.
+            set_aside = as_typed(event.input.drop_held())
+            self.dismiss(HandleNote(self.query_one("#note", Input).value.strip(), self._until(), set_aside))
         else:
             event.input.keep_typing()
