@@ -75,7 +75,7 @@ class HcgPair:
     first: HcgValue
     second: HcgValue
     hours: float
-    rise_48h: float  # fraction; negative when falling
+    rise_48h: float | None  # fraction, negative when falling; None when both carry the same time
     falling: bool
 
 
@@ -220,21 +220,24 @@ def rise_per_48h(first: HcgValue, second: HcgValue) -> float:
 def abnormal_pairs(values: tuple[HcgValue, ...], protocol: Protocol) -> list[HcgPair]:
     """Each serum value compared with the latest earlier one at least `hcg_pair_min_hours` before
     it (closer samples are bridged, not skipped), whatever the gap: the pairs rising less than
-    the minimum per 48 h; and any fall from the value just before, however soon (Barnhart 2004)."""
+    the minimum per 48 h; and any fall from the value just before, however soon (Barnhart 2004),
+    even one logged for the same time (two results of one day without times, in the order logged):
+    such a pair has no interval to scale, so no rate."""
     found = []
     for index, second in enumerate(values):
         earlier = values[:index]
         apart = [v for v in earlier if (second.taken - v.taken).total_seconds() >= protocol.hcg_pair_min_hours * 3600]
-        if earlier and earlier[-1].iu_l > second.iu_l and earlier[-1].taken < second.taken:
+        if earlier and earlier[-1].iu_l > second.iu_l:
             first = earlier[-1]
         elif apart:
             first = apart[-1]
         else:
             continue
-        rise = rise_per_48h(first, second)
-        if rise < protocol.hcg_min_rise_48h:
+        falling = second.iu_l < first.iu_l
+        rise = None if first.taken == second.taken else rise_per_48h(first, second)
+        if falling or (rise is not None and rise < protocol.hcg_min_rise_48h):
             hours = round((second.taken - first.taken).total_seconds() / 3600, 1)
-            found.append(HcgPair(first, second, hours, rise, second.iu_l < first.iu_l))
+            found.append(HcgPair(first, second, hours, rise, falling))
     return found
 
 

@@ -160,6 +160,9 @@ def _hcg_pair(first: dict, second: dict) -> str:
 
 
 def hcg_rise_low(ev: dict) -> list[str]:
+    if ev["rise_48h"] is None:
+        return [f"{_hcg_pair(ev['first'], ev['second'])}, logged in that order with no time between them.",
+                "Any fall is reviewed, however soon after the value before it."]
     return [
         f"{_hcg_pair(ev['first'], ev['second'])}, {ev['hours']:g} hours later.",
         f"That is {_rise(ev['rise_48h'])} per 48 hours; the minimum expected is {ev['minimum_48h']:.0%} per 48 hours "
@@ -211,8 +214,9 @@ def bleeding_in_pregnancy(ev: dict) -> list[str]:
     rise = ev.get("hcg_rise_48h")
     lines.append("No serum hCG trend logged." if rise is None else
                  f"Serum hCG over the latest values: {_rise(rise)} per 48 hours.")
-    lines += [f"{_hcg_pair(p['first'], p['second'])}: {_rise(p['rise_48h'])} per 48 hours, below the minimum."
-              for p in ev.get("hcg_abnormal_pairs", [])]
+    lines += [f"{_hcg_pair(p['first'], p['second'])}: " + (
+        "a fall, logged with no time between them." if p["rise_48h"] is None
+        else f"{_rise(p['rise_48h'])} per 48 hours, below the minimum.") for p in ev.get("hcg_abnormal_pairs", [])]
     return lines
 
 

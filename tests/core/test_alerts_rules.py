@@ -496,6 +496,40 @@ def test_hcg_any_fall_is_urgent_whatever_the_gap(hours):
     assert alert.severity is Severity.URGENT and alert.evidence["rise_48h"] < 0
 
 
+def _untimed_same_day(values: tuple[float, ...]):
+    """400 IU/L two days before, then `values` logged for one day without times, in that order."""
+    chart, current = regular()
+    first = day(current, 28)
+    chart.add(first, Kind.HCG, Value(number=400))
+    for iu_l in values:
+        chart.add(first + timedelta(days=2), Kind.HCG, Value(number=iu_l))
+    return chart, first + timedelta(days=2), patient(PatientStatus.PREGNANT)
+
+
+def test_hcg_fall_between_two_untimed_values_of_one_day_is_urgent():
+    # Barnhart 2004: any fall is abnormal. 480 then 350 on one day without times: a fall in the
+    # order logged, with no interval to scale to 48 h.
+    chart, today, who = _untimed_same_day((480, 350))
+    found = of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+    fall = [a for a in found if a.evidence["second"]["iu_l"] == 350]
+    assert len(fall) == 1 and fall[0].severity is Severity.URGENT
+    assert fall[0].evidence["first"]["iu_l"] == 480 and fall[0].evidence["rise_48h"] is None
+    assert "480 to 350 IU/L" in fall[0].message and "no time between them" in fall[0].message
+
+
+def test_hcg_pairs_over_the_same_two_days_are_kept_apart():
+    # 400 -> 480 in 48 h rises too slowly (20%); 480 -> 350 later that day falls: two alerts, so
+    # handling the first never hides the second.
+    chart, today, who = _untimed_same_day((480, 350))
+    keys = {a.key for a in of(run(chart, today, who)[1], K.HCG_RISE_LOW)}
+    assert len(keys) == 2
+
+
+def test_hcg_rise_between_two_untimed_values_of_one_day_is_not_raised():
+    chart, today, who = _untimed_same_day((700, 720))  # 400 -> 700 is 75% in 48 h, then a rise
+    assert not of(run(chart, today, who)[1], K.HCG_RISE_LOW)
+
+
 def test_morse_minimum_as_a_clinic_setting():
     chart, today, who = _hcg(100, 145)  # 45%: low by Barnhart, enough by Morse 2012's 35%
     assert of(run(chart, today, who)[1], K.HCG_RISE_LOW)

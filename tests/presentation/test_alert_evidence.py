@@ -81,6 +81,15 @@ def test_a_falling_hcg_is_called_a_fall():
     assert lines[1].startswith("That is a fall of 25% per 48 hours;")
 
 
+def test_a_fall_logged_with_no_time_between_is_called_a_fall_without_a_rate():
+    chart, current = follicular(28)
+    taken = at(day(current, 28))
+    chart.hcg(taken, 480).hcg(taken, 350)  # two results of one time: no interval to scale
+    lines = evidence_sentences("hcg-rise-low", _evidence(K.HCG_RISE_LOW, chart, day(current, 28), patient()))
+    assert lines[:2] == ["Serum hCG 480 IU/L on 13 Sep 09:00, then 350 IU/L on 13 Sep 09:00, logged in that order "
+                         "with no time between them.", "Any fall is reviewed, however soon after the value before it."]
+
+
 def test_a_flagged_fever_and_a_window_opened_by_an_lh_test():
     chart, current = follicular(9)
     chart.temp(day(current, 9), 38.6, ("illness",)).lh(day(current, 9))

@@ -31,6 +31,10 @@ def _hcg_json(value: HcgValue) -> dict:
     return {"taken": value.taken.isoformat(timespec="minutes"), "iu_l": value.iu_l}
 
 
+def _sample_key(value: HcgValue) -> str:
+    return f"{value.taken.isoformat(timespec='minutes')}={value.iu_l:g}"
+
+
 def hcg_rise_low(f: Facts) -> list[Candidate]:
     """Every abnormal pair of the cycle's (or the pregnancy's) serum values is raised: a lab batch
     entered at once raises for each pair that fails, not only the last."""
@@ -40,7 +44,10 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
         first, second, rise = pair.first, pair.second, pair.rise_48h
         days = f"{first.taken.date().isoformat()} to {second.taken.date().isoformat()}"
         span = f"{first.iu_l:g} to {second.iu_l:g} IU/L from {days}, {pair.hours:g} h"
-        if pair.falling:
+        if rise is None:
+            message = (f"Serum hCG falling: {first.iu_l:g} to {second.iu_l:g} IU/L on {second.taken.date().isoformat()}, "
+                       "logged in that order with no time between them: review today.")
+        elif pair.falling:
             message = f"Serum hCG falling: {span} ({rise:.0%} per 48 h): review today."
         else:
             minimum = f"minimum {p.hcg_min_rise_48h:.0%}"
@@ -48,7 +55,8 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
         found.append(
             f.candidate(
                 AlertKind.HCG_RISE_LOW,
-                f"{first.taken.date().isoformat()}/{second.taken.date().isoformat()}",
+                # The two samples by time and value: pairs on the same two days stay apart.
+                f"{_sample_key(first)}/{_sample_key(second)}",
                 Severity.URGENT,
                 message,
                 {
