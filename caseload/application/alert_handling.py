@@ -114,7 +114,7 @@ def _handle(ctx: Context, alert_id: int | str, target: AlertState, note: str | N
     alert = get_alert(ctx, alert_id)
     _may_handle(ctx, alert)
     text = _note(alert, note)
-    day = None if until is None else parse_future_day(until, ctx.today)
+    day = None if until is None else parse_future_day(until, ctx.today, alert.severity)
 
     with ctx.store.atomic(ctx.today):
         stored = ctx.store.alerts.get(alert.id)  # again inside the write: another terminal may have acted

@@ -269,6 +269,7 @@ def _forecast(
         horizon=watch_horizon(readings, protocol),
         rise_start=None if shift.confirmed else cycle_day(shift.rise_start),
         lh_negatives=negatives,
+        shift_rise=cycle_day(shift.rise_start) if shift.confirmed else None,
     )
     return predict(current.start, evidence, cycle, luteal, lengths, today, protocol)
 

@@ -26,6 +26,7 @@ OVULATION_METHODS: tuple[str, ...] = ("lh", "shift", "change-point", "mucus")
 
 # Hilgers 1980: ovulation lies from 6 days before to 3 days after the first day of the rise.
 RISE_BEFORE_DAYS = 6
+RISE_AFTER_DAYS = 3
 # Positive tests more than this many days apart are separate surges (a surge lasts about two days,
 # from memory); a negative test between two positives also separates them.
 SURGE_GAP_DAYS = 3
@@ -62,17 +63,18 @@ def lh_surges(observations: list[Observation], protocol: Protocol) -> list[date]
 
 
 def _fits_the_rise(surge: date, shift: ThermalShift, protocol: Protocol) -> bool:
-    """Whether ovulation dated by this surge can lie where the temperatures put it: no more than 6
-    days before the first day of a dated rise (Hilgers 1980). A surge after the rise is kept: the
-    rise may be noise, and the LH surge is the more exact marker (WHO Task Force 1980)."""
+    """Whether ovulation dated by this surge can lie where the temperatures put it: from 6 days
+    before to 3 days after the first day of a dated rise (Hilgers 1980). After a rise only the
+    change point sees, any later surge is kept: that rise may be noise, and the LH surge is the more
+    exact marker (WHO Task Force 1980); a confirmed shift is not noise."""
     if shift.rise_start is None:
         return True
-    ovulation = surge + timedelta(days=protocol.lh_to_ovulation_days)
-    return (shift.rise_start - ovulation).days <= RISE_BEFORE_DAYS
+    after = (surge + timedelta(days=protocol.lh_to_ovulation_days) - shift.rise_start).days
+    return -RISE_BEFORE_DAYS <= after and (after <= RISE_AFTER_DAYS or not shift.confirmed)
 
 
-def _days_before(days: list[date], rise: date) -> str:
-    return ", ".join(f"{(rise - d).days} days before" for d in days)
+def _from_the_rise(days: list[date], rise: date) -> str:
+    return ", ".join(f"{(rise - d).days} days before" if d < rise else f"{(d - rise).days} days after" for d in days)
 
 
 def dating_surge(
@@ -90,8 +92,9 @@ def dating_surge(
     if not left:
         return (fitting[-1] if fitting else None), None
     note = (
-        f"LH positive {_days_before(left, shift.rise_start)} the temperature rise, too early for the ovulation "
-        "behind it (Hilgers 1980: at most 6 days before): not used to date ovulation, a dating conflict to review"
+        f"LH positive {_from_the_rise(left, shift.rise_start)} the temperature rise, too far from it for the "
+        "ovulation behind it (Hilgers 1980: from 6 days before to 3 days after the rise): not used to date "
+        "ovulation, a dating conflict to review"
     )
     return (fitting[-1] if fitting else None), note
 

@@ -30,13 +30,16 @@ from caseload.core.distributions import day_masses
 from caseload.core.settings import Protocol
 
 # Hilgers 1980: ovulation lies from 6 days before to 3 days after the first day of the rise;
-# a confirmed shift means ovulation is past, so only the days before the first high are kept.
+# a confirmed shift the readings do not date to the day means ovulation is past, so only the days
+# before the first high are kept.
 SHIFT_OVULATION_EARLIEST = 6
 # A rise only the change point sees is weaker evidence: the whole of Hilgers' range is kept.
 RISE_OVULATION_LATEST = 3
 # A positive LH test dates ovulation to `lh_to_ovulation_days` later, give or take a day
 # (WHO Task Force 1980: 90% ovulated 16 to 48 h after the rise). Weights: common practice.
-LH_LIKELIHOOD = {-1: 0.25, 0: 0.5, 1: 0.25}
+# A confirmed shift dated to the day dates it to the day before the rise, the cycle record's day
+# (see markers), as closely: within a day in 90% of simulated cycles.
+DATED_LIKELIHOOD = {-1: 0.25, 0: 0.5, 1: 0.25}
 # Whole days are the record's resolution; a narrower spread would claim more than it knows.
 MIN_SCALE_DAYS = 0.5
 # The Ogino-Knaus rule is recomputed from the six most recent cycles (WHO Global Handbook).
@@ -70,6 +73,13 @@ class Evidence:
     horizon: int | None  # earliest day ovulation can still be on by the temperatures; None when not watched
     rise_start: int | None = None  # first day of a rise the change point sees without a confirmed shift
     lh_negatives: tuple[int, ...] = ()  # days of negative LH tests, in order
+    shift_rise: int | None = None  # first day of the confirmed shift's rise, when the readings date it
+
+    @property
+    def dates_ovulation(self) -> bool:
+        """Whether this cycle's own markers date ovulation to within a day (an LH surge, or a
+        confirmed shift dated to the day): then they alone date it, as the cycle record does."""
+        return self.lh_surge is not None or self.shift_rise is not None
 
 
 # A surge lasts about two days (from memory): negative tests at most this many days apart leave
@@ -245,18 +255,24 @@ def _period_margin(grid: Grid) -> tuple[list[int], list[float]]:
 def _summary(
     days: Sequence[int], probs: Sequence[float], bounds: tuple[float, float], on: Callable[[int], date]
 ) -> tuple[date, tuple[date, date]]:
-    """(most likely date, (lower, upper) dates) of one margin of the grid."""
+    """(most likely date, (lower, upper) dates) of one margin of the grid. On a flat stretch (days
+    watched with no sign of ovulation, then a long tail) the most likely day is merely the first of
+    many nearly as likely, and can fall outside the range itself: the median stands for it then."""
+    lower, upper = _quantile(days, probs, bounds[0]), _quantile(days, probs, bounds[1])
     best = days[max(range(len(probs)), key=probs.__getitem__)]
-    return on(best), (on(_quantile(days, probs, bounds[0])), on(_quantile(days, probs, bounds[1])))
+    if not lower <= best <= upper:
+        best = _quantile(days, probs, 0.5)
+    return on(best), (on(lower), on(upper))
 
 
 def _evidence_likelihoods(evidence: Evidence, protocol: Protocol) -> list[tuple[str, dict[int, float]]]:
     """Likelihoods of the ovulation day from this cycle's evidence, most trusted first."""
     found = []
     if evidence.lh_surge is not None:
-        centre = evidence.lh_surge + protocol.lh_to_ovulation_days
-        found.append(("lh", {centre + k: w for k, w in LH_LIKELIHOOD.items() if centre + k >= 1}))
-    if evidence.first_high is not None:
+        found.append(("lh", _around(evidence.lh_surge + protocol.lh_to_ovulation_days)))
+    if evidence.shift_rise is not None:
+        found.append(("shift", _around(evidence.shift_rise - 1)))
+    elif evidence.first_high is not None:
         f = evidence.first_high
         found.append(("shift", {o: 1.0 for o in range(max(f - SHIFT_OVULATION_EARLIEST, 1), f)}))
     if evidence.rise_start is not None:
@@ -264,6 +280,10 @@ def _evidence_likelihoods(evidence: Evidence, protocol: Protocol) -> list[tuple[
         rise = range(max(r - SHIFT_OVULATION_EARLIEST, 1), r + RISE_OVULATION_LATEST + 1)
         found.append(("change-point", {o: 1.0 for o in rise}))
     return found
+
+
+def _around(day: int) -> dict[int, float]:
+    return {day + k: w for k, w in DATED_LIKELIHOOD.items() if day + k >= 1}
 
 
 def _combined(found: list[tuple[str, dict[int, float]]]) -> dict[int, float]:
@@ -365,12 +385,17 @@ def predict(
     else:
         horizon = None
         label = "+".join(name for name, _ in found)
-        # When the history, the LH test and the shift disagree, the most trusted evidence wins alone.
-        informed = (
-            known.grid.reweighted(_combined(found))
-            or known.grid.reweighted(found[0][1])
-            or _evidence_only(found[0][1], luteal)
-        )
+        if evidence.dates_ovulation:
+            # Dated to within a day, the cycle's own markers alone date it: the history, weighed in,
+            # would pull a late ovulation back towards her usual day (and the period with it).
+            informed = _evidence_only(_combined(found) or found[0][1], luteal)
+        else:
+            # When the history and a looser sign disagree, the sign wins alone.
+            informed = (
+                known.grid.reweighted(_combined(found))
+                or known.grid.reweighted(found[0][1])
+                or _evidence_only(found[0][1], luteal)
+            )
         current = informed
 
     next_period, period_range = _summary(*_period_margin(informed), PERIOD_RANGE, on)

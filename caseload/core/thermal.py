@@ -128,6 +128,7 @@ class _RuleResult:
     first_high: int | None  # index into the readings
     confirmed_at: int | None
     coverline: int | None  # hundredths of a degree: the level the highs must stay above
+    spike: int | None = None  # index of the reading among the six lows set aside as a spike
 
 
 def three_over_six(readings: list[Reading], protocol: Protocol) -> _RuleResult:
@@ -138,15 +139,14 @@ def three_over_six(readings: list[Reading], protocol: Protocol) -> _RuleResult:
     return _published_form(temps, protocol)
 
 
-def _six_without_spike(six: list[int], before: int | None, first_high: int, spike: int) -> list[int]:
-    """The six lows with one spike set aside: the highest, when it is `spike` or more above both
-    neighbours (Miolo 1993). `before` is the reading before the six, `first_high` the one after."""
+def _spike(six: list[int], before: int | None, first_high: int, spike: int) -> int | None:
+    """Which of the six lows is a spike to set aside, or None: the highest, when it is `spike` or
+    more above both neighbours (Miolo 1993). `before` is the reading before the six, `first_high`
+    the one after."""
     top = max(range(len(six)), key=six.__getitem__)
     left = six[top - 1] if top > 0 else before
     right = six[top + 1] if top + 1 < len(six) else first_high
-    if left is not None and six[top] >= left + spike and six[top] >= right + spike:
-        return six[:top] + six[top + 1 :]
-    return six
+    return top if left is not None and six[top] >= left + spike and six[top] >= right + spike else None
 
 
 def _risen(highs: list[int], lows: list[int], rise: int) -> bool:
@@ -159,16 +159,20 @@ def _published_form(temps: list[int], protocol: Protocol) -> _RuleResult:
     quick, level = _hundredths(protocol.shift_quick_rise_c), _hundredths(protocol.shift_level_rise_c)
     spike = _hundredths(protocol.shift_spike_c)
     for i in range(lows, len(temps)):
-        six = _six_without_spike(temps[i - lows : i], temps[i - lows - 1] if i > lows else None, temps[i], spike)
+        six = temps[i - lows : i]
+        aside = _spike(six, temps[i - lows - 1] if i > lows else None, temps[i], spike)
+        if aside is not None:
+            six = six[:aside] + six[aside + 1 :]
+        at = None if aside is None else i - lows + aside
         ceiling = max(six)
         run = 0
         while i + run < len(temps) and run <= confirm and temps[i + run] > ceiling:
             run += 1
             highs = temps[i : i + run]
             if (run == confirm and _risen(highs, six, quick)) or (run == confirm + 1 and _risen(highs, six, level)):
-                return _RuleResult(i, i + run - 1, ceiling)
+                return _RuleResult(i, i + run - 1, ceiling, at)
         if i + run == len(temps) and run > 0:
-            return _RuleResult(i, None, ceiling)  # readings ran out above the six: it may still confirm
+            return _RuleResult(i, None, ceiling, at)  # readings ran out above the six: it may still confirm
     return _RuleResult(None, None, None)
 
 
@@ -238,9 +242,10 @@ def rise_start(readings: list[Reading], rule: _RuleResult, cp: ChangePoint | Non
     """The first day of the rise, or None when nothing rose or unread days hide its start.
 
     A confirmed shift rose on its first high, or earlier where a passing change point splits the
-    readings among the six the first high was measured against. Without a confirmed shift a passing
-    change point dates it once it has as many readings before it as the rule needs, and as many
-    after as confirm.
+    readings among the six the first high was measured against, after any spike the rule set aside
+    there: the readings after a spike fell back, so the temperature had not risen at it. Without a
+    confirmed shift a passing change point dates it once it has as many readings before it as the
+    rule needs, and as many after as confirm.
     """
     lows = protocol.shift_low_days
     split = None
@@ -250,7 +255,8 @@ def rise_start(readings: list[Reading], rule: _RuleResult, cp: ChangePoint | Non
             split = None
     if rule.confirmed_at is not None:
         first = rule.first_high
-        begins = split if split is not None and first - lows <= split < first else first
+        earliest = first - lows if rule.spike is None else rule.spike + 1
+        begins = split if split is not None and earliest <= split < first else first
     elif split is None:
         return None
     else:

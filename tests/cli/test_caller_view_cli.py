@@ -73,6 +73,28 @@ def test_show_and_list_json_for_a_clerk_carry_the_callers_words(charted):
     assert json.loads(listed)[0]["top_alert"]["message"] == CALLER and nursed["message"] not in listed
 
 
+RISING_HCG = """patient,day,kind,value,time
+P0001,2026-11-01,bleed,moderate,
+P0001,2026-11-02,bleed,moderate,
+P0001,2026-11-28,hcg,120,09:00
+P0001,2026-11-30,hcg,150,09:00
+"""
+
+
+def test_show_gives_a_clerk_the_pregnancy_without_the_hcg_trend_and_every_key(clinic, tmp_path):
+    (tmp_path / "hcg.csv").write_text(RISING_HCG)
+    assert clinic("import", str(tmp_path / "hcg.csv")).exit_code == 0
+    nursed = json.loads(clinic("--as", "nell", "show", "P0001", "--json").stdout)["pregnancy"]
+    clerked = json.loads(clinic("--as", "phil", "show", "P0001", "--json").stdout)["pregnancy"]
+    # Log-linear: 150 / 120 = 1.25 in 48 h, a rise of 25%, doubling in 48 h x ln 2 / ln 1.25 = 6.21 days
+    # (Barnhart 2004 reads the rise per 48 h; stdlib math for the figures).
+    assert (nursed["hcg_rise_48h"], nursed["hcg_doubling_days"]) == (0.25, 6.21)
+    # The JSON keys are a contract: the same for every role, the interpretation null for the clerk.
+    assert clerked == nursed | {"hcg_rise_48h": None, "hcg_doubling_days": None}
+    text = clinic("--as", "phil", "show", "P0001").stdout
+    assert "Pregnancy: EDD" in text and "25%" not in text and "6.21" not in text
+
+
 def test_a_nurse_still_reads_the_whole_alert(clinic, tmp_path):
     fever(clinic, tmp_path)
     (alert,) = json.loads(clinic("--as", "nell", "alerts", "--json").stdout)

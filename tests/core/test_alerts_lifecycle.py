@@ -176,18 +176,32 @@ def test_a_voided_fever_reading_resolves_with_the_correction_reason():
 
 @pytest.mark.parametrize("text, days", [("tomorrow", 1), ("+3", 3), ("2026-12-31", 30), (" +90 ", 90)])
 def test_parse_future_day(text, days):
-    assert parse_future_day(text, TODAY) == TODAY + timedelta(days=days)
+    assert parse_future_day(text, TODAY, Severity.INFO) == TODAY + timedelta(days=days)
 
 
 @pytest.mark.parametrize(
     "text, fragment",
     [("today", "not understood"), ("2026-12-01", "is not after today"), ("2026-11-20", "is not after today"),
-     ("+91", "snooze at most 90 days"), ("2027-12-01", "365 days away"), ("2026-02-30", "not understood"), ("", "not understood")],
+     ("+91", "snoozed at most 90 days"), ("2027-12-01", "365 days away"), ("2026-02-30", "not understood"), ("", "not understood")],
 )  # fmt: skip
 def test_parse_future_day_refusals_are_one_line(text, fragment):
     with pytest.raises(InputError) as err:
-        parse_future_day(text, TODAY)
+        parse_future_day(text, TODAY, Severity.INFO)
     assert fragment in str(err.value) and "\n" not in str(err.value)
+
+
+@pytest.mark.parametrize(
+    "severity, most",
+    [(Severity.URGENT, 2), (Severity.TODAY, 7), (Severity.SOON, 30), (Severity.INFO, 90)],
+)
+def test_an_alert_is_snoozed_no_further_than_its_severity_allows(severity, most):
+    # An urgent alert comes back by the next serial hCG at the latest (48 h apart, Barnhart 2004);
+    # the others: common practice.
+    assert parse_future_day(f"+{most}", TODAY, severity) == TODAY + timedelta(days=most)
+    with pytest.raises(InputError) as err:
+        parse_future_day(f"+{most + 1}", TODAY, severity)
+    assert str(err.value) == (f"{(TODAY + timedelta(days=most + 1)).isoformat()} is {most + 1} days away: an alert of "
+                              f"severity {severity.value} is snoozed at most {most} days; acknowledge or resolve it instead")
 
 
 # --- every kind: resolved automatically, the condition returns, raised again (one episode = one key)

@@ -398,6 +398,17 @@ def test_period_overdue_counted_from_the_first_high_temperature():
     assert alert.source.startswith("clinic protocol: overdue_after_shift_days = 12 (default 17)")
 
 
+@pytest.mark.parametrize("rise", [15, 20, 24])
+def test_after_a_late_shift_the_period_is_overdue_only_17_days_after_its_first_high(rise):
+    # ASRM 2021: a luteal phase lasts up to 17 days. Regular 28-day cycles, this one's rise on `rise`
+    # (a late ovulation): her usual cycle says nothing of when this one ends, the shift does.
+    chart, current = regular()
+    chart.temps(current, day(current, rise + 20), high_from=day(current, rise))
+    assert K.PERIOD_OVERDUE not in kinds(run(chart, day(current, rise + 17))[1])
+    (alert,) = of(run(chart, day(current, rise + 18))[1], K.PERIOD_OVERDUE)
+    assert alert.evidence["after_shift_limit"] == day(current, rise + 17).isoformat()
+
+
 def test_no_period_overdue_when_a_positive_test_is_logged():
     chart, current = regular(temps=False)
     chart.add(day(current, 30), Kind.HCG, Value(word="positive"))
@@ -602,14 +613,22 @@ def test_fever_38_0_vs_37_9(celsius, raised):
     assert bool(found) is raised
     if raised:
         assert found[0].key == f"P0001:fever:{(today + timedelta(days=1)).isoformat()}"
-        assert "flag the reading" not in found[0].message  # already flagged as illness
 
 
-def test_an_unflagged_fever_asks_for_the_illness_flag_and_fevers_count_while_pregnant():
+@pytest.mark.parametrize("flags", [(), ("illness",)])
+def test_a_fever_alert_says_the_reading_is_already_left_out_and_fevers_count_while_pregnant(flags):
+    # A fever lifts the reading for reasons of its own (common practice): the shift rules leave it out
+    # whether or not it is flagged, so the alert says so and asks only for the flags it still needs.
     chart, today = follicular(5)
-    chart.temp(today + timedelta(days=1), 38.6)
-    (alert,) = of(run(chart, today + timedelta(days=1), patient(PatientStatus.PREGNANT))[1], K.FEVER)
-    assert "flag the reading as illness" in alert.message
+    fever_day = today + timedelta(days=1)
+    chart.temp(fever_day, 38.6, flags)
+    analysis, found = run(chart, fever_day, patient(PatientStatus.PREGNANT))
+    (alert,) = of(found, K.FEVER)
+    (left_out,) = [e for e in analysis.current.shift.excluded if e.day == fever_day]
+    assert left_out.celsius == 38.6 and left_out.reason == ("disturbed: illness" if flags else "fever")
+    assert "already left out of the shift rules" in alert.message
+    assert "flag the reading" not in alert.message and "so the shift rules leave it out" not in alert.message
+    assert alert.message.endswith("flag as illness her other readings taken while unwell.")
 
 
 def test_a_fever_older_than_the_look_back_is_history():

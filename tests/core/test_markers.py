@@ -197,6 +197,22 @@ def test_a_later_surge_that_fits_the_shift_wins_over_an_earlier_one():
     assert "15 days before" in record.markers.conflict  # the day-5 positive, 15 days before the rise
 
 
+@pytest.mark.parametrize("lh_day, dates", [(19, True), (21, True), (22, True), (23, False), (26, False)])
+def test_a_surge_after_a_confirmed_rise_dates_ovulation_only_up_to_3_days_after_it(lh_day, dates):
+    # Hilgers 1980: ovulation from 6 days before to 3 days after the first day of the rise (day 20).
+    # A surge on day 22 puts ovulation on day 23, 3 days after it; one on day 23 on day 24, outside:
+    # a confirmed shift is not noise, so the shift dates ovulation (day 19), the luteal phase is
+    # 14 days (Lenton 1984), not a short one, and the nurse is told of the conflict.
+    record = analyse(PATIENT, _cycle_with([lh(lh_day, "positive")]), on(34)).cycles[0]
+    if dates:
+        assert (record.markers.ovulation, record.markers.ovulation_method) == (on(lh_day + 1), "lh")
+        assert record.markers.conflict is None
+    else:
+        assert (record.markers.ovulation, record.markers.ovulation_method) == (on(19), "shift")
+        assert record.luteal_length == 14
+        assert f"{lh_day - 20} days after the temperature rise" in record.markers.conflict
+
+
 @pytest.mark.parametrize(
     "length, lh_day, conflict",
     [(33, 5, True), (40, 14, True), (30, 9, True), (30, 10, False), (28, 13, False), (20, 13, False), (20, 14, True)],

@@ -198,6 +198,18 @@ def test_negative_tests_after_the_expected_range_say_nothing_of_the_days_in_it()
     assert min(cycle_day(start, d) for d, _ in p.ovulation_distribution) == last_expected + 1
 
 
+@pytest.mark.parametrize("watched", [16, 20, 26, 30, 35, 38])
+def test_the_predicted_day_lies_inside_its_own_range_however_long_nothing_shows(watched):
+    # Daily readings with no rise up to `watched`: the days left form a flat stretch then a tail,
+    # where the single most likely day is merely the first. Whatever the stretch, the day shown lies
+    # inside the 80% range shown beside it, and the fertile window ends on it.
+    obs, start, today = history([28] * 6, current_day=watched + 1)
+    p = analyse(PATIENT, obs + flat_temps(start, watched), today).prediction
+    assert p.evidence == "elapsed"
+    assert p.ovulation_range[0] <= p.ovulation <= p.ovulation_range[1]
+    assert p.fertile_window[1] == p.ovulation
+
+
 def test_with_nothing_watched_the_pattern_stands():
     obs, start, today = history([28] * 6, current_day=20)
     p = analyse(PATIENT, obs, today).prediction
@@ -226,11 +238,29 @@ def test_a_confirmed_shift_puts_ovulation_in_the_past():
     today = start + timedelta(days=19 - 1)
     p = analyse(PATIENT, obs, today).prediction
     days = [cycle_day(start, d) for d, m in p.ovulation_distribution if m > 0]
-    assert min(days) >= 17 - 6 and max(days) <= 16
+    # The rise dated to day 17 dates ovulation to day 16, give or take a day: inside Hilgers' range.
+    assert (min(days), max(days)) == (15, 17) and cycle_day(start, p.ovulation) == 16
     assert p.evidence == "shift"
     assert all(c.p_fertile == 0.0 for c in p.daily[1:])
     # The period is due about a luteal phase (Lenton 1984: 14.13 days) after ovulation.
     assert 27 <= cycle_day(start, p.next_period) <= 32
+
+
+@pytest.mark.parametrize("rise", [15, 19, 24, 27])
+def test_a_confirmed_shift_dates_the_forecast_as_it_dates_the_cycle(rise):
+    # Six 28-day cycles, then a shift that rises on `rise`: late ones included, the forecast puts
+    # ovulation where the cycle record does (the day before the rise), and the period a luteal phase
+    # (Lenton 1984: 14.13 days) after it, not back towards her usual day 14.
+    obs, start, _ = history([28] * 6)
+    temps = {d: 36.40 + 0.05 * (d % 3) for d in range(2, rise)} | {d: 36.80 + 0.05 * (d % 2) for d in range(rise, rise + 8)}
+    obs += _readings(start, temps)
+    today = start + timedelta(days=rise + 7 - 1)
+    a = analyse(PATIENT, obs, today)
+    assert cycle_day(start, a.current.markers.ovulation) == rise - 1
+    assert cycle_day(start, a.prediction.ovulation) == rise - 1
+    assert cycle_day(start, a.prediction.next_period) == rise - 1 + 14 + 1
+    low, high = (cycle_day(start, d) for d in a.prediction.next_period_range)
+    assert low <= rise + 14 <= high
 
 
 def test_ovulation_before_day_one_is_impossible():

@@ -78,6 +78,17 @@ def test_one_spike_among_the_six_is_set_aside():
     assert not shift_of(spiked | {12: 36.75}).confirmed
 
 
+@pytest.mark.parametrize("spike_day", [13, 15, 17])
+def test_a_spike_set_aside_does_not_date_the_rise(spike_day):
+    # Miolo 1993: a reading 0.2 C or more above both neighbours is a spike, set aside. The readings
+    # after it fell back, so the rise had not begun at it: with or without it, the rise is dated to
+    # the first high (day 19), never to the spike's day, where the change point alone may split.
+    plain = {d: (36.45, 36.40, 36.50, 36.35)[d % 4] for d in range(1, 19)} | {d: 36.80 + 0.05 * (d % 2) for d in range(19, 29)}
+    spiked = plain | {spike_day: 37.30}
+    assert shift_of(plain).rise_start == on(19)
+    assert shift_of(spiked).confirmed and shift_of(spiked).rise_start == on(19)
+
+
 def test_the_rule_slides_past_a_run_that_failed():
     # Miolo 1993: "the first time in the cycle", so a lone high that fell back does not end the
     # search; it is later a spike (36.70 between 36.45 and 36.40) and the next run confirms.

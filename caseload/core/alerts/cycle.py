@@ -191,16 +191,17 @@ def bleeding_now(f: Facts) -> bool:
 
 
 def period_overdue(f: Facts) -> list[Candidate]:
-    """Past the next period's 90% upper bound, or more days after the first high than a luteal
-    phase lasts, whichever comes first; no bleed yet. Never while she is bleeding: a bleed that
-    runs on is prolonged-bleeding's, bleeding between periods intermenstrual-bleeding's."""
+    """Past the next period's 90% upper bound; once a shift is confirmed, more days after its first
+    high than a luteal phase lasts instead, since the shift, not her usual cycle, dates this one's
+    end (ASRM 2021: luteal phase up to 17 days). No bleed yet. Never while she is bleeding: a bleed
+    that runs on is prolonged-bleeding's, bleeding between periods intermenstrual-bleeding's."""
     current, forecast, p = f.analysis.current, f.analysis.prediction, f.protocol
     if current is None or forecast is None or bleeding_now(f):
         return []
     latest = forecast.next_period_range[1]
     shift = current.shift
     after_shift = shift.first_high + timedelta(days=p.overdue_after_shift_days) if shift.confirmed else None
-    expected_by = min(latest, after_shift) if after_shift else latest
+    expected_by = after_shift or latest
     if f.today <= expected_by:
         return []
     return [
@@ -219,8 +220,8 @@ def period_overdue(f: Facts) -> list[Candidate]:
                 "after_shift_limit": iso(after_shift),
                 "days_late": (f.today - expected_by).days,
             },
-            f"Today past the next period's 90% upper bound, or more than {p.overdue_after_shift_days} days after the "
-            "first high temperature, with no bleed",
+            f"Today past the next period's 90% upper bound or, once a shift is confirmed, more than "
+            f"{p.overdue_after_shift_days} days after its first high temperature, with no bleed",
             source_of(p, ("overdue_after_shift_days",), "common practice; luteal phase up to 17 days: ASRM 2021"),
         )
     ]

@@ -18,7 +18,7 @@ from datetime import date, timedelta
 from caseload.core.alerts import AlertKind, Candidate, Facts, scope_of
 from caseload.core.alerts.base import skip_reason
 from caseload.core.alerts.window import open_threshold, p_today
-from caseload.core.model import Alert, AlertState
+from caseload.core.model import Alert, AlertState, Severity
 from caseload.core.parse import InputError, one_line
 
 OPEN, ACKNOWLEDGED = AlertState.OPEN, AlertState.ACKNOWLEDGED
@@ -29,8 +29,10 @@ ALLOWED_FROM: dict[AlertState, frozenset[AlertState]] = {
     SNOOZED: frozenset({OPEN, ACKNOWLEDGED, SNOOZED}),
     RESOLVED: frozenset({OPEN, ACKNOWLEDGED, SNOOZED}),
 }
-# A snooze further off than this is a resolve in disguise, or a mistyped year.
-MAX_SNOOZE_DAYS = 90
+# How far off an alert may be snoozed, by its severity: an urgent one until the next serial hCG at
+# most (48 h apart, Barnhart 2004), one for today a week, the others a month or a quarter (common
+# practice). Further off is a resolve in disguise, or a mistyped year.
+SNOOZE_DAYS_MAX: dict[Severity, int] = {Severity.URGENT: 2, Severity.TODAY: 7, Severity.SOON: 30, Severity.INFO: 90}
 # Kinds whose rule looks only at the current cycle: a new day 1 ends them.
 CURRENT_CYCLE_KINDS = frozenset(
     {
@@ -145,8 +147,9 @@ def ended_reason(alert: Alert, facts: Facts) -> str:
     return "the entries behind it were corrected or voided"
 
 
-def parse_future_day(text: str, today: date) -> date:
-    """A day after today: YYYY-MM-DD, 'tomorrow' or '+N' (days ahead), at most MAX_SNOOZE_DAYS away."""
+def parse_future_day(text: str, today: date, severity: Severity) -> date:
+    """The day an alert of `severity` is snoozed until: YYYY-MM-DD, 'tomorrow' or '+N' (days ahead),
+    after today and at most its SNOOZE_DAYS_MAX away."""
     t = (text or "").strip().lower()
     day = None
     if t == "tomorrow":
@@ -162,7 +165,8 @@ def parse_future_day(text: str, today: date) -> date:
         raise InputError(f"day '{one_line(text or '')}' not understood: use YYYY-MM-DD, tomorrow or +N (days ahead)")
     if day <= today:
         raise InputError(f"{day.isoformat()} is not after today ({today.isoformat()}): give a later day")
-    if (day - today).days > MAX_SNOOZE_DAYS:
-        away = (day - today).days
-        raise InputError(f"{day.isoformat()} is {away} days away: snooze at most {MAX_SNOOZE_DAYS} days, or resolve the alert")
+    most, away = SNOOZE_DAYS_MAX[severity], (day - today).days
+    if away > most:
+        raise InputError(f"{day.isoformat()} is {away} days away: an alert of severity {severity.value} is snoozed at "
+                         f"most {most} days; acknowledge or resolve it instead")
     return day

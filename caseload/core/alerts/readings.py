@@ -71,18 +71,22 @@ def _fevers(observations: list[Observation], threshold: float, today: date) -> d
 
 def fever(f: Facts) -> list[Candidate]:
     """Every reading of a fever, disturbed or not (an ill patient's reading is usually flagged);
-    one a day. Older than the look-back it is history, held but not raised."""
+    one a day. Older than the look-back it is history, held but not raised.
+
+    The fever reading itself is already left out of the shift rules (thermal.excluded_readings), so
+    the nurse is not asked to flag it; an illness also lifts the readings of the days around the
+    fever that stay under the threshold (common practice), and only a flag leaves those out."""
     p = f.protocol
     recent_from = f.today - timedelta(days=p.alert_lookback_days)
     found = []
     for day, obs in sorted(_fevers(f.observations, p.fever_c, f.today).items()):
-        advice = "" if obs.disturbed else "; flag the reading as illness so the shift rules leave it out"
         found.append(
             f.candidate(
                 AlertKind.FEVER,
                 day.isoformat(),
                 Severity.TODAY,
-                f"Fever: {obs.value.number:.2f} C on {day.isoformat()}: ask about illness{advice}.",
+                f"Fever: {obs.value.number:.2f} C on {day.isoformat()}, already left out of the shift rules: ask "
+                "about illness, and flag as illness her other readings taken while unwell.",
                 {"day": day.isoformat(), "celsius": obs.value.number, "threshold_c": p.fever_c, "flags": list(obs.flags)},
                 f"A temperature reading of {p.fever_c:g} C or more",
                 source_of(p, ("fever_c",), "common practice"),

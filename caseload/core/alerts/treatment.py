@@ -7,6 +7,8 @@ current cycle (or pregnancy) are held until a new cycle begins; a bleed in pregn
 
 from __future__ import annotations
 
+from collections import Counter
+
 from caseload.core.alerts.base import AlertKind, Candidate, Facts, iso, source_of
 from caseload.core.follicles import THESSALONIKI_RULE
 from caseload.core.model import Severity
@@ -31,8 +33,15 @@ def _hcg_json(value: HcgValue) -> dict:
     return {"taken": value.taken.isoformat(timespec="minutes"), "iu_l": value.iu_l}
 
 
-def _sample_key(value: HcgValue) -> str:
-    return f"{value.taken.isoformat(timespec='minutes')}={value.iu_l:g}"
+def _sample_names(values: tuple[HcgValue, ...]) -> dict[int, str]:
+    """Each sample by its time, and by its place among samples of the same time (two results of one
+    day logged without times): never by its value, which a key must not show."""
+    names, seen = {}, Counter()
+    for value in values:
+        seen[value.taken] += 1
+        name = value.taken.isoformat(timespec="minutes")
+        names[id(value)] = name if seen[value.taken] == 1 else f"{name}#{seen[value.taken]}"
+    return names
 
 
 def hcg_rise_low(f: Facts) -> list[Candidate]:
@@ -40,6 +49,7 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
     entered at once raises for each pair that fails, not only the last."""
     p = f.protocol
     found = []
+    names = _sample_names(f.analysis.hcg)
     for pair in abnormal_pairs(f.analysis.hcg, p):
         first, second, rise = pair.first, pair.second, pair.rise_48h
         days = f"{first.taken.date().isoformat()} to {second.taken.date().isoformat()}"
@@ -55,8 +65,8 @@ def hcg_rise_low(f: Facts) -> list[Candidate]:
         found.append(
             f.candidate(
                 AlertKind.HCG_RISE_LOW,
-                # The two samples by time and value: pairs on the same two days stay apart.
-                f"{_sample_key(first)}/{_sample_key(second)}",
+                # The two samples, not their days: pairs over the same two days stay apart.
+                f"{names[id(first)]}/{names[id(second)]}",
                 Severity.URGENT,
                 message,
                 {

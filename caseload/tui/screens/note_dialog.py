@@ -76,7 +76,8 @@ class NoteDialog(Dialog[HandleNote | None]):
     def _until(self) -> date | None:
         if self.verb != "snooze":
             return None
-        return parse_future_day(self.query_one("#until", Input).value.strip() or UNTIL_DEFAULT, self.today)
+        return parse_future_day(self.query_one("#until", Input).value.strip() or UNTIL_DEFAULT, self.today,
+                                self.alert.severity)
 
     def _problem(self) -> str | None:
         try:
