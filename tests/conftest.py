@@ -7,7 +7,8 @@ import fcntl
 import os
 import pickle
 import shutil
-from collections.abc import Iterator
+import subprocess
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, replace
 from datetime import date
 from pathlib import Path
@@ -127,3 +128,23 @@ def as_role(store, staffed):
 @pytest.fixture
 def patient(as_role):
     return add_patient(as_role(Role.NURSE), "P0001", "Test Patient", "1992-05-17", nurse="nurse1")
+
+
+@pytest.fixture
+def small_disk(tmp_path) -> Iterator[Callable[[str], Path]]:
+    """small_disk("64k"): a folder on a tmpfs of that size, unmounted after the test. Mounting needs
+    root (CI runs as root); elsewhere the test is skipped."""
+    mounted: list[Path] = []
+
+    def mount(size: str) -> Path:
+        folder = tmp_path / f"small-{len(mounted)}"
+        folder.mkdir()
+        if os.geteuid() != 0 or subprocess.run(["mount", "-t", "tmpfs", "-o", f"size={size}", "tmpfs", str(folder)],
+                                               capture_output=True).returncode:
+            pytest.skip("mounting a small tmpfs needs root")
+        mounted.append(folder)
+        return folder
+
+    yield mount
+    for folder in mounted:
+        subprocess.run(["umount", str(folder)], check=True)

@@ -289,7 +289,7 @@ def is_demo_store(path: Path) -> bool:
     if not path.exists():
         return False
     try:
-        with Store(path) as existing:
+        with Store(path, must_exist=True) as existing:  # a look that makes no store of an empty file
             return existing.meta("clinic") is not None
     except StoreError:
         return False

@@ -2,7 +2,7 @@
 what was typed, Refused for rules and permissions, StoreError for a file that cannot be used."""
 
 from caseload.core.parse import InputError
-from caseload.store import StoreDamaged, StoreError
+from caseload.store import NotAStore, StoreDamaged, StoreError
 
 
 class Refused(Exception):
@@ -13,4 +13,4 @@ class NotFound(Refused):
     """The named patient, staff member, entry or alert does not exist."""
 
 
-__all__ = ["InputError", "NotFound", "Refused", "StoreDamaged", "StoreError"]
+__all__ = ["InputError", "NotAStore", "NotFound", "Refused", "StoreDamaged", "StoreError"]

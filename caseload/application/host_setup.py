@@ -3,9 +3,14 @@
 `set_up_host` (run as root) creates, or keeps when they exist: the clinic group, the service
 account, the store's folder (0700, the service's), the store (0600, the service's; a new one with
 its first admin mapped to that admin's own account), root's service file that tells caseload the
-account is a service (see `identity`), a sudoers drop-in letting the group run caseload, and only
-caseload, as the service account (checked with `visudo -cf` before it is put in place), and a
-wrapper on PATH that runs it so. Each step says what it did.
+account is a service (see `identity`) and names the host's caseload admin accounts, a sudoers
+drop-in letting the group run caseload, and only caseload, as the service account (checked with
+`visudo -cf` before it is put in place), and a wrapper on PATH that runs it so. Each step says what
+it did.
+
+The program the rule names is run as the service account by anyone in the group, so it must be
+root's alone: the file, every folder above it, and the interpreter its first line names (see
+`_refuse_unsafe_program`).
 """
 
 from __future__ import annotations
@@ -14,20 +19,21 @@ import grp
 import os
 import pwd
 import re
+import stat
 import subprocess
 import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
 from caseload.application.errors import Refused
-from caseload.application.identity import SERVICES_DIR, service_file
+from caseload.application.identity import SERVICES_DIR, service, service_file
 from caseload.application.staff import init_store
 from caseload.core.parse import parse_id
-from caseload.store import Store
+from caseload.store import Store, creating
+from caseload.store.db import store_files
 
 SUDOERS_DIR = Path("/etc/sudoers.d")
 WRAPPER_MARK = "# caseload wrapper: runs caseload as its service account"
-STORE_FILES = ("", "-wal", "-shm")
 SAFE_PATH = re.compile(r"/[\w./-]+")  # written into a sudo rule and a shell script as they are
 
 
@@ -91,12 +97,9 @@ def _store(plan: HostPlan, uid: int, gid: int) -> str:
     if new:
         if not (plan.admin_id and plan.admin_name and plan.admin_account):
             raise Refused("a new store needs its first admin: give --admin ID --name NAME --admin-account ACCOUNT")
-        if not _exists(pwd.getpwnam, plan.admin_account):
-            raise Refused(f"no OS account '{plan.admin_account}' on this host: create it first")
-        with Store(plan.store) as store:
+        with creating(plan.store), Store(plan.store) as store:  # a failed set-up leaves no half-made store
             init_store(store, plan.admin_id, plan.admin_name, plan.admin_account)
-    for suffix in STORE_FILES:
-        path = Path(f"{plan.store}{suffix}")
+    for path in store_files(plan.store):
         if path.exists():
             os.chown(path, uid, gid)
             path.chmod(0o600)
@@ -122,9 +125,16 @@ def _toml_text(value: str) -> str:
 
 
 def _service_file(plan: HostPlan) -> str:
+    """Root's word that the account is a service, with the host's caseload admin accounts: those named
+    before (a setup run again keeps them) and `--admin-account`. They may restore the store when it is
+    too damaged to say who its own admins are (`store_care.restore_damaged`)."""
     path = service_file(plan.service_account)
+    earlier = service(plan.service_account)
+    admins = [*(earlier.admins if earlier else ()), *([plan.admin_account] if plan.admin_account else [])]
+    listed = ", ".join(_toml_text(a) for a in dict.fromkeys(admins))
     _write_root_file(path, f"# Written by caseload host setup: {plan.service_account} runs this caseload store.\n"
-                           f"store = {_toml_text(str(plan.store))}\ngroup = {_toml_text(plan.group)}\n", 0o644)
+                           f"store = {_toml_text(str(plan.store))}\ngroup = {_toml_text(plan.group)}\n"
+                           f"admins = [{listed}]\n", 0o644)
     SERVICES_DIR.chmod(0o755)
     return f"service file {path}"
 
@@ -169,6 +179,51 @@ def _wrapper(plan: HostPlan) -> str:
     return f"wrapper {plan.wrapper}"
 
 
+def _refuse_unsafe_program(program: Path) -> None:
+    """Refuse a program anyone but root could change. The sudo rule lets every member of the group run
+    whatever is at that path as the service account: whoever can write the file, or any folder above
+    it (to put another file there), or the interpreter its first line names, could run anything as
+    the service and read or rewrite the store. Checked along the path as given (a symbolic link is
+    judged by the folder holding it) and along the real path it leads to."""
+    what, path, seen = f"--program {program}", program, set()
+    while path.resolve() not in seen:  # an interpreter may itself be a script: each is checked once
+        seen.add(path.resolve())
+        _refuse_writable_by_others(path, what)
+        with open(path, "rb") as f:
+            first = f.readline(4096)
+        if not first.startswith(b"#!"):
+            return  # a compiled program: its own file is all the kernel runs
+        line = os.fsdecode(first[2:]).strip()
+        interpreter = Path(line.split()[0]) if line else None
+        if interpreter is None or not interpreter.is_absolute() or interpreter.name == "env":
+            raise Refused(f"{what} is not safe for a sudo rule: its first line ('#!{line}') leaves the "
+                          "interpreter to a search of PATH; give a program that names it by its full path")
+        if not interpreter.is_file():
+            raise Refused(f"{what} names the interpreter {interpreter}, which is not a file: give the caseload "
+                          "program installed on this host")
+        what, path = f"{interpreter}, the interpreter of {program},", interpreter
+
+
+def _refuse_writable_by_others(program: Path, what: str) -> None:
+    real = program.resolve()
+    for path in dict.fromkeys([program, *program.parents, real, *real.parents]):
+        info = path.lstat()
+        if info.st_uid != 0:
+            raise Refused(f"{what} is not safe for a sudo rule: {path} belongs to {_owner(info.st_uid)}, not "
+                          "root; install caseload where only root can change it")
+        if not stat.S_ISLNK(info.st_mode) and info.st_mode & (stat.S_IWGRP | stat.S_IWOTH):
+            who = "others" if info.st_mode & stat.S_IWOTH else "its group"
+            raise Refused(f"{what} is not safe for a sudo rule: {path} may be written by {who}; install "
+                          "caseload where only root can change it")
+
+
+def _owner(uid: int) -> str:
+    try:
+        return pwd.getpwuid(uid).pw_name
+    except KeyError:
+        return f"uid {uid}"
+
+
 def set_up_host(plan: HostPlan) -> list[str]:
     """Create what is missing for a shared store; returns one line per step."""
     if os.geteuid() != 0:
@@ -179,6 +234,9 @@ def set_up_host(plan: HostPlan) -> list[str]:
         raise Refused("the program and wrapper paths may hold only letters, digits, '.', '_', '-' and '/'")
     if not plan.program.is_file() or not os.access(plan.program, os.X_OK):
         raise Refused(f"{plan.program} is not an executable file: give the caseload program with --program")
+    _refuse_unsafe_program(plan.program)
+    if plan.admin_account and not _exists(pwd.getpwnam, plan.admin_account):
+        raise Refused(f"no OS account '{plan.admin_account}' on this host: create it first")
     done = [_group(plan.group), _account(plan)]
     entry = pwd.getpwnam(plan.service_account)
     done += [_folder(plan, entry.pw_uid, entry.pw_gid), _store(plan, entry.pw_uid, entry.pw_gid),

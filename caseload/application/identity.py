@@ -21,8 +21,9 @@ import stat
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Protocol
 
-from caseload.core.model import Actor, Role
+from caseload.core.model import Actor, Role, Staff
 from caseload.application.errors import NotFound, Refused
 from caseload.store import Store
 
@@ -31,11 +32,13 @@ SERVICES_DIR = Path("/etc/caseload/services")
 
 @dataclass(frozen=True)
 class Service:
-    """A service account of this host: the store it owns and the group whose members may use it."""
+    """A service account of this host: the store it owns, the group whose members may use it, and the
+    accounts of the host's own caseload admins (`host setup --admin-account`)."""
 
     account: str
     store: Path
     group: str
+    admins: tuple[str, ...] = ()
 
 
 def service_file(account: str) -> Path:
@@ -60,7 +63,10 @@ def service(account: str) -> Service | None:
         if info.st_uid != 0 or info.st_mode & (stat.S_IWGRP | stat.S_IWOTH) or not stat.S_ISREG(info.st_mode):
             return None
         data = tomllib.loads(path.read_text(encoding="utf-8"))
-        return Service(account, Path(data["store"]), data["group"])
+        admins = data.get("admins", [])
+        if not (isinstance(admins, list) and all(isinstance(a, str) for a in admins)):
+            admins = []  # names no one, rather than misreading them
+        return Service(account, Path(data["store"]), data["group"], tuple(admins))
     except (OSError, ValueError, KeyError, TypeError):
         return None
 
@@ -95,12 +101,47 @@ def _sudo_invoker() -> str | None:
 def os_account() -> str:
     """The account acting: through the service's sudo rule the staff member who ran it, else the
     account the process runs under. USER and LOGNAME are never read: anyone can set them."""
-    own = _account_name(os.geteuid())
-    if service(own) is not None:
-        invoker = _sudo_invoker()
-        if invoker is not None:
-            return invoker
-    return own
+    caller = sudo_caller()
+    return caller.account if caller is not None else _account_name(os.geteuid())
+
+
+@dataclass(frozen=True)
+class Caller:
+    """The staff member's own account behind a service's sudo rule: what the kernel would let her
+    read is judged by her uid and every group she is in, not by the service account's."""
+
+    account: str
+    uid: int
+    gids: frozenset[int]
+
+
+def sudo_caller() -> Caller | None:
+    """The account this process acts for when it runs as a service through sudo; None when it runs
+    as the account it acts for (the kernel then checks every file it opens)."""
+    if service(_account_name(os.geteuid())) is None:
+        return None
+    name = _sudo_invoker()
+    if name is None:
+        return None
+    entry = pwd.getpwnam(name)
+    return Caller(name, entry.pw_uid, frozenset(os.getgrouplist(name, entry.pw_gid)))
+
+
+def host_owners(store: Path) -> list[str]:
+    """The OS accounts that own the store at `store` on this host, whatever the file says inside:
+    root; the account the file belongs to (one person's own store, or a shared host's service
+    account itself, as in a cron job); and, through a shared host's sudo rule, the admin accounts
+    root's service file names. The first two could replace the file anyway; the others are root's
+    word, in a file only root may write (see `service`)."""
+    owners = ["root"]
+    try:
+        owners.append(_account_name(store.stat().st_uid))
+    except OSError:
+        pass
+    svc = running_service()
+    if svc is not None and svc.store.resolve() == store.resolve():
+        owners += svc.admins
+    return list(dict.fromkeys(owners))
 
 
 def not_mapped(account: str) -> Refused:
@@ -110,9 +151,22 @@ def not_mapped(account: str) -> Refused:
     )
 
 
+class StaffLookup(Protocol):
+    """Staff records by id and by OS account: a store's staff table, or the staff read from a damaged file."""
+
+    def get(self, staff_id: str) -> Staff | None: ...
+
+    def by_os_account(self, account: str) -> Staff | None: ...
+
+
 def resolve_actor(store: Store, account: str, as_staff: str | None = None) -> Actor:
     """The acting staff member for this OS account, or a one-line refusal."""
-    own = store.staff.by_os_account(account)
+    return actor_among(store.staff, account, as_staff)
+
+
+def actor_among(staff: StaffLookup, account: str, as_staff: str | None = None) -> Actor:
+    """The acting staff member among `staff` for this OS account (see the rule above), or a refusal."""
+    own = staff.by_os_account(account)
     if own is None:
         raise not_mapped(account)
     if not own.active:
@@ -121,7 +175,7 @@ def resolve_actor(store: Store, account: str, as_staff: str | None = None) -> Ac
         return Actor(own, account)
     if own.role is not Role.ADMIN:
         raise Refused(f"--as is honoured only for an admin's OS account; '{account}' is {own.id} ({own.role.value})")
-    other = store.staff.get(as_staff)
+    other = staff.get(as_staff)
     if other is None:
         raise NotFound(f"no staff member '{as_staff}': see 'caseload staff list'")
     if not other.active:

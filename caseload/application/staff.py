@@ -11,6 +11,7 @@ from caseload.core.parse import InputError, one_line, parse_choice, parse_id, pa
 from caseload.application.context import Context
 from caseload.application.errors import NotFound, Refused
 from caseload.store import Store
+from caseload.store.verify import meta_as_audited
 
 DEFAULT_TIMEZONE = "Europe/London"
 
@@ -25,11 +26,13 @@ def init_store(
     if store.staff.all():
         raise Refused(f"{store.path} is already set up: add staff with 'caseload staff add'")
     actor = Actor(admin, account)
+    settings = {"timezone": zone, "pseudonym_secret": secrets.token_hex(32)}
     with store.atomic(day or local_today(zone)):
         store.staff.add(actor, admin)
-        store.set_meta("timezone", zone)
-        store.set_meta("pseudonym_secret", secrets.token_hex(32))
-        store.audit.record(actor, "store.init", "meta", None, after={"timezone": zone})
+        for key, value in settings.items():
+            store.set_meta(key, value)
+        # Audited as `check` compares them: a time zone or secret edited behind the tool's back shows.
+        store.audit.record(actor, "store.init", "meta", None, after=meta_as_audited(settings))
     return actor
 
 

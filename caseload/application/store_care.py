@@ -5,11 +5,18 @@ from __future__ import annotations
 from datetime import date
 from pathlib import Path
 
+from caseload.core.model import Actor, Role, Staff
 from caseload.application.context import Context, require
-from caseload.application.identity import resolve_actor
+from caseload.application.errors import Refused
+from caseload.application.identity import actor_among, host_owners
 from caseload.application.staff import clinic_today
 from caseload.store import Report, Store
-from caseload.store.backup_restore import Restored, check_file, replace_damaged, verified_copy
+from caseload.store.backup_restore import Restored, check_file, replace_damaged, staff_of_unopenable, verified_copy
+from caseload.store.db import utc_now
+
+# The audit row of a restore authorised by owning the file on the host rather than by a staff record:
+# no staff id can be this (ids start with a letter or digit), so it is never taken for one.
+HOST_OWNER = "(host owner)"
 
 
 def backup(ctx: Context, target: str) -> Path:
@@ -40,19 +47,62 @@ def restore(ctx: Context, source: str, force: bool = False) -> Restored:
 
 def restore_damaged(path: Path, source: str, account: str, as_staff: str | None,
                     date_of_record: date | None = None) -> Restored:
-    """Restore over a store too damaged to open. The damaged store cannot say who may do it, so the
-    verified backup does: the account must map to one of its admins. The damaged file is kept."""
+    """Restore over a store that cannot be opened (damaged, not a database, empty, or not a caseload
+    store); the file it replaces is kept beside it byte for byte.
+
+    Who may: an active admin of the damaged store itself, while SQLite can still read its staff (the
+    account must map to one, `--as` as anywhere); and, whether or not they can be read, the host's
+    owner of the store (`identity.host_owners`: root, the account the file belongs to, or through a
+    shared host's sudo rule an admin account named by `host setup --admin-account`), who could
+    replace the file anyway. Never the backup's staff: whoever wrote the backup may have made
+    herself its admin. Refused before anything is read from the backup or written."""
+    actor = _restorer(path, account, as_staff)
     with verified_copy(path, Path(source)) as (stage, version):
-        with Store(stage) as staged:
-            actor = resolve_actor(staged, account, as_staff)
-            require(actor, "store.restore")
-            now = staged.db.clock()
-        kept = replace_damaged(path, stage, now)
+        kept = replace_damaged(path, stage, utc_now())
     with Store(path) as store:
         record = {"path": source, "schema": version, "kept": str(kept), "replaced_damaged": True}
         with store.atomic(date_of_record or clinic_today(store)):
             store.audit.record(actor, "store.restore", "store", None, after=record)
     return Restored(version, kept, None)
+
+
+def _restorer(path: Path, account: str, as_staff: str | None) -> Actor:
+    """Who restores over the store at `path`, by the rule in `restore_damaged`, or a refusal naming who may."""
+    owners = host_owners(path)
+    staff = staff_of_unopenable(path)
+    refusal = None
+    if staff is not None:
+        try:
+            actor = actor_among(_Roster(staff), account, as_staff)
+            require(actor, "store.restore")
+            return actor
+        except Refused as err:
+            refusal = err
+    if account in owners:
+        # The host's owner acts as itself: `--as` names a staff member, whom only the store's staff vouch for.
+        if as_staff is None:
+            return Actor(Staff(HOST_OWNER, "the host's owner of the store", Role.ADMIN, True, account), account)
+        if refusal is None:
+            raise Refused(f"{path} is too damaged to say who its staff are, so --as cannot be honoured: "
+                          "run the restore without it")
+    who = f"the host's owner of it ({', '.join(owners)})"
+    if refusal is None:
+        raise Refused(f"{path} is too damaged to say who its admins are, so only {who} may restore over it; "
+                      f"'{account}' is not: ask one of them")
+    raise Refused(f"{refusal}; over a damaged store only its own admins or {who} may restore")
+
+
+class _Roster:
+    """Staff records read from a damaged file, looked up as a store's staff table is."""
+
+    def __init__(self, staff: list[Staff]):
+        self.staff = staff
+
+    def get(self, staff_id: str) -> Staff | None:
+        return next((s for s in self.staff if s.id == staff_id), None)
+
+    def by_os_account(self, account: str) -> Staff | None:
+        return next((s for s in self.staff if s.os_account == account), None)
 
 
 def check(ctx: Context) -> Report:

@@ -21,7 +21,9 @@ def host() -> None:
 @click.option("--store", required=True, type=click.Path(dir_okay=False), help="The store file, in a folder of its own.")
 @click.option("--admin", "admin_id", metavar="ID", help="For a new store: its first admin's staff id.")
 @click.option("--name", "admin_name", metavar="NAME", help="For a new store: its first admin's name.")
-@click.option("--admin-account", metavar="ACCOUNT", help="For a new store: its first admin's OS account.")
+@click.option("--admin-account", metavar="ACCOUNT",
+              help="For a new store: its first admin's OS account. Always: named in root's service file as a host "
+                   "admin, who may restore the store when it is too damaged to say who its admins are.")
 @click.option("--program", type=click.Path(dir_okay=False), help="The caseload program staff run (default: this one).")
 @click.option("--wrapper", default="/usr/local/bin/caseload-clinic", show_default=True, type=click.Path(dir_okay=False),
               help="Where to put the wrapper staff type.")

@@ -5,7 +5,7 @@ from __future__ import annotations
 import click
 
 from caseload.application.clinic import Clinic, Identity
-from caseload.application.errors import StoreDamaged, StoreError
+from caseload.application.errors import NotAStore, StoreDamaged, StoreError
 from caseload.application.staff import DEFAULT_TIMEZONE
 from caseload.application.store_care import Report
 from caseload.cli.global_options import GlobalOptions, pass_clinic, pass_options
@@ -24,7 +24,8 @@ def init(options: GlobalOptions, admin_id: str, name: str, timezone: str) -> Non
     if path.exists() and path.stat().st_size:
         raise InputError(f"{path} exists already: choose another --db path")
     actor = Clinic.create(path, Identity.from_os(), admin_id, name, timezone, date_of_record=options.date_of_record)
-    click.echo(f"Store created at {path}; admin {actor.id} is mapped to OS account '{actor.os_account}'.")
+    click.echo(f"Store created at {printable(path)}; admin {actor.id} is mapped to OS account "
+               f"'{printable(actor.os_account)}'.")
 
 
 @click.command()
@@ -41,13 +42,14 @@ def backup(clinic: Clinic, path: str) -> None:
 @click.option("--force", is_flag=True, help="Restore even though the store holds data the backup lacks.")
 @pass_options
 def restore(options: GlobalOptions, path: str, force: bool) -> None:
-    """Replace the store with a backup, after verifying it as check does (admins only).
+    """Replace the store with a backup, after verifying it as check does (admins only; over a store
+    that cannot be opened, its admins if they can still be read, else the host's owner of the store).
 
     The replaced store is kept beside it as STORE.replaced-DATE (owner-only)."""
     try:
         clinic = options.open_clinic()
         clinic.refuse_damaged()  # opening does not check: the restore first reads the store to compare it
-    except StoreDamaged:
+    except (StoreDamaged, NotAStore):  # nothing to compare with: replaced whole, and kept beside it
         if options.clinic is not None:
             options.clinic.close()  # the damaged file is replaced under its name: no connection may stay on it
         done = Clinic.restore_damaged(options.path, path, Identity.from_os(options.as_staff), options.date_of_record)
@@ -96,10 +98,20 @@ def _recompute(clinic: Clinic) -> None:
         raise click.exceptions.Exit(1)
 
 
+# SQLite's integrity check can list a hundred findings, most of them echoes of the first: a few say
+# which pages are damaged, and the rest are counted.
+INTEGRITY_SHOWN = 3
+
+
 def report_lines(r: Report) -> list[str]:
     """The check's findings, one topic a line, each problem named (which rows, which trigger)."""
     if r.integrity != ("ok",):
-        return [f"integrity: {'; '.join(r.integrity)}", f"schema version: {r.schema_version}",
+        first, *others = r.integrity
+        more = len(others) - (INTEGRITY_SHOWN - 1)
+        return [f"integrity: {first}", *(f"  also: {finding}" for finding in others[:INTEGRITY_SHOWN - 1]),
+                *([f"  and {more} more {'finding' if more == 1 else 'findings'} of SQLite's integrity check"]
+                  if more > 0 else []),
+                f"schema version: {r.schema_version}",
                 "nothing else checked: the file is damaged; restore a backup with 'caseload restore FILE'"]
     if r.schema:
         return ["integrity: ok", f"schema version: {r.schema_version}; " + "; ".join(r.schema),

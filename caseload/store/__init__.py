@@ -12,7 +12,7 @@ from caseload.store.alert_table import AlertTable
 from caseload.store.audit_table import AuditTable
 from caseload.store.bulk_load import BulkTable
 from caseload.store.closed_cycle_table import ClosedCycleTable
-from caseload.store.db import Database, StoreDamaged, StoreError, refusing_damage, utc_now
+from caseload.store.db import Database, NotAStore, StoreDamaged, StoreError, creating, refusing_damage, utc_now
 from caseload.store.entry_table import EntryTable
 from caseload.store.list_mark_table import ListMarkTable
 from caseload.store.patient_table import PatientTable
@@ -26,8 +26,9 @@ from caseload.store.verify import Report
 class Store:
     """The tables of one store file. Writes go inside `with store.atomic(day_of_record):`."""
 
-    def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now):
-        self.db = Database(path, clock)
+    def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now, *, must_exist: bool = False):
+        """`must_exist`: open only a file that is a caseload store already (see `Database`)."""
+        self.db = Database(path, clock, must_exist=must_exist)
         self.staff = StaffTable(self.db)
         self.patients = PatientTable(self.db)
         self.entries = EntryTable(self.db)
@@ -107,4 +108,4 @@ class Store:
         self.close()
 
 
-__all__ = ["Report", "Store", "StoreDamaged", "StoreError", "refusing_damage"]
+__all__ = ["NotAStore", "Report", "Store", "StoreDamaged", "StoreError", "creating", "refusing_damage"]

@@ -12,9 +12,11 @@ from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
+from caseload.core.model import Staff
 from caseload.store import migrations
 from caseload.store.alert_table import HANDLING
-from caseload.store.db import Database, StoreError, create_private
+from caseload.store.db import Database, StoreError, create_private, store_files
+from caseload.store.staff_table import staff_from_row
 from caseload.store.verify import Report, verify
 
 # Audit actions that record a store's upkeep rather than clinical work: losing them loses no data.
@@ -115,9 +117,21 @@ def verified_copy(store: Path, source: Path) -> Iterator[tuple[Path, int]]:
         yield stage, version
 
 
+def staff_of_unopenable(store: Path) -> list[Staff] | None:
+    """The staff records of a store that cannot be opened, read-only, or None when SQLite cannot
+    read them (not a database, the table or its pages damaged or missing)."""
+    try:
+        with closing(sqlite3.connect(f"{store.resolve().as_uri()}?mode=ro", uri=True)) as conn:
+            conn.row_factory = sqlite3.Row
+            return [staff_from_row(row) for row in conn.execute("SELECT * FROM staff")]
+    except (sqlite3.Error, ValueError, IndexError):  # a role caseload never writes, a column it makes missing
+        return None
+
+
 def replace_damaged(store: Path, stage: Path, now: datetime) -> Path:
     """Put a verified staged copy in place of a store too damaged to open. The damaged file and its
-    write-ahead log are kept beside it byte for byte; nothing can be read from them to compare."""
+    write-ahead log are kept beside it byte for byte; nothing can be read from them to compare. The
+    new file keeps the replaced one's owner: root restoring a service's store leaves it the service's."""
     kept = _kept_name(store, now)
     for suffix in ("", "-wal"):
         damaged = Path(f"{store}{suffix}")
@@ -127,8 +141,11 @@ def replace_damaged(store: Path, stage: Path, now: datetime) -> Path:
             except FileExistsError:
                 raise StoreError(f"{kept}{suffix} exists already: nothing restored, try again") from None
             shutil.copyfile(damaged, f"{kept}{suffix}")
-    for journal in ("-wal", "-shm"):  # they belong to the damaged file: never replay them onto the new one
-        Path(f"{store}{journal}").unlink(missing_ok=True)
+    for journal in store_files(store)[1:]:  # they belong to the damaged file: never replay them onto the new one
+        journal.unlink(missing_ok=True)
+    if os.geteuid() == 0 and store.exists():
+        owner = store.stat()
+        os.chown(stage, owner.st_uid, owner.st_gid)
     os.replace(stage, store)
     return kept
 

@@ -17,11 +17,22 @@ from caseload.core.model import Actor
 from caseload.store import chain, migrations
 
 BUSY_TIMEOUT_MS = 5000
+# Bytes free under which an I/O error is taken for a full disk: less than WAL mode's index and a few pages.
+FULL_BELOW = 64 * 1024
 T = TypeVar("T")
 
 
 class StoreError(Exception):
     """The file cannot be used as a caseload store (newer schema, not a store, damaged)."""
+
+
+class NotAStore(StoreError):
+    """The file is empty, or an SQLite file without caseload's tables: only `init` makes a store of
+    an empty file, and `restore` may replace either (keeping it beside the store)."""
+
+
+class WriteFailed(StoreError):
+    """SQLite could not make a write (a full disk, a read-only file, an I/O error): rolled back whole."""
 
 
 class StoreDamaged(StoreError):
@@ -36,6 +47,10 @@ class StoreDamaged(StoreError):
 
 # SQLite's primary result codes for a file whose pages or header do not make a database.
 DAMAGE_CODES = (sqlite3.SQLITE_CORRUPT, sqlite3.SQLITE_NOTADB)
+# Its codes for a write the file, its folder or its disk would not take (a full disk, a read-only file,
+# an I/O error), as against a statement that is wrong in itself.
+WRITE_FAILURE_CODES = (sqlite3.SQLITE_PERM, sqlite3.SQLITE_READONLY, sqlite3.SQLITE_IOERR, sqlite3.SQLITE_FULL,
+                       sqlite3.SQLITE_CANTOPEN, sqlite3.SQLITE_NOLFS)
 
 
 def damage_code(err: sqlite3.Error) -> int:
@@ -71,15 +86,42 @@ def create_private(path: Path) -> None:
     os.close(fd)
 
 
+def store_files(path: Path) -> tuple[Path, Path, Path]:
+    """The store file and the write-ahead log and shared-memory index SQLite keeps beside it."""
+    return path, Path(f"{path}-wal"), Path(f"{path}-shm")
+
+
+@contextmanager
+def creating(path: Path) -> Iterator[None]:
+    """Setting up a new store at `path` (`init`, `host setup`): when the block fails (a full disk, a
+    refused admin), the path is left as it was rather than holding a half-made store that "exists
+    already": the files the block made are removed, and an empty file that was there is emptied again
+    (the schema may have been written into it). Any other file that was there is left alone."""
+    made = [p for p in store_files(path) if not p.exists()]
+    was_empty = path.exists() and not path.stat().st_size
+    try:
+        yield
+    except BaseException:
+        for p in made:
+            p.unlink(missing_ok=True)
+        if was_empty:
+            os.truncate(path, 0)
+        raise
+
+
 class Database:
     """One connection to the store file, with the write transaction and the audit row builder."""
 
-    def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now):
+    def __init__(self, path: str | Path, clock: Callable[[], datetime] = utc_now, *, must_exist: bool = False):
+        """`must_exist`: the file must already be a caseload store, as for every command but `init`:
+        no file, an empty one or someone else's database is refused and left as it was. Without it a
+        missing file is created (owner-only) and an empty one is set up as a new store."""
         self.path = Path(path)
         self.clock = clock
         if not self.path.exists():
-            with suppress(FileExistsError):  # another process created it a moment ago
-                create_private(self.path)
+            if must_exist:
+                raise NotAStore(f"no store at {self.path}: create one with 'caseload init --admin ID --name NAME'")
+            self._create()
         try:
             conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, check_same_thread=False)
         except sqlite3.Error as err:
@@ -91,19 +133,35 @@ class Database:
         self._checked = False  # whether this connection has run the quick check its first write pays
         try:
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
-            self._prepare()
+            self._prepare(set_up=not must_exist)
         except StoreError:
             conn.close()
             raise
         except sqlite3.DatabaseError as err:
             conn.close()
-            if damage_code(err) == sqlite3.SQLITE_CORRUPT:  # a store's pages; not a database at all is below
+            if damage_code(err) in DAMAGE_CODES:  # damaged pages, or a header that makes no database
                 raise StoreDamaged(self.path, str(err)) from None
-            if not (os.access(self.path, os.W_OK) and os.access(self.path.parent, os.W_OK)):
+            if self._disk_full(err):  # even to read, WAL mode makes a 32 KiB index beside the store
+                raise self._failed_write(err) from None
+            read_only = self._read_only_files()
+            if self.path in read_only or self.path.parent in read_only:
                 # WAL mode writes its -wal and -shm files beside the store, even to read it.
                 raise StoreError(f"{self.path} or its folder is read-only for this account: "
                                  "caseload needs to write there, ask an admin") from None
+            if read_only:
+                raise StoreError(f"{_named(read_only)} read-only for this account: caseload needs to write "
+                                 "there to open the store, ask an admin") from None
             raise StoreError(f"{self.path} is not a usable caseload store: {err}") from None
+
+    def _create(self) -> None:
+        """A new store file, owner-only. A write-ahead log or index left at its name by an earlier
+        file would be read as this one's (and keep its own owner and mode): refused instead."""
+        leftovers = [p for p in store_files(self.path)[1:] if p.exists()]
+        if leftovers:
+            raise StoreError(f"{_named(leftovers)} left beside a store that is gone: remove "
+                             f"{'it' if len(leftovers) == 1 else 'them'} before making a store at {self.path}")
+        with suppress(FileExistsError):  # another process created it a moment ago
+            create_private(self.path)
 
     @cached_property
     def db(self):
@@ -113,13 +171,13 @@ class Database:
 
         return sqlite_utils.Database(self.conn)
 
-    def _prepare(self, attempts: int = 6) -> None:
-        """Check, set up and upgrade the file (the quick check waits for the first write, see
-        `refuse_damaged`). While another process is creating the file or switching it to WAL, SQLite
-        can report a lock without waiting on the busy timeout: retry."""
+    def _prepare(self, set_up: bool, attempts: int = 6) -> None:
+        """Check, set up (`set_up`: an empty file becomes a new store) and upgrade the file (the quick
+        check waits for the first write, see `refuse_damaged`). While another process is creating the
+        file or switching it to WAL, SQLite can report a lock without waiting on the busy timeout: retry."""
         for attempt in range(1, attempts + 1):
             try:
-                self._refuse_foreign()
+                self._refuse_foreign(set_up)
                 self.conn.execute("PRAGMA journal_mode = WAL")
                 self.conn.execute("PRAGMA foreign_keys = ON")
                 self.conn.execute("PRAGMA synchronous = FULL")
@@ -137,19 +195,30 @@ class Database:
     def version(self) -> int:
         return self.conn.execute("PRAGMA user_version").fetchone()[0]
 
-    def _refuse_foreign(self) -> None:
-        """Before anything touches the file: refuse a newer schema or someone else's database."""
+    def _refuse_foreign(self, set_up: bool) -> None:
+        """Before anything touches the file: refuse a newer schema, someone else's database, and
+        (unless `set_up`) an empty file: a command that only opens a store never makes one."""
         # One statement, one snapshot: another process may be creating the store right now.
-        current, objects = self.conn.execute(
-            "SELECT (SELECT user_version FROM pragma_user_version), (SELECT count(*) FROM sqlite_master)"
+        current, objects, meta = self.conn.execute(
+            "SELECT (SELECT user_version FROM pragma_user_version), (SELECT count(*) FROM sqlite_master),"
+            " (SELECT count(*) FROM sqlite_master WHERE type = 'table' AND name = 'meta')"
         ).fetchone()
         if current > migrations.LATEST:
             raise StoreError(
                 f"{self.path} was written by a newer caseload (schema {current}, this one knows up to "
                 f"{migrations.LATEST}): upgrade caseload before opening it"
             )
-        if current == 0 and objects:
-            raise StoreError(f"{self.path} is an SQLite file but not a caseload store")
+        if (current == 0 and objects) or (current and not meta):
+            raise NotAStore(f"{self.path} is an SQLite file but not a caseload store")
+        if current == 0 and not set_up:
+            raise NotAStore(f"{self.path} is empty, not a caseload store: make one with 'caseload init "
+                            "--admin ID --name NAME', or give the store's path")
+        if current == 0:
+            try:  # the store made here is owner-only, whoever made the empty file and however
+                os.chmod(self.path, 0o600)
+            except OSError as err:
+                raise StoreError(f"cannot make {self.path} owner-only ({err.strerror}): "
+                                 "give a new path for the store") from None
 
     def refuse_damaged(self, aside: bool = False) -> None:
         """SQLite's quick check (every page's structure, not index contents), once per connection,
@@ -187,6 +256,8 @@ class Database:
                 broken = self.conn.execute("PRAGMA foreign_key_check").fetchall()
                 if broken:
                     raise StoreError(f"{len(broken)} rows lose the row they refer to (first in table {broken[0][0]})")
+        except WriteFailed:  # a full disk or a read-only file: said as such, not as a failed step
+            raise
         except Exception as err:  # whatever a step raised, its transaction was rolled back whole
             raise StoreError(
                 f"{self.path}: upgrading schema {current} to {migrations.LATEST} failed ({err}): "
@@ -208,21 +279,28 @@ class Database:
 
     @contextmanager
     def _open_transaction(self) -> Iterator[None]:
-        """COMMIT the transaction just begun when the block ends, ROLLBACK if it raised."""
+        """COMMIT the transaction just begun when the block ends, ROLLBACK if it raised. A write SQLite
+        could not make (a full disk, most often at COMMIT) is one line; a lock is raised as it is, for
+        the caller's retry."""
         try:
-            yield
-        except BaseException:
-            if self.conn.in_transaction:
-                self.conn.execute("ROLLBACK")
-            raise
-        else:
             try:
-                self.conn.execute("COMMIT")
+                yield
             except BaseException:
-                # A failed COMMIT leaves the transaction open: close it so a retry starts clean.
                 if self.conn.in_transaction:
                     self.conn.execute("ROLLBACK")
                 raise
+            else:
+                try:
+                    self.conn.execute("COMMIT")
+                except BaseException:
+                    # A failed COMMIT leaves the transaction open: close it so a retry starts clean.
+                    if self.conn.in_transaction:
+                        self.conn.execute("ROLLBACK")
+                    raise
+        except sqlite3.OperationalError as err:
+            if damage_code(err) not in WRITE_FAILURE_CODES:  # a lock, for the caller's retry; a wrong statement
+                raise
+            raise self._failed_write(err) from None
 
     @contextmanager
     def atomic(self, day_of_record: date | None = None, attempts: int = 6) -> Iterator[sqlite3.Connection]:
@@ -284,8 +362,8 @@ class Database:
             try:
                 return step()
             except sqlite3.OperationalError as err:
-                if "readonly" in str(err).lower():
-                    raise StoreError(f"{self.path} is read-only for this account: nothing was written") from None
+                if damage_code(err) in WRITE_FAILURE_CODES:
+                    raise self._failed_write(err) from None
                 if not _is_lock_error(err):
                     raise
                 if attempt == attempts:
@@ -294,6 +372,37 @@ class Database:
                     ) from None
                 time.sleep(0.05 * 2**attempt)
         raise AssertionError("unreachable")
+
+    def _failed_write(self, err: sqlite3.OperationalError) -> WriteFailed:
+        """The one line for a write SQLite could not make (one of WRITE_FAILURE_CODES); the transaction
+        was rolled back."""
+        if self._disk_full(err):
+            return WriteFailed(f"the disk holding {self.path} is full: nothing was saved; free space and try again")
+        if damage_code(err) == sqlite3.SQLITE_READONLY:
+            return WriteFailed(f"{_named(self._read_only_files() or [self.path])} read-only for this account: "
+                               "nothing was written")
+        return WriteFailed(f"writing {self.path} failed ({err}): nothing was saved; try again, and run "
+                           "'caseload check' if it goes on failing")
+
+    def _disk_full(self, err: sqlite3.DatabaseError) -> bool:
+        """Whether SQLite failed for want of space: it says so for the store's pages, but growing its
+        shared-memory index on a full disk is reported as an I/O error, so the disk is asked too."""
+        if damage_code(err) == sqlite3.SQLITE_FULL:
+            return True
+        if damage_code(err) != sqlite3.SQLITE_IOERR:
+            return False
+        try:
+            space = os.statvfs(self.path.parent)
+        except OSError:
+            return False
+        return space.f_bavail * space.f_frsize < FULL_BELOW
+
+    def _read_only_files(self) -> list[Path]:
+        """Which of the store, its -wal and -shm (and its folder, where they are made) this account may
+        not write: a -wal or -shm left by a use of the store while it was read-only keeps that mode
+        after the store itself is writable again, and then refuses every write."""
+        files = [p for p in store_files(self.path) if p.exists() and not _writable(p)]
+        return files or ([self.path.parent] if not _writable(self.path.parent) else [])
 
     def now_text(self) -> str:
         return self.clock().isoformat(timespec="seconds")
@@ -361,6 +470,18 @@ def _quick_check(conn: sqlite3.Connection) -> str:
         return conn.execute("PRAGMA quick_check(1)").fetchone()[0]
     except sqlite3.DatabaseError as err:
         return str(err)
+
+
+def _writable(path: Path) -> bool:
+    """Whether this process may write `path`, judged by the account it runs as (effective ids), which
+    is the one SQLite writes as."""
+    return os.access(path, os.W_OK, effective_ids=os.access in os.supports_effective_ids)
+
+
+def _named(paths: list[Path]) -> str:
+    """Files as the subject of a sentence: 'X is', 'X and Y are', 'X, Y and Z are'."""
+    *others, last = map(str, paths)
+    return f"{', '.join(others)} and {last} are" if others else f"{last} is"
 
 
 def _is_lock_error(err: sqlite3.OperationalError) -> bool:

@@ -360,9 +360,28 @@ def _entry_marks(conn: sqlite3.Connection) -> None:
         run_script(conn, LIST_MARK.format(table="entry", event=event, patient="patient_id"))
 
 
+def _patient_ids_any_case(conn: sqlite3.Connection) -> None:
+    """A patient id is unique whatever its letter case (P0103 and p0103 are one id to a clerk on the
+    phone). A trigger rather than a unique index, so that a store already holding ids that differ only
+    in case still upgrades: those are left as they are, and no new one can join them. The index on the
+    id without case keeps the trigger's check, and the lookup of a typed id, to one index search."""
+    run_script(
+        conn,
+        """
+        CREATE INDEX patient_id_any_case ON patient(id COLLATE NOCASE);
+        CREATE TRIGGER patient_id_any_case_insert BEFORE INSERT ON patient
+        WHEN EXISTS (SELECT 1 FROM patient WHERE id = NEW.id COLLATE NOCASE)
+        BEGIN SELECT RAISE(ABORT, 'patient id is taken, in this or another letter case: ids are unique whatever their case'); END;
+        CREATE TRIGGER patient_id_any_case_update BEFORE UPDATE OF id ON patient
+        WHEN EXISTS (SELECT 1 FROM patient WHERE id = NEW.id COLLATE NOCASE AND rowid != OLD.rowid)
+        BEGIN SELECT RAISE(ABORT, 'patient id is taken, in this or another letter case: ids are unique whatever their case'); END;
+        """,
+    )
+
+
 MIGRATIONS: list[Callable[[sqlite3.Connection], None]] = [
     _v1, _audit_day_of_record, _status_since, _patient_history, _audit_chain, _alert_episodes, _protocol_versions,
-    _closed_cycles, _list_marks, _entry_marks,
+    _closed_cycles, _list_marks, _entry_marks, _patient_ids_any_case,
 ]
 LATEST = len(MIGRATIONS)
 

@@ -66,6 +66,12 @@ class PatientTable:
         rows = self.db.records("SELECT * FROM patient WHERE id = ?", (patient_id,))
         return patient_from_row(rows[0]) if rows else None
 
+    def any_case(self, patient_id: str) -> list[Patient]:
+        """The patients whose id is `patient_id` in any letter case: one at most, but a store written
+        before ids were unique whatever their case may hold several (see migrations)."""
+        rows = self.db.records("SELECT * FROM patient WHERE id = ? COLLATE NOCASE ORDER BY id", (patient_id,))
+        return [patient_from_row(r) for r in rows]
+
     def all(self) -> list[Patient]:
         return [patient_from_row(r) for r in self.db.records("SELECT * FROM patient ORDER BY id")]
 

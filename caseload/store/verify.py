@@ -9,15 +9,33 @@ import hashlib
 import json
 import sqlite3
 from dataclasses import dataclass
+from datetime import datetime
 from functools import lru_cache
 
 from caseload.store import chain, migrations
 
-# Columns whose value the latest audit row of a staff or patient record states (its `after`).
+# Columns whose value the latest audit row of a staff, patient or alert record states (its `after`).
+# An alert's rows (`alert_table.audit_view`) state every change to it, staff's handling as well as the
+# engine's raising, escalating and resolving.
 _RECORDS = {
     "staff": ("name", "role", "active", "os_account"),
     "patient": ("name", "born", "nurse_id", "status", "plan", "created", "charting_temps"),
+    "alert": ("patient_id", "kind", "key", "severity", "raised_on", "due", "message", "evidence", "rule", "source",
+              "state", "handled_by", "handled_at", "note", "snooze_until", "resolved_reason"),
 }
+
+# Store settings whose setting is audited (`store.init` states them in its `after`): the key each is
+# stated under and the form it is stated in. The pseudonym secret is stated by its SHA-256 alone: an
+# audit row is no place for a key, and the digest still shows whether the secret was changed.
+_AUDITED_META = {
+    "timezone": ("timezone", lambda value: value),
+    "pseudonym_secret": ("pseudonym_secret_sha256", lambda value: hashlib.sha256(str(value).encode()).hexdigest()),
+}
+
+
+def meta_as_audited(settings: dict[str, str]) -> dict[str, str]:
+    """Store settings as the audit row that sets them states them."""
+    return {_AUDITED_META[key][0]: _AUDITED_META[key][1](value) for key, value in settings.items()}
 
 
 @dataclass(frozen=True)
@@ -63,7 +81,8 @@ def verify(conn: sqlite3.Connection, thorough: bool = True) -> Report:
     version = 0
     try:
         version = conn.execute("PRAGMA user_version").fetchone()[0]
-        integrity = tuple(r[0] for r in conn.execute("PRAGMA integrity_check" if thorough else "PRAGMA quick_check"))
+        check = "PRAGMA integrity_check" if thorough else "PRAGMA quick_check"
+        integrity = _findings(r[0] for r in conn.execute(check))
         if integrity != ("ok",):
             return _damaged(version, integrity)  # reading on could crash or mislead
         triggers, schema = _schema_problems(conn, version)
@@ -84,7 +103,14 @@ def verify(conn: sqlite3.Connection, thorough: bool = True) -> Report:
             unaudited=_unaudited(conn),
         )
     except sqlite3.DatabaseError as err:
-        return _damaged(version, (f"unreadable: {err}",))
+        return _damaged(version, _findings([f"unreadable: {err}"]))
+
+
+def _findings(rows) -> tuple[str, ...]:
+    """SQLite's integrity findings one line each: a row can hold several lines, and the first opens
+    with the database's name ('*** in database main ***'), which says nothing here."""
+    lines = (line.strip() for row in rows for line in str(row).splitlines())
+    return tuple(line for line in lines if line and not line.startswith("*** in database"))
 
 
 def _damaged(version: int, integrity: tuple[str, ...]) -> Report:
@@ -170,7 +196,21 @@ def _unaudited(conn: sqlite3.Connection) -> tuple[str, ...]:
     ]  # fmt: skip
     for table, columns in _RECORDS.items():
         problems += [f"{table} {key} {why}" for key, why in _record_drift(conn, table, columns)]
-    return tuple(problems)
+    return tuple(problems + _meta_drift(conn))
+
+
+def _meta_drift(conn: sqlite3.Connection) -> list[str]:
+    """Audited store settings that differ from what their latest audit row states. A setting no audit
+    row states (a store set up before it was audited, the demo's) has nothing to be compared with."""
+    stated: dict = {}
+    for (after,) in conn.execute("SELECT after FROM audit WHERE tbl = 'meta' AND after IS NOT NULL ORDER BY id"):
+        said = _json(after)
+        stated.update(said if isinstance(said, dict) else {})
+    current = dict(conn.execute("SELECT key, value FROM meta"))
+    return [
+        f"meta {key} differs from its latest audit row" for key, (stated_as, form) in _AUDITED_META.items()
+        if stated_as in stated and (current.get(key) is None or form(current[key]) != stated[stated_as])
+    ]
 
 
 def _record_drift(conn: sqlite3.Connection, table: str, columns: tuple[str, ...]) -> list[tuple[str, str]]:
@@ -178,7 +218,9 @@ def _record_drift(conn: sqlite3.Connection, table: str, columns: tuple[str, ...]
     pairs = ", ".join(f"'{c}', t.{c}" for c in columns)
     rows = conn.execute(
         f"SELECT t.id, json_object({pairs}),"
-        f" (SELECT a.after FROM audit a WHERE a.tbl = '{table}' AND a.row_id = t.id AND a.after IS NOT NULL"
+        # CAST: an alert's integer id then meets the audit's text row_id through its index
+        f" (SELECT a.after FROM audit a WHERE a.tbl = '{table}' AND a.row_id = CAST(t.id AS TEXT)"
+        " AND a.after IS NOT NULL"
         f" ORDER BY a.id DESC LIMIT 1) FROM {table} t ORDER BY t.id"
     )
     drift = []
@@ -187,12 +229,31 @@ def _record_drift(conn: sqlite3.Connection, table: str, columns: tuple[str, ...]
             drift.append((key, "has no audit row"))
             continue
         now, said = json.loads(current), json.loads(stated)
-        changed = [c for c in columns if c in said and _same_kind(said[c]) != _same_kind(now[c])]
+        changed = [c for c in columns if c in said and _same_kind(c, said[c]) != _same_kind(c, now[c])]
         if changed:
             drift.append((key, f"differs from its latest audit row ({', '.join(changed)})"))
     return drift
 
 
-def _same_kind(value):
-    """Audit rows state flags as JSON booleans or as 0/1, as the row was written: compare them alike."""
-    return int(value) if isinstance(value, bool) else value
+def _same_kind(column: str, value):
+    """A value as the row and its audit row can both be compared: audit rows state flags as JSON
+    booleans or as 0/1, as the row was written; an alert's row states its evidence as an object where
+    the table holds its JSON text, and its handling time as Python prints a datetime."""
+    if isinstance(value, bool):
+        return int(value)
+    if column == "evidence" and isinstance(value, str):
+        return _json(value)
+    if column == "handled_at" and isinstance(value, str):
+        try:
+            return datetime.fromisoformat(value)
+        except ValueError:
+            return value  # not a time: it can only differ from one
+    return value
+
+
+def _json(text: str):
+    """JSON text as a value; text that is not JSON as itself (then it differs from any JSON value)."""
+    try:
+        return json.loads(text)
+    except ValueError:
+        return text

@@ -23,6 +23,7 @@ from pathlib import Path
 import pytest
 
 from caseload.application.identity import service_file
+from tests.application.test_host_setup import root_only, root_only_folder
 
 pytestmark = [
     pytest.mark.skipif(os.geteuid() != 0, reason="creating Linux accounts and a sudo rule needs root"),
@@ -37,12 +38,12 @@ def _open_to_all(path: Path) -> bool:
 
 
 def _interpreter() -> Path | None:
-    """A Python of this minor version that every account may run (the suite's own may sit under /root)."""
-    own = Path(sys.executable)
-    if _open_to_all(own.resolve()):
-        return own
-    system = Path(f"/usr/bin/python3.{sys.version_info.minor}")
-    return system if system.exists() and _open_to_all(system.resolve()) else None
+    """A Python of this minor version that every account may run (the suite's own may sit under /root)
+    and root alone can change (host setup refuses a program whose interpreter others could change)."""
+    for candidate in (Path(sys.executable), Path(f"/usr/bin/python3.{sys.version_info.minor}")):
+        if candidate.exists() and _open_to_all(candidate.resolve()) and root_only(candidate):
+            return candidate
+    return None
 
 
 @dataclass
@@ -81,9 +82,12 @@ def host():
         pytest.skip("no Python of this version that other accounts may run")
     tag = secrets.token_hex(3)
     names = {role: f"cl{role[0]}{tag}" for role in ("service", "group", "admin", "clerk", "nurse", "outsider")}
+    installed = root_only_folder("caseload-host-")  # the rule's program: root's alone, as host setup demands
+    if installed is None:
+        pytest.skip("no folder here that root alone can change, for the program the sudo rule names")
     base = Path(tempfile.mkdtemp(prefix="caseload-host-", dir="/tmp"))
     base.chmod(0o755)
-    program = base / "caseload"
+    program = installed / "caseload"
     # The suite's caseload, started by an interpreter every account may run.
     program.write_text(f"#!{interpreter}\nimport site\nsite.addsitedir({sysconfig.get_paths()['purelib']!r})\n"
                        "from caseload.cli import run\nrun()\n")
@@ -118,6 +122,7 @@ def host():
         service_file(names["service"]).unlink(missing_ok=True)
         Path(f"/etc/sudoers.d/caseload-{names['service']}").unlink(missing_ok=True)
         shutil.rmtree(base, ignore_errors=True)
+        shutil.rmtree(installed, ignore_errors=True)
 
 
 def _rows(h: Host, sql: str) -> list[tuple]:
@@ -231,7 +236,76 @@ def test_setup_again_keeps_what_exists_and_ordinary_accounts_are_refused(host):
     assert again.returncode == 0, again.stderr
     assert f"store {h.store} (0600, {h.service}) kept" in again.stdout
     assert _rows(h, "SELECT count(*) FROM staff") == [(3,)]
+    # The host's caseload admin named at first setup is kept when setup runs again without one.
+    assert f'admins = ["{h.admin}"]\n' in service_file(h.service).read_text()
     as_clerk = h.as_user(h.clerk, str(h.program), "host", "setup", "--service-account", "x", "--group", "y",
                          "--store", str(h.base / "other" / "x.db"))
     assert as_clerk.returncode == 1
     assert as_clerk.stderr == ("caseload: host setup creates an account, a sudo rule and a wrapper: run it as root\n")
+
+
+def test_a_file_named_through_the_rule_is_read_only_when_the_caller_could_read_it(host):
+    h = host
+    service = pwd.getpwnam(h.service)
+    # A valid import, in the service's own folder: the rule must not read it for a nurse.
+    private = h.store.parent / "workload-staff.csv"
+    private.write_text("patient,day,kind,value\nP1,yesterday,bleed,heavy\n")
+    os.chown(private, service.pw_uid, service.pw_gid)
+    private.chmod(0o644)  # readable by all, but behind the service's owner-only folder
+    hers = h.base / f"{h.nurse}.csv"
+    hers.write_text("patient,day,kind,value\nP1,yesterday,bleed,heavy\n")
+    shut = h.base / "shut.csv"  # where she can look, but the service's alone to read
+    shutil.copy(hers, shut)
+    os.chown(shut, service.pw_uid, service.pw_gid)
+    shut.chmod(0o600)
+    before = _rows(h, "SELECT count(*) FROM entry")
+    for path in (private, shut):
+        done = h.caseload(h.nurse, "import", str(path))
+        assert (done.returncode, done.stdout) == (1, "")
+        assert done.stderr == (f"caseload: {path} is not readable by {h.nurse}: give a UTF-8 CSV file your account "
+                               "can read\n")
+    checked = h.caseload(h.clerk, "protocol", "check", str(h.store))
+    assert checked.returncode == 1
+    assert checked.stderr == (f"caseload: {h.store} is not readable by {h.clerk}: give the clinic's protocol TOML file "
+                              "your account can read\n")
+    assert _rows(h, "SELECT count(*) FROM entry") == before
+    done = h.caseload(h.nurse, "import", str(hers))  # her own file, which the service may read too (0644)
+    assert done.returncode == 0, done.stderr
+    assert _rows(h, "SELECT count(*) FROM entry") == [(before[0][0] + 1,)]
+
+
+def test_over_a_store_too_damaged_to_name_its_admins_only_the_hosts_admin_restores(host):
+    """The clerk's own store, in which she made herself admin, is no key to a damaged one: only root
+    or the admin account host setup named may restore over a store whose staff cannot be read."""
+    h = host
+    service = pwd.getpwnam(h.service)
+    backups = h.base / "backups"  # a folder the service writes and everyone may read
+    backups.mkdir()
+    os.chown(backups, service.pw_uid, service.pw_gid)
+    backups.chmod(0o755)
+    done = h.caseload(h.admin, "backup", str(backups / "good.db"))
+    assert done.returncode == 0, done.stderr
+    (backups / "good.db").chmod(0o644)
+    hers = h.base / "clerk"
+    hers.mkdir()
+    os.chown(hers, pwd.getpwnam(h.clerk).pw_uid, -1)
+    made = h.as_user(h.clerk, "sh", "-c", f"umask 022; {h.program} --db {hers / 'mine.db'} init --admin eve "
+                                          "--name 'Eve Clerk' && chmod 644 " + str(hers / "mine.db"))
+    assert made.returncode == 0, made.stderr
+    with open(h.store, "r+b") as f:  # its header gone: SQLite no longer reads it as a database
+        f.write(b"\0" * 100)
+    damaged = h.store.read_bytes()
+    refused = h.caseload(h.clerk, "restore", str(hers / "mine.db"), "--force")
+    assert (refused.returncode, refused.stdout) == (1, "")
+    assert refused.stderr == (f"caseload: {h.store} is too damaged to say who its admins are, so only the host's "
+                              f"owner of it (root, {h.service}, {h.admin}) may restore over it; '{h.clerk}' is not: "
+                              "ask one of them\n")
+    assert h.store.read_bytes() == damaged and not list(h.store.parent.glob("*.replaced-*"))
+    restored = h.caseload(h.admin, "restore", str(backups / "good.db"))
+    assert restored.returncode == 0, restored.stderr
+    assert h.store.stat().st_uid == service.pw_uid
+    assert _rows(h, "SELECT by_staff, os_account FROM audit WHERE action = 'store.restore'") == [
+        ("(host owner)", h.admin)]
+    assert _rows(h, "SELECT id, role FROM staff ORDER BY id") == [
+        ("ada", "admin"), ("nell", "nurse"), ("phil", "phone")]
+    assert h.caseload(h.admin, "check").returncode == 0

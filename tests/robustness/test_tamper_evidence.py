@@ -243,7 +243,7 @@ def test_a_damaged_store_is_restored_from_a_verified_backup_and_kept(clinic, tmp
     assert clinic("log", "P0001", "temp", "36.5").exit_code == 0
 
 
-def test_over_a_damaged_store_only_an_admin_of_the_backup_may_restore(clinic, tmp_path, monkeypatch):
+def test_over_a_damaged_store_a_clerk_may_not_restore(clinic, tmp_path, monkeypatch):
     backup = tmp_path / "backup.db"
     assert clinic("backup", str(backup)).exit_code == 0
     damaged = damage_index_page(clinic.db)
