@@ -15,8 +15,10 @@ from pathlib import Path
 from caseload.core.parse import InputError
 from caseload.core.protocol_file import overrides_of, parse_protocol, protocol_from_values, protocol_text
 from caseload.core.settings import Protocol
+from caseload.application import safe_file
 from caseload.application.context import Context
 from caseload.application.errors import Refused
+from caseload.application.input_file import read_named_file
 from caseload.application.recompute import RefreshReport, plan_refresh, write_refresh
 from caseload.store import Store
 
@@ -39,15 +41,7 @@ class ProtocolInUse:
 
 def read_protocol_file(path: str) -> Protocol:
     """The protocol a file sets, or InputError with one line naming the file."""
-    file = Path(path)
-    try:
-        data = file.read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{path}: no such file: give the path of the clinic's protocol TOML file") from None
-    except OSError as err:
-        raise InputError(f"{path}: cannot be read ({err.strerror}): give a readable TOML file") from None
-    if len(data) > MAX_BYTES:
-        raise InputError(f"{path}: {len(data)} bytes is too large for a protocol file (at most {MAX_BYTES // 1024} KB)")
+    data = read_named_file(path, MAX_BYTES, "the clinic's protocol TOML file")
     try:
         text = data.decode("utf-8")
     except UnicodeDecodeError:
@@ -79,9 +73,12 @@ def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]
     """Admins: check the file, store its settings as the next version, then refresh every patient
     under it. The refresh is computed (and checked against mass resolution) before anything is written."""
     ctx.require("protocol.set")
-    chosen = str(Path(path).expanduser().resolve())
+    given = str(Path(path).expanduser())
     before = ctx.store.protocol.current()
-    protocol = replace(read_protocol_file(chosen), version=before.version + 1)
+    # Read by the path as given, so that a sudo caller's permissions are judged along it; the audit
+    # names the file resolved, once it is known to be hers to read.
+    protocol = replace(read_protocol_file(given), version=before.version + 1)
+    chosen = str(Path(given).resolve())
     under_new = replace(ctx, protocol=protocol)
     found = plan_refresh(under_new)
 
@@ -95,17 +92,19 @@ def use_protocol(ctx: Context, path: str) -> tuple[ProtocolInUse, RefreshReport]
 
 
 def export_protocol(ctx: Context, path: str) -> ProtocolInUse:
-    """`protocol export FILE`: the version in force as a protocol file; never overwrites a file."""
+    """`protocol export FILE`: the version in force as a protocol file, owner-only like every export
+    (through `safe_file`: never over the store, a backup or anything but a new file)."""
     ctx.require("protocol.view")
     in_use = protocol_in_use(ctx.store)
     header = f"caseload clinic protocol version {in_use.version}, set by {in_use.set_by} at {in_use.set_at}"
+    target = Path(path)
     try:
-        with Path(path).open("x", encoding="utf-8") as out:
-            out.write(protocol_text(in_use.protocol, header))
-    except FileExistsError:
+        safe_file.check_target(target, ctx.store.path, force=False)
+    except safe_file.TargetExists:  # the command has no --force: the file stays as it is
         raise InputError(f"{path}: already exists: give a new file name (an export never overwrites)") from None
-    except OSError as err:
-        raise InputError(f"{path}: cannot be written ({err.strerror}): give a writable path") from None
+    text = protocol_text(in_use.protocol, header)
+    with safe_file.staged(target, lambda temp: temp.write_text(text, encoding="utf-8")) as file:
+        file.publish()
     return in_use
 
 

@@ -11,8 +11,6 @@ rendering and serialising are the exports', handed in by the front end as a call
 
 from __future__ import annotations
 
-import os
-import tempfile
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from datetime import date, datetime, tzinfo
@@ -24,15 +22,16 @@ from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, Entry, Patient, Staff
 from caseload.core.parse import InputError, one_line, parse_day
 from caseload.core.settings import DEFAULT_PROTOCOL, Protocol
+from caseload.application import safe_file
 from caseload.application.caseload_view import show_patient
 from caseload.application.context import Context
-from caseload.application.errors import Refused
 from caseload.application.patients import get_patient
 from caseload.application.recompute import analyse_patient
 from caseload.application.staff import DEFAULT_TIMEZONE
 from caseload.application.weekly_summary import PSEUDONYM_PREFIX, pseudonym, pseudonym_secret
 
 PACK_FORMATS = {".pdf": "pdf", ".html": "html", ".htm": "html"}
+FHIR_SUFFIX = ".json"  # a Bundle is written as JSON, never as FHIR's XML
 PAPERS = ("a4", "letter")  # for the PDF
 # De-identified dates move by up to half a year either way, never by zero days (common practice).
 MAX_SHIFT_DAYS = 182
@@ -88,36 +87,19 @@ BundleWriter = Callable[[Iterable[Chart], Mapping[str, Staff], Options, IO[bytes
 holds: given by the front end from caseload.exports."""
 
 
-def _target(out: Path, force: bool) -> Path:
-    if not out.parent.is_dir():
-        raise InputError(f"folder {out.parent} does not exist: create it first or choose another --out")
-    if out.is_dir():
-        raise InputError(f"{out} is a folder: give a file path")
-    if out.exists() and not force:
-        raise Refused(f"{out} exists: choose another --out, or add --force to replace it")
-    return out
-
-
-def _publish(ctx: Context, target: Path, fill: Callable[[IO[bytes]], None], audit: Callable[[], None],
+def _publish(ctx: Context, target: Path, force: bool, fill: Callable[[IO[bytes]], None], audit: Callable[[], None],
              recorded_on: date | None) -> Path:
-    """Let `fill` write owner-only beside `target`, then rename it into place in the transaction of
-    the audit row (dated `recorded_on`, the date of record; ctx.today by default)."""
-    handle, staged = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".partial", dir=target.parent)
-    published = False
-    try:
-        with os.fdopen(handle, "wb") as f:
+    """Let `fill` write owner-only beside `target` (checked already), then rename it into place in
+    the transaction of the audit row (dated `recorded_on`, the date of record; ctx.today by default)."""
+
+    def write(staged: Path) -> None:
+        with open(staged, "wb") as f:
             fill(f)
-        os.chmod(staged, 0o600)  # mkstemp already does; said again because the file holds patient data
+
+    with safe_file.staged(target, write, force) as file:
         with ctx.store.atomic(recorded_on or ctx.today):
             audit()
-            os.replace(staged, target)
-            published = True
-    except BaseException:
-        if published:  # the audit row did not commit: the file goes too
-            target.unlink(missing_ok=True)
-        raise
-    finally:
-        Path(staged).unlink(missing_ok=True)
+            file.publish()
     return target
 
 
@@ -142,7 +124,7 @@ def make_pack(ctx: Context, patient_id: str, out: Path, cycles: int, paper: str,
         raise InputError(f"--cycles {cycles} not accepted: give 1 or more")
     if paper not in PAPERS:
         raise InputError(f"--paper '{one_line(paper)}' not known: use {' or '.join(PAPERS)}")
-    target = _target(out, force)
+    safe_file.check_target(out, ctx.store.path, force)
     record = show_patient(ctx, patient_id)
     content = PackInput(
         clinic=_clinic(ctx), today=ctx.today, patient=record.patient, analysis=record.analysis,
@@ -152,11 +134,11 @@ def make_pack(ctx: Context, patient_id: str, out: Path, cycles: int, paper: str,
     data = render(content, fmt, paper)
 
     def audit() -> None:
-        after = {"format": fmt, "cycles": cycles, "paper": paper if fmt == "pdf" else None, "path": str(target),
+        after = {"format": fmt, "cycles": cycles, "paper": paper if fmt == "pdf" else None, "path": str(out),
                  "as_of": ctx.today.isoformat()}
         ctx.store.audit.record(ctx.actor, "referral.pack", "patient", record.patient.id, after=after)
 
-    return _publish(ctx, target, lambda f: f.write(data), audit, recorded_on)
+    return _publish(ctx, out, force, lambda f: f.write(data), audit, recorded_on)
 
 
 def shift_days(secret: str, patient_id: str) -> int:
@@ -204,7 +186,10 @@ def export_fhir(ctx: Context, patient_id: str | None, out: Path, since: str | No
     it holds. `since` is a day as typed ('2026-11-01', 'today', ...)."""
     ctx.require("fhir.export")
     day = parse_day(since, ctx.today) if since else None
-    target = _target(Path(out), force)
+    target = Path(out)
+    if target.suffix.lower() != FHIR_SUFFIX:  # as the pack's suffix, checked before the file itself
+        raise InputError("FHIR bundles are written as JSON: give a file name ending in .json")
+    safe_file.check_target(target, ctx.store.path, force)
     if patient_id is not None:
         patient_id = get_patient(ctx, patient_id).id
     count = 0
@@ -218,4 +203,4 @@ def export_fhir(ctx: Context, patient_id: str | None, out: Path, since: str | No
                  "path": str(target), "as_of": ctx.today.isoformat()}
         ctx.store.audit.record(ctx.actor, "fhir.export", "patient", patient_id or "*", after=after)
 
-    return _publish(ctx, target, fill, audit, recorded_on), count
+    return _publish(ctx, target, force, fill, audit, recorded_on), count

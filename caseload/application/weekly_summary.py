@@ -21,6 +21,7 @@ from caseload.application.week.pseudonyms import deidentified
 from caseload.application.week.figures import WeeklySummary
 from caseload.application.week.compile import WeekData, charting_from, compute
 from caseload.application.week.iso_weeks import DAYS, Week, iso_week
+from caseload.application.week.period import Period, covered
 from caseload.application.context import Context
 from caseload.application.errors import Refused
 from caseload.application.staff import DEFAULT_TIMEZONE
@@ -59,24 +60,26 @@ def _week(ctx: Context, text: str) -> Week:
     return week
 
 
-def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
-    span = Span(week.start, week.end)
-    positives = q.hcg_positives(week.first_day, week.last_day, POSITIVE, HCG_POSITIVE_IU_L)
-    temperature_days = q.temperature_days(week.first_day, week.last_day)
-    bleeds = q.charting_bleeds(charting_from(week, ctx.protocol), week.last_day)
-    cycles = cycles_into_week(bleeds, temperature_days, week, ctx.protocol)
+def _week_data(ctx: Context, q: ReportQueries, period: Period) -> WeekData:
+    """What the store holds for the days `period` covers: entries dated, and rows written, up to
+    its last day only."""
+    span = Span(period.start, period.end)
+    positives = q.hcg_positives(period.first_day, period.last_day, POSITIVE, HCG_POSITIVE_IU_L)
+    temperature_days = q.temperature_days(period.first_day, period.last_day)
+    bleeds = q.charting_bleeds(charting_from(period, ctx.protocol), period.last_day)
+    cycles = cycles_into_week(bleeds, temperature_days, period, ctx.protocol)
     return WeekData(
         staff=tuple(ctx.store.staff.all()),
         patients={p.id: p for p in ctx.store.patients.all()},
-        at_start=q.patient_versions(week.start),
-        at_end=q.patient_versions(week.end),
+        at_start=q.patient_versions(period.start),
+        at_end=q.patient_versions(period.end),
         alert_history=tuple(q.alert_history(span)),
-        unresolved_at_start=tuple(q.unresolved_alerts(week.start)),
-        entries_logged=tuple(q.entries_logged(span, week.day_starts)),
+        unresolved_at_start=tuple(q.unresolved_alerts(period.start)),
+        entries_logged=tuple(q.entries_logged(span, period.day_starts)),
         changes=tuple(q.changes(span)),
         temperature_days=temperature_days,
         cycles=cycles,
-        temperatures=q.temperatures_from({pid: spans[0].start for pid, spans in cycles.items()}, week.last_day),
+        temperatures=q.temperatures_from({pid: spans[0].start for pid, spans in cycles.items()}, period.last_day),
         hcg_positives=tuple(positives),
         hcg_entries={p.patient_id: ctx.store.entries.for_patient(p.patient_id) for p in positives},
     )
@@ -85,7 +88,7 @@ def _week_data(ctx: Context, q: ReportQueries, week: Week) -> WeekData:
 def compute_summary(ctx: Context, week: str) -> WeeklySummary:
     """The summary of one ISO week ('2026-W48'), with patient ids and names (supervisors and admins)."""
     ctx.require("summary.export")
-    period = _week(ctx, week)
+    period = covered(_week(ctx, week), ctx.today)
     with ctx.store.summary_queries().snapshot() as q:
         data = _week_data(ctx, q, period)
     return compute(period, data, ctx.protocol, ctx.today)

@@ -10,6 +10,7 @@ from caseload.cli.global_options import pass_clinic
 from caseload.cli.printing import console, print_table, safe
 from caseload.core.protocol_file import LAYOUT, overrides_of, setting_rows, value_text
 from caseload.presentation.glossary import refresh_line
+from caseload.presentation.safe_text import printable
 
 
 TEXT_COLUMN = 4  # as narrow as the column headings: the words are printed in full below
@@ -41,16 +42,16 @@ def protocol_show(clinic: Clinic) -> None:
 
 
 @protocol_group.command("check")
-@click.argument("file", type=click.Path(dir_okay=False))
+@click.argument("file")  # checked when read: click's check would look at the path as the service account
 def protocol_check(file: str) -> None:
     """Check a protocol file without using it."""
     changed = overrides_of(check_protocol_file(file))
     listed = ", ".join(f"{k} = {value_text(v)}" for k, v in changed.items()) or "none: every setting at its default"
-    click.echo(f"{file}: valid; overrides {listed}.")
+    click.echo(f"{printable(file)}: valid; overrides {listed}.")
 
 
 @protocol_group.command("use")
-@click.argument("file", type=click.Path(dir_okay=False))
+@click.argument("file")  # checked when read: click's check would look at the path as the service account
 @pass_clinic
 def protocol_use(clinic: Clinic, file: str) -> None:
     """Store a checked file's settings as the next protocol version (admins), then refresh every patient's alerts."""
@@ -65,7 +66,7 @@ def protocol_use(clinic: Clinic, file: str) -> None:
 def protocol_export(clinic: Clinic, file: str) -> None:
     """Write the protocol in force to a new file, in the layout 'protocol use' reads."""
     in_use = clinic.protocol_export(file)
-    click.echo(f"Protocol version {in_use.version} written to {file}.")
+    click.echo(f"Protocol version {in_use.version} written to {printable(file)}.")
 
 
 COMMANDS = [protocol_group]

@@ -11,6 +11,7 @@ from caseload.application.referral import PAPERS
 from caseload.cli.global_options import pass_clinic
 from caseload.exports import fhir as fhir_files
 from caseload.exports import pack_files
+from caseload.presentation.safe_text import printable
 
 
 @click.command()
@@ -23,7 +24,7 @@ from caseload.exports import pack_files
 def pack(clinic: Clinic, patient: str, out: str, cycles: int, paper: str, force: bool) -> None:
     """Make PATIENT's referral pack: summary, alerts, charts and entries of the last cycles."""
     path = clinic.referral_pack(patient, Path(out), cycles, paper, force, pack_files.render)
-    click.echo(f"Referral pack for {patient.strip()} written to {path}.")
+    click.echo(f"Referral pack for {printable(patient.strip())} written to {printable(path)}.")
 
 
 @click.command()
@@ -41,7 +42,7 @@ def fhir(clinic: Clinic, patient: str | None, everyone: bool, out: str, since: s
         raise click.UsageError("give one PATIENT or --all, not both and not neither")
     path, count = clinic.fhir_export(patient, Path(out), since, deidentify, force, fhir_files.write_bundle)
     kind = "de-identified " if deidentify else ""
-    click.echo(f"FHIR R4 bundle ({kind}{count} resources) written to {path}.")
+    click.echo(f"FHIR R4 bundle ({kind}{count} resources) written to {printable(path)}.")
 
 
 COMMANDS = [pack, fhir]

@@ -10,6 +10,7 @@ from caseload.application.clinic import Clinic
 from caseload.application.weekly_summary import FORMATS
 from caseload.cli.global_options import pass_clinic
 from caseload.exports.summary_files import write
+from caseload.presentation.safe_text import printable
 
 
 @click.command()
@@ -22,10 +23,11 @@ from caseload.exports.summary_files import write
 @pass_clinic
 def summary(clinic: Clinic, week: str | None, fmt: str, out: str, deidentify: bool, force: bool) -> None:
     """Export the weekly caseload summary (supervisors and admins); every export is audited."""
-    week = week or clinic.last_complete_week()
+    if week is None:  # not given; an empty --week "" is typed, and refused as a week not understood
+        week = clinic.last_complete_week()
     path = clinic.export_summary(week, fmt, Path(out), deidentify, write, force)
     kind = "de-identified " if deidentify else ""
-    click.echo(f"Weekly summary {week.strip().upper()} written to {path} ({kind}{fmt}).")
+    click.echo(f"Weekly summary {week.strip().upper()} written to {printable(path)} ({kind}{fmt}).")
 
 
 COMMANDS = [summary]

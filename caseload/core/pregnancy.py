@@ -41,7 +41,7 @@ class HcgTrend:
 class Pregnancy:
     lmp: date | None
     edd: date | None
-    edd_method: str | None  # NAEGELE, NAEGELE_ADJUSTED or OVULATION
+    edd_method: str | None  # one of EDD_METHODS
     gestational_age_days: int | None
     gestational_age: str | None  # e.g. "6w3d"
     positive_test: date | None  # first positive hCG of the cycle
@@ -82,6 +82,8 @@ class HcgPair:
 NAEGELE = "naegele"  # LMP + 280 days
 NAEGELE_ADJUSTED = "naegele-adjusted"  # LMP + 280 days + (usual cycle length - 28)
 OVULATION = "ovulation"  # ovulation + 266 days
+# Every rule `due_date` may name: what shows or exports a due date covers each of them.
+EDD_METHODS: tuple[str, ...] = (NAEGELE, NAEGELE_ADJUSTED, OVULATION)
 # Naegele's rule assumes a 28-day cycle with ovulation on day 14.
 NAEGELE_CYCLE_DAYS = 28
 

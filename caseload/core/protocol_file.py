@@ -136,7 +136,9 @@ def overrides_of(protocol: Protocol) -> dict[str, float | int | str]:
 
 def protocol_text(protocol: Protocol, header: str) -> str:
     """The protocol as a file `parse_protocol` reads back: a comment, then one line per override."""
-    lines = [f"# {one_line(header)}"]
+    # The whole header, however long (who set the version and when): it is a comment, not a screen
+    # line, so nothing needs shortening; one_line only keeps it on its line.
+    lines = [f"# {one_line(header, limit=None)}"]
     # A JSON string (letters kept as they are) is a TOML basic string: quotes and backslashes escaped.
     lines += [f"{name} = {json.dumps(value, ensure_ascii=False) if isinstance(value, str) else repr(value)}"
               for name, value in overrides_of(protocol).items()]

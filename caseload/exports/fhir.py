@@ -22,7 +22,9 @@ from datetime import date, datetime, time, timedelta, tzinfo
 from typing import IO
 
 from caseload.core.analysis import Analysis
+from caseload.core.markers import Markers
 from caseload.core.model import Entry, Kind, Patient, Staff
+from caseload.core.pregnancy import NAEGELE, NAEGELE_ADJUSTED, OVULATION
 from caseload.application.referral import Chart, Options
 
 NAMESPACE = "https://caseload.invalid/fhir"
@@ -103,19 +105,44 @@ SURVEY = "survey"  # what the patient reports by phone
 
 UNITS = {"Cel": "Cel", "iu_l": "[IU]/L", "mm": "mm"}
 
+# What each method's ovulation date is (core/markers.py dates it); "{interval}" is filled in from the cycle's
+# own markers, since the protocol sets how long after the surge ovulation is taken to come.
 OVULATION_METHODS = {
-    "lh": "One day after the first positive LH test of the cycle (WHO Task Force 1980).",
-    "shift": "The first day of the basal temperature rise confirmed by the three-over-six rule (Hilgers 1980).",
-    "change-point": "The first reading of the higher level of a two-level split of the cycle's basal "
-                    "temperatures, without a confirmed rise.",
-    "mucus": "The mucus peak day: the last day of the most fertile mucus, followed by a less fertile day.",
+    "lh": "The first positive LH test of the surge that dates ovulation, plus {interval} (WHO Task Force 1980: "
+          "ovulation about a day after the surge); the surge is the cycle's latest one no more than 6 days before "
+          "the basal temperature rise, when a rise is dated (Hilgers 1980).",
+    "shift": "The day before the first day of the basal temperature rise confirmed by the three-over-six rule (its "
+             "last low day). The rise begins on the rule's first high reading, or, on a gradual rise, on the first "
+             "reading of the higher level of a two-level split of the cycle's readings when that falls among the low "
+             "readings the first high was measured against.",
+    "change-point": "The day before the first reading of the higher level of a two-level split of the completed "
+                    "cycle's basal temperatures (its last low day), without a rise confirmed by the three-over-six "
+                    "rule.",
+    "mucus": "The mucus peak day: the last day of the most fertile mucus, confirmed by a less fertile observation on "
+             "a later day.",
 }
 LMP_METHOD = ("Day 1 of the current cycle: the first day of light or heavier flow; spotting alone and bleeds "
               "marked mid-cycle start no cycle.")
-EDD_METHODS = {
-    "naegele": ("Naegele's rule: the first day of the last menstrual period plus 280 days.", EDD_FROM_LMP),
-    "ovulation": ("The estimated ovulation date plus 266 days.", EDD_FROM_OVULATION),
+# Keyed by every rule the core dates a pregnancy by (pregnancy.EDD_METHODS; a test holds them equal). The adjusted
+# rule is still an estimate from the last menstrual period, so it takes that LOINC code.
+EDD_METHODS: dict[str, tuple[str, Code]] = {
+    NAEGELE: ("Naegele's rule: the first day of the last menstrual period plus 280 days.", EDD_FROM_LMP),
+    NAEGELE_ADJUSTED: ("Naegele's rule adjusted for a regular cycle: the first day of the last menstrual period plus "
+                       "280 days, plus the usual cycle length less 28 days.", EDD_FROM_LMP),
+    OVULATION: ("The estimated ovulation date plus 266 days.", EDD_FROM_OVULATION),
 }
+
+
+def _days(n: int) -> str:
+    return f"{n} day" if n == 1 else f"{n} days"
+
+
+def ovulation_method(m: Markers) -> str:
+    """What a cycle's estimated ovulation date is, in words; `m` has a dated ovulation."""
+    text = OVULATION_METHODS[m.ovulation_method]
+    if m.ovulation_method != "lh":
+        return text
+    return text.format(interval=_days((m.ovulation - m.lh_surge).days))
 
 
 def fhir_id(text: str) -> str:
@@ -341,11 +368,11 @@ def derived_observations(a: Analysis, pid: str, subject: dict, dates: _Dates) ->
     for number, c in enumerate(a.cycles, start=1):
         if c.markers.ovulation is not None and c.markers.ovulation_method is not None:
             found.append(_derived(f"{pid}-ovulation-{number}", [OVULATION_DATE], subject, dates, a.today,
-                                  c.markers.ovulation, OVULATION_METHODS[c.markers.ovulation_method]))
+                                  c.markers.ovulation, ovulation_method(c.markers)))
     if a.cycle_start is not None:
         found.append(_derived(f"{pid}-lmp", [LMP_START, LMP_OWN], subject, dates, a.today, a.cycle_start, LMP_METHOD))
     p = a.pregnancy
-    if p is not None and p.edd is not None and p.edd_method in EDD_METHODS:
+    if p is not None and p.edd is not None and p.edd_method is not None:
         method, loinc = EDD_METHODS[p.edd_method]
         found.append(_derived(f"{pid}-edd", [loinc, EDD_OWN], subject, dates, a.today, p.edd, method))
     return found

@@ -18,6 +18,11 @@ PT_PER_MM = 72 / 25.4
 HEADER_FILL = (235, 235, 235)
 CAUTION_COLOUR = (179, 89, 0)
 STRUCK = FontFace(emphasis=TextEmphasis.S, color=(110, 110, 110))
+TABLE_SIZE = 8.0  # pt
+CELL_PADDING = 0.8  # mm, each side of a table cell's text
+CELL_SLACK = 0.5  # mm: the cell's border line and rounding, so a word measured to fit does fit
+WORD_MAX = 45.0  # mm: a longer word (a pasted token) is broken rather than given the page
+SHORT_COLUMN_MAX = 40.0  # mm: the most a column that is not free text takes before it wraps
 OUTSIDE_FONT = "Some characters fall outside the PDF font and are printed as '?': the HTML pack shows them all."
 
 
@@ -66,10 +71,61 @@ def _paragraph(pdf: FPDF, text: str, size: float = 9.5) -> None:
     pdf.ln(0.8)
 
 
-def _table(pdf: FPDF, t: Table, size: float = 8.0, widths: tuple[float, ...] | None = None) -> None:
+def _measure(pdf: FPDF, texts, style: str, size: float) -> tuple[float, float]:
+    """The widest word and the widest line of `texts` in mm, in the table's font."""
+    pdf.set_font(FONT, style, size)
+    word = line = 0.0
+    for text in texts:
+        for part in text.splitlines() or [""]:
+            line = max(line, pdf.get_string_width(part))
+            word = max([word, *(pdf.get_string_width(w) for w in part.split())])
+    return word, line
+
+
+def column_widths(pdf: FPDF, t: Table, size: float = TABLE_SIZE,
+                  free: frozenset[str] = frozenset()) -> tuple[float, ...]:
+    """Widths in mm filling the page width, sized from the table's content: every column is at
+    least as wide as its longest word (so no word is split: "temperature", never "temperat / ure");
+    the other columns get their longest line where the page has room, up to SHORT_COLUMN_MAX, and
+    the free-text columns (headers in `free`; every column when none is named) share what is left
+    in proportion to what they need, then any room to spare. A word wider than WORD_MAX (a long
+    token in a note) is the one thing still broken."""
+    available = pdf.epw
+    room = 2 * CELL_PADDING + CELL_SLACK
+    least, natural = [], []
+    for n, title in enumerate(t.header):
+        head_word, head_line = _measure(pdf, [_latin1(title)], "B", size)
+        word, line = _measure(pdf, [_latin1(r.cells[n]) for r in t.rows if n < len(r.cells)], "", size)
+        least.append(min(max(word, head_word), WORD_MAX) + room)
+        natural.append(max(word, line, head_word, head_line) + room)
+    if sum(least) >= available:  # only when capped words still do not fit: shrink evenly
+        return tuple(w * available / sum(least) for w in least)
+    widths = list(least)
+    spare = available - sum(least)
+    chosen = [n for n, title in enumerate(t.header) if title in free] or list(range(len(t.header)))
+    others = sorted((n for n in range(len(t.header)) if n not in chosen), key=lambda n: natural[n] - least[n])
+    for n in others:  # the short columns whole, the least demanding first
+        grant = min(max(0.0, min(natural[n], SHORT_COLUMN_MAX) - widths[n]), spare)
+        widths[n] += grant
+        spare -= grant
+    wants = {n: natural[n] - widths[n] for n in chosen}
+    needed = sum(wants.values())
+    if needed > 0:
+        share = min(1.0, spare / needed)
+        for n in chosen:
+            widths[n] += wants[n] * share
+        spare -= needed * share
+    if spare > 0:  # room to spare: the free-text columns get it, for shorter rows
+        for n in chosen:
+            widths[n] += spare / len(chosen)
+    return tuple(widths)
+
+
+def _table(pdf: FPDF, t: Table, size: float = TABLE_SIZE, free: frozenset[str] = frozenset()) -> None:
+    widths = column_widths(pdf, t, size, free)
     pdf.set_font(FONT, "", size)
     with pdf.table(col_widths=widths, headings_style=FontFace(emphasis="BOLD", fill_color=HEADER_FILL),
-                   line_height=3.8, padding=0.8, text_align="LEFT", repeat_headings=1) as table:
+                   line_height=3.8, padding=CELL_PADDING, text_align="LEFT", repeat_headings=1) as table:
         table.row([_latin1(h) for h in t.header])
         for r in t.rows:
             row = table.row()
@@ -79,12 +135,12 @@ def _table(pdf: FPDF, t: Table, size: float = 8.0, widths: tuple[float, ...] | N
     pdf.ln(1.5)
 
 
-def _section(pdf: FPDF, s: Section, widths: tuple[float, ...] | None = None) -> None:
+def _section(pdf: FPDF, s: Section, free: frozenset[str] = frozenset()) -> None:
     _heading(pdf, s.heading)
     for p in s.paragraphs:
         _paragraph(pdf, p)
     if s.table is not None and s.table.rows:
-        _table(pdf, s.table, widths=widths)
+        _table(pdf, s.table, free=free)
 
 
 def _caution(pdf: FPDF, text: str) -> None:
@@ -137,7 +193,8 @@ def _who(pdf: FPDF, who: tuple[tuple[str, str], ...]) -> None:
         pdf.multi_cell(0, 4.8, _latin1(value), new_x="LMARGIN", new_y="NEXT")
 
 
-ENTRY_WIDTHS = (10, 17, 9, 14, 27, 14, 29, 25, 35)
+# The entries table's free text: these columns wrap, the others are sized to what they hold.
+ENTRY_FREE_TEXT = frozenset({"Note", "History"})
 
 
 def render(pack: Pack, paper: str = "a4") -> bytes:
@@ -165,6 +222,6 @@ def render(pack: Pack, paper: str = "a4") -> bytes:
             y = pdf.get_y() + 1
             draw_figure(pdf, block.figure, pdf.l_margin, y)
             pdf.set_y(y + block.figure.height + 4)
-    _section(pdf, pack.entries, ENTRY_WIDTHS)
+    _section(pdf, pack.entries, ENTRY_FREE_TEXT)
     _caution(pdf, pack.caution)
     return bytes(pdf.output())

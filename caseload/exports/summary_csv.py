@@ -1,5 +1,7 @@
 """The summary as CSV files in one folder: a file per table, named after its section and table
-(a section's tables have different columns, and a CSV file has one header row), plus week.csv."""
+(a section's tables have different columns, and a CSV file has one header row), plus week.csv,
+which also carries the tool's caution. A yes-or-no cell reads "yes" or "no", as everywhere the
+tool writes one for a person (the JSON keeps true and false)."""
 
 from __future__ import annotations
 
@@ -10,14 +12,18 @@ from pathlib import Path
 
 from caseload.application.week.figures import WeeklySummary
 from caseload.exports.summary_tables import Table, sections
+from caseload.presentation.glossary import CAUTION
 from caseload.presentation.safe_text import spreadsheet_text
 
 WEEK_FILE = "week.csv"
+YES, NO = "yes", "no"
 
 
 def text(value) -> str:
     if value is None:
         return ""
+    if isinstance(value, bool):
+        return YES if value else NO
     if isinstance(value, datetime):
         return value.isoformat(timespec="minutes")
     if isinstance(value, date):
@@ -46,9 +52,9 @@ def csv_files(summary: WeeklySummary) -> list[tuple[str, Callable[[Path], None]]
     """Every file of the folder: its name and the function that writes it."""
     w = summary.week
     files = [(WEEK_FILE, _writer(
-        ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "complete", "deidentified"],
+        ["week", "first_day", "last_day", "timezone", "hours", "prepared_on", "complete", "deidentified", "caution"],
         [[w.label, w.first_day, w.last_day, w.timezone, w.hours, summary.prepared_on, summary.complete,
-          summary.deidentified]]))]
+          summary.deidentified, CAUTION]]))]
     for section in sections(summary):
         for table in section.tables:
             rows = [*table.rows, *([table.total] if table.total else [])]

@@ -12,6 +12,7 @@ from jinja2 import Environment, PackageLoader, StrictUndefined
 from caseload.application.week.figures import WeeklySummary
 from caseload.exports.summary_tables import CHARTS, FLOAT, NONE, SHARE, bars, caption, sections
 from caseload.presentation.days import iso_day, iso_minute
+from caseload.presentation.glossary import CAUTION
 
 TEMPLATE = "summary.html.j2"
 BLANK = "–"
@@ -54,8 +55,10 @@ def render_html(summary: WeeklySummary) -> str:
     for section in parts:
         for chart in (c for c in CHARTS if c.section == section.id):
             charts.setdefault((section.id, chart.table), []).append(bars(chart, section))
+    # Not named `none`: Jinja reads `none` as its own None, so an empty chart would say "None".
     return environment().get_template(TEMPLATE).render(
-        summary=summary, week=summary.week, caption=caption(summary), sections=parts, charts=charts, none=NONE
+        summary=summary, week=summary.week, caption=caption(summary), sections=parts, charts=charts,
+        nothing_to_draw=NONE, caution=CAUTION,
     )
 
 

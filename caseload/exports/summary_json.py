@@ -1,5 +1,5 @@
 """The summary as one JSON document: the week, then each section's tables as lists of records
-keyed by column id, each with its total record (or null)."""
+keyed by column id, each with its total record (or null); `caution` is the tool's caution."""
 
 from __future__ import annotations
 
@@ -9,6 +9,7 @@ from pathlib import Path
 
 from caseload.application.week.figures import WeeklySummary
 from caseload.exports.summary_tables import sections
+from caseload.presentation.glossary import CAUTION
 
 
 def _value(value):
@@ -34,6 +35,7 @@ def document(summary: WeeklySummary) -> dict:
         "prepared_on": summary.prepared_on.isoformat(),
         "complete": summary.complete,
         "deidentified": summary.deidentified,
+        "caution": CAUTION,
     }
     for section in sections(summary):
         doc[section.id] = {

@@ -17,6 +17,7 @@ from caseload.presentation.glossary import alert_label
 from caseload.presentation.safe_text import printable
 
 TEXT, INT, FLOAT, SHARE, DATE, DATETIME = "text", "int", "float", "share", "date", "datetime"
+ID = "id"  # a whole number that names a record (an entry id): shown as a label, never added up
 WEEK_DAY = "day of the week, Monday = 1"
 
 
@@ -237,7 +238,7 @@ def _changes(changes: tuple[Change, ...], deid: bool) -> Table:
                       Column("change", "Change", TEXT), Column("by", "By", TEXT), Column("at", "When", DATETIME)),
                      tuple((*_patient(c.patient, deid), c.kind, c.day, c.change, c.by_staff, c.at) for c in changes))
     return Table("changes", "Corrections and voids",
-                 (Column("entry", "Entry"), *_patient_columns(deid), Column("kind", "Kind", TEXT),
+                 (Column("entry", "Entry", ID), *_patient_columns(deid), Column("kind", "Kind", TEXT),
                   Column("day", "Day", DATE), Column("change", "Change", TEXT), Column("reason", "Reason", TEXT),
                   Column("by", "By", TEXT), Column("at", "When", DATETIME)),
                  tuple((c.entry_id, *_patient(c.patient, deid), c.kind, c.day, c.change, c.reason, c.by_staff, c.at)

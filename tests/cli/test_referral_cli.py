@@ -51,7 +51,7 @@ def test_phone_staff_are_refused_and_nothing_is_written(charted, tmp_path):
 
 @pytest.mark.parametrize("args, message", [
     (("--out", "{dir}/pack.docx"), "--out 'pack.docx' must end in .pdf or .html"),
-    (("--out", "{dir}/missing/pack.pdf"), "does not exist: create it first or choose another --out"),
+    (("--out", "{dir}/missing/pack.pdf"), "does not exist: create it first or choose another path"),
     (("--out", "{dir}/pack.pdf", "--paper", "a5"), None),
 ])
 def test_bad_pack_arguments_get_one_line(charted, tmp_path, args, message):
@@ -66,7 +66,8 @@ def test_an_existing_file_is_kept_unless_forced(charted, tmp_path):
     out = tmp_path / "pack.html"
     out.write_text("keep me")
     done = charted("pack", "P0001", "--out", str(out))
-    assert done.exit_code == 1 and "exists: choose another --out, or add --force" in done.output
+    assert done.exit_code == 1
+    assert done.output == f"caseload: {out} exists already: choose a new file, or add --force to replace it\n"
     assert out.read_text() == "keep me"
     assert charted("pack", "P0001", "--out", str(out), "--force").exit_code == 0
     assert "<svg" in out.read_text() and owner_only(out)
@@ -112,6 +113,25 @@ def test_bad_fhir_arguments_are_refused_with_nothing_written(charted, tmp_path, 
     done = charted(*args, "--out", str(out))
     assert done.exit_code == code
     assert not out.exists() and audit_rows(charted, "fhir.export") == []
+
+
+@pytest.mark.parametrize("name", ["bundle.xml", "bundle", "bundle.json.txt", "bundle.ndjson"])
+def test_a_fhir_file_not_named_json_is_refused_in_one_line(charted, tmp_path, name):
+    # Reported: `fhir P0001 --out x.xml` wrote JSON into a file named .xml.
+    out = tmp_path / "out" / name
+    out.parent.mkdir()
+    done = charted("fhir", "P0001", "--out", str(out))
+    assert done.exit_code == 1
+    assert done.output == "caseload: FHIR bundles are written as JSON: give a file name ending in .json\n"
+    assert list(out.parent.iterdir()) == [] and audit_rows(charted, "fhir.export") == []
+    out.write_text("kept")  # nor over a file of that name, even with --force
+    assert charted("fhir", "P0001", "--out", str(out), "--force").exit_code == 1 and out.read_text() == "kept"
+
+
+def test_a_fhir_file_named_json_in_capitals_is_written(charted, tmp_path):
+    out = tmp_path / "BUNDLE.JSON"
+    assert charted("fhir", "P0001", "--out", str(out)).exit_code == 0
+    assert json.loads(out.read_text())["resourceType"] == "Bundle"
 
 
 @pytest.mark.parametrize("command, action", [(("pack", "P0001", "--out", "{dir}/p.html"), "referral.pack"),

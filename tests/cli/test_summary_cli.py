@@ -78,3 +78,18 @@ def test_de_identified_alert_lists_carry_no_names(run, fresh_clinic, tmp_path):
     doc = json.loads(out.read_text())
     listed = doc["alerts"]["open_at_end"]["rows"] + doc["alerts"]["urgent_notes"]["rows"]
     assert listed and all(r["patient"].startswith("px-") and "name" not in r for r in listed)
+
+
+@pytest.mark.parametrize("week, message", [
+    ("", "week '' not understood: use YYYY-Www, e.g. 2026-W48"),  # typed empty: not the default week
+    ("0000-W01", "week '0000-W01' does not exist: years run from 0001 to 9999"),
+    ("2026-W4\uff18", "week '2026-W4\uff18' not understood: use YYYY-Www, e.g. 2026-W48"),
+    ("9999-W52", "week 9999-W52 starts on 9999-12-27, after today (2026-11-10): choose a week that has begun"),
+])
+def test_a_week_that_cannot_be_summarised_is_one_line_and_nothing_is_written(run, fresh_clinic, tmp_path, week,
+                                                                            message):
+    out = tmp_path / "w.json"
+    done = run("summary", "--week", week, "--format", "json", "--out", str(out))
+    assert done.exit_code == 1
+    assert done.output == f"caseload: {message}\n"
+    assert not out.exists() and not fresh_clinic.store.audit.rows("summary.export")

@@ -8,10 +8,13 @@ import errno
 import hashlib
 import os
 import re
+import signal
+import socket
 import stat
 import subprocess
 import tempfile
 import zipfile
+from contextlib import closing, contextmanager
 from datetime import date, timedelta
 from pathlib import Path
 
@@ -22,6 +25,7 @@ from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
 
 from caseload.application.errors import Refused
+from caseload.application.protocol import protocol_in_use
 from caseload.application.weekly_summary import export_summary
 from caseload.cli import main
 from caseload.exports import summary_files as render
@@ -105,6 +109,219 @@ def test_a_csv_folder_with_files_of_the_same_names_is_kept_unless_force(run, tmp
     assert (folder / "week.csv").read_text(encoding="utf-8-sig").startswith("week,")
 
 
+# --- every export, one check: the store, its companions, a backup, anything but a regular file
+
+# Each command that writes a path the user chooses, with the suffix its file takes; {out} is the target.
+EXPORTS = {
+    "summary json": (("summary", "--week", W43, "--format", "json", "--out", "{out}", "--force"), ".json"),
+    "summary xlsx": (("summary", "--week", W43, "--format", "xlsx", "--out", "{out}", "--force"), ".xlsx"),
+    "summary html": (("summary", "--week", W43, "--format", "html", "--out", "{out}", "--force"), ".html"),
+    "pack pdf": (("pack", "P1", "--out", "{out}", "--force"), ".pdf"),
+    "pack html": (("pack", "P1", "--out", "{out}", "--force"), ".html"),
+    "fhir": (("fhir", "P1", "--out", "{out}", "--force"), ".json"),
+    "protocol export": (("protocol", "export", "{out}"), ".toml"),
+}
+EXPORT_ACTIONS = ("summary.export", "referral.pack", "fhir.export")
+SUFFIX_BOUND = ("pack", "fhir")  # the exports that refuse a name without their own suffix, before all else
+
+
+def _export(run, name: str, out: Path):
+    args, _ = EXPORTS[name]
+    return run(*(a.format(out=out) for a in args))
+
+
+def _refused_in_one_line(done, words: str) -> None:
+    assert done.exit_code == 1, done.output
+    assert len(done.output.splitlines()) == 1 and done.output.startswith("caseload: "), done.output
+    assert words in done.output and "Traceback" not in done.output
+
+
+def _nothing_exported(fresh_clinic) -> None:
+    assert not [r for action in EXPORT_ACTIONS for r in fresh_clinic.store.audit.rows(action)]
+
+
+@pytest.mark.parametrize("name", list(EXPORTS))
+@pytest.mark.parametrize("companion", ["", "-wal", "-shm", "-journal"])
+def test_no_export_writes_over_the_store_or_its_companions_even_with_force(run, fresh_clinic, tmp_path, name,
+                                                                        companion):
+    store = fresh_clinic.store.path
+    wal = Path(f"{store}-wal")
+    before = _digest(store), _digest(wal)
+    # The companion by its own name where the export takes any name; always through a link named as
+    # the export's files are (the pack takes only .pdf and .html, the FHIR export only .json).
+    link = tmp_path / f"handy{EXPORTS[name][1]}"
+    link.symlink_to(f"{store}{companion}")
+    targets = [link] if name.startswith(SUFFIX_BOUND) else [Path(f"{store}{companion}"), link]
+    for out in targets:
+        _refused_in_one_line(_export(run, name, out), "is the store itself: an export never overwrites it")
+    assert (_digest(store), _digest(wal)) == before
+    assert not Path(f"{store}-journal").exists()
+    assert Store(store).staff.get("admin1") is not None
+    _nothing_exported(fresh_clinic)
+
+
+@pytest.mark.parametrize("name", list(EXPORTS))
+def test_no_export_writes_over_a_backup_or_a_link_to_one(run, fresh_clinic, tmp_path, name):
+    backup = tmp_path / f"monday{EXPORTS[name][1]}"
+    assert run("backup", str(backup)).exit_code == 0
+    link = tmp_path / f"latest{EXPORTS[name][1]}"
+    link.symlink_to(backup)
+    before = _digest(backup)
+    _refused_in_one_line(_export(run, name, backup),
+                         f"caseload: {backup} is an SQLite database (a store or a backup): an export never overwrites it")
+    _refused_in_one_line(_export(run, name, link), f"caseload: {link} is a symbolic link, not a regular file")
+    assert _digest(backup) == before and link.is_symlink() and link.resolve() == backup
+    _nothing_exported(fresh_clinic)
+
+
+@contextmanager
+def _no_hang(seconds: int):
+    """Fail the test, instead of waiting forever, if something opens a named pipe that has no writer."""
+
+    def stop(signum, frame):
+        raise AssertionError(f"the export was still running after {seconds} s: it opened a pipe")
+
+    before = signal.signal(signal.SIGALRM, stop)
+    signal.alarm(seconds)
+    try:
+        yield
+    finally:
+        signal.alarm(0)
+        signal.signal(signal.SIGALRM, before)
+
+
+@pytest.mark.parametrize("name", list(EXPORTS))
+def test_a_device_a_pipe_a_socket_or_a_link_is_refused_and_left_as_it_is(run, fresh_clinic, tmp_path, name):
+    suffix = EXPORTS[name][1]
+    pipe, sock, link, regular = (tmp_path / f"{stem}{suffix}" for stem in ("pipe", "sock", "link", "regular"))
+    os.mkfifo(pipe)
+    listener = socket.socket(socket.AF_UNIX)
+    listener.bind(str(sock))
+    regular.write_text("kept")
+    link.symlink_to(regular)
+    cases = {pipe: "a named pipe", sock: "a socket", link: "a symbolic link"}
+    if not name.startswith(SUFFIX_BOUND):  # the pack takes only .pdf and .html, the FHIR export only .json
+        cases[Path("/dev/stdout")] = "a symbolic link"  # to the terminal, or the pipe the output goes to
+    # /dev/null is a character device: one of our own, where this account may make one.
+    device = tmp_path / f"null{suffix}"
+    if os.geteuid() == 0:
+        os.mknod(device, 0o600 | stat.S_IFCHR, os.makedev(1, 3))  # the null device's numbers (Linux)
+        cases[device] = "a device"
+    kinds = {path: stat.S_IFMT(os.lstat(path).st_mode) for path in cases}
+    with closing(listener), _no_hang(30):
+        for target, kind in cases.items():
+            _refused_in_one_line(_export(run, name, target),
+                                 f"caseload: {target} is {kind}, not a regular file: an export writes a new file "
+                                 "or replaces a regular one, choose another path")
+    assert {path: stat.S_IFMT(os.lstat(path).st_mode) for path in cases} == kinds
+    assert regular.read_text() == "kept"
+    assert [p.name for p in tmp_path.iterdir() if p.name.endswith(".partial")] == []
+    _nothing_exported(fresh_clinic)
+
+
+def test_the_real_dev_null_is_refused_before_anything_is_written(run, fresh_clinic):
+    # Reported as root: `summary --format xlsx --out /dev/null --force` made /dev/null a regular file.
+    done = run("summary", "--week", W43, "--format", "xlsx", "--out", "/dev/null", "--force")
+    _refused_in_one_line(done, "caseload: /dev/null is a device, not a regular file")
+    assert stat.S_ISCHR(os.lstat("/dev/null").st_mode)
+    _nothing_exported(fresh_clinic)
+
+
+@pytest.mark.parametrize("name", list(EXPORTS))
+def test_every_export_is_owner_only_and_says_where_without_letting_the_path_act_on_the_terminal(run, tmp_path, name):
+    # Reported: `--out $'esc/a\e]0;PWN\a.json'` set the terminal's title when the line was printed.
+    folder = tmp_path / "esc"
+    folder.mkdir()
+    out = folder / f"a\x1b]0;PWN\x07{EXPORTS[name][1]}"
+    done = _export(run, name, out)
+    assert done.exit_code == 0, done.output
+    shown = f"{folder}/a\\x1b]0;PWN\\x07{EXPORTS[name][1]}"  # the escapes as text, by the one display rule
+    assert f" written to {shown}" in done.output and printable(str(out)) == shown
+    assert "\x1b" not in done.output and "\x07" not in done.output
+    assert stat.S_IMODE(out.stat().st_mode) == 0o600 and out.stat().st_size > 0
+
+
+def test_the_exported_protocol_names_its_version_whole(run, fresh_clinic, tmp_path):
+    # Reported: the comment line was cut at 60 characters ("...set by system at 2026-1…").
+    in_use = protocol_in_use(fresh_clinic.store)
+    out = tmp_path / "protocol.toml"
+    assert run("protocol", "export", str(out)).exit_code == 0
+    first = out.read_text(encoding="utf-8").splitlines()[0]
+    assert first == f"# caseload clinic protocol version {in_use.version}, set by {in_use.set_by} at {in_use.set_at}"
+    assert len(first) > 60 and not first.endswith("…")
+
+
+# --- a CSV folder holds one export, whole, or nothing new
+
+
+def test_a_de_identified_csv_export_forced_over_an_identified_one_leaves_none_of_its_files(run, fresh_clinic,
+                                                                                           tmp_path):
+    # Reported: the identified export's quality-reasons.csv (free-text reasons) stayed in the folder.
+    c = fresh_clinic
+    entry = c.log("2026-10-21 08:00", "phone1", "P1", "note", "called", "2026-10-21")
+    c.void("2026-10-21 09:00", "nurse1", entry, "wrong patient, Aurelia's sister")
+    mixed, alone = tmp_path / "mix.csv", tmp_path / "alone"
+    assert run("summary", "--week", W43, "--format", "csv", "--out", str(mixed)).exit_code == 0
+    assert "Aurelia's sister" in (mixed / "quality-reasons.csv").read_text(encoding="utf-8-sig")
+    done = run("summary", "--week", W43, "--format", "csv", "--out", str(mixed), "--deidentify", "--force")
+    assert done.exit_code == 0, done.output
+    assert run("summary", "--week", W43, "--format", "csv", "--out", str(alone), "--deidentify").exit_code == 0
+    names = sorted(p.name for p in mixed.iterdir())
+    assert names == sorted(p.name for p in alone.iterdir()) and "quality-reasons.csv" not in names
+    assert all((mixed / n).read_bytes() == (alone / n).read_bytes() for n in names)
+    assert "Aurelia" not in "".join((mixed / n).read_text(encoding="utf-8-sig") for n in names)
+
+
+def test_an_earlier_exports_file_alone_is_kept_unless_force(run, tmp_path):
+    folder = tmp_path / "csv"
+    folder.mkdir()
+    (folder / "quality-reasons.csv").write_text("reason,corrections,voids\nsomeone's words,0,1\n")
+    (folder / "notes.txt").write_text("not an export's")
+    done = run("summary", "--week", W43, "--format", "csv", "--out", str(folder), "--deidentify")
+    assert done.exit_code == 1
+    assert done.output == (f"caseload: {folder / 'quality-reasons.csv'} exists already: choose a new file, "
+                           "or add --force to replace it\n")
+    assert sorted(p.name for p in folder.iterdir()) == ["notes.txt", "quality-reasons.csv"]
+    assert run("summary", "--week", W43, "--format", "csv", "--out", str(folder), "--deidentify", "--force").exit_code == 0
+    names = {p.name for p in folder.iterdir()}
+    assert "quality-reasons.csv" not in names and "notes.txt" in names and "week.csv" in names  # others' files stay
+
+
+def _disk_full_at(monkeypatch, failing: int) -> None:
+    """The `failing`-th CSV file of an export meets a full disk, after those before it were written."""
+    real = render.csv_files
+
+    def files(summary):
+        def full(path: Path) -> None:
+            raise OSError(errno.ENOSPC, "No space left on device")
+
+        listed = real(summary)
+        name, _ = listed[failing]
+        return [*listed[:failing], (name, full), *listed[failing + 1:]]
+
+    monkeypatch.setattr(render, "csv_files", files)
+
+
+def test_a_csv_export_failing_midway_leaves_no_folder(fresh_clinic, tmp_path, monkeypatch):
+    _disk_full_at(monkeypatch, 3)
+    out = tmp_path / "csv"
+    with pytest.raises(Refused, match=f"^the disk is full while writing {out}/.*: nothing was written"):
+        export_summary(fresh_clinic.context(), W43, "csv", out, deidentify=False, render=write)
+    assert not out.exists() and not [p.name for p in tmp_path.iterdir() if p.name.startswith(".")]
+    assert not fresh_clinic.store.audit.rows("summary.export")
+
+
+def test_a_forced_csv_export_failing_midway_leaves_the_earlier_one_as_it_was(fresh_clinic, tmp_path, monkeypatch):
+    out = tmp_path / "csv"
+    export_summary(fresh_clinic.context(), W43, "csv", out, deidentify=False, render=write)
+    before = {p.name: p.read_bytes() for p in out.iterdir()}
+    _disk_full_at(monkeypatch, 3)
+    with pytest.raises(Refused, match="the disk is full"):
+        export_summary(fresh_clinic.context(), W43, "csv", out, deidentify=True, render=write, force=True)
+    assert {p.name: p.read_bytes() for p in out.iterdir()} == before
+    assert len(fresh_clinic.store.audit.rows("summary.export")) == 1
+
+
 # --- how the file is written
 
 
@@ -136,7 +353,7 @@ def test_a_temporary_name_taken_by_someone_else_is_never_opened(fresh_clinic, tm
     """O_EXCL: a file planted at the temporary name (a link to elsewhere) is not written through."""
     victim = tmp_path / "victim.txt"
     victim.write_text("keep")
-    monkeypatch.setattr("caseload.exports.safe_file.secrets.token_hex", lambda n: "fixed")
+    monkeypatch.setattr("caseload.application.safe_file.secrets.token_hex", lambda n: "fixed")
     (tmp_path / ".s.json.fixed.partial").symlink_to(victim)
     with pytest.raises(Refused, match="failed \\(File exists\\)"):
         export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=False, render=write)
@@ -147,7 +364,7 @@ def test_a_file_system_without_hard_links_still_gets_its_file(fresh_clinic, tmp_
     def no_links(source, target):
         raise OSError(errno.EPERM, "Operation not permitted")  # what FAT answers
 
-    monkeypatch.setattr("caseload.exports.safe_file.os.link", no_links)
+    monkeypatch.setattr("caseload.application.safe_file.os.link", no_links)
     out = export_summary(fresh_clinic.context(), W43, "json", tmp_path / "s.json", deidentify=False, render=write)
     assert out.read_text().startswith("{") and stat.S_IMODE(out.stat().st_mode) == 0o600
     with pytest.raises(Refused, match="exists already"):

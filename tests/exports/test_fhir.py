@@ -9,7 +9,7 @@ from __future__ import annotations
 import io
 import json
 from collections import Counter
-from datetime import date, timedelta
+from datetime import UTC, date, datetime, timedelta
 
 import fhir.resources as fhir_models
 import pytest
@@ -17,11 +17,15 @@ from fhir.resources import construct_fhir_element
 from hypothesis import given
 from hypothesis import strategies as st
 
-from caseload.core.model import Kind
+from caseload.core import pregnancy
+from caseload.core.analysis import Analysis, CycleRecord, analyse
+from caseload.core.markers import OVULATION_METHODS
+from caseload.core.model import Kind, Observation, Patient, Value
 from caseload.exports import fhir
 from caseload.application import referral
 from caseload.application.caseload_view import show_patient
 from caseload.application.weekly_summary import pseudonym, pseudonym_secret
+from tests.core.test_markers import COVER, PATIENT, RAMP, on, temps
 
 
 def bundle_of(ctx, patient_id: str | None, since: date | None = None, deidentify: bool = False) -> dict:
@@ -155,6 +159,102 @@ def test_derived_dates_follow_the_published_rules(demo, ctx, bundle):
     assert "266 days" in edd["method"]["text"]
     ovulations = [o for o in derived.values() if o["id"].startswith("P0014-ovulation-")]
     assert len(ovulations) == sum(1 for c in p14.cycles if c.markers.ovulation)
+
+
+def _says_what_it_is(o: dict, c: CycleRecord) -> None:
+    """The ovulation Observation `o` of cycle `c`: its value is what its method text says it is."""
+    m, shift = c.markers, c.shift
+    value, text = date.fromisoformat(o["valueDateTime"]), o["method"]["text"]
+    if m.ovulation_method in ("shift", "change-point"):
+        # The day before the first day of the rise, its last low day: the LH surge falls within a day of
+        # the temperature nadir (Morris 1976) and ovulation about a day after it (WHO Task Force 1980).
+        assert value == shift.rise_start - timedelta(days=1)
+        assert text.startswith("The day before the first")
+    elif m.ovulation_method == "lh":
+        # WHO Task Force 1980: ovulation about a day after the LH surge (the protocol's default interval).
+        assert value == m.lh_surge + timedelta(days=1)
+        assert text.startswith("The first positive LH test of the surge that dates ovulation, plus 1 day ")
+    else:
+        assert value == m.mucus_peak and text.startswith("The mucus peak day")
+
+
+def exported(who: Patient, a: Analysis) -> list[dict]:
+    """The resources of one chart with no entries, as the export writes them."""
+    options = referral.Options(zone=UTC, generated=datetime(2026, 12, 1, 9, 0, tzinfo=UTC))
+    return fhir.patient_resources(referral.Chart(who, (), a), options)
+
+
+def test_every_ovulation_method_of_the_core_has_its_words():
+    assert set(fhir.OVULATION_METHODS) == set(OVULATION_METHODS)
+
+
+def test_each_ovulation_date_of_the_demo_is_what_its_method_text_says(ctx, bundle):
+    derived = {o["id"]: o for o in resources(bundle, "Observation")}
+    seen = Counter()
+    for p in ctx.store.patients.all():
+        for number, c in enumerate(show_patient(ctx, p.id).analysis.cycles, start=1):
+            if c.markers.ovulation is not None:
+                _says_what_it_is(derived[f"{fhir.fhir_id(p.id)}-ovulation-{number}"], c)
+                seen[c.markers.ovulation_method] += 1
+                # An abrupt rise begins on the rule's first high: ovulation is the day before it.
+                seen["abrupt"] += c.markers.ovulation_method == "shift" and c.shift.rise_start == c.shift.first_high
+    assert {"lh", "shift", "mucus", "abrupt"} <= set(seen)
+
+
+def test_a_change_point_dating_is_what_its_method_text_says():
+    ramp = RAMP | {d: 36.72 for d in range(21, 29)}  # a ramp the coverline form never confirms
+    bleeds = [Observation(on(d), Kind.BLEED, Value(word="moderate")) for d in (1, 2, 3, 29)]
+    a = analyse(PATIENT, sorted(bleeds + temps(ramp), key=lambda o: o.day), on(29), COVER)
+    (o,) = [o for o in exported(PATIENT, a) if o["id"] == "p-ovulation-1"]
+    construct_fhir_element("Observation", o)  # valid by the fhir.resources R4 model
+    assert a.cycles[0].markers.ovulation_method == "change-point"
+    _says_what_it_is(o, a.cycles[0])
+
+
+PIA = Patient("P0001", "Pia Test", date(1992, 5, 17), None)
+
+
+def _pregnant_analysis(cycle_days: int, lh_on_day: int | None) -> Analysis:
+    """Six cycles of `cycle_days` days, then a seventh with a positive urine hCG on its day 31 and,
+    with `lh_on_day`, a positive LH test on that day dating ovulation."""
+    start, observations = date(2026, 1, 5), []
+    for _ in range(6):
+        observations.append(Observation(start, Kind.BLEED, Value(word="moderate")))
+        start += timedelta(days=cycle_days)
+    observations += [Observation(start, Kind.BLEED, Value(word="moderate")),
+                     Observation(start + timedelta(days=30), Kind.HCG, Value(word="positive"))]
+    if lh_on_day is not None:
+        observations.append(Observation(start + timedelta(days=lh_on_day - 1), Kind.LH, Value(word="positive")))
+    return analyse(PIA, observations, start + timedelta(days=31))
+
+
+# One chart per rule the core dates a pregnancy by: regular 28-day cycles (Naegele's rule as it
+# stands), regular 32-day cycles (moved 4 days later) and an LH-dated ovulation (ovulation + 266).
+DUE_DATE_CHARTS = {"naegele": (28, None), "naegele-adjusted": (32, None), "ovulation": (28, 16)}
+
+
+def test_every_due_date_rule_of_the_core_has_a_chart_here_and_an_export():
+    assert set(DUE_DATE_CHARTS) == set(pregnancy.EDD_METHODS) == set(fhir.EDD_METHODS)
+
+
+@pytest.mark.parametrize("method", list(DUE_DATE_CHARTS))
+def test_every_due_date_is_exported_as_a_valid_observation(method):
+    a = _pregnant_analysis(*DUE_DATE_CHARTS[method])
+    p = a.pregnancy
+    assert p.edd_method == method
+    (edd,) = [o for o in exported(PIA, a) if o["id"] == "P0001-edd"]
+    construct_fhir_element("Observation", edd)  # valid by the fhir.resources R4 model
+    # Naegele's rule: LMP + 280 days; adjusted for a regular cycle by its length less 28 days (common
+    # practice); from ovulation, 266 days (ACOG Committee Opinion 700), ovulation a day after the LH
+    # test of day 16 (WHO Task Force 1980), so on day 17, 16 days after the LMP.
+    days = {"naegele": 280, "naegele-adjusted": 280 + 32 - 28, "ovulation": 16 + 266}[method]
+    assert edd["valueDateTime"] == (p.lmp + timedelta(days=days)).isoformat()
+    # IPS value set edd-method-uv-ips: 11779-6 estimated from the LMP, 11780-4 from the ovulation date.
+    from_lmp = ("11779-6", "Delivery date Estimated from last menstrual period")
+    code, display = {"naegele": from_lmp, "naegele-adjusted": from_lmp,
+                     "ovulation": ("11780-4", "Delivery date Estimated from ovulation date")}[method]
+    assert edd["code"]["coding"][0] == {"system": "http://loinc.org", "code": code, "display": display}
+    assert edd["method"]["text"] == fhir.EDD_METHODS[method][0]
 
 
 def test_since_leaves_out_earlier_entries(ctx):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import html
 import re
+import zlib
 
 import pytest
 
@@ -142,3 +143,77 @@ def test_user_text_in_the_pack_is_made_inert_by_the_one_display_rule(ctx):
     assert p.title == "Referral pack: Ana\\u202eLima"
     assert dict(p.who)["Clinic"] == "Test\\x1b[31m Clinic"
     assert "\u202e" not in pack.html(p)
+
+
+# --- the PDF's tables: columns sized from what they hold
+
+
+def pdf_lines(data: bytes) -> list[str]:
+    """Every run of text the PDF draws, in order: fpdf2 draws each line of a table cell as one
+    `(text) Tj` in a Flate-compressed content stream (the text is Latin-1, parentheses escaped)."""
+    lines = []
+    for stream in re.findall(rb"stream\r?\n(.*?)\r?\nendstream", data, re.S):
+        try:
+            content = zlib.decompress(stream)
+        except zlib.error:
+            continue  # not a compressed content stream (fonts are built in)
+        for text in re.findall(rb"\(((?:\\.|[^\\)])*)\) ?Tj", content):
+            lines.append(re.sub(rb"\\(.)", rb"\1", text).decode("latin-1"))
+    return lines
+
+
+def test_no_word_of_the_entries_table_is_split_across_lines(ctx):
+    # Reported: the Kind column printed "temperat / ure" and "intercours / e" while the Flags and
+    # History columns stood mostly empty.
+    p = pack_of(ctx, "P0015")
+    kinds = {r.cells[3] for r in p.entries.table.rows}
+    assert {"temperature", "intercourse"} <= kinds
+    lines = pdf_lines(pack_pdf.render(p))
+    assert not [line for line in lines if line in ("temperat", "ure", "intercours", "e")]
+    # Each kind, value and name is drawn whole on one line, at least once for each row that holds it.
+    for column in ("Kind", "Value", "Logged by"):
+        n = p.entries.table.header.index(column)
+        for shown in {r.cells[n] for r in p.entries.table.rows}:
+            rows = sum(r.cells[n] == shown for r in p.entries.table.rows)
+            assert lines.count(shown) >= rows, (column, shown)
+
+
+def test_the_spare_width_goes_to_the_free_text_columns(ctx):
+    from dataclasses import replace
+    from fpdf import FPDF
+    p = pack_of(ctx, "P0015")
+    table = p.entries.table
+    note = ("Patient rang to say she had a fever overnight and took paracetamol at six; "
+            "reading may run high, repeat tomorrow before rising")
+    noted = replace(table, rows=(pack.Row(("99999", "2026-11-30", "07:10", "temperature", "37.40 °C", "fever, late",
+                                           note, "Amara Okafor", "corrects 99998: typed the wrong day")),
+                                 *table.rows))
+    pdf = FPDF(unit="mm", format="A4")
+    pdf.set_margins(pack_pdf.MARGIN, pack_pdf.MARGIN, pack_pdf.MARGIN)
+    widths = pack_pdf.column_widths(pdf, noted, free=pack_pdf.ENTRY_FREE_TEXT)
+    assert sum(widths) == pytest.approx(pdf.epw) and pdf.epw == pytest.approx(180, abs=0.01)  # A4 less the margins
+    by = dict(zip(table.header, widths))
+    # Each column holds its longest word (and its header) with the cell's padding on both sides.
+    for n, title in enumerate(table.header):
+        pdf.set_font(pack_pdf.FONT, "", pack_pdf.TABLE_SIZE)
+        longest = max(pdf.get_string_width(w) for r in noted.rows for w in r.cells[n].split() or [""])
+        pdf.set_font(pack_pdf.FONT, "B", pack_pdf.TABLE_SIZE)
+        longest = max(longest, *(pdf.get_string_width(w) for w in title.split()))
+        assert widths[n] >= longest + 2 * pack_pdf.CELL_PADDING, title
+    # The short columns get their longest line, whole; the note and the history share what is left.
+    room = 2 * pack_pdf.CELL_PADDING + pack_pdf.CELL_SLACK
+    for title in ("#", "Day", "Time", "Kind", "Value", "Flags", "Logged by"):
+        n = table.header.index(title)
+        pdf.set_font(pack_pdf.FONT, "", pack_pdf.TABLE_SIZE)
+        line = max(pdf.get_string_width(r.cells[n]) for r in noted.rows)
+        pdf.set_font(pack_pdf.FONT, "B", pack_pdf.TABLE_SIZE)
+        assert by[title] == pytest.approx(max(line, pdf.get_string_width(title)) + room), title
+    assert by["Kind"] < 18 and by["Time"] < 10 and by["Flags"] < 16
+    assert by["Note"] == max(widths) and by["Note"] + by["History"] > 60 and by["History"] > by["Flags"]
+    drawn = pdf_lines(pack_pdf.render(replace(p, entries=replace(p.entries, table=noted))))
+    # The note wraps at spaces onto a few lines, every word whole, and so does the history.
+    start = drawn.index(next(line for line in drawn if line.startswith("Patient rang")))
+    joined = [" ".join(drawn[start:start + k]) for k in range(1, 9)]
+    assert note in joined and joined.index(note) >= 2
+    start = drawn.index(next(line for line in drawn[start:] if line.startswith("corrects")))
+    assert "corrects 99998: typed the wrong day" in [" ".join(drawn[start:start + k]) for k in range(1, 5)]

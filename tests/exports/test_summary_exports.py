@@ -4,6 +4,7 @@ standard library's html.parser, CSV with the csv module, JSON with json."""
 from __future__ import annotations
 
 import csv
+import html
 import math
 import json
 import re
@@ -16,9 +17,10 @@ from openpyxl.utils import get_column_letter
 
 from caseload.core.alerts import ALERT_KINDS
 from caseload.exports.summary_files import write
-from caseload.exports.summary_tables import DATE, DATETIME, FLOAT, INT, NONE, SHARE, sections
+from caseload.exports.summary_tables import CHARTS, DATE, DATETIME, FLOAT, ID, INT, NONE, SHARE, sections
 from caseload.exports.summary_xlsx import MAX_WIDTH, _step
 from caseload.application.weekly_summary import compute_summary, export_summary
+from caseload.presentation.glossary import CAUTION
 from tests.application.week.conftest import W43
 from tests.application.week.expected import KEYS, w43
 
@@ -48,9 +50,9 @@ def _typed(text: str, kind: str):
     """A text cell as a value; 'total' labels and blanks pass through."""
     if text in ("", "–"):
         return None
-    if text == "total" or kind not in (INT, FLOAT, SHARE, DATE, DATETIME):
+    if text == "total" or kind not in (INT, ID, FLOAT, SHARE, DATE, DATETIME):
         return text
-    if kind == INT:
+    if kind in (INT, ID):
         return int(text)
     if kind == SHARE:
         return float(text[:-1]) / 100 if text.endswith("%") else float(text)
@@ -245,9 +247,10 @@ def test_csv_folder_holds_one_file_per_table_and_the_week(exported):
     assert names == sorted(["week.csv", *(f"{s}-{t}.csv" for s, t in KEYS)])
     with open(exported["csv"] / "week.csv", newline="", encoding="utf-8-sig") as f:
         (week,) = list(csv.DictReader(f))
+    # Yes-or-no cells read "yes" or "no" (reported: Python's "True"/"False"); the caution rides along.
     assert week == {"week": "2026-W43", "first_day": "2026-10-19", "last_day": "2026-10-25",
-                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "complete": "True",
-                    "deidentified": "False"}
+                    "timezone": "Europe/London", "hours": "169", "prepared_on": "2026-11-10", "complete": "yes",
+                    "deidentified": "no", "caution": CAUTION}
     # RFC 3629 section 6: a UTF-8 byte order mark is EF BB BF; spreadsheet programs take it to mean UTF-8.
     assert all(p.read_bytes().startswith(b"\xef\xbb\xbf") for p in exported["csv"].iterdir())
 
@@ -336,3 +339,138 @@ def test_an_empty_chart_says_none_this_week(fresh_clinic, tmp_path):
     sheet = openpyxl.load_workbook(path)["Alerts"]
     said = [c.value for row in sheet.iter_rows() for c in row if isinstance(c.value, str) and NONE in c.value]
     assert "Alerts raised by kind: none this week" in said and not sheet._charts
+
+
+def test_an_empty_chart_on_the_page_says_what_the_workbook_says(fresh_clinic, tmp_path):
+    # 2026-W30 (July) is before anyone was registered: every chart is empty. Jinja reads a variable
+    # named `none` as its own None, which the page once printed as "None".
+    def export(fmt: str):
+        return export_summary(fresh_clinic.context(), "2026-W30", fmt, tmp_path / f"w30.{fmt}", deidentify=False,
+                              render=write)
+
+    page = export("html").read_text(encoding="utf-8")
+    book = openpyxl.load_workbook(export("xlsx"))
+    in_book = {c.value for sheet in book for row in sheet.iter_rows() for c in row
+               if isinstance(c.value, str) and c.value.endswith(f": {NONE}")}
+    titles = {chart.id: chart.title for chart in CHARTS}
+    on_page = {f"{titles[chart]}: {said}"
+               for chart, said in re.findall(r'<figure class="chart" id="chart-([^"]+)">\s*<p class="none">([^<]*)</p>', page)}
+    assert "None" not in page
+    assert on_page == in_book == {f"{chart.title}: none this week" for chart in CHARTS}
+
+
+# --- the caution, in every format, from the one wording the whole tool shows
+
+
+def test_every_format_carries_the_tools_caution_in_its_one_wording(exported, workbook, page, document):
+    assert CAUTION.startswith("Predictions are estimates, not contraception advice;")
+    for sheet in workbook:  # under the title and caption of each sheet, across its tables, kept in view
+        assert sheet["A3"].value == CAUTION and sheet["A3"].alignment.wrap_text
+        assert any(str(r).startswith("A3:") for r in sheet.merged_cells.ranges)
+    assert html.unescape(page).count(CAUTION) == 2  # under the caption, and at the foot of the page
+    with open(exported["csv"] / "week.csv", newline="", encoding="utf-8-sig") as f:
+        assert next(csv.DictReader(f))["caution"] == CAUTION
+    assert document["caution"] == CAUTION
+
+
+def test_the_caution_is_the_glossarys_never_a_copy():
+    from pathlib import Path
+    import caseload.exports as exports
+    for module in ("summary_xlsx", "summary_html", "summary_csv", "summary_json", "templates/summary.html.j2"):
+        path = Path(exports.__file__).parent / (module if "." in module else f"{module}.py")
+        assert "contraception" not in path.read_text(encoding="utf-8"), module
+
+
+def test_the_json_document_only_gained_the_caution(document):
+    # Additive: every key a reader of the earlier document used is still there, under its name.
+    assert list(document)[:5] == ["week", "prepared_on", "complete", "deidentified", "caution"]
+    assert set(document) == {"week", "prepared_on", "complete", "deidentified", "caution", *SHEETS}
+    assert document["complete"] is True and document["deidentified"] is False  # still JSON booleans
+
+
+# --- XLSX: readable printed rows
+
+
+def test_xlsx_ids_and_dates_sit_left_and_figures_right_so_a_printed_row_reads_right(workbook, expected):
+    # Reported: on the Data quality sheet every table shares each column's width, so the entry id
+    # sat at the right of the Reason column's 54 characters, against the patient: "16950P0028".
+    sheet = workbook["Data quality"]
+    top = next(cell.row for cell in sheet["A"] if cell.value == "Corrections and voids")
+    header = [c.value for c in sheet[top + 1]][:9]
+    assert header == ["Entry", "Patient", "Name", "Kind", "Day", "Change", "Reason", "By", "When"]
+    assert sheet.cell(top + 1, 1).alignment.horizontal != "right"
+    row = sheet[top + 2]
+    entry, day, when = row[0], row[4], row[8]
+    assert isinstance(entry.value, int) and entry.value == expected[("quality", "changes")][0][0][0]
+    for cell in (entry, day, when):  # a label and two times: at the left edge, as the page shows them
+        assert cell.alignment.horizontal == "left", cell.coordinate
+    coverage = next(cell.row for cell in sheet["A"] if cell.value == "Daily temperatures of patients charting all week")
+    for cell in sheet[coverage + 2][1:5]:  # counts and a share: figures, at the right edge (Excel's "general")
+        assert isinstance(cell.value, (int, float)) and cell.alignment.horizontal in (None, "general", "right")
+
+
+def _long_named(summary, name: str):
+    from dataclasses import replace
+    first = summary.alerts.open_at_end[0]
+    longer = replace(first, patient=replace(first.patient, name=name))
+    return replace(summary, alerts=replace(summary.alerts, open_at_end=(longer, *summary.alerts.open_at_end[1:])))
+
+
+def _printed_width_px(sheet) -> float:
+    """How far right the sheet's content reaches, in pixels: its columns and the charts beside them."""
+    from openpyxl.utils import column_index_from_string
+    widths = {}
+    for dim in sheet.column_dimensions.values():
+        for col in range(dim.min or column_index_from_string(dim.index), (dim.max or dim.min or 0) + 1):
+            widths[col] = dim.width
+    px = [int((widths.get(c) or 8.43) * 7 + 0.5) + 5 for c in range(1, sheet.max_column + 1)]
+    right = sum(px)
+    for chart in sheet._charts:
+        to = chart.anchor.to
+        right = max(right, sum(px[:to.col]) + sum(64 for _ in range(len(px), to.col)) + to.colOff / 9525)
+    return right
+
+
+def test_a_long_name_wraps_in_a_capped_column_and_the_sheet_prints_at_a_readable_size(clinic, tmp_path):
+    # Reported: one long patient name widened its column to 80 characters and the whole printed
+    # Alerts sheet, fitted to one page wide, shrank to about 5 pt type.
+    from caseload.exports.summary_xlsx import MIN_PRINT_SCALE, PRINT_WIDTH_PX, write_xlsx
+    name = "Maria de los Angeles Fernandez-Castellanos y Rodriguez de la Fuente Villanueva-Ortega"
+    summary = _long_named(compute_summary(clinic.context(), W43), name)
+    path = tmp_path / "long.xlsx"
+    write_xlsx(summary, path)
+    sheet = openpyxl.load_workbook(path)["Alerts"]
+    cell = next(c for row in sheet.iter_rows() for c in row if c.value == name)
+    column = sheet.column_dimensions[get_column_letter(cell.column)]
+    assert column.width < MAX_WIDTH + 3 < len(name)  # xlsxwriter writes a width of 42 as 42.71
+    assert cell.alignment.wrap_text and cell.alignment.vertical == "top"
+    for dim in sheet.column_dimensions.values():
+        assert dim.width < MAX_WIDTH + 3
+    setup = sheet.page_setup
+    printed = _printed_width_px(sheet)
+    if sheet.sheet_properties.pageSetUpPr.fitToPage:  # fitted only where the type stays readable
+        assert (int(setup.fitToWidth or 1), int(setup.fitToHeight)) == (1, 0)
+        assert 100 * PRINT_WIDTH_PX / printed >= MIN_PRINT_SCALE
+    else:
+        assert int(setup.scale) == MIN_PRINT_SCALE
+    assert MIN_PRINT_SCALE == 70
+
+
+def test_a_sheet_too_wide_for_one_readable_page_prints_at_seventy_percent_across_pages(clinic, tmp_path):
+    # Every text column of the corrections at its cap: nine columns are wider than one landscape A4
+    # page at 70%, so the sheet is not shrunk to fit; it prints at 70%, left part then right part.
+    from dataclasses import replace
+    from caseload.exports.summary_xlsx import MIN_PRINT_SCALE, PRINT_WIDTH_PX, write_xlsx
+    summary = compute_summary(clinic.context(), W43)
+    long = "a long stretch of words " * 3
+    changed = tuple(replace(c, patient=replace(c.patient, id=long[:30], name=long), kind=long, change=long,
+                            reason=long, by_staff=long) for c in summary.quality.changes)
+    path = tmp_path / "wide.xlsx"
+    write_xlsx(replace(summary, quality=replace(summary.quality, changes=changed)), path)
+    book = openpyxl.load_workbook(path)
+    sheet = book["Data quality"]
+    assert 100 * PRINT_WIDTH_PX / _printed_width_px(sheet) < MIN_PRINT_SCALE
+    assert not sheet.sheet_properties.pageSetUpPr.fitToPage
+    assert int(sheet.page_setup.scale) == MIN_PRINT_SCALE == 70 and sheet.page_setup.pageOrder == "overThenDown"
+    # The other sheets still print one page wide.
+    assert all(book[name].sheet_properties.pageSetUpPr.fitToPage for name in ("Census", "Alerts", "Workload"))

@@ -71,7 +71,8 @@ PERFORMERS: dict[str, Callable[[Context, Env], object]] = {
     "summary.export": lambda ctx, env: export_summary(ctx, "2026-W48", "json", env.out, deidentify=True, render=write),
     "referral.pack": lambda ctx, env: make_pack(ctx, "P0001", env.out.with_suffix(".html"), 3, "a4", False,
                                                 pack_files.render),
-    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out, None, False, False, fhir.write_bundle),
+    "fhir.export": lambda ctx, env: export_fhir(ctx, "P0001", env.out.with_suffix(".json"), None, False, False,
+                                                fhir.write_bundle),
 }
 CELLS = [(action, role) for action in sorted(MATRIX) for role in Role]
 

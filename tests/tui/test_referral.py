@@ -57,7 +57,9 @@ async def test_a_refusal_stays_in_the_dialog_as_one_line(app_as, tmp_path):
         dialog = await press_p_in_the_record(pilot)
         await write_to(pilot, dialog, out)
         assert pilot.app.screen is dialog
-        assert "Not written:" in dialog.query_one("#check").render().plain and "--force" in dialog.query_one("#check").render().plain
+        # The interface cannot replace a file: its refusal offers another name, never the command line's --force.
+        assert dialog.query_one("#check").render().plain == (
+            f"Not written: {out} exists already: the interface keeps it, choose another file name")
     assert out.read_text() == "keep"
 
 

@@ -15,7 +15,7 @@ from caseload.core.model import Severity
 from caseload.application.week.figures import (
     TOTAL, AckTime, ActionCount, AlertNote, AlertSummary, KindCount, OpenAlert, PatientRef, WeekEndAlerts,
 )
-from caseload.application.week.iso_weeks import Week
+from caseload.application.week.period import Period
 from caseload.store.summary_queries import AlertEvent
 
 SEVERITIES = tuple(s.value for s in Severity)
@@ -62,12 +62,12 @@ def _state(event: AlertEvent, previous: str) -> str:
     return event.state or STATE_AFTER.get(event.action, previous)
 
 
-def _alert_states(week: Week, history: Iterable[AlertEvent],
+def _alert_states(period: Period, history: Iterable[AlertEvent],
                   unresolved_at_start: Iterable[AlertEvent]) -> list[tuple[str, AlertEvent]]:
-    """(state, last transition) at the week's end of every alert not resolved then.
+    """(state, last transition) at the period's end of every alert not resolved then.
 
-    An alert touched in the week is replayed from its raising; any other keeps its state at the
-    start. As in the queue, a snooze until a day that has come (by the week's last day) is open.
+    An alert touched in the period is replayed from its raising; any other keeps its state at the
+    start. As in the queue, a snooze until a day that has come (by the last day covered) is open.
     """
     last = {e.alert_id: (_state(e, "open"), e) for e in unresolved_at_start}
     replayed: dict[str, tuple[str, AlertEvent]] = {}
@@ -77,19 +77,19 @@ def _alert_states(week: Week, history: Iterable[AlertEvent],
     last.update(replayed)
     states = []
     for state, e in last.values():
-        if state == "snoozed" and e.snooze_until is not None and e.snooze_until <= week.last_day:
+        if state == "snoozed" and e.snooze_until is not None and e.snooze_until <= period.last_day:
             state = "open"
         if state != "resolved":
             states.append((state, e))
     return states
 
 
-def _week_end_row(severity: str, states: Sequence[tuple[str, AlertEvent]], week: Week) -> WeekEndAlerts:
+def _week_end_row(severity: str, states: Sequence[tuple[str, AlertEvent]], period: Period) -> WeekEndAlerts:
     open_ = [e for state, e in states if state == "open"]
     return WeekEndAlerts(
         severity=severity,
         open=len(open_),
-        past_due=sum(1 for e in open_ if e.due is not None and e.due <= week.last_day),
+        past_due=sum(1 for e in open_ if e.due is not None and e.due <= period.last_day),
         acknowledged=sum(state == "acknowledged" for state, _ in states),
         snoozed=sum(state == "snoozed" for state, _ in states),
     )
@@ -104,8 +104,8 @@ def _raised(in_week: Sequence[AlertEvent]) -> tuple[tuple[KindCount, ...], KindC
     return rows, KindCount(TOTAL, by_severity, sum(r.total for r in rows))
 
 
-def _hours_to_first_ack(week: Week, history: Sequence[AlertEvent]) -> dict[str, list[float]]:
-    """Hours from raising to first acknowledgement of the alerts first acknowledged in the week,
+def _hours_to_first_ack(period: Period, history: Sequence[AlertEvent]) -> dict[str, list[float]]:
+    """Hours from raising to first acknowledgement of the alerts first acknowledged in the period,
     by their severity then. Instants are UTC, so a clock change does not bend the hours."""
     by_alert: dict[str, list[AlertEvent]] = defaultdict(list)
     for e in history:
@@ -114,36 +114,43 @@ def _hours_to_first_ack(week: Week, history: Sequence[AlertEvent]) -> dict[str, 
     for events in by_alert.values():
         raising = next((e for e in events if e.action == RAISE), None)
         first_ack = next((e for e in events if e.action == ACK), None)
-        if raising and first_ack and week.contains(first_ack.at):
+        if raising and first_ack and period.contains(first_ack.at):
             hours[first_ack.severity].append((first_ack.at - raising.at).total_seconds() / 3600)
     return hours
 
 
-def _open_at_end(week: Week, states: Sequence[tuple[str, AlertEvent]], nurse_of: Callable[[str], str],
+def _open_at_end(period: Period, states: Sequence[tuple[str, AlertEvent]], nurse_of: Callable[[str], str],
                  ref: Callable[[str], PatientRef]) -> tuple[OpenAlert, ...]:
     rows = [
         OpenAlert(nurse_of(e.patient_id), ref(e.patient_id), e.kind, e.severity, state, e.raised_on,
-                  None if e.raised_on is None else (week.last_day - e.raised_on).days)
+                  None if e.raised_on is None else (period.last_day - e.raised_on).days)
         for state, e in states if e.severity in PRESSING
     ]
-    return tuple(sorted(rows, key=lambda r: (r.nurse, PRESSING.index(r.severity), -(r.age_days or 0), r.patient.id)))
+    return tuple(sorted(rows, key=open_order))
 
 
-def _urgent_notes(week: Week, in_week: Sequence[AlertEvent], ref: Callable[[str], PatientRef]) -> tuple[AlertNote, ...]:
+def open_order(r: OpenAlert) -> tuple:
+    """By nurse and severity, oldest first. An age not shown (de-identified, an alert raised before
+    the week) is older than any shown, and sorts first without saying how old."""
+    return (r.nurse, PRESSING.index(r.severity), r.age_days is not None, -(r.age_days or 0), r.patient.id)
+
+
+def _urgent_notes(period: Period, in_week: Sequence[AlertEvent],
+                  ref: Callable[[str], PatientRef]) -> tuple[AlertNote, ...]:
     return tuple(
-        AlertNote(ref(e.patient_id), e.kind, HANDLING[e.action], e.by_staff, week.local(e.at), e.note or "")
+        AlertNote(ref(e.patient_id), e.kind, HANDLING[e.action], e.by_staff, period.local(e.at), e.note or "")
         for e in in_week if e.action in (ACK, RESOLVE) and e.severity == Severity.URGENT.value
     )
 
 
-def alert_summary(week: Week, history: Sequence[AlertEvent], unresolved_at_start: Sequence[AlertEvent],
+def alert_summary(period: Period, history: Sequence[AlertEvent], unresolved_at_start: Sequence[AlertEvent],
                   nurse_of: Callable[[str], str], ref: Callable[[str], PatientRef]) -> AlertSummary:
-    """`nurse_of` names a patient's nurse at the week's end; `ref` how a patient is shown."""
-    in_week = [e for e in history if week.contains(e.at)]
+    """`nurse_of` names a patient's nurse at the period's end; `ref` how a patient is shown."""
+    in_week = [e for e in history if period.contains(e.at)]
     rows, raised_total = _raised(in_week)
-    hours = _hours_to_first_ack(week, history)
-    states = _alert_states(week, history, unresolved_at_start)
-    week_end = tuple(_week_end_row(s, [(st, e) for st, e in states if e.severity == s], week) for s in SEVERITIES)
+    hours = _hours_to_first_ack(period, history)
+    states = _alert_states(period, history, unresolved_at_start)
+    week_end = tuple(_week_end_row(s, [(st, e) for st, e in states if e.severity == s], period) for s in SEVERITIES)
     return AlertSummary(
         raised=rows,
         raised_total=raised_total,
@@ -159,6 +166,6 @@ def alert_summary(week: Week, history: Sequence[AlertEvent], unresolved_at_start
             acknowledged=sum(r.acknowledged for r in week_end),
             snoozed=sum(r.snoozed for r in week_end),
         ),
-        open_at_end=_open_at_end(week, states, nurse_of, ref),
-        urgent_notes=_urgent_notes(week, in_week, ref),
+        open_at_end=_open_at_end(period, states, nurse_of, ref),
+        urgent_notes=_urgent_notes(period, in_week, ref),
     )

@@ -21,7 +21,7 @@ from caseload.application.week.alert_counts import RAISE
 from caseload.application.week.figures import (
     Clinical, ClinicalEvent, EventCount, NurseOutcomes, PatientRef, PositiveHcg,
 )
-from caseload.application.week.iso_weeks import Week
+from caseload.application.week.period import Period
 from caseload.store.summary_queries import AlertEvent, HcgPositive
 
 SHIFT_CONFIRMED, HCG_POSITIVE = "shift-confirmed", "hcg-positive"
@@ -41,28 +41,28 @@ EVENT_ALERT_KINDS = frozenset(k for _, _, kinds in CLINICAL_EVENTS for k in kind
 
 
 def cycles_into_week(bleeds: Mapping[str, Sequence[Observation]], temperature_days: Mapping[str, Sequence[date]],
-                     week: Week, protocol: Protocol) -> dict[str, list[CycleSpan]]:
-    """Each patient's cycles, as of the week's end, that reach into the week.
+                     period: Period, protocol: Protocol) -> dict[str, list[CycleSpan]]:
+    """Each patient's cycles, as of the period's last day, that reach into it.
 
     Only patients with a temperature in the week can have a shift confirmed in it, so only they
     are kept; their readings are then needed from the first such cycle's day 1, not from further back.
     """
     found = {}
     for pid in temperature_days:
-        seen = [b for b in bleeds.get(pid, ()) if b.day <= week.last_day]
-        spans = [s for s in cycle_spans(menstrual_bleeds(seen, protocol)) if s.end is None or s.end >= week.first_day]
+        seen = [b for b in bleeds.get(pid, ()) if b.day <= period.last_day]
+        spans = [s for s in cycle_spans(menstrual_bleeds(seen, protocol)) if s.end is None or s.end >= period.first_day]
         if spans:
             found[pid] = spans
     return found
 
 
-def confirmed_shift(cycles: Sequence[CycleSpan], temperatures: Sequence[Observation], week: Week,
+def confirmed_shift(cycles: Sequence[CycleSpan], temperatures: Sequence[Observation], period: Period,
                     protocol: Protocol) -> date | None:
-    """The day in the week a thermal shift was confirmed by the three-over-six rule, if one was."""
+    """The day in the period a thermal shift was confirmed by the three-over-six rule, if one was."""
     for span, group in zip(cycles, group_by_cycle(list(temperatures), list(cycles))):
         readings = valid_readings(group, protocol)
         confirmed = three_over_six(readings, protocol).confirmed_at
-        if confirmed is not None and week.first_day <= readings[confirmed].day <= week.last_day:
+        if confirmed is not None and period.holds(readings[confirmed].day):
             return readings[confirmed].day
     return None
 
@@ -83,12 +83,13 @@ def count_events(events: Sequence[ClinicalEvent]) -> tuple[EventCount, ...]:
     return tuple(counts)
 
 
-def _raised_events(week: Week, in_week: Sequence[AlertEvent], ref: Callable[[str], PatientRef]) -> list[ClinicalEvent]:
+def _raised_events(period: Period, in_week: Sequence[AlertEvent],
+                   ref: Callable[[str], PatientRef]) -> list[ClinicalEvent]:
     """The first raising in the week of each (patient, kind) the events count, on its local day."""
     first: dict[tuple[str, str], date] = {}
     for e in in_week:
         if e.action == RAISE and e.kind in EVENT_ALERT_KINDS:
-            day = week.local_day(e.at)
+            day = period.local_day(e.at)
             first[(e.patient_id, e.kind)] = min(day, first.get((e.patient_id, e.kind), day))
     return [ClinicalEvent(ref(pid), kind, day) for (pid, kind), day in first.items()]
 
@@ -101,7 +102,7 @@ def _positive_hcg(positive: HcgPositive, patient: Patient, entries: Sequence[Ent
 
 
 def clinical(
-    week: Week,
+    period: Period,
     in_week: Sequence[AlertEvent],
     cycles: Mapping[str, Sequence[CycleSpan]],
     temperatures: Mapping[str, Sequence[Observation]],
@@ -111,9 +112,9 @@ def clinical(
     ref: Callable[[str], PatientRef],
     outcomes: tuple[tuple[NurseOutcomes, ...], NurseOutcomes],
 ) -> Clinical:
-    events = _raised_events(week, in_week, ref)
+    events = _raised_events(period, in_week, ref)
     for pid, readings in temperatures.items():
-        confirmed = confirmed_shift(cycles[pid], readings, week, protocol)
+        confirmed = confirmed_shift(cycles[pid], readings, period, protocol)
         if confirmed is not None:
             events.append(ClinicalEvent(ref(pid), SHIFT_CONFIRMED, confirmed))
     pregnancies = [_positive_hcg(p, *records[p.patient_id], protocol, ref) for p in positives]

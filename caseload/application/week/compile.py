@@ -20,7 +20,7 @@ from caseload.application.week.figures import (
     TOTAL, UNASSIGNED, ActiveCount, Census, Change, Coverage, DayLoad, LoggingGap, Movement, NurseOutcomes,
     PatientRef, Quality, ReasonCount, RoleLoad, StaffLoad, StatusCount, StatusMove, WeeklySummary, Workload,
 )
-from caseload.application.week.iso_weeks import Week
+from caseload.application.week.period import Period
 from caseload.store.summary_queries import AlertEvent, EntryChange, EntryCount, HcgPositive, PatientVersion
 
 ROLES = tuple(r.value for r in Role)
@@ -33,33 +33,34 @@ ACTIVE = PatientStatus.ACTIVE.value
 
 @dataclass(frozen=True)
 class WeekData:
-    """Everything the store returned for one week."""
+    """Everything the store returned for the days of one week a summary covers (its `Period`)."""
 
     staff: tuple[Staff, ...]
     patients: Mapping[str, Patient]
     at_start: Mapping[str, PatientVersion]
     at_end: Mapping[str, PatientVersion]
-    alert_history: tuple[AlertEvent, ...]  # alerts with a transition in the week, history up to its end
+    alert_history: tuple[AlertEvent, ...]  # alerts with a transition in the period, history up to its end
     unresolved_at_start: tuple[AlertEvent, ...]  # last transition before the week of each unresolved alert
     entries_logged: tuple[EntryCount, ...]
     changes: tuple[EntryChange, ...]
     temperature_days: Mapping[str, tuple[date, ...]]
     cycles: Mapping[str, list[CycleSpan]]  # see `clinical.cycles_into_week`
-    temperatures: Mapping[str, list[Observation]]  # from each patient's first such cycle to the week's end
+    temperatures: Mapping[str, list[Observation]]  # from each patient's first such cycle to the period's last day
     hcg_positives: tuple[HcgPositive, ...]
     hcg_entries: Mapping[str, list[Entry]]  # the whole record of each patient with a positive hCG
 
 
-def charting_from(week: Week, protocol: Protocol) -> date:
+def charting_from(period: Period, protocol: Protocol) -> date:
     """How far back bleeds are read to find the cycles of the week: a longer one is amenorrhoea."""
-    return week.first_day - timedelta(days=protocol.amenorrhoea_days)
+    return period.first_day - timedelta(days=protocol.amenorrhoea_days)
 
 
 def share(part: int, whole: int) -> float | None:
     return round(part / whole, 4) if whole else None
 
 
-def compute(week: Week, data: WeekData, protocol: Protocol, prepared_on: date) -> WeeklySummary:
+def compute(period: Period, data: WeekData, protocol: Protocol, prepared_on: date) -> WeeklySummary:
+    """The summary of the days `period` covers (see period.covered), from what the store returned for them."""
     refs = {pid: PatientRef(pid, p.name) for pid, p in data.patients.items()}
 
     def ref(patient_id: str) -> PatientRef:
@@ -68,20 +69,21 @@ def compute(week: Week, data: WeekData, protocol: Protocol, prepared_on: date) -
     def nurse_of(patient_id: str) -> str:
         return _nurse(data.at_end[patient_id]) if patient_id in data.at_end else UNASSIGNED
 
-    in_week = [e for e in data.alert_history if week.contains(e.at)]
+    in_week = [e for e in data.alert_history if period.contains(e.at)]
     nurses = [s.id for s in data.staff if s.role is Role.NURSE]
     return WeeklySummary(
-        week=week,
+        week=period.week,
+        last_day=period.last_day,
         prepared_on=prepared_on,
-        complete=week.last_day < prepared_on,
+        complete=period.week.last_day < prepared_on,
         deidentified=False,
         census=census(data.at_start, data.at_end, nurses),
-        alerts=alert_summary(week, data.alert_history, data.unresolved_at_start, nurse_of, ref),
-        clinical=clinical(week, in_week, data.cycles, data.temperatures, data.hcg_positives,
+        alerts=alert_summary(period, data.alert_history, data.unresolved_at_start, nurse_of, ref),
+        clinical=clinical(period, in_week, data.cycles, data.temperatures, data.hcg_positives,
                           {pid: (data.patients[pid], entries) for pid, entries in data.hcg_entries.items()},
                           protocol, ref, outcomes(in_week, data.at_start, data.at_end, nurses, nurse_of)),
-        quality=quality(week, data, protocol.logging_gap_days, ref),
-        workload=workload(week, data.staff, data.entries_logged, data.changes, in_week),
+        quality=quality(period, data, protocol.logging_gap_days, ref),
+        workload=workload(period, data.staff, data.entries_logged, data.changes, in_week),
     )
 
 
@@ -186,14 +188,14 @@ def _coverage(nurse: str, logged_days: Sequence[int], week_days: int) -> Coverag
     return Coverage(nurse, len(logged_days), expected, logged, share(logged, expected))
 
 
-def quality(week: Week, data: WeekData, gap_days: int, ref: Callable[[str], PatientRef]) -> Quality:
+def quality(period: Period, data: WeekData, gap_days: int, ref: Callable[[str], PatientRef]) -> Quality:
     start, end = data.at_start, data.at_end
-    # Patients on the caseload and charting the whole week: one temperature is expected each day.
+    # Patients on the caseload and charting the whole period: one temperature is expected each day of it.
     charting = sorted(
         pid for pid, v in end.items()
         if v.charting_temps and v.status == ACTIVE and pid in start and start[pid].status == ACTIVE
     )
-    days = week.days
+    days = period.days
     logged = {pid: set(data.temperature_days.get(pid, ())) & set(days) for pid in charting}
     by_nurse: dict[str, list[int]] = defaultdict(list)
     for pid in charting:
@@ -204,7 +206,7 @@ def quality(week: Week, data: WeekData, gap_days: int, ref: Callable[[str], Pati
         for pid in charting
     ]
     changes = tuple(
-        Change(c.entry_id, ref(c.patient_id), c.kind, c.day, c.change, c.reason, c.by_staff, week.local(c.at))
+        Change(c.entry_id, ref(c.patient_id), c.kind, c.day, c.change, c.reason, c.by_staff, period.local(c.at))
         for c in data.changes
     )
     reasons, reasons_total = count_reasons(changes)
@@ -222,7 +224,7 @@ def quality(week: Week, data: WeekData, gap_days: int, ref: Callable[[str], Pati
 # --- workload
 
 
-def workload(week: Week, staff: Sequence[Staff], counts: Sequence[EntryCount], changes: Sequence[EntryChange],
+def workload(period: Period, staff: Sequence[Staff], counts: Sequence[EntryCount], changes: Sequence[EntryChange],
              in_week: Sequence[AlertEvent]) -> Workload:
     role_of = {s.id: s.role.value for s in staff}
     entries, corrections = Counter(), Counter()
@@ -249,7 +251,7 @@ def workload(week: Week, staff: Sequence[Staff], counts: Sequence[EntryCount], c
         by_day[(c.day_index, role_of.get(c.staff_id, UNKNOWN_ROLE))] += c.entries
     days = tuple(
         DayLoad(day, tuple(by_day[(i, r)] for r in roles), sum(by_day[(i, r)] for r in roles))
-        for i, day in enumerate(week.days)
+        for i, day in enumerate(period.days)
     )
     return Workload(
         staff=tuple(rows),

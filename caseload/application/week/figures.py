@@ -100,7 +100,7 @@ class WeekEndAlerts:
 
     severity: str
     open: int
-    past_due: int  # open, with a due day on or before the week's last day
+    past_due: int  # open, with a due day on or before the last day covered
     acknowledged: int
     snoozed: int
 
@@ -114,8 +114,8 @@ class OpenAlert:
     kind: str
     severity: str
     state: str  # open, acknowledged or snoozed
-    raised_on: date | None
-    age_days: int | None  # from its raising to the week's last day
+    raised_on: date | None  # None once de-identified if raised before the week (see pseudonyms.py)
+    age_days: int | None  # from its raising to the last day covered; None wherever raised_on is
 
 
 @dataclass(frozen=True)
@@ -164,8 +164,8 @@ class ClinicalEvent:
 class PositiveHcg:
     patient: PatientRef
     tested_on: date
-    edd: date | None
-    edd_method: str | None  # "naegele" or "ovulation", as the core dated it
+    edd: date | None  # None once de-identified: a due date is months past the week
+    edd_method: str | None  # "naegele" or "ovulation", as the core dated it; None with the due date
 
 
 @dataclass(frozen=True)
@@ -191,7 +191,7 @@ class Clinical:
 
 @dataclass(frozen=True)
 class Coverage:
-    """Daily temperatures of patients charting all week: expected is 7 a patient."""
+    """Daily temperatures of patients charting all week: expected is one a patient for each day covered."""
 
     nurse: str
     patients: int
@@ -213,7 +213,7 @@ class Change:
     entry_id: int
     patient: PatientRef
     kind: str
-    day: date
+    day: date | None  # the changed entry's day; None once de-identified if outside the days covered
     change: str  # "correction" or "void"
     reason: str
     by_staff: str
@@ -283,6 +283,7 @@ class Workload:
 @dataclass(frozen=True)
 class WeeklySummary:
     week: Week
+    last_day: date  # the last day the figures cover: the week's Sunday, or the day prepared as of if earlier
     prepared_on: date
     complete: bool  # False while the week is still in progress on the day it was prepared
     deidentified: bool

@@ -9,13 +9,16 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from datetime import UTC, date, datetime, timedelta
+from functools import cached_property
 from zoneinfo import ZoneInfo
 
 import pendulum
 
 from caseload.core.parse import InputError, one_line
 
-WEEK_PATTERN = re.compile(r"^(\d{4})-W(\d{2})$")
+# ASCII digits only: \d would also take other scripts' digits (a full-width ８), which int() reads.
+WEEK_PATTERN = re.compile(r"([0-9]{4})-W([0-9]{2})")
+FIRST_YEAR, LAST_YEAR = date.min.year, date.max.year
 DAYS = 7
 
 
@@ -27,12 +30,37 @@ class Week:
     number: int
     timezone: str
     first_day: date  # Monday
-    last_day: date  # Sunday
-    day_starts: tuple[datetime, ...]  # UTC instants of local midnight, Monday to the next Monday (8)
 
     @property
     def label(self) -> str:
-        return f"{self.year}-W{self.number:02d}"
+        return f"{self.year:04d}-W{self.number:02d}"
+
+    # The Sunday and the midnights are worked out when first read, not when the week is named: the
+    # last week of year 9999 ends past the last day a date can hold, and is refused as not yet begun
+    # (its Monday is after today) before they are needed.
+    @property
+    def last_day(self) -> date:  # Sunday
+        return self._day(DAYS - 1)
+
+    @cached_property
+    def day_starts(self) -> tuple[datetime, ...]:
+        """UTC instants of local midnight, Monday to the next Monday (8)."""
+        zone = pendulum.timezone(self.timezone)
+        days = [self._day(i) for i in range(DAYS + 1)]
+        try:
+            return tuple(_utc(pendulum.datetime(d.year, d.month, d.day, tz=zone)) for d in days)
+        except (OverflowError, ValueError):  # 0001-W01 east of Greenwich: its first midnight is in year 0 in UTC
+            raise self._beyond_the_calendar() from None
+
+    def _day(self, offset: int) -> date:
+        try:
+            return self.first_day + timedelta(days=offset)
+        except OverflowError:
+            raise self._beyond_the_calendar() from None
+
+    def _beyond_the_calendar(self) -> InputError:
+        return InputError(f"week {self.label} runs past the dates caseload can count ({date.min.isoformat()} to "
+                          f"{date.max.isoformat()} in UTC): choose a week well inside them")
 
     @property
     def start(self) -> datetime:
@@ -49,7 +77,7 @@ class Week:
 
     @property
     def days(self) -> tuple[date, ...]:
-        return tuple(self.first_day + timedelta(days=i) for i in range(DAYS))
+        return tuple(self._day(i) for i in range(DAYS))
 
     def contains(self, instant: datetime) -> bool:
         return self.start <= instant < self.end
@@ -73,10 +101,12 @@ def _utc(moment: pendulum.DateTime) -> datetime:
 
 def parse_week(text: str) -> tuple[int, int]:
     """(year, week number) from 'YYYY-Www', or a one-line InputError."""
-    found = WEEK_PATTERN.match(text.strip().upper())
+    found = WEEK_PATTERN.fullmatch(text.strip().upper())
     if not found:
         raise InputError(f"week '{one_line(text)}' not understood: use YYYY-Www, e.g. 2026-W48")
     year, number = int(found[1]), int(found[2])
+    if year < FIRST_YEAR:
+        raise InputError(f"week '{one_line(text)}' does not exist: years run from {FIRST_YEAR:04d} to {LAST_YEAR}")
     last = weeks_in_year(year)
     if not 1 <= number <= last:
         raise InputError(f"week '{one_line(text)}' does not exist: {year} has ISO weeks W01 to W{last}")
@@ -86,22 +116,10 @@ def parse_week(text: str) -> tuple[int, int]:
 def iso_week(text: str, timezone: str) -> Week:
     """The week named by `text` ('2026-W48') in the clinic's time zone."""
     year, number = parse_week(text)
-    try:
-        zone = pendulum.timezone(timezone)
+    try:  # checked as the week is named; its midnights are worked out when first read
+        pendulum.timezone(timezone)
     except Exception:
         raise InputError(f"time zone '{one_line(timezone)}' is not known: use a name such as Europe/London") from None
     # ISO week 1 is the week that holds 4 January.
     monday = pendulum.Date(year, 1, 4).start_of("week").add(weeks=number - 1)
-    midnights = tuple(
-        _utc(pendulum.datetime(d.year, d.month, d.day, tz=zone))
-        for d in (monday.add(days=i) for i in range(DAYS + 1))
-    )
-    sunday = monday.add(days=DAYS - 1)
-    return Week(
-        year=year,
-        number=number,
-        timezone=timezone,
-        first_day=date(monday.year, monday.month, monday.day),
-        last_day=date(sunday.year, sunday.month, sunday.day),
-        day_starts=midnights,
-    )
+    return Week(year=year, number=number, timezone=timezone, first_day=date(monday.year, monday.month, monday.day))

@@ -14,7 +14,8 @@ from textual.widgets import Input, Label, Select, Static
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
 from caseload.application.weekly_summary import FOLDER_FORMATS, FORMATS
 from caseload.exports.summary_files import write
-from caseload.tui.file_messages import FileRefused, FileWritten
+from caseload.presentation.safe_text import printable
+from caseload.tui.file_messages import FileRefused, FileWritten, kept_if_there
 from caseload.tui.screens.dialog import Dialog
 from caseload.tui.widgets.key_bar import KeyBar
 
@@ -34,8 +35,13 @@ class ExportDialog(ClinicWork, Dialog[None]):
     CSS_PATH = "dialogs.tcss"
     BINDINGS = [Binding("escape", "dismiss", "Close", id="export.close")]
 
+    def __init__(self) -> None:
+        super().__init__()
+        self._proposed = ""  # the file name last proposed: while #out still holds it, the user has not edited it
+
     def compose(self) -> ComposeResult:
         week = self.app.clinic.last_complete_week()  # as the CLI: never a week still in progress
+        self._proposed = str(default_target(week, DEFAULT_FORMAT))
         with Vertical(classes="dialog"):
             yield Label("Export the weekly summary", classes="dialog-title")
             yield Label("Week (YYYY-Www)")
@@ -43,15 +49,21 @@ class ExportDialog(ClinicWork, Dialog[None]):
             yield Label("Format")
             yield Select([(f, f) for f in FORMATS], value=DEFAULT_FORMAT, allow_blank=False, id="format", compact=True)
             yield Label("Write to")
-            yield Input(str(default_target(week, DEFAULT_FORMAT)), id="out", compact=True)
+            yield Input(self._proposed, id="out", compact=True)
             yield Label("Patients shown as")
             yield Select(PRIVACY, value=True, allow_blank=False, id="deidentify", compact=True)
             yield Static("Enter in a field exports.", id="check", classes="check")
         yield KeyBar()
 
+    @on(Input.Changed, "#week")
     @on(Select.Changed, "#format")
-    def _format(self, event: Select.Changed) -> None:
-        self.query_one("#out", Input).value = str(default_target(self.query_one("#week", Input).value.strip(), str(event.value)))
+    def _propose(self) -> None:
+        """The proposed file name follows the week and the format, until the user types a name of her own."""
+        out = self.query_one("#out", Input)
+        if out.value != self._proposed:
+            return
+        week = self.query_one("#week", Input).value.strip()
+        self._proposed = out.value = str(default_target(week, str(self.query_one("#format", Select).value)))
 
     @on(Input.Submitted)
     def _export(self) -> None:
@@ -62,14 +74,15 @@ class ExportDialog(ClinicWork, Dialog[None]):
 
     @work(**STORE_WORK, name="export")
     def _write_summary(self, week: str, fmt: str, out: Path, deidentify: bool) -> None:
-        self.post_message(FileWritten(self.app.clinic.export_summary(week, fmt, out, deidentify, write)))
+        with kept_if_there():
+            self.post_message(FileWritten(self.app.clinic.export_summary(week, fmt, out, deidentify, write)))
 
     def work_failed(self, name: str, reason: str) -> None:
         self.post_message(FileRefused(reason))
 
     def on_file_written(self, message: FileWritten) -> None:
-        self.notify(f"Summary written to {message.path}", markup=False)
+        self.notify(f"Summary written to {printable(message.path)}", markup=False)
         self.dismiss()
 
     def on_file_refused(self, message: FileRefused) -> None:
-        self.query_one("#check", Static).update(Text(f"Not exported: {message.reason}", style="bold"))
+        self.query_one("#check", Static).update(Text(f"Not exported: {printable(message.reason)}", style="bold"))

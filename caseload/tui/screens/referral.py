@@ -17,7 +17,8 @@ from caseload.application.errors import InputError
 from caseload.application.referral import PAPERS
 from caseload.exports import fhir, pack_files
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork
-from caseload.tui.file_messages import FileRefused, FileWritten
+from caseload.presentation.safe_text import printable
+from caseload.tui.file_messages import FileRefused, FileWritten, kept_if_there
 from caseload.tui.screens.dialog import Dialog
 from caseload.tui.widgets.key_bar import KeyBar
 
@@ -76,14 +77,15 @@ class ReferralDialog(ClinicWork, Dialog[None]):
 
     @work(**STORE_WORK, name="referral")
     def _write_file(self, fmt: str, out: Path, cycles: str, paper: str) -> None:
-        self.post_message(FileWritten(write_chosen(self.app.clinic, self.patient_id, fmt, out, cycles, paper)))
+        with kept_if_there():
+            self.post_message(FileWritten(write_chosen(self.app.clinic, self.patient_id, fmt, out, cycles, paper)))
 
     def work_failed(self, name: str, reason: str) -> None:
         self.post_message(FileRefused(reason))
 
     def on_file_written(self, message: FileWritten) -> None:
-        self.notify(f"Written to {message.path}", markup=False)
+        self.notify(f"Written to {printable(message.path)}", markup=False)
         self.dismiss()
 
     def on_file_refused(self, message: FileRefused) -> None:
-        self.query_one("#check", Static).update(Text(f"Not written: {message.reason}", style="bold"))
+        self.query_one("#check", Static).update(Text(f"Not written: {printable(message.reason)}", style="bold"))

@@ -10,6 +10,8 @@ from datetime import UTC, date, datetime, timedelta
 from zoneinfo import ZoneInfo
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from caseload.core.parse import InputError
 from caseload.application.week.iso_weeks import iso_week, parse_week
@@ -78,6 +80,10 @@ def test_week_text_is_forgiving_about_case_and_spaces(text):
         ("2026-W00", "2026 has ISO weeks W01 to W53"),
         ("2026-W54", "2026 has ISO weeks W01 to W53"),
         ("2025-W53", "2025 has ISO weeks W01 to W52"),  # 2025 ends on a Wednesday: 52 weeks
+        ("0000-W01", "years run from 0001 to 9999"),  # the Gregorian calendar of `date` has no year 0
+        ("2026-W4\uff18", "use YYYY-Www"),  # a full-width 8: int() reads it, the week is typed in ASCII
+        ("\u0662\u0660\u0662\u0666-W48", "use YYYY-Www"),  # Arabic-Indic digits
+        ("2026-W48\n2026-W49", "use YYYY-Www"),
     ],
 )
 def test_bad_weeks_are_refused_in_one_line(text, words):
@@ -85,6 +91,39 @@ def test_bad_weeks_are_refused_in_one_line(text, words):
         parse_week(text)
     assert words in str(refused.value)
     assert "\n" not in str(refused.value)
+
+
+ASCII_WEEKS = st.from_regex(r"[ ]?[0-9]{4}-[wW][0-9]{2}[ ]?", fullmatch=True)
+
+
+@settings(max_examples=500)
+@given(st.one_of(st.text(max_size=12), ASCII_WEEKS, ASCII_WEEKS.map(lambda w: w.replace("1", "\uff11"))))
+def test_any_text_is_a_real_iso_week_or_one_refusal(text):
+    try:
+        year, number = parse_week(text)
+    except InputError as refused:
+        assert "\n" not in str(refused)
+        return
+    # Reference: date.fromisocalendar (stdlib, ISO 8601) holds every week parse_week accepts.
+    monday = date.fromisocalendar(year, number, 1)
+    assert monday.isocalendar()[:2] == (year, number)
+    assert text.strip().upper() == f"{year:04d}-W{number:02d}"
+
+
+def test_the_calendars_last_week_is_named_and_refused_once_its_days_are_needed():
+    # 9999-W52 runs from Monday 27 December 9999 into year 10000: its Monday is enough to refuse it as
+    # not yet begun (weekly_summary); were it begun, its Sunday is past the last day a date holds.
+    week = iso_week("9999-W52", "Europe/London")
+    assert week.first_day == date(9999, 12, 27) == date.fromisocalendar(9999, 52, 1)
+    for read in (lambda: week.last_day, lambda: week.day_starts, lambda: week.days):
+        with pytest.raises(InputError, match="^week 9999-W52 runs past the dates caseload can count"):
+            read()
+
+
+def test_the_first_week_east_of_greenwich_starts_before_the_first_instant_in_utc():
+    week = iso_week("0001-W01", "Asia/Tokyo")  # midnight of 1 January year 1 there is in year 0 in UTC
+    with pytest.raises(InputError, match="^week 0001-W01 runs past the dates caseload can count"):
+        week.start
 
 
 def test_an_unknown_time_zone_is_refused():
