@@ -5,12 +5,12 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from datetime import date
 
-from caseload.core.alerts import risk_rank, triage_key
+from caseload.core.alerts import AlertKind, risk_rank, triage_key
 from caseload.core.alerts.lifecycle import effective
 from caseload.core.analysis import Analysis
 from caseload.core.model import Alert, AlertState, AlertStep, Entry, Patient, PatientStatus
-from caseload.core.snapshot import Snapshot
-from caseload.application.alert_handling import as_seen, steps_as_seen
+from caseload.core.snapshot import Snapshot, snapshot_of
+from caseload.application.alert_handling import as_seen, caller_view_only, steps_as_seen
 from caseload.application.context import Context
 from caseload.application.recompute import Refreshed, analyse_patient
 from caseload.application.patients import get_patient
@@ -49,11 +49,17 @@ def pressing_first(alerts: list[Alert]) -> tuple[Alert, ...]:
     return tuple(sorted(alerts, key=triage_key))
 
 
+def listed(ctx: Context, patient: Patient) -> bool:
+    """Under care (not discharged) and registered by the day under view: a view of an earlier day
+    (`--today`) does not list a patient registered after it."""
+    return patient.status is not PatientStatus.DISCHARGED and (patient.created is None or patient.created <= ctx.today)
+
+
 def list_caseload(ctx: Context) -> list[CaseloadLine]:
     """Every patient under care (not discharged), most pressing first: her top alert's severity and
     clinical risk, its due day, then cycle day."""
     ctx.require("caseload.view")
-    under_care = [p for p in ctx.store.patients.all() if p.status is not PatientStatus.DISCHARGED]
+    under_care = [p for p in ctx.store.patients.all() if listed(ctx, p)]
     states = ctx.store.state.all()
     unresolved: dict[str, list[Alert]] = {}
     for stored in ctx.store.alerts.unresolved():
@@ -62,12 +68,23 @@ def list_caseload(ctx: Context) -> list[CaseloadLine]:
     return sorted(lines, key=CaseloadLine.sort_key)
 
 
+def registered_row(patient: Patient) -> CaseloadLine:
+    """A newly registered patient's row: no entries, so no cycle day and no alerts yet."""
+    return CaseloadLine(patient=patient, snapshot=None, cycle_day=None, alerts=(), days_since_entry=None)
+
+
 def caseload_line(ctx: Context, patient: Patient, snap: Snapshot | None, unresolved: list[Alert]) -> CaseloadLine:
     """One patient's row as of the context's day, from her record, snapshot and unresolved alerts
     (as the acting staff member may see them)."""
     today = ctx.today
-    # A snooze whose day has come counts, even before a refresh.
-    alerts = [as_seen(ctx, a) for a in (effective(stored, today) for stored in unresolved)
+    if snap is not None and snap.computed_on > today:
+        # A view of a day before the snapshot's (`--today`): the snapshot read entries dated after
+        # that day, so the row is computed as `show` computes the record, from her entries up to the
+        # day; a read-only view, so it is not kept.
+        snap = snapshot_of(analyse_patient(ctx, patient))
+    # A snooze whose day has come counts, even before a refresh; an alert raised after the day under
+    # view is not shown in it.
+    alerts = [as_seen(ctx, a) for a in (effective(stored, today) for stored in unresolved if stored.raised_on <= today)
               if a.state is AlertState.OPEN]
     return CaseloadLine(
         patient=patient,
@@ -106,7 +123,7 @@ def caseload_since(ctx: Context, mark: int, lines: tuple[CaseloadLine, ...]) -> 
     fresh = []
     for patient_id in set(changed):
         patient = ctx.store.patients.get(patient_id)
-        if patient is not None and patient.status is not PatientStatus.DISCHARGED:
+        if patient is not None and listed(ctx, patient):
             unresolved = [a for a in ctx.store.alerts.for_patient(patient_id) if a.state is not AlertState.RESOLVED]
             fresh.append(caseload_line(ctx, patient, ctx.store.state.get(patient_id), unresolved))
     kept = [line for line in lines if line.patient.id not in set(changed)]
@@ -136,6 +153,17 @@ def row_after(line: CaseloadLine, done: Refreshed, today: date) -> CaseloadLine:
                    days_since_entry=snap.days_since_entry(today))
 
 
+def analysis_as_seen(ctx: Context, analysis: Analysis) -> Analysis:
+    """The analysis as it may leave the application for the acting staff member. The serum hCG
+    trend (rise per 48 h, doubling time) is the evidence of an hcg-rise-low alert read as figures, so
+    whoever gets that alert only as the caller's view (phone staff) gets no trend either: the
+    pregnancy, its dates and the logged values stay, and every field does, so every JSON key does too."""
+    if not caller_view_only(ctx.actor, AlertKind.HCG_RISE_LOW):
+        return analysis
+    pregnancy = None if analysis.pregnancy is None else replace(analysis.pregnancy, hcg_trend=None)
+    return replace(analysis, pregnancy=pregnancy, hcg_trend=None)
+
+
 def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     ctx.require("patient.show")
     patient = get_patient(ctx, patient_id)
@@ -146,5 +174,5 @@ def show_patient(ctx: Context, patient_id: str) -> PatientRecord:
     zone = clinic_zone(ctx.store.meta("timezone") or DEFAULT_TIMEZONE)  # steps read in the clinic's time
     steps = steps_as_seen(ctx, stored, tuple(replace(s, at=s.at.astimezone(zone))
                                              for s in ctx.store.alerts.steps_for_patient(patient.id)))
-    return PatientRecord(patient, analyse_patient(ctx, patient, entries), pressing_first(alerts), tuple(entries),
-                         tuple(resolved), steps)
+    analysis = analysis_as_seen(ctx, analyse_patient(ctx, patient, entries))
+    return PatientRecord(patient, analysis, pressing_first(alerts), tuple(entries), tuple(resolved), steps)

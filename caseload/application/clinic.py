@@ -34,7 +34,7 @@ from caseload.application.identity import not_mapped, os_account, resolve_actor
 from caseload.application.protocol import ProtocolInUse
 from caseload.application.morning_refresh import run_morning_refresh
 from caseload.application.recompute import Progress, Recomputed, RefreshReport, recompute_everything, refresh_all
-from caseload.store import Report, Store, StoreError, refusing_damage
+from caseload.store import Report, Store, StoreError, creating, refusing_damage
 from caseload.store.backup_restore import Restored
 
 if TYPE_CHECKING:  # the modules themselves load in the methods that use them, see `caseload.cli`
@@ -120,13 +120,13 @@ class Clinic:
                date_of_record: date | None = None) -> Actor:
         """Set up a new store at `path` with its first admin, mapped to the identity's OS account."""
         staff.parse_timezone(timezone)  # refused before any file is made
-        with Store(path) as store:
+        with creating(Path(path)), Store(path) as store:  # a failed set-up leaves no half-made store
             return staff.init_store(store, admin_id, name, identity.account, timezone, date_of_record)
 
     @classmethod
     def open(cls, path: str | Path, identity: Identity, **dates) -> Clinic:
         """Open the store file at `path` (it must exist) for `identity`; see __init__ for the dates."""
-        store = Store(path)
+        store = Store(path, must_exist=True)  # only `create` makes a store
         try:
             with refusing_damage(store.path):
                 return cls(store, identity, **dates)
@@ -253,13 +253,15 @@ class Clinic:
         unusual entry needs a second look."""
         with self._using_store():
             ctx = self._writing("logging")
-            # No patient read here: an unknown id finds nothing, and log() then refuses it in one line.
             parsed = parse_entry(kind, value, ctx.today, on=on, at=at, flags=flags, note=note)
-            question = None if confirmed else entries.second_look(ctx, patient_id.strip(), parsed)
+            entries.check_recent(ctx, parsed)  # refused before any question about an entry it would refuse
+            # The id as registered, whatever the case typed: the questions below read her entries by it.
+            patient_id = patients.get_patient(ctx, patient_id).id
+            question = None if confirmed else entries.second_look(ctx, patient_id, parsed)
             if question is not None:
                 return SecondLook(question)
             if kind is Kind.TEMP:
-                same = entries.same_day_temperature(ctx, patient_id.strip(), parse_day(on, ctx.today))
+                same = entries.same_day_temperature(ctx, patient_id, parse_day(on, ctx.today))
                 if same is not None:
                     return SameDayReading(same, value)
             return self.log(patient_id, kind.value, value, on, at, flags, note)
@@ -375,6 +377,10 @@ class Clinic:
                    else line for line in lines]
         return tuple(sorted(changed, key=CaseloadLine.sort_key))
 
+    def list_after_registering(self, lines: tuple[CaseloadLine, ...], patient: Patient) -> tuple[CaseloadLine, ...]:
+        """The morning list with a patient just registered, in triage order; no store read."""
+        return tuple(sorted((*lines, caseload_view.registered_row(patient)), key=CaseloadLine.sort_key))
+
     def patient_record(self, patient_id: str) -> PatientRecord:
         return self._read(caseload_view.show_patient, patient_id)
 
@@ -447,8 +453,8 @@ class Clinic:
     @staticmethod
     def restore_damaged(path: str | Path, source: str, identity: Identity,
                         date_of_record: date | None = None) -> Restored:
-        """Restore over a store too damaged to open (a Clinic cannot be opened on it): the verified
-        backup's admins may do it; the damaged file is kept byte for byte."""
+        """Restore over a store that cannot be opened (a Clinic cannot be opened on it); who may is
+        `store_care.restore_damaged`'s rule, never the backup's staff. The file is kept byte for byte."""
         return store_care.restore_damaged(Path(path), source, identity.account, identity.as_staff, date_of_record)
 
     @staticmethod

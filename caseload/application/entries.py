@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
-from datetime import date
+from datetime import date, timedelta
 
 from caseload.core.model import Entry, Kind, Patient, PatientStatus
 from caseload.core.parse import InputError, ParsedEntry, parse_entry, parse_value
@@ -15,6 +15,11 @@ from caseload.application.errors import NotFound, Refused
 from caseload.application.patients import get_patient
 
 REASON_MAX = 500
+# How far back one logged entry may be dated. A call reports today's or recent readings; a day more
+# than a year back is almost always a mistyped year (common practice). Older history, such as a
+# chart a patient brings to her first appointment, goes in through `caseload import`, which checks
+# every row together and writes all or none.
+LOG_DAYS_BACK = 366
 
 
 @dataclass(frozen=True)
@@ -51,6 +56,16 @@ def check_loggable(ctx: Context, patient: Patient, parsed: ParsedEntry, supersed
             )
 
 
+def check_recent(ctx: Context, parsed: ParsedEntry) -> None:
+    """One logged entry is dated within LOG_DAYS_BACK days of today; an import may go further back."""
+    earliest = ctx.today - timedelta(days=LOG_DAYS_BACK)
+    if parsed.day < earliest:
+        raise InputError(
+            f"day {parsed.day.isoformat()} is more than {LOG_DAYS_BACK} days before today ({ctx.today.isoformat()}):"
+            f" log entries from {earliest.isoformat()} on, and enter older history with 'caseload import FILE.csv'"
+        )
+
+
 def second_look(ctx: Context, patient_id: str, parsed: ParsedEntry) -> str | None:
     """Why an entry that may be logged deserves a confirmation first (unusual reading, second of
     a once-a-day kind), or None. Temperatures already on the day are offered as corrections instead."""
@@ -81,6 +96,7 @@ def log_entry(
     with ctx.store.atomic(ctx.today):
         patient = get_patient(ctx, patient_id)
         check_loggable(ctx, patient, parsed)
+        check_recent(ctx, parsed)
         entry = ctx.store.entries.add(ctx.actor, patient.id, parsed)
         return Logged(entry, refreshed_as_seen(ctx, refresh_patient(ctx, patient)))
 

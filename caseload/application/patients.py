@@ -7,7 +7,7 @@ from dataclasses import replace
 from datetime import date
 
 from caseload.core.model import Patient, PatientStatus, Plan, Role
-from caseload.core.parse import parse_birth_date, parse_choice, parse_id, parse_name
+from caseload.core.parse import one_line, parse_birth_date, parse_choice, parse_id, parse_name
 from caseload.application.context import Context
 from caseload.application.recompute import refresh_patient
 from caseload.application.errors import NotFound, Refused
@@ -15,10 +15,18 @@ from caseload.application.staff import get_staff
 
 
 def get_patient(ctx: Context, patient_id: str) -> Patient:
-    patient = ctx.store.patients.get(patient_id.strip())
-    if patient is None:
-        raise NotFound(f"no patient '{patient_id}': see 'caseload list'")
-    return patient
+    """The patient an id names, typed in any letter case (a clerk hears "p 103", not its case). Where
+    an older store holds ids that differ only in case, the id typed exactly still names its own
+    patient, and one typed otherwise is refused rather than guessed."""
+    typed = patient_id.strip()
+    found = ctx.store.patients.any_case(typed)
+    exact = [p for p in found if p.id == typed]
+    if exact or len(found) == 1:
+        return (exact or found)[0]
+    if found:
+        raise Refused(f"patient id '{one_line(typed)}' could be {' or '.join(p.id for p in found)}, registered"
+                      " before ids were unique whatever their case: type the id exactly as registered")
+    raise NotFound(f"no patient '{patient_id}': see 'caseload list'")
 
 
 NUMBERED_ID = re.compile(r"^(?P<prefix>[A-Za-z]*)(?P<number>\d+)$")
@@ -49,6 +57,17 @@ def _nurse(ctx: Context, nurse_id: str | None) -> str | None:
     return nurse.id
 
 
+def _refuse_taken(ctx: Context, patient_id: str) -> None:
+    """Ids are unique whatever their letter case, so that no call is logged to another patient whose
+    id differs only in case; the id is not changed to fit, the clerk chooses."""
+    taken = [p.id for p in ctx.store.patients.any_case(patient_id)]
+    if patient_id in taken:
+        raise Refused(f"patient id {patient_id} is taken: choose another")
+    if taken:
+        raise Refused(f"patient id {patient_id} is taken as {taken[0]}: ids are unique whatever their letter case;"
+                      " choose another")
+
+
 def add_patient(
     ctx: Context,
     patient_id: str,
@@ -69,8 +88,7 @@ def add_patient(
         created=ctx.today,
         charting_temps=charting_temps,
     )
-    if ctx.store.patients.get(patient.id):
-        raise Refused(f"patient id {patient.id} is taken: choose another")
+    _refuse_taken(ctx, patient.id)
     with ctx.store.atomic(ctx.today):
         return ctx.store.patients.add(ctx.actor, patient)
 

@@ -12,6 +12,7 @@ import unicodedata
 from dataclasses import dataclass
 from datetime import date, timedelta
 
+from caseload.core.figo import age_on
 from caseload.core.model import (
     DISTURBANCE_FLAGS,
     MIDCYCLE_FLAG,
@@ -27,6 +28,10 @@ TEMP_MAX_C = 42.0
 TEXT_MAX = 500
 ID_PATTERN = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,31}$")
 EARLIEST_DAY = date(1900, 1, 1)
+# The ages at which a patient is registered, from the earliest menarche to well past the menopause
+# (common practice): a date of birth outside them is a mistyped year, not a caller.
+AGE_MIN = 12
+AGE_MAX = 60
 
 POSITIVE_WORDS = {"positive": "positive", "pos": "positive", "+": "positive"}
 NEGATIVE_WORDS = {"negative": "negative", "neg": "negative", "-": "negative"}
@@ -265,20 +270,58 @@ def parse_id(text: str, what: str) -> str:
     return t
 
 
+NAME_MAX = 100
+# Zero-width non-joiner and joiner: between two letters they choose a letter's form in Indic,
+# Persian and other scripts (and join emoji), so a real name may hold them; nowhere else.
+JOINERS = frozenset("\u200c\u200d")
+PASTED_BREAKS = frozenset("\t\n\r")  # pasted with a name, folded into spaces as every other space is
+
+
+def _code(ch: str) -> str:
+    return f"U+{ord(ch):04X}" + (f" {unicodedata.name(ch)}" if unicodedata.name(ch, "") else "")
+
+
+def _shown(ch: str) -> bool:
+    """A character that draws something: not a space, a control or a format character, nor one no
+    terminal can show (a lone surrogate, private-use or unassigned)."""
+    return not ch.isspace() and unicodedata.category(ch) not in INERT_CATEGORIES
+
+
 def parse_name(text: str, what: str = "name") -> str:
+    """A person's name as typed, its spaces folded into single spaces: at least one visible character,
+    at most NAME_MAX, no control character, and no invisible one but a joiner between two letters."""
+    for ch in text:
+        if unicodedata.category(ch) == "Cc" and ch not in PASTED_BREAKS:
+            raise InputError(f"{what} holds a control character ({_code(ch)}): type the name again without it")
+    if not any(_shown(ch) for ch in text):
+        raise InputError(f"{what} has no visible characters: type the name")
+    for i, ch in enumerate(text):
+        if ch.isspace() or _shown(ch):
+            continue
+        if ch in JOINERS and 0 < i < len(text) - 1 and _shown(text[i - 1]) and _shown(text[i + 1]):
+            continue
+        which = "an invisible character" if unicodedata.category(ch) == "Cf" else "a character no screen can show"
+        raise InputError(f"{what} holds {which} ({_code(ch)}): type the name again without it")
     t = " ".join(text.split())
-    if not t or len(t) > 100:
-        raise InputError(f"{what} must be 1-100 characters")
+    if len(t) > NAME_MAX:
+        raise InputError(f"{what} is {len(t)} characters long: at most {NAME_MAX} are accepted")
     return t
 
 
 def parse_birth_date(text: str, today: date) -> date:
+    """A registering patient's date of birth, giving an age from AGE_MIN to AGE_MAX on `today`."""
     try:
         born = date.fromisoformat(text.strip())
     except ValueError:
         raise InputError(f"date of birth '{one_line(text)}' not understood: use YYYY-MM-DD") from None
-    if born >= today or born < EARLIEST_DAY:
+    if born >= today:
         raise InputError(f"date of birth {born.isoformat()} is not plausible: it must be before today")
+    age = age_on(born, today)
+    if not AGE_MIN <= age <= AGE_MAX:
+        raise InputError(
+            f"date of birth {born.isoformat()} is not plausible: it gives age {age} on {today.isoformat()},"
+            f" and a patient must be {AGE_MIN} to {AGE_MAX}"
+        )
     return born
 
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
-from textual import work
+from textual import events, work
 from textual.app import App
 from textual.binding import Binding
 from textual.reactive import reactive
@@ -19,13 +19,15 @@ from textual.widgets import Input
 from caseload.application.caseload_view import CaseloadLine
 from caseload.application.clinic import Clinic
 from caseload.application.entries import Logged
-from caseload.core.model import Role, Severity
+from caseload.core.model import Patient, Role, Severity
+from caseload.presentation.glossary import not_used
 from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.help import HelpScreen, key_lines, screen_name
 from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.sign_in import SignInScreen
 from caseload.tui.themes import DEFAULT_THEME, THEMES
 from caseload.tui.clinic_work import STORE_WORK, ClinicWork, Saved, StoreChanged
+from caseload.tui.widgets.type_ahead import as_typed, replay
 
 REFRESH_SECONDS = 5.0
 NO_COLOUR_TONES = {Severity.URGENT: "bold reverse", Severity.TODAY: "bold", Severity.SOON: "", Severity.INFO: "dim"}
@@ -48,6 +50,8 @@ class CaseloadApp(ClinicWork, App):
 
     roster: reactive[tuple[CaseloadLine, ...]] = reactive(())
     """The caseload as last read, in triage order; screens and the quick log read it."""
+    roster_read: reactive[bool] = reactive(False)
+    """Whether the caseload has been read once: an empty roster then means no patients."""
     mine: reactive[bool] = reactive(False)
     """Whether the list and the header counts are limited to the acting nurse's patients."""
 
@@ -56,6 +60,15 @@ class CaseloadApp(ClinicWork, App):
         self.clinic = clinic
         self.refresh_seconds = refresh_seconds
         self.notice = notice  # one line from the command that opened the interface, shown on opening
+
+    async def on_event(self, event: events.Event) -> None:
+        if isinstance(event, events.Key) and event.key == "ctrl+j" and not event.is_forwarded:
+            # Keys typed while the program starts reach a terminal still in line mode, which turns
+            # each Enter into a newline (ctrl+j): it is the Enter that was typed.
+            enter = events.Key("enter", "\r")
+            enter.set_sender(self)
+            event = enter
+        await super().on_event(event)
 
     def on_mount(self) -> None:
         for theme in THEMES:
@@ -113,6 +126,19 @@ class CaseloadApp(ClinicWork, App):
             self.roster = self.clinic.list_after(self.roster, message.result)
         for screen in self.screen_stack:
             screen.post_message(StoreChanged(row_updated))
+
+    def registered(self, patient: Patient, summary: str, typed_on: list[events.Key]) -> None:
+        """A patient just registered is on the list at once, under its cursor, so that the keys typed
+        after registering her (`l` and her call) are hers; when the filters hide her they are not used."""
+        self.notify(summary, markup=False)
+        self.roster = self.clinic.list_after_registering(self.roster, patient)
+        for screen in self.screen_stack:
+            screen.post_message(StoreChanged(True))
+        if isinstance(self.screen, CaseloadScreen) and self.screen.show_patient(patient.id):
+            replay(self, typed_on)
+        elif typed_on:
+            self.notify(f"{patient.id} is not in the list as filtered. {not_used(as_typed(typed_on))}",
+                        markup=False, severity="warning")
 
     # --- actions
 

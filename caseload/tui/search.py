@@ -22,13 +22,15 @@ def match_rank(patient: Patient, typed: str) -> int | None:
     """0 exact id, 1 id prefix, 2 every typed word starts a word of the name (in any order, so
     "nowak katarzyna" finds Katarzyna Nowak), 3 every typed word found anywhere; None for no match.
     Case and accents never matter ("ines" finds Inês)."""
-    words = WORD.findall(folded(typed))
+    typed_id = folded(typed.strip())
+    words = WORD.findall(typed_id)
     if not words:
         return 3
     query, pid, name = " ".join(words), folded(patient.id), folded(patient.name)
-    if pid == query:
+    # The id as typed, and as words: an id may hold '.', '-' or '_', which words leave out.
+    if pid in (typed_id, query):
         return 0
-    if pid.startswith(query):
+    if pid.startswith((typed_id, query)):
         return 1
     name_words = WORD.findall(name)
     if all(any(w.startswith(q) for w in name_words) for q in words):
@@ -39,8 +41,12 @@ def match_rank(patient: Patient, typed: str) -> int | None:
 
 
 def find_patients(patients: list[Patient], typed: str, limit: int | None = None) -> list[Patient]:
-    """Matching patients, best match first; ties keep the given (triage) order."""
-    ranked = [(rank, i, p) for i, p in enumerate(patients) if (rank := match_rank(p, typed)) is not None]
-    ranked.sort(key=lambda t: (t[0], t[1]))
-    found = [p for _, _, p in ranked]
+    """Matching patients, best match first; ties keep the given (triage) order, except that the id
+    typed letter for letter comes before one differing only in case, which a store registered before
+    ids were unique whatever their case may still hold."""
+    typed_id = typed.strip()
+    ranked = [(rank, p.id != typed_id, i, p) for i, p in enumerate(patients)
+              if (rank := match_rank(p, typed)) is not None]
+    ranked.sort(key=lambda t: t[:3])
+    found = [t[3] for t in ranked]
     return found if limit is None else found[:limit]

@@ -34,6 +34,32 @@ def fever(as_role, patient, store):
     return done, store.alerts.get(raised.id)
 
 
+@pytest.fixture
+def rising_hcg(as_role, patient):
+    """Day 1 on 1 Nov, then serum hCG 120 IU/L on 28 Nov and 150 IU/L on 30 Nov, both at 09:00: a
+    pregnancy whose hCG rises 25% in 48 h, under the 53% minimum of Barnhart 2004."""
+    nurse = as_role(Role.NURSE)
+    for on in ("2026-11-01", "2026-11-02"):
+        log_entry(nurse, patient.id, "bleed", "moderate", on=on)
+    log_entry(nurse, patient.id, "hcg", "120", on="2026-11-28", at="09:00")
+    log_entry(nurse, patient.id, "hcg", "150", on="2026-11-30", at="09:00")
+    return patient
+
+
+@pytest.mark.parametrize("role, whole", [(Role.PHONE, False), (Role.NURSE, True), (Role.SUPERVISOR, True),
+                                         (Role.ADMIN, True)])
+def test_the_record_gives_clinical_staff_the_hcg_trend_and_the_phone_line_none(as_role, rising_hcg, role, whole):
+    nursed = show_patient(as_role(Role.NURSE), rising_hcg.id).analysis
+    # Log-linear: 150 / 120 = 1.25 in 48 h, a rise of 25%, doubling in 48 h x ln 2 / ln 1.25 = 6.21 days
+    # (Barnhart 2004 reads the rise per 48 h; stdlib math for the figures).
+    assert (nursed.pregnancy.hcg_trend.rise_48h, nursed.pregnancy.hcg_trend.doubling_days) == (0.25, 6.21)
+    shown = show_patient(as_role(role), rising_hcg.id).analysis
+    # The trend is the hcg-rise-low alert's evidence: phone staff get the pregnancy without it.
+    unseen = replace(nursed, pregnancy=replace(nursed.pregnancy, hcg_trend=None), hcg_trend=None)
+    assert shown == (nursed if whole else unseen)
+    assert shown.hcg == nursed.hcg  # the values logged stay
+
+
 @pytest.mark.parametrize("role, whole", [(Role.PHONE, False), (Role.NURSE, True), (Role.SUPERVISOR, True),
                                          (Role.ADMIN, True)])
 def test_the_queue_gives_clinical_staff_the_whole_alert_and_the_phone_line_the_callers_view(as_role, fever, role,

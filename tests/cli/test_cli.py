@@ -58,6 +58,14 @@ def test_log_each_kind(clinic, kind, value):
         (("--as", "phil", "staff", "add", "x1", "--name", "X", "--role", "nurse"), "may not add staff"),
         (("void", "99", "--reason", "x"), "no entry"),
         (("patient", "add", "P0002", "--name", "Q", "--born", "2030-01-01"), "not plausible"),
+        (("patient", "add", "P0100", "--name", "Baby Test", "--born", "2026-11-30"),
+         "date of birth 2026-11-30 is not plausible: it gives age 0 on 2026-12-01, and a patient must be 12 to 60"),
+        (("patient", "add", "P0100", "--name", "Old Test", "--born", "1901-01-01"), "it gives age 125 on 2026-12-01"),
+        (("patient", "add", "p0001", "--name", "Other Caller", "--born", "1990-01-01"),
+         "patient id p0001 is taken as P0001: ids are unique whatever their letter case; choose another"),
+        (("log", "P0001", "temp", "36.7", "--on", "2020-01-01"),
+         "day 2020-01-01 is more than 366 days before today (2026-12-01): log entries from 2025-11-30 on,"
+         " and enter older history with 'caseload import FILE.csv'"),
     ],
 )
 def test_refusals_exit_1_with_one_line_and_write_nothing(clinic, args, fragment):
@@ -68,6 +76,25 @@ def test_refusals_exit_1_with_one_line_and_write_nothing(clinic, args, fragment)
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and fragment in lines[0]
     assert counts(clinic.db) == before
+
+
+def test_an_id_typed_in_another_case_reaches_the_registered_patient(clinic):
+    logged = clinic("--as", "phil", "log", "p0001", "temp", "36.72")
+    assert logged.exit_code == 0, logged.output
+    assert logged.output.startswith("Logged entry 1: P0001 temp 36.72")
+    assert json.loads(clinic("show", "p0001", "--json").output)["patient"] == "P0001"
+    assert [e["patient"] for e in json.loads(clinic("entries", "p0001", "--json").output)] == ["P0001"]
+    assert clinic("patient", "set", "p0001", "--plan", "timed").output == "P0001: plan timed, status active, nurse nell.\n"
+
+
+def test_older_history_goes_in_by_import(clinic, tmp_path):
+    history = tmp_path / "history.csv"
+    history.write_text("patient,day,kind,value\np0001,2020-01-01,bleed,heavy\nP0001,2020-01-02,bleed,moderate\n")
+    done = clinic("import", str(history))
+    assert done.exit_code == 0 and "Imported 2 entries for 1 patients" in done.output
+    entries = json.loads(clinic("entries", "P0001", "--json").output)
+    assert [(e["patient"], e["day"], e["value"]) for e in entries] == [("P0001", "2020-01-01", "heavy"),
+                                                                     ("P0001", "2020-01-02", "moderate")]
 
 
 def test_second_temperature_same_day_is_refused_unless_amended(clinic):

@@ -2,13 +2,16 @@
 
 from __future__ import annotations
 
-from caseload.core.model import AlertState
+from caseload.core.model import AlertState, Role
 from caseload.application.alert_handling import list_alerts
+from caseload.application.caseload_view import show_patient
+from caseload.tui.record_text import outlook_text
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.note_dialog import NoteDialog
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.entries_table import EntriesTable
+from tests.application.test_caller_view import rising_hcg  # noqa: F401 - fixture
 from tests.tui.conftest import settle, fill
 
 
@@ -168,3 +171,13 @@ async def test_a_supervisor_exports_the_week_de_identified(app_as, service_ctx, 
     text = out.read_text(encoding="utf-8")
     assert "px-" in text and "Pia Test" not in text  # keyed pseudonyms, no names
     assert service_ctx("ada").store.audit.rows("summary.export")[-1].by_staff == "sue"
+
+
+def test_the_outlook_gives_the_phone_line_the_pregnancy_without_the_hcg_trend(as_role, rising_hcg):
+    # 150 / 120 IU/L in 48 h is a rise of 25% (Barnhart 2004 reads the rise per 48 h): clinical
+    # staff read it on the record's outlook tab, the phone line reads the pregnancy and its dates alone.
+    nursed = outlook_text(show_patient(as_role(Role.NURSE), rising_hcg.id)).plain
+    clerked = outlook_text(show_patient(as_role(Role.PHONE), rising_hcg.id)).plain
+    assert "hCG rise per 48 h 25%" in nursed
+    assert "hCG rise per 48 h -" in clerked and "25%" not in clerked
+    assert clerked.split("hCG rise")[0] == nursed.split("hCG rise")[0]  # the EDD and gestational age alike

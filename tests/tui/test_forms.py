@@ -11,13 +11,16 @@ import time
 
 from textual.widgets import Input
 
-from caseload.core.model import PatientStatus, Plan
+from caseload.application.entries import patient_entries
+from caseload.core.model import Kind, PatientStatus, Plan
 from caseload.tui.screens.alert_queue import AlertQueueScreen
 from caseload.tui.screens.patient_care import PatientDialog
+from caseload.tui.screens.quick_log import QuickLogScreen
 from caseload.tui.screens.record import RecordScreen
 from caseload.tui.screens.register import RegisterDialog
 from caseload.tui.widgets.caseload_table import CaseloadTable
 from tests.tui.conftest import burst, fill, settle
+from tests.tui.fixture_store import TODAY
 from tests.tui.test_quick_log_safety import open_record, press_and_settle
 
 
@@ -70,6 +73,27 @@ async def test_registration_refuses_a_bad_birth_date_in_one_line_and_writes_noth
         assert app.focused.id == "born"
         await fill(pilot, "2027-01-01")  # after the clinic's day: not plausible
         assert "is not plausible: it must be before today" in shown(app, "#check")
+        await fill(pilot, "2026-11-30")  # the day before the clinic's day: a baby, not a caller
+        assert shown(app, "#check") == ("Not yet: date of birth 2026-11-30 is not plausible: it gives age 0 on"
+                                         " 2026-12-01, and a patient must be 12 to 60")
+        await press_and_settle(pilot, "enter")
+        assert isinstance(app.screen, RegisterDialog) and app.focused.id == "born"
+    assert patient_rows(check) == before
+
+
+async def test_registration_refuses_an_id_taken_in_another_letter_case(app_as, service_ctx):
+    check = service_ctx("ada")
+    before = patient_rows(check)
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await press_and_settle(pilot, "n", *"Jane Roe", "enter", *"1990-04-02", "enter", "tab")
+        await fill(pilot, "p0001")
+        await press_and_settle(pilot, "enter")
+        assert isinstance(app.screen, RegisterDialog)
+        assert shown(app, "#check") == ("Not registered: patient id p0001 is taken as P0001: ids are unique whatever"
+                                         " their letter case; choose another")
+        assert app.screen.query_one("#patient-id", Input).value == "p0001"  # left as typed, to be changed
     assert patient_rows(check) == before
 
 
@@ -198,6 +222,34 @@ async def test_a_burst_after_n_goes_into_the_form_and_n_stays_text_in_the_search
         await settle(pilot)
         await burst(pilot, *"nora")
         assert not isinstance(app.screen, RegisterDialog) and app.focused.value == "nora"
+
+
+async def test_a_call_typed_straight_after_registering_is_logged_for_the_new_patient(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await pilot.press("down", "down")  # another patient highlighted before `n`
+        highlighted = app.screen.patient_id
+        await burst(pilot, *"nAda Lee", "enter", *"1990-01-01", "enter", "enter",
+                    "l", "enter", "b", "enter", *"light", "enter")
+    assert [(e.kind, e.value.word) for e in patient_entries(check, "P0006")] == [(Kind.BLEED, "light")]
+    assert [e for e in patient_entries(check, highlighted) if e.by == "phil" and e.kind is Kind.BLEED
+            and e.value.word == "light" and e.day == TODAY] == []
+
+
+async def test_keys_typed_after_registering_a_patient_the_filters_hide_are_named_not_used(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "u")  # the unassigned patients only: Ada is registered with a nurse
+        await burst(pilot, *"nAda Lee", "enter", *"1990-01-01", "enter", *"nora", "enter", "l", "enter")
+        assert not isinstance(app.screen, QuickLogScreen)
+        said = [n.message for n in app._notifications]
+        assert any(m.startswith("P0006 is not in the list as filtered. Typed after Enter and not used: 'l⏎'.")
+                   for m in said)
+    assert patient_entries(check, "P0006") == []
 
 
 async def test_an_enter_typed_before_the_nurses_are_read_waits_for_them(app_as, service_ctx, monkeypatch):

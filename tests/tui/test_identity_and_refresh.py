@@ -118,11 +118,12 @@ async def test_the_morning_refresh_shows_its_progress_and_leaves_the_clinic_free
 async def test_a_view_of_another_day_never_runs_the_morning_refresh(app_as):
     """CASELOAD_TODAY or --today open the interface as a read-only view: the snapshots stay as stored."""
     tomorrow = TODAY.replace(day=2)
-    for as_of in (TODAY.replace(year=2020), TODAY.replace(day=5)):
+    # The fixture's patients were registered on TODAY: a view of 2020 lists none of them.
+    for as_of, listed in ((TODAY.replace(year=2020), 0), (TODAY.replace(day=5), 4)):
         app = app_as("ada", today=tomorrow, as_of=as_of)
         async with app.run_test(size=(80, 24)) as pilot:
             await settle(pilot, rounds=5)
-            assert app.roster and all(line.snapshot.computed_on == TODAY for line in app.roster)
+            assert len(app.roster) == listed and all(line.snapshot.computed_on == TODAY for line in app.roster)
             assert not any(n.message.startswith("Morning refresh") for n in app._notifications)
             assert "read-only view" in app.screen.query_one("#status").render().plain
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import time
+
 import pytest
 from textual import events
 from textual.widgets import Input, OptionList
@@ -260,3 +262,49 @@ async def test_a_log_typed_straight_after_enter_on_the_list_is_for_the_record_it
     assert entry.value.number == float(reading)
     assert {pid: temps_today(check, pid) for pid in ids if pid != expected} == {
         pid: temps for pid, temps in before.items() if pid != expected}  # nobody else got a reading
+
+
+async def test_a_call_typed_before_the_caseload_is_read_waits_for_it(app_as, service_ctx, monkeypatch):
+    """A slow store at start-up: `l`, a name and Enter arrive before the list; the Enter picks her
+    once it is read, and the keys behind it go on into the call."""
+    check = service_ctx("ada")
+    app = app_as("phil")
+    read = app.clinic.caseload_read
+    monkeypatch.setattr(app.clinic, "caseload_read", lambda: time.sleep(0.5) or read())
+    async with app.run_test(size=(80, 24)) as pilot:
+        await burst(pilot, "l", *"noor", "enter", "b", "enter", *"light", "enter")
+        await pilot.pause(0.8)
+        await settle(pilot)
+        assert shown(app, "#result").startswith("Saved #")
+    assert [e.value.word for e in today_of(check, "P0004", Kind.BLEED)] == ["light"]
+
+
+async def test_an_enter_with_no_patient_matching_names_the_keys_it_sets_aside(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "l", *"zz9", "enter", "t", "enter", *"36.5", "enter")
+        assert app.screen.query_one("#patient", Input).value == "zz9"
+        assert shown(app, "#result") == ("No patient matches 'zz9': type an id or a name, then Enter.\n"
+                                         "Typed after Enter and not used: 't⏎36.5⏎'. Type it again once you have "
+                                         "read the above.")
+        assert shown(app, "#check") == "Next: the patient (an id or a name), then Enter"
+        # The line speaks of what was typed then: typing on clears it.
+        await burst(pilot, "backspace", "backspace", "backspace", *"noor")
+        assert shown(app, "#result") == ""
+    assert [e for e in patient_entries(check, "P0004") if e.day == TODAY and e.by == "phil"] == []
+
+
+async def test_enter_typed_while_the_program_starts_arrives_as_a_newline_and_counts_as_enter(app_as, service_ctx):
+    # A terminal still in line mode turns Enter into a newline (the tty's ICRNL): keys typed before
+    # the interface has taken the terminal arrive so, as ctrl+j.
+    check = service_ctx("ada")
+    app = app_as("phil")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        for key in ["l", *"noor", "ctrl+j", "b", "ctrl+j", *"light", "ctrl+j"]:
+            app.post_message(events.Key(key, "\n" if key == "ctrl+j" else key))
+        await settle(pilot, rounds=5)
+        assert shown(app, "#result").startswith("Saved #")
+    assert [e.value.word for e in today_of(check, "P0004", Kind.BLEED)] == ["light"]

@@ -63,6 +63,20 @@ async def test_changing_the_patient_of_a_record_is_an_explicit_key(app_as, servi
     assert today_of(check, "P0004", Kind.MUCUS) == []
 
 
+async def test_a_change_of_patient_typed_in_one_burst_logs_for_the_new_patient(app_as, service_ctx):
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await open_record(app, pilot, "P0004")
+        await pilot.press("l")
+        await settle(pilot)
+        # ctrl+o and the call behind it arrive together: the name goes to the patient field it opens.
+        await burst(pilot, "ctrl+o", *"rosa", "enter", "m", "enter", *"sticky", "enter")
+        assert shown(app, "#whose").startswith("Log a call for P0002 Rosa Lind")
+    assert [e.value.word for e in today_of(check, "P0002", Kind.MUCUS)] == ["sticky"]
+    assert [e for e in patient_entries(check, "P0004") if e.day == TODAY and e.by == "nell"] == []
+
+
 async def test_the_day_goes_back_to_today_after_a_save(app_as, service_ctx):
     check = service_ctx("ada")
     app = app_as("phil")

@@ -62,3 +62,30 @@ def test_ids_come_before_names():
 def test_a_word_typed_that_is_not_in_the_name_finds_nothing():
     assert match_rank(patient("Katarzyna Nowak"), "nowak anna") is None
     assert match_rank(patient("Hye-jin Park"), "jin") == 2  # a hyphen joins two words of one name
+
+
+def test_the_id_typed_exactly_comes_before_one_differing_only_in_case():
+    # A store registered before ids were unique whatever their case may hold both; the list's order
+    # (triage) puts P0103 first, yet the id typed letter for letter is offered first.
+    people = [patient("Yara Upper", "P0103"), patient("P0103 Pia", "P0009"), patient("Xena Lower", "p0103")]
+    assert [p.id for p in find_patients(people, "p0103")] == ["p0103", "P0103", "P0009"]
+    assert [p.id for p in find_patients(people, "P0103 ")] == ["P0103", "p0103", "P0009"]
+    assert [match_rank(p, "p0103") for p in people] == [0, 2, 0]  # exact id, a word of her name, exact id
+
+
+def test_an_id_with_punctuation_typed_whole_is_an_exact_match():
+    people = [patient("Ann Smith", "P0002"), patient("Bea Jones", "smith-2")]
+    assert [match_rank(p, "SMITH-2") for p in people] == [None, 0]
+    assert [match_rank(p, "Smith-") for p in people] == [2, 1]  # the start of her id; a word of Ann's name
+    assert [p.id for p in find_patients(people, "smith-2")] == ["smith-2"]
+
+
+ids = st.from_regex(r"[A-Za-z0-9][A-Za-z0-9_.-]{0,31}", fullmatch=True)  # core/parse.py ID_PATTERN
+
+
+@given(st.lists(ids, min_size=1, max_size=12, unique_by=str.casefold), st.data())
+def test_an_id_typed_in_any_case_is_found_first(taken, data):
+    people = [patient(f"Caller {n}", pid) for n, pid in enumerate(taken)]
+    wanted = data.draw(st.sampled_from(taken))
+    typed = "".join(ch.upper() if data.draw(st.booleans()) else ch.lower() for ch in wanted)
+    assert find_patients(people, typed)[0].id == wanted

@@ -113,6 +113,15 @@ class CaseloadScreen(ClinicWork, Screen):
         """The highlighted patient: the quick log opens with them picked."""
         return self.query_one(CaseloadTable).current_patient_id()
 
+    def show_patient(self, patient_id: str) -> bool:
+        """Draw the list now with the cursor on `patient_id`; False when the filters hide her."""
+        self._show()
+        table = self.query_one(CaseloadTable)
+        if patient_id not in table.patient_ids:
+            return False
+        table.move_cursor(table.get_row_index(patient_id))
+        return True
+
     # --- reading
 
     def reload(self) -> None:
@@ -188,6 +197,7 @@ class CaseloadScreen(ClinicWork, Screen):
         self._mark, self._version = message.read.mark, message.version
         if message.read.lines is not self.app.roster or not self._refresh_checked:  # the first read always shows
             self.app.roster = message.read.lines
+            self.app.roster_read = True
             self._show()
         if self._search_waiting is not None:  # that Enter now counts, with the keys held behind it
             field, self._search_waiting = self._search_waiting, None

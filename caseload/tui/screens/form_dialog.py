@@ -8,7 +8,7 @@ from __future__ import annotations
 from typing import Any
 
 from rich.text import Text
-from textual import work
+from textual import events, work
 from textual.message import Message
 from textual.widgets import Input, Static
 
@@ -106,9 +106,13 @@ class FormDialog(EarlyKeys, ClinicWork, Dialog[None]):
         self.post_message(self.Refused(reason if name == "save" else f"could not read the nurses ({reason})"))
 
     def on_form_dialog_done(self, message: Done) -> None:
-        self.app.post_message(Saved(message.summary, message.result))
         typed_on = self._typed_from.take_held() if self._typed_from else []
         self.dismiss()
+        self.saved(message.summary, message.result, typed_on)
+
+    def saved(self, summary: str, result: Any, typed_on: list[events.Key]) -> None:
+        """Saved and closed: the app is told, and the keys typed after the last Enter go to what is behind."""
+        self.app.post_message(Saved(summary, result))
         replay(self.app, typed_on)
 
     def on_form_dialog_refused(self, message: Refused) -> None:

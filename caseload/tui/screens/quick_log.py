@@ -53,11 +53,13 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
     she is picked."""
 
     CSS_PATH = "quick_log.tcss"
+    HORIZONTAL_BREAKPOINTS = [(0, "-narrow"), (80, "-wide")]  # the field rows' layout, see quick_log.tcss
     BINDINGS = [
         Binding("escape", "dismiss", "Close", id="quick_log.close"),
         Binding("ctrl+s", "save", "Save", id="quick_log.save"),
         Binding("ctrl+o", "change_patient", "Change patient", id="quick_log.change_patient"),
     ]
+    FOCUS_ACTIONS = ("change_patient",)  # run by the field at once, see TypeAheadInput
 
     class Done(Message):
         def __init__(self, outcome: Logged | SameDayReading | SecondLook) -> None:
@@ -76,6 +78,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         self._saving = False
         self._typed_from: TypeAheadInput | None = None
         self._confirmed_for: tuple[str, ...] | None = None  # what was typed when a second look was asked
+        self._said_for: tuple[str, ...] | None = None  # what was typed when the outcome line said why not
 
     def compose(self) -> ComposeResult:
         with Vertical(id="quick-log"):
@@ -118,7 +121,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         """Unlock the patient field of a quick log opened from a record."""
         field = self.query_one("#patient", TypeAheadInput)
         field.disabled = False
-        field.focus()
+        self.set_focus(field)  # at once: the keys typed behind ctrl+o follow it
         field.select_all()
         self._show_whose()
 
@@ -160,6 +163,9 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
     @on(Input.Changed)
     def _check(self) -> None:
         self._show_whose()
+        if self._said_for is not None and self._typed() != self._said_for:
+            self._said_for = None  # that line spoke of what was typed then, not of what is typed now
+            self.query_one("#result", Static).update("")
         kind = match_kind(self._text("kind"))
         value = self.query_one("#value", Input)
         value.placeholder = WORDS_BY_KIND[kind].hint if kind else ""
@@ -169,7 +175,10 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         if not self._text("kind").strip():
             self._show_day(None)
             check.set_class(False, "refused")
-            check.update(Text(f"Next: the kind ({KINDS_HINT}), then Enter", style="dim"))
+            if self.query_one(PatientPicker).patient is None:
+                check.update(Text("Next: the patient (an id or a name), then Enter", style="dim"))
+            else:
+                check.update(Text(f"Next: the kind ({KINDS_HINT}), then Enter", style="dim"))
             return
         try:
             parsed = self._parsed()
@@ -198,6 +207,11 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         target = self.query_one(f"#{target_id}", TypeAheadInput)
         target.focus()
         source.pass_on(target)
+
+    @on(PatientPicker.NoMatch)
+    def _no_match(self, message: PatientPicker.NoMatch) -> None:
+        self._say(f"No patient matches '{one_line(message.typed.strip())}': type an id or a name, then Enter.",
+                  message.set_aside)
 
     @on(PatientPicker.Picked)
     def _picked(self, message: PatientPicker.Picked) -> None:
@@ -279,6 +293,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
         if set_aside:
             text.append("\n" + not_used(as_typed(set_aside)), style="bold")
         self.query_one("#result", Static).update(text)
+        self._said_for = self._typed()
 
     def on_quick_log_screen_refused(self, message: Refused) -> None:
         self._saving = False
@@ -298,6 +313,7 @@ class QuickLogScreen(EarlyKeys, ClinicWork, Dialog[None]):
             self._say(f"Not saved yet: {outcome.question}. Enter again saves it as typed; or change it.",
                       self._finish_typing(None))
             return
+        self._said_for = None
         self.query_one("#result", Static).update(Text(logged_summary(outcome)))
         for field in ("kind", "value", "time", "flags", "note"):
             self.query_one(f"#{field}", Input).value = ""

@@ -9,7 +9,7 @@ nothing is written. The plan starts as natural: changing it is a nurse's decisio
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on, work
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal, Vertical
@@ -128,6 +128,9 @@ class RegisterDialog(FormDialog):
         nurse = pick_nurse(self._nurses or (), self.query_one("#nurse", Input).value)
         values = [self.query_one(f"#{f}", Input).value for f in ("patient-id", "name", "born")]
         self._register(*values, nurse.id if nurse else None)
+
+    def saved(self, summary: str, result: Patient, typed_on: list[events.Key]) -> None:
+        self.app.registered(result, summary, typed_on)
 
     @work(**STORE_WORK, name="save")
     def _register(self, patient_id: str, name: str, born: str, nurse: str | None) -> None:

@@ -4,7 +4,7 @@ of birth (two callers may share a name); Enter takes the highlighted one, and ty
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on
+from textual import events, on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -54,6 +54,14 @@ class PatientPicker(Vertical):
             super().__init__()
             self.patient = patient
 
+    class NoMatch(Message):
+        """Enter found no patient for what was typed; `set_aside` are the keys typed after it."""
+
+        def __init__(self, typed: str, set_aside: list[events.Key]) -> None:
+            super().__init__()
+            self.typed = typed
+            self.set_aside = set_aside
+
     def __init__(self, lines: tuple[CaseloadLine, ...], offered: str | None = None, picked: bool = False, **kwargs):
         """`offered`: the patient who starts in the field; `picked`: she is picked already (a record's)."""
         super().__init__(**kwargs)
@@ -63,6 +71,7 @@ class PatientPicker(Vertical):
         self._in_field: Patient | None = self._lines[offered].patient if offered in self._lines else None
         self.patient: Patient | None = self._in_field if picked else None
         self._matches: list[Patient] = []
+        self._enter_waiting = False  # an Enter typed before the caseload was read, decided once it is
 
     def compose(self) -> ComposeResult:
         start = typed_form(self._in_field) if self._in_field else ""
@@ -77,10 +86,22 @@ class PatientPicker(Vertical):
 
     def on_mount(self) -> None:
         self._show_matches()
+        self.watch(self.app, "roster", self._roster_changed, init=False)
+        self.watch(self.app, "roster_read", self._roster_changed, init=False)
+
+    def _roster_changed(self) -> None:
+        """The caseload was read or a save changed it: matches come from it now, and an Enter typed
+        before it was read counts now, with the keys held behind it."""
+        self._lines = {line.patient.id: line for line in self.app.roster}
+        self._patients = [line.patient for line in self.app.roster]
+        self._show_matches()
+        if self._enter_waiting and self.app.roster_read:
+            self._enter_waiting = False
+            self._decide_enter()
 
     @on(Input.Changed, "#patient")
     def _typed(self, event: Input.Changed) -> None:
-        event.stop()
+        # Not stopped: the screen around checks the whole call again as any field changes.
         if self._in_field is not None and event.value != typed_form(self._in_field):
             self._in_field = None
             if self.patient is not None:
@@ -107,14 +128,23 @@ class PatientPicker(Vertical):
     @on(Input.Submitted, "#patient")
     def _enter(self, event: Input.Submitted) -> None:
         event.stop()
+        if self._in_field is None and not self._matches and not self.app.roster_read:
+            self._enter_waiting = True  # the field holds the keys typed after it meanwhile
+            return
+        self._decide_enter()
+
+    def _decide_enter(self) -> None:
         if self._in_field is not None:
             self._pick(self._in_field)
             return
         options = self.query_one("#matches", OptionList)
+        field = self.query_one("#patient", TypeAheadInput)
         if self._matches:
             self._pick(self._matches[options.highlighted or 0])
+        elif field.value.strip():
+            self.post_message(self.NoMatch(field.value, field.drop_held()))
         else:
-            self.query_one("#patient", TypeAheadInput).keep_typing()
+            field.keep_typing()
 
     @on(OptionList.OptionSelected, "#matches")
     def _clicked(self, event: OptionList.OptionSelected) -> None:

@@ -63,10 +63,14 @@ class TypeAheadInput(Input):
             self.hold()
             self.post_message(self.Submitted(self, self.value))
             return
-        if event.key in TAB_KEYS:
+        moves_focus = self._focus_method(event.key)
+        if moves_focus:
+            # Run now, not once the key has gone up to the screen's bindings: the keys typed behind
+            # it are already on their way here, and follow the focus to the field it moves to (so the
+            # screen moves it with `set_focus`, at once).
             event.prevent_default()
             event.stop()
-            getattr(self.screen, TAB_KEYS[event.key])()
+            getattr(self.screen, moves_focus)()
             if self.screen.focused is not self and self.screen.focused is not None:
                 self._forward_to = self.screen.focused
             return
@@ -85,6 +89,15 @@ class TypeAheadInput(Input):
             await self.run_action(editing[0])
             return
         await super()._on_key(event)
+
+    def _focus_method(self, key: str) -> str | None:
+        """The screen's method a key runs when it moves the focus: Tab, or a binding of the screen's
+        to one of its `FOCUS_ACTIONS`."""
+        if key in TAB_KEYS:
+            return TAB_KEYS[key]
+        moving = getattr(self.screen, "FOCUS_ACTIONS", ())
+        actions = [b.action for b in self.screen._bindings.key_to_bindings.get(key, ()) if b.action in moving]
+        return f"action_{actions[0]}" if actions else None
 
     @property
     def holding(self) -> bool:
