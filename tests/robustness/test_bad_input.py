@@ -16,7 +16,7 @@ from caseload.core import parse
 from caseload.core.model import Actor, Kind, PatientStatus, Plan, Role
 from caseload.application.context import Context
 from caseload.application.identity import os_account
-from caseload.application.csv_import import import_csv
+from caseload.application.csv_import import import_csv, read_csv_file
 from caseload.application.patients import add_patient
 from caseload.application.staff import add_staff, init_store
 from caseload.store import Store
@@ -151,9 +151,14 @@ def test_import_of_arbitrary_bytes(module_store, data):
     import_checked(module_store, data)
 
 
-def test_import_of_a_huge_row_and_a_huge_file(module_store):
+def test_import_of_a_huge_row_and_a_huge_file(module_store, tmp_path):
     import_checked(module_store, b"patient,day,kind,value,note\nP0001,-1,note,x," + b"y" * 200_000 + b"\n")
-    import_checked(module_store, b"patient,day,kind,value\n" + b"P0001,-1,note,x\n" * 1_500_000)
+    # A file past the limit is refused as it is read, in one line, before any row is parsed.
+    huge = tmp_path / "huge.csv"
+    huge.write_bytes(b"patient,day,kind,value\n" + b"P0001,-1,note,x\n" * 1_500_000)
+    with pytest.raises(parse.InputError) as refused:
+        read_csv_file(str(huge))
+    assert "\n" not in str(refused.value) and "20 MB" in str(refused.value)
 
 
 @pytest.fixture(scope="module")
