@@ -64,15 +64,20 @@ def _is_database(path: Path) -> bool:
         return stat.S_ISREG(os.fstat(fd).st_mode) and f.read(len(SQLITE_HEADER)) == SQLITE_HEADER
 
 
+def is_store_file(target: Path, store: Path) -> bool:
+    """Whether `target` is the store or one of its companion files (`-wal`, `-shm`, `-journal`), by
+    any path or link: made or replaced there, a file would be read by SQLite as part of the store."""
+    # realpath follows every link (and, unlike Path.resolve, stops at a loop instead of raising).
+    return os.path.realpath(target) in {f"{os.path.realpath(store)}{suffix}" for suffix in STORE_COMPANIONS}
+
+
 def check_target(target: Path, store: Path, force: bool) -> None:
     """Refuse a target in a missing folder; the store or its companion files; a folder; anything but
     a regular file; an SQLite database; or, unless `force`, an existing file. Nothing is opened but
     a regular file, and that only to read its first bytes."""
     if not target.parent.is_dir():
         raise InputError(f"folder {target.parent} does not exist: create it first or choose another path")
-    # realpath follows every link (and, unlike Path.resolve, stops at a loop instead of raising).
-    resolved = os.path.realpath(target)
-    if resolved in {f"{os.path.realpath(store)}{suffix}" for suffix in STORE_COMPANIONS}:
+    if is_store_file(target, store):
         raise Refused(f"{target} is the store itself: an export never overwrites it, choose another file")
     try:
         mode = os.lstat(target).st_mode

@@ -9,6 +9,7 @@ from caseload.core.model import Actor, Role, Staff
 from caseload.application.context import Context, require
 from caseload.application.errors import Refused
 from caseload.application.identity import actor_among, host_owners
+from caseload.application.safe_file import is_store_file
 from caseload.application.staff import clinic_today
 from caseload.store import Report, Store
 from caseload.store.backup_restore import Restored, check_file, replace_damaged, staff_of_unopenable, verified_copy
@@ -22,6 +23,8 @@ HOST_OWNER = "(host owner)"
 def backup(ctx: Context, target: str) -> Path:
     ctx.require("store.backup")
     path = Path(target)
+    if is_store_file(path, ctx.store.path):
+        raise Refused(f"{path} is the store's own file: a backup goes to a file of its own, choose another path")
     ctx.store.backup(path)
     with ctx.store.atomic(ctx.today):
         ctx.store.audit.record(ctx.actor, "store.backup", "store", None, after={"path": str(path)})

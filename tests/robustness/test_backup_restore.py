@@ -8,6 +8,7 @@ import re
 import shutil
 import sqlite3
 import time
+from pathlib import Path
 
 import pytest
 
@@ -154,6 +155,20 @@ def test_backup_refuses_an_existing_file(clinic, tmp_path):
     result = clinic("backup", str(target))
     assert result.exit_code == 1 and "exists already" in result.stderr
     assert target.read_text() == "keep me" and snapshot(clinic.db) == before
+
+
+@pytest.mark.parametrize("suffix", ["-journal", "-wal", "-shm"])
+def test_backup_never_goes_where_sqlite_would_read_it_as_part_of_the_store(clinic, tmp_path, suffix):
+    # SQLite reads a file beside the store named as its journal or write-ahead log as part of it.
+    (tmp_path / "link").symlink_to(f"{clinic.db}{suffix}")
+    companion = Path(f"{clinic.db}{suffix}")
+    for target in (str(companion), str(tmp_path / "link")):
+        before = snapshot(clinic.db)
+        result = clinic("backup", target)
+        assert result.exit_code == 1 and "is the store's own file" in result.stderr, result.output
+        assert len(result.stderr.strip().splitlines()) == 1 and snapshot(clinic.db) == before
+        # No database was written there (the store's own -wal and -shm come and go with its connections).
+        assert not (companion.exists() and companion.read_bytes().startswith(b"SQLite format 3\0"))
 
 
 def test_backups_and_their_journal_files_are_owner_only_whatever_the_umask(clinic, tmp_path):
