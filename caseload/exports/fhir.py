@@ -160,6 +160,7 @@ class _Dates:
 
     shift: timedelta
     zone: tzinfo
+    masked: bool = False
 
     def day(self, d: date) -> str:
         return (d + self.shift).isoformat()
@@ -174,8 +175,10 @@ class _Dates:
 
 
 def bundle_start(options: Options) -> dict:
-    """The Bundle without its entries, for a writer that adds them one by one."""
-    return {"resourceType": "Bundle", "type": "collection", "timestamp": options.generated.isoformat()}
+    """The Bundle without its entries, for a writer that adds them one by one. A de-identified one
+    has no timestamp: a real date beside the moved ones would give each patient's offset away."""
+    bundle = {"resourceType": "Bundle", "type": "collection"}
+    return bundle if options.masking else {**bundle, "timestamp": options.generated.isoformat()}
 
 
 def bundle_entry(resource: dict) -> dict:
@@ -223,7 +226,7 @@ def patient_resources(chart: Chart, options: Options) -> list[dict]:
     """The Patient, an Observation per entry, and the derived Observations of one chart."""
     p, masking = chart.patient, options.masking
     shift = timedelta(days=masking.shift_days(p.id)) if masking else timedelta(0)
-    dates = _Dates(shift, options.zone)
+    dates = _Dates(shift, options.zone, masking is not None)
     pid = masking.pseudonym(p.id) if masking else fhir_id(p.id)
     subject = reference("Patient", pid)
     entries = [observation(e, subject, dates, masking is not None)
@@ -356,7 +359,8 @@ def _derived(rid: str, codes: list[Code], subject: dict, dates: _Dates, on: date
         "category": [_category(SURVEY)],
         "code": {"coding": [c.coding() for c in codes], "text": codes[-1].display},
         "subject": subject,
-        "effectiveDateTime": dates.day(on),
+        # The day of the analysis is the day of the export: de-identified, it would give the offset away.
+        **({} if dates.masked else {"effectiveDateTime": dates.day(on)}),
         "valueDateTime": dates.day(value),
         "method": {"text": method},
     }

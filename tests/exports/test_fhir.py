@@ -296,6 +296,18 @@ def test_deidentified_dates_move_by_one_keyed_offset_per_patient(demo, ctx, bund
     assert len({next(iter(s)) for s in offsets.values()}) > len(offsets) // 2  # offsets differ between patients
 
 
+def test_a_deidentified_bundle_holds_no_real_date_to_work_an_offset_back_from(bundle, masked):
+    # The export's own day, written beside moved dates, gives each offset away: moved date - real
+    # date. The plain bundle has it (its timestamp, and the day its derived estimates were made);
+    # the de-identified one has neither.
+    assert "timestamp" in bundle and "timestamp" not in masked
+    plain = [o for o in resources(bundle, "Observation") if not o["id"].split("-")[0] == "entry"]
+    assert plain and all("effectiveDateTime" in o for o in plain)
+    derived = [o for o in resources(masked, "Observation") if not o["id"].split("-")[0] == "entry"]
+    assert derived and all("effectiveDateTime" not in o for o in derived)
+    assert all(o["valueDateTime"] for o in derived)  # the estimates themselves stay, moved
+
+
 @given(st.text(min_size=1, max_size=32), st.text(min_size=1, max_size=64))
 def test_the_offset_is_never_zero_and_within_half_a_year(patient_id, secret):
     days = referral.shift_days(secret, patient_id)
