@@ -5,6 +5,7 @@ staff see and may do."""
 
 from __future__ import annotations
 
+import time
 from datetime import timedelta
 
 import pytest
@@ -285,3 +286,22 @@ async def test_keys_typed_after_an_acknowledging_enter_are_named_not_used(app_as
         assert (f"Acknowledged #{fever.id} fever for P0002. Typed after Enter and not used: 'aok⏎'. "
                 "Type it again once you have read the above.") in notes(app)
     assert [a.id for a in check.store.alerts.all() if a.state is AlertState.ACKNOWLEDGED] == [fever.id]
+
+
+async def test_an_acknowledgement_typed_in_one_burst_from_the_list_waits_for_the_queue(app_as, service_ctx, monkeypatch):
+    """`a` on the list, then `a`, a note and Enter, all at once, and the alerts slow to read: the keys
+    wait for the queue and acknowledge its first alert; none reaches the list behind (its `n`)."""
+    check = service_ctx("ada")
+    app = app_as("nell")
+    async with app.run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        read = app.clinic.alerts
+        monkeypatch.setattr(app.clinic, "alerts", lambda *args: time.sleep(0.4) or read(*args))
+        patients = len(check.store.patients.all())
+        await burst(pilot, "a", "a", *"rang her, booked review", "enter")
+        await pilot.pause(0.6)
+        await settle(pilot)
+        assert isinstance(app.screen, AlertQueueScreen)
+    handled = [a for a in check.store.alerts.unresolved() if a.note == "rang her, booked review"]
+    assert [(a.state, a.handled_by) for a in handled] == [(AlertState.ACKNOWLEDGED, "nell")]
+    assert len(check.store.patients.all()) == patients

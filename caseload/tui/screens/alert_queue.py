@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from rich.text import Text
-from textual import on, work
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import VerticalScroll
@@ -19,6 +19,7 @@ from caseload.tui.widgets.alert_list import AlertTable
 from caseload.tui.widgets.evidence_panel import EvidencePanel
 from caseload.tui.widgets.status_line import StatusLine
 from caseload.tui.widgets.key_bar import KeyBar
+from caseload.tui.widgets.type_ahead import replay
 
 
 class AlertQueueScreen(ClinicWork, Screen):
@@ -48,6 +49,7 @@ class AlertQueueScreen(ClinicWork, Screen):
         super().__init__()
         self._loading = False
         self._shown: list[Alert] | None = None
+        self._early: list[events.Key] | None = []  # keys typed before the alerts were first read
 
     def compose(self) -> ComposeResult:
         yield StatusLine(id="status")
@@ -82,8 +84,21 @@ class AlertQueueScreen(ClinicWork, Screen):
     def on_store_changed(self, message: StoreChanged) -> None:
         self.reload()
 
+    def on_key(self, event: events.Key) -> None:
+        """Keys typed straight after `a`, before the alerts are read (an acknowledgement and its note),
+        wait for them rather than act on an empty list; they are sent on once it is shown."""
+        if self._early is not None:
+            event.stop()
+            event.prevent_default()
+            self._early.append(event)
+
+    def _send_on_early_keys(self) -> None:
+        early, self._early = self._early or [], None
+        replay(self.app, early)
+
     def on_alert_queue_screen_load_failed(self, message: LoadFailed) -> None:
         self._loading = False
+        self._send_on_early_keys()
 
     def on_alert_queue_screen_loaded(self, message: Loaded) -> None:
         self._loading = False
@@ -97,6 +112,7 @@ class AlertQueueScreen(ClinicWork, Screen):
         table = self.query_one(AlertTable)
         table.show(message.alerts, names)
         self.query_one(EvidencePanel).show(table.current_alert())
+        self._send_on_early_keys()
 
     @on(AlertTable.Highlighted)
     def _highlighted(self, message: AlertTable.Highlighted) -> None:

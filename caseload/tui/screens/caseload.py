@@ -56,9 +56,9 @@ class CaseloadScreen(ClinicWork, Screen):
         # The lesser keys stay out of the footer, which must fit 80 columns; the help lists them.
         Binding("k", "pick_kind", "Kind", id="caseload.kind", show=False),
         Binding("p", "pick_plan", "Plan", id="caseload.plan", show=False),
-        Binding("a", "alert_queue", "Alerts", id="caseload.alerts"),
+        # Priority too, so the keys typed straight after them reach the queue or the form.
+        Binding("a", "alert_queue", "Alerts", id="caseload.alerts", priority=True),
         Binding("e", "export", "Export", id="caseload.export", show=False),
-        # Priority too, so the keys typed straight after it reach the form.
         Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear", id="caseload.back"),
     ]
@@ -347,7 +347,7 @@ class CaseloadScreen(ClinicWork, Screen):
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
             return self.app.clinic.may("summary.export")
-        if action in ("search", "toggle_mine", "toggle_unassigned"):
+        if action in ("search", "toggle_mine", "toggle_unassigned", "alert_queue"):
             return not isinstance(self.focused, Input)
         if action == "register":
             return not isinstance(self.focused, Input) and self.app.clinic.may("patient.add")

@@ -67,6 +67,7 @@ class AlertTable(DataTable):
         self._names: dict[str, str] = {}
         self._steps: tuple[AlertStep, ...] = ()
         self._last_row = 0
+        self.shown = False  # whether the alerts have been read and shown once: until then no key acts
 
     def _add_columns(self) -> None:
         """Fixed widths, so the columns stay put as alerts come and go; the message takes the rest."""
@@ -84,6 +85,7 @@ class AlertTable(DataTable):
              resolved: tuple[Alert, ...] = (), steps: tuple[AlertStep, ...] = ()) -> None:
         """The alerts by severity, then (on a record) the resolved ones; `steps` their history."""
         keep = self.current_alert()
+        self.shown = True
         self._names = names or {}
         self._steps = steps
         self._by_key = {str(a.id): a for a in (*alerts, *resolved)}
@@ -172,6 +174,8 @@ class AlertTable(DataTable):
             self.post_message(self.Opened(alert))
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        if not self.shown:
+            return False  # a key typed before the alerts are read waits for them (see AlertQueueScreen)
         if action in ("handle", "refuse"):
             alert = self.current_alert()
             can = alert is not None and may_handle(self.app.clinic, alert)
