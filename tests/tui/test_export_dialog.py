@@ -5,8 +5,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from caseload.tui.screens.caseload import CaseloadScreen
 from caseload.tui.screens.export import ExportDialog
-from tests.tui.conftest import fill, settle
+from tests.tui.conftest import burst, fill, settle
 
 
 async def open_export(pilot) -> ExportDialog:
@@ -61,3 +62,22 @@ async def test_an_existing_file_is_kept_and_the_dialog_offers_another_name_not_f
         assert said in notes and not any("--force" in n for n in notes)
     assert out.read_text() == "last week's, kept"
     assert service_ctx("ada").store.audit.rows("summary.export") == []
+
+
+async def test_e_and_enter_in_one_burst_export_what_is_offered_and_open_nothing_behind(app_as, tmp_path, monkeypatch):
+    monkeypatch.setenv("HOME", str(tmp_path))
+    async with app_as("sue").run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "e", "enter")
+        await settle(pilot)
+        assert isinstance(pilot.app.screen, CaseloadScreen)  # the dialog closed; no record opened behind it
+    assert (tmp_path / "caseload-summary-2026-W48.xlsx").is_file()
+
+
+async def test_a_week_typed_in_one_burst_after_e_is_the_week_exported(app_as, tmp_path, monkeypatch):
+    monkeypatch.setenv("HOME", str(tmp_path))
+    async with app_as("sue").run_test(size=(80, 24)) as pilot:
+        await settle(pilot)
+        await burst(pilot, "e", *"2026-W47", "enter")
+        await settle(pilot)
+    assert [p.name for p in tmp_path.iterdir() if p.name.startswith("caseload-summary")] == ["caseload-summary-2026-W47.xlsx"]

@@ -58,7 +58,7 @@ class CaseloadScreen(ClinicWork, Screen):
         Binding("p", "pick_plan", "Plan", id="caseload.plan", show=False),
         # Priority too, so the keys typed straight after them reach the queue or the form.
         Binding("a", "alert_queue", "Alerts", id="caseload.alerts", priority=True),
-        Binding("e", "export", "Export", id="caseload.export", show=False),
+        Binding("e", "export", "Export", id="caseload.export", show=False, priority=True),
         Binding("n", "register", "New caller", id="caseload.register", priority=True),
         Binding("escape", "back_to_list", "Clear", id="caseload.back"),
     ]
@@ -346,7 +346,7 @@ class CaseloadScreen(ClinicWork, Screen):
         if action == "back_to_list":
             return bool(self.query_one(FilterBar).filters.search) or not self.query_one(CaseloadTable).has_focus
         if action == "export":
-            return self.app.clinic.may("summary.export")
+            return not isinstance(self.focused, Input) and self.app.clinic.may("summary.export")
         if action in ("search", "toggle_mine", "toggle_unassigned", "alert_queue"):
             return not isinstance(self.focused, Input)
         if action == "register":

@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from rich.text import Text
-from textual import on, work
+from textual import events, on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical
@@ -38,6 +38,7 @@ class ExportDialog(ClinicWork, Dialog[None]):
     def __init__(self) -> None:
         super().__init__()
         self._proposed = ""  # the file name last proposed: while #out still holds it, the user has not edited it
+        self._typed_early = False  # text typed before a field had the focus went into the week
 
     def compose(self) -> ComposeResult:
         week = self.app.clinic.last_complete_week()  # as the CLI: never a week still in progress
@@ -54,6 +55,21 @@ class ExportDialog(ClinicWork, Dialog[None]):
             yield Select(PRIVACY, value=True, allow_blank=False, id="deidentify", compact=True)
             yield Static("Enter in a field exports.", id="check", classes="check")
         yield KeyBar()
+
+    def on_key(self, event: events.Key) -> None:
+        """Keys typed straight after `e`, before a field has the focus, are not lost on the dialog:
+        Enter exports what is offered, and text replaces the week offered."""
+        if self.focused is not None or not (event.is_printable or event.key == "enter"):
+            return
+        event.stop()
+        event.prevent_default()
+        if event.key == "enter":
+            self._export()
+            return
+        week = self.query_one("#week", Input)
+        week.value = ("" if not self._typed_early else week.value) + event.character
+        self._typed_early = True
+        self._propose()  # now, not on the Changed message: an Enter typed next exports to its name
 
     @on(Input.Changed, "#week")
     @on(Select.Changed, "#format")
